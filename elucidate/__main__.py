@@ -1,0 +1,5 @@
+"""``python -m elucidate``."""
+
+from .cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,445 @@
+"""Case files, version 1: loading and strict validation.
+
+A case file describes one unknown (see ``docs/case-format.md``). :func:`load_case` reads it with
+the safe YAML loader, checks every key and value, cross-checks the sections against each other,
+and returns a frozen :class:`Case`. Any problem raises :class:`~elucidate.errors.ElucidateError`
+naming the file, line and key. Case files are only ever read, never written.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from .elements import ElementTable, default_elements
+from .errors import ElucidateError
+from .formula import Formula, parse_formula
+from .rules import RATIO_LEVELS
+from .yamlnodes import (
+    Located,
+    as_choice,
+    as_int,
+    as_list,
+    as_number,
+    as_range,
+    as_str,
+    mapping,
+    parse_yaml,
+    read_yaml_file,
+)
+
+__all__ = [
+    "SCHEMA_VERSION",
+    "IONIZATIONS",
+    "SOLVENTS",
+    "MassSpec",
+    "FormulaSpec",
+    "IRBand",
+    "Infrared",
+    "UvVis",
+    "Nmr",
+    "StructureSpec",
+    "Case",
+    "load_case",
+    "parse_case",
+    "isotope_span",
+]
+
+SCHEMA_VERSION = 1
+IONIZATIONS = ("EI",)
+STRENGTHS = ("strong", "medium", "weak")
+SHAPES = ("broad", "sharp")
+SOLVENTS = (
+    "ethanol",
+    "methanol",
+    "water",
+    "chloroform",
+    "dioxane",
+    "diethyl_ether",
+    "hexane",
+    "cyclohexane",
+    "acetonitrile",
+)
+MULTIPLICITIES = ("CH3", "CH2", "CH", "C")
+_SLUG = re.compile(r"^[a-z0-9][a-z0-9_.-]{0,63}$")
+_GROUP = re.compile(r"^[a-z][a-z0-9_]*$")
+
+
+@dataclass(frozen=True)
+class MassSpec:
+    ionization: str = "EI"
+    molecular_ion: int | None = None  # nominal m/z of M+.; None = unknown / absent
+    exact_mass: float | None = None  # measured m/z (HRMS)
+    exact_mass_of: str = "ion"  # "ion": m/z of M+. (electron removed); "neutral": neutral mass
+    mass_tolerance_ppm: float = 5.0
+    peaks: Mapping[int, float] = field(default_factory=dict)  # m/z -> % of base peak
+
+    @property
+    def base_peak(self) -> int | None:
+        if not self.peaks:
+            return None
+        return min(mz for mz, v in self.peaks.items() if v == max(self.peaks.values()))
+
+
+@dataclass(frozen=True)
+class FormulaSpec:
+    known: Formula | None = None
+    elements: Mapping[str, tuple[int, int]] | None = None  # None = the table's defaults
+    dbe: tuple[int, int] | None = None
+    element_ratios: str = "common"
+
+
+@dataclass(frozen=True)
+class IRBand:
+    at: float  # cm-1
+    strength: str | None = None
+    shape: str | None = None
+
+
+@dataclass(frozen=True)
+class Infrared:
+    bands: tuple[IRBand, ...] = ()
+    require: tuple[str, ...] = ()
+    forbid: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class UvVis:
+    lambda_max: tuple[float, float] | None = None  # (low, high) nm; None = no maximum > 210 nm
+    solvent: str = "ethanol"
+
+
+@dataclass(frozen=True)
+class Nmr:
+    c13_signals: int | None = None
+    c13_multiplicity: Mapping[str, int] | None = None
+
+
+@dataclass(frozen=True)
+class StructureSpec:
+    require_smarts: tuple[str, ...] = ()
+    forbid_smarts: tuple[str, ...] = ()
+    suspects: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Case:
+    path: str
+    id: str
+    title: str
+    schema: int = SCHEMA_VERSION
+    notes: str = ""
+    mass_spec: MassSpec | None = None
+    formula: FormulaSpec = field(default_factory=FormulaSpec)
+    infrared: Infrared | None = None
+    uv_vis: UvVis | None = None
+    nmr: Nmr | None = None
+    structure: StructureSpec | None = None
+
+
+# ------------------------------------------------------------------ sections
+
+_TOP = ("schema", "id", "title", "notes", "mass_spec", "formula", "infrared", "uv_vis", "nmr", "structure")
+
+
+def isotope_span(limits: Mapping[str, tuple[int, int]]) -> int:
+    """How far above M an isotope peak of a formula within ``limits`` can reach (nominal).
+
+    Each Cl, Br, S or Si may add 2 (37Cl, 81Br, 34S, 30Si); 4 more covers 13C, 18O and their
+    combinations, which stay below 0.1 % of M beyond that for organic formulas (common practice).
+    """
+    return 2 * sum(limits.get(s, (0, 0))[1] for s in ("Cl", "Br", "S", "Si")) + 4
+
+
+def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
+    body = mapping(
+        loc,
+        ["ionization", "molecular_ion", "exact_mass", "exact_mass_of", "mass_tolerance_ppm", "peaks"],
+    )
+    ionization = "EI"
+    if "ionization" in body:
+        ionization = as_choice(body["ionization"], IONIZATIONS, what="an ionization method this version handles:")
+    molecular_ion: int | None = None
+    if "molecular_ion" in body and body["molecular_ion"].value is not None:
+        m = body["molecular_ion"]
+        if m.value == "unknown":
+            molecular_ion = None
+        else:
+            molecular_ion = as_int(
+                m, minimum=1, maximum=5000, what="the nominal m/z of M+. (a whole number 1-5000) or 'unknown'"
+            )
+    exact = None
+    if "exact_mass" in body:
+        exact = as_number(body["exact_mass"], minimum=0, exclusive_minimum=True, what="a measured m/z above 0")
+    exact_of = "ion"
+    if "exact_mass_of" in body:
+        exact_of = as_choice(body["exact_mass_of"], ("ion", "neutral"), what="one of")
+    ppm = 5.0
+    if "mass_tolerance_ppm" in body:
+        if exact is None:
+            raise body["mass_tolerance_ppm"].error("given without exact_mass; add exact_mass or remove it")
+        ppm = as_number(body["mass_tolerance_ppm"], minimum=0, exclusive_minimum=True, maximum=1000, what="a tolerance in ppm (above 0, at most 1000)")
+    if exact is not None:
+        where = body["exact_mass"]
+        if molecular_ion is None:
+            raise where.error("exact_mass needs the nominal molecular_ion as well")
+        if abs(exact - molecular_ion) >= 1.0:
+            raise where.error(
+                f"exact mass {exact} cannot belong to a molecular ion at nominal m/z {molecular_ion}"
+            )
+    peaks: dict[int, float] = {}
+    if "peaks" in body:
+        ploc = body["peaks"]
+        if not isinstance(ploc.value, dict):
+            raise ploc.error("expected a mapping of m/z to intensity (% of base peak), e.g. {120: 30, 105: 100}")
+        for mz, vloc in ploc.value.items():
+            if isinstance(mz, bool) or not isinstance(mz, int) or mz < 1:
+                hint = " (nominal m/z only: round to a whole number)" if isinstance(mz, float) else ""
+                raise ElucidateError(
+                    f"expected a whole, positive m/z as the key; got {mz!r}{hint}",
+                    file=vloc.file,
+                    line=vloc.line,
+                    key=vloc.key,
+                )
+            peaks[mz] = as_number(vloc, minimum=0, maximum=100, what="an intensity from 0 to 100 (% of base peak)")
+        if peaks and max(peaks.values()) != 100:
+            top = max(peaks.values())
+            raise ploc.error(
+                f"intensities are % of the base peak, so the largest must be 100; the largest is {top:g}"
+            )
+    return MassSpec(ionization, molecular_ion, exact, exact_of, ppm, dict(sorted(peaks.items()))), body
+
+
+def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[str, Located]]:
+    body = mapping(loc, ["known", "elements", "dbe", "element_ratios"])
+    known = None
+    if "known" in body:
+        text = as_str(body["known"], what="a molecular formula such as C8H8O")
+        try:
+            known = parse_formula(text, table)
+        except ElucidateError as exc:
+            raise body["known"].error(exc.message) from exc
+        dbe = known.dbe(table)
+        if dbe < 0 or dbe.denominator != 1:
+            raise body["known"].error(
+                f"{known} has DBE {dbe}: not a neutral closed-shell molecule (with the usual valences)"
+            )
+    elements = None
+    if "elements" in body:
+        eloc = body["elements"]
+        if not isinstance(eloc.value, dict) or not eloc.value:
+            raise eloc.error("expected a mapping of element symbol to count or range, e.g. {C: 0-20, H: 0-40}")
+        elements = {}
+        for sym, rloc in eloc.value.items():
+            if not isinstance(sym, str) or sym not in table:
+                raise ElucidateError(
+                    f"unknown element {sym!r}; known elements: {', '.join(table.symbols)}",
+                    file=rloc.file,
+                    line=rloc.line,
+                    key=rloc.key,
+                )
+            elements[sym] = as_range(rloc)
+        elements = {s: elements[s] for s in table.symbols if s in elements}
+    dbe_range = as_range(body["dbe"], what="a DBE value or range such as 0-20") if "dbe" in body else None
+    ratios = "common"
+    if "element_ratios" in body:
+        ratios = as_choice(body["element_ratios"], RATIO_LEVELS, what="one of")
+    if known is not None and elements is not None:
+        for sym, n in known.counts:
+            low, high = elements.get(sym, (0, 0))
+            if not low <= n <= high:
+                raise body["known"].error(
+                    f"{known} has {n} {sym}, outside formula.elements ({sym}: {low}-{high})"
+                )
+    if known is not None and dbe_range is not None:
+        dbe = known.dbe(table)
+        if not dbe_range[0] <= dbe <= dbe_range[1]:
+            raise body["known"].error(f"{known} has DBE {dbe}, outside formula.dbe {dbe_range[0]}-{dbe_range[1]}")
+    return FormulaSpec(known, elements, dbe_range, ratios), body
+
+
+def _names(loc: Located, what: str) -> tuple[str, ...]:
+    out = []
+    for item in as_list(loc, what=f"a list of {what}"):
+        name = as_str(item, what=f"a {what[:-1]}")
+        if not _GROUP.match(name):
+            raise item.error(f"{name!r} is not a group name (lower case letters, digits and _)")
+        out.append(name)
+    return tuple(out)
+
+
+def _infrared(loc: Located) -> Infrared:
+    body = mapping(loc, ["bands", "require", "forbid"])
+    bands = []
+    for item in as_list(body["bands"], what="a list of bands") if "bands" in body else []:
+        if isinstance(item.value, dict):
+            b = mapping(item, ["at", "strength", "shape"], required=["at"])
+            bands.append(
+                IRBand(
+                    at=as_number(b["at"], minimum=400, maximum=4000, what="a wavenumber 400-4000 cm-1"),
+                    strength=as_choice(b["strength"], STRENGTHS) if "strength" in b else None,
+                    shape=as_choice(b["shape"], SHAPES) if "shape" in b else None,
+                )
+            )
+        else:
+            bands.append(IRBand(at=as_number(item, minimum=400, maximum=4000, what="a wavenumber 400-4000 cm-1")))
+    require = _names(body["require"], "group names") if "require" in body else ()
+    forbid = _names(body["forbid"], "group names") if "forbid" in body else ()
+    both = sorted(set(require) & set(forbid))
+    if both:
+        raise body["forbid"].error(f"{both[0]!r} is both required and forbidden")
+    return Infrared(tuple(bands), require, forbid)
+
+
+def _uv_vis(loc: Located) -> UvVis:
+    body = mapping(loc, ["lambda_max", "solvent"], required=["lambda_max"])
+    lm = body["lambda_max"]
+    what = "a wavelength 190-800 nm, a range [low, high], or none (no maximum above 210 nm)"
+    value: tuple[float, float] | None
+    if lm.value in ("none", None):
+        value = None
+    elif isinstance(lm.value, list):
+        items = as_list(lm)
+        if len(items) != 2:
+            raise lm.error(f"expected {what}; a range has exactly two numbers")
+        low = as_number(items[0], minimum=190, maximum=800, what=what)
+        high = as_number(items[1], minimum=190, maximum=800, what=what)
+        if low > high:
+            raise lm.error(f"range [{low:g}, {high:g}]: the low end exceeds the high end")
+        value = (low, high)
+    else:
+        x = as_number(lm, minimum=190, maximum=800, what=what)
+        value = (x, x)
+    solvent = as_choice(body["solvent"], SOLVENTS) if "solvent" in body else "ethanol"
+    return UvVis(value, solvent)
+
+
+def _nmr(loc: Located) -> Nmr:
+    body = mapping(loc, ["c13_signals", "c13_multiplicity"])
+    signals = as_int(body["c13_signals"], minimum=1, maximum=200, what="a number of 13C signals (1-200)") if "c13_signals" in body else None
+    mult = None
+    if "c13_multiplicity" in body:
+        mloc = body["c13_multiplicity"]
+        m = mapping(mloc, list(MULTIPLICITIES), what="a mapping of CH3, CH2, CH, C to signal counts")
+        mult = {k: as_int(v, minimum=0, maximum=200, what="a signal count") for k, v in m.items()}
+        if signals is not None and sum(mult.values()) != signals:
+            raise mloc.error(
+                f"the multiplicities add up to {sum(mult.values())} signals but c13_signals is {signals}"
+            )
+    return Nmr(signals, mult)
+
+
+def _structure(loc: Located) -> StructureSpec:
+    body = mapping(loc, ["require_smarts", "forbid_smarts", "suspects"])
+    out: dict[str, tuple[str, ...]] = {}
+    for key in ("require_smarts", "forbid_smarts", "suspects"):
+        texts = []
+        for item in as_list(body[key], what="a list") if key in body else []:
+            text = as_str(item, what="a SMARTS pattern" if key != "suspects" else "a SMILES string")
+            texts.append((item, text))
+        if texts:
+            from ._rdkit import mol_from_smarts, mol_from_smiles
+
+            for item, text in texts:
+                mol = mol_from_smiles(text) if key == "suspects" else mol_from_smarts(text)
+                if mol is None:
+                    kind = "SMILES" if key == "suspects" else "SMARTS"
+                    raise item.error(f"RDKit cannot read {text!r} as {kind}")
+        out[key] = tuple(t for _, t in texts)
+    return StructureSpec(out.get("require_smarts", ()), out.get("forbid_smarts", ()), out.get("suspects", ()))
+
+
+# ------------------------------------------------------------------ the case
+
+
+def _case(root: Located, table: ElementTable) -> Case:
+    if not isinstance(root.value, dict):
+        raise root.error("a case file is a YAML mapping with keys schema, id, title, mass_spec, …")
+    body = mapping(root, _TOP, required=["schema", "id"])
+    schema = as_int(body["schema"], what=f"schema version {SCHEMA_VERSION}")
+    if schema != SCHEMA_VERSION:
+        raise body["schema"].error(f"this version reads schema {SCHEMA_VERSION} case files, not {schema}")
+    case_id = as_str(body["id"], what="an id (lower case letters, digits, . _ -)")
+    if not _SLUG.match(case_id):
+        raise body["id"].error(
+            f"{case_id!r} is not a valid id: use 1-64 lower case letters, digits, '.', '_' or '-', "
+            "starting with a letter or digit"
+        )
+    title = as_str(body["title"], what="a title (free text)") if "title" in body else ""
+    notes = as_str(body["notes"], what="free text", allow_empty=True) if "notes" in body else ""
+    ms = ms_body = None
+    if "mass_spec" in body:
+        ms, ms_body = _mass_spec(body["mass_spec"])
+    spec = FormulaSpec()
+    spec_body: dict[str, Located] = {}
+    if "formula" in body:
+        spec, spec_body = _formula_spec(body["formula"], table)
+    infrared = _infrared(body["infrared"]) if "infrared" in body else None
+    uv_vis = _uv_vis(body["uv_vis"]) if "uv_vis" in body else None
+    nmr = _nmr(body["nmr"]) if "nmr" in body else None
+    structure = _structure(body["structure"]) if "structure" in body else None
+
+    # ---- cross-checks between sections
+    if ms is not None and ms_body is not None:
+        if spec.known is not None and ms.molecular_ion is not None:
+            nominal = spec.known.nominal_mass(table)
+            if nominal != ms.molecular_ion:
+                raise spec_body["known"].error(
+                    f"{spec.known} has nominal mass {nominal}, but mass_spec.molecular_ion is {ms.molecular_ion}"
+                )
+            if ms.exact_mass is not None:
+                mono = spec.known.monoisotopic_mass(table)
+                theory = mono - table.electron_mass if ms.exact_mass_of == "ion" else mono
+                ppm = (ms.exact_mass - theory) / theory * 1e6
+                if abs(ppm) > ms.mass_tolerance_ppm:
+                    raise spec_body["known"].error(
+                        f"{spec.known} ({theory:.5f}) is {ppm:+.1f} ppm from mass_spec.exact_mass "
+                        f"{ms.exact_mass} (tolerance {ms.mass_tolerance_ppm:g} ppm)"
+                    )
+        if ms.molecular_ion is not None and ms.peaks:
+            if spec.known is not None:
+                limits = {s: (n, n) for s, n in spec.known.counts}
+            else:
+                from .rules import default_rules
+
+                limits = dict(spec.elements) if spec.elements is not None else dict(default_rules().default_elements)
+            ceiling = ms.molecular_ion + isotope_span(limits)
+            above = [mz for mz in ms.peaks if mz > ceiling]
+            if above:
+                ploc = ms_body["peaks"].value[above[0]]
+                raise ploc.error(
+                    f"a peak at m/z {above[0]} lies above the molecular ion {ms.molecular_ion} by more than "
+                    f"its isotope cluster allows (at most m/z {ceiling} with these element limits): "
+                    "either molecular_ion is wrong or the peak belongs to something else"
+                )
+    if nmr is not None and nmr.c13_signals is not None and spec.known is not None:
+        carbons = spec.known.get("C")
+        if nmr.c13_signals > carbons:
+            raise body["nmr"].error(
+                f"{nmr.c13_signals} 13C signals cannot come from {spec.known}, which has {carbons} C"
+            )
+    return Case(
+        path=root.file,
+        id=case_id,
+        title=title,
+        schema=schema,
+        notes=notes,
+        mass_spec=ms,
+        formula=spec,
+        infrared=infrared,
+        uv_vis=uv_vis,
+        nmr=nmr,
+        structure=structure,
+    )
+
+
+def load_case(path: str | Path, *, table: ElementTable | None = None) -> Case:
+    """Read and validate one case file."""
+    return _case(read_yaml_file(path), table or default_elements())
+
+
+def parse_case(text: str, *, file: str = "<text>", table: ElementTable | None = None) -> Case:
+    """Validate case-file text (used by tests and by tools that hold the text already)."""
+    return _case(parse_yaml(text, file=file), table or default_elements())

@@ -1,0 +1,293 @@
+"""Command line: ``elucidate check`` and ``elucidate formulas``.
+
+Thin layer over the pure core: it parses arguments, reads case files, calls the engine and prints.
+Exit codes: 0 success, 1 invalid input (a case file or value; the message says where), 2 usage.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import re
+import sys
+from collections.abc import Sequence
+from pathlib import Path
+from typing import TextIO
+
+from . import __version__
+from .case import Case, load_case
+from .elements import default_elements
+from .errors import ElucidateError
+from .formula import parse_formula
+from .formulas import EXACT_MASS_OF, FormulaQuery, check_formula, derive_formulas
+from .isotopes import ObservedCluster
+from .report import RULE_LABELS, formulas_json, formulas_text
+from .rules import RATIO_LEVELS, default_rules
+from .yamlnodes import parse_range_text
+
+__all__ = ["main", "build_parser"]
+
+_DESCRIPTION = """\
+Structure elucidation from routine evidence (EI mass spectrum, IR, UV-Vis, 13C counts).
+Results are hypotheses: confirm against a reference standard under your lab's own procedures.
+"""
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(prog="elucidate", description=_DESCRIPTION)
+    parser.add_argument("--version", action="version", version=f"elucidate {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    check = sub.add_parser("check", help="validate case files without solving")
+    check.add_argument("cases", nargs="+", metavar="CASE", help="case file(s) to validate")
+
+    f = sub.add_parser(
+        "formulas",
+        help="candidate molecular formulas for a nominal molecular ion",
+        description=(
+            "List every elemental composition with the given nominal mass that passes the DBE, "
+            "nitrogen-rule, Senior and (unless switched off) Kind & Fiehn element-ratio filters, "
+            "ranked by how well its simulated isotope cluster matches the observed one."
+        ),
+    )
+    f.add_argument("target", metavar="M|CASE", help="nominal mass of M+. or the path of a case file")
+    f.add_argument("--molecular-ion", type=int, metavar="M", help="test this nominal M (overrides the case's molecular_ion)")
+    f.add_argument(
+        "--peaks",
+        metavar="LIST",
+        help="peak list 'mz:intensity' (%% of base peak), separated by commas or spaces, e.g. '112:100 113:6.6 114:32'",
+    )
+    f.add_argument("--elements", metavar="LIMITS", help="element limits, e.g. 'C:0-20,H:0-40,O:0-4,Cl:0-2' (unlisted elements: none)")
+    f.add_argument("--dbe", metavar="RANGE", help="allowed DBE, e.g. 0-20")
+    f.add_argument("--exact-mass", type=float, metavar="MZ", help="measured exact m/z (HRMS)")
+    f.add_argument(
+        "--exact-mass-of",
+        choices=EXACT_MASS_OF,
+        help="'ion' (default): the exact mass is the m/z of M+. and one electron mass (0.000549 u) is "
+        "subtracted from the neutral monoisotopic mass before comparing; 'neutral': compared as given",
+    )
+    f.add_argument("--ppm", type=float, metavar="PPM", help="exact-mass tolerance in ppm (default 5)")
+    f.add_argument(
+        "--element-ratios",
+        choices=RATIO_LEVELS,
+        help="Kind & Fiehn (2007) element-ratio filter: common (default, 99.7%% of known formulas), extended (99.99%%) or off",
+    )
+    f.add_argument("--top", type=int, metavar="N", help="show the best N (default 20 in the table, all in --json); 0 = all")
+    f.add_argument("--explain", action="store_true", help="also list every rejected composition with the rule that rejected it")
+    f.add_argument("--why", metavar="FORMULA", help="say whether FORMULA is kept and, if not, which rule rejects it")
+    f.add_argument("--json", action="store_true", help="print a JSON list, best first")
+    return parser
+
+
+# ------------------------------------------------------------------ parsing helpers
+
+
+def _tokens(text: str) -> list[str]:
+    return [t for t in re.split(r"[\s,;]+", text.strip()) if t]
+
+
+def _parse_peaks(text: str) -> dict[int, float]:
+    peaks: dict[int, float] = {}
+    for tok in _tokens(text):
+        mz_text, sep, value_text = tok.partition(":")
+        try:
+            if not sep:
+                raise ValueError
+            mz, value = int(mz_text), float(value_text)
+        except ValueError as exc:
+            raise ElucidateError(
+                f"--peaks: cannot read {tok!r}; expected mz:intensity such as 113:6.6 "
+                "(whole m/z, intensity in % of base peak, a point as the decimal mark)"
+            ) from exc
+        if mz < 1 or not 0 <= value <= 100:
+            raise ElucidateError(f"--peaks: {tok!r}: m/z must be a positive whole number, intensity 0-100")
+        if mz in peaks:
+            raise ElucidateError(f"--peaks: m/z {mz} given twice")
+        peaks[mz] = value
+    if peaks and max(peaks.values()) != 100:
+        raise ElucidateError("--peaks: intensities are % of the base peak, so the largest must be 100")
+    return peaks
+
+
+def _parse_range(text: str, option: str) -> tuple[int, int]:
+    parsed = parse_range_text(text)
+    if parsed is None or parsed[0] > parsed[1]:
+        raise ElucidateError(f"{option}: expected a count or range such as 0-20, got {text!r}")
+    return parsed
+
+
+def _parse_elements(text: str) -> dict[str, tuple[int, int]]:
+    table = default_elements()
+    limits: dict[str, tuple[int, int]] = {}
+    for tok in _tokens(text):
+        sym, sep, rng = tok.partition(":")
+        if not sep:
+            raise ElucidateError(f"--elements: cannot read {tok!r}; expected SYMBOL:RANGE such as C:0-20")
+        if sym not in table:
+            raise ElucidateError(f"--elements: unknown element {sym!r}; known elements: {', '.join(table.symbols)}")
+        limits[sym] = _parse_range(rng, f"--elements {sym}")
+    return {s: limits[s] for s in table.symbols if s in limits}
+
+
+def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
+    rules = default_rules()
+    case: Case | None = None
+    target = args.target.strip()
+    if re.fullmatch(r"\d+", target):
+        mass = int(target)
+        if args.molecular_ion is not None:
+            raise ElucidateError("give the mass once: either M as the first argument or --molecular-ion with a case")
+        peaks: dict[int, float] = {}
+        elements = dict(rules.default_elements)
+        dbe = rules.default_dbe
+        ratios = "common"
+        exact, exact_of, ppm = None, "ion", 5.0
+    else:
+        if not Path(target).suffix and not Path(target).exists():
+            raise ElucidateError(f"{target!r} is neither a nominal mass (whole number) nor a case file")
+        case = load_case(target)
+        ms = case.mass_spec
+        mass_opt = args.molecular_ion if args.molecular_ion is not None else (ms.molecular_ion if ms else None)
+        if mass_opt is None:
+            raise ElucidateError(
+                "the case gives no molecular ion (molecular_ion absent or unknown); "
+                "test a hypothesis with --molecular-ion M",
+                file=case.path,
+                key="mass_spec.molecular_ion",
+            )
+        mass = mass_opt
+        peaks = dict(ms.peaks) if ms else {}
+        spec = case.formula
+        if spec.known is not None:
+            elements = {s: (n, n) for s, n in spec.known.counts}
+            ratios = "off"  # a known formula is not second-guessed by heuristics
+        else:
+            elements = dict(spec.elements) if spec.elements is not None else dict(rules.default_elements)
+            ratios = spec.element_ratios
+        dbe = spec.dbe if spec.dbe is not None else rules.default_dbe
+        exact = ms.exact_mass if ms else None
+        exact_of = ms.exact_mass_of if ms else "ion"
+        ppm = ms.mass_tolerance_ppm if ms else 5.0
+        if args.molecular_ion is not None and exact is not None and abs(exact - mass) >= 1:
+            exact = None  # the case's exact mass belongs to another M
+    if args.peaks is not None:
+        peaks = _parse_peaks(args.peaks)
+    if args.elements is not None:
+        elements = _parse_elements(args.elements)
+    if args.dbe is not None:
+        dbe = _parse_range(args.dbe, "--dbe")
+    if args.element_ratios is not None:
+        ratios = args.element_ratios
+    if args.exact_mass is not None:
+        exact = args.exact_mass
+        if abs(exact - mass) >= 1:
+            raise ElucidateError(f"--exact-mass {exact} cannot belong to nominal M {mass}")
+    if args.exact_mass_of is not None:
+        exact_of = args.exact_mass_of
+    if args.ppm is not None:
+        if args.ppm <= 0:
+            raise ElucidateError("--ppm must be above 0")
+        ppm = args.ppm
+    if mass < 1:
+        raise ElucidateError(f"nominal mass must be a positive whole number, got {mass}")
+    cluster = ObservedCluster.from_peaks(mass, peaks, max_offset=rules.isotope_max_offset) if peaks else None
+    query = FormulaQuery(
+        nominal_mass=mass,
+        elements=elements,
+        dbe=dbe,
+        element_ratios=ratios,
+        exact_mass=exact,
+        exact_mass_of=exact_of,
+        mass_tolerance_ppm=ppm,
+        cluster=cluster,
+    )
+    return query, case
+
+
+def _why(text: str, query: FormulaQuery, out: TextIO, ranked: Sequence[str]) -> None:
+    table = default_elements()
+    formula = parse_formula(text, table)
+    nominal = formula.nominal_mass(table)
+    if nominal != query.nominal_mass:
+        out.write(f"{formula}: nominal mass {nominal}, not {query.nominal_mass}\n")
+        return
+    for sym, n in formula.counts:
+        low, high = query.elements.get(sym, (0, 0))
+        if not low <= n <= high:
+            out.write(f"{formula}: {n} {sym} is outside the element limits ({sym} {low}-{high})\n")
+            return
+    verdict = check_formula(formula, query, table=table)
+    if verdict is not None:
+        out.write(f"{formula}: rejected by {RULE_LABELS[verdict[0]]}: {verdict[1]}\n")
+    else:
+        rank = ranked.index(str(formula)) + 1 if str(formula) in ranked else None
+        out.write(f"{formula}: kept" + (f", rank {rank} of {len(ranked)}" if rank else "") + "\n")
+
+
+# ------------------------------------------------------------------ commands
+
+
+def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
+    failures = 0
+    seen: dict[str, str] = {}
+    for path in args.cases:
+        try:
+            case = load_case(path)
+        except ElucidateError as exc:
+            err.write(f"error: {exc}\n")
+            failures += 1
+            continue
+        if case.id in seen:
+            err.write(f"error: {path}: id: {case.id!r} is already used by {seen[case.id]} (ids are unique per unknown)\n")
+            failures += 1
+            continue
+        seen[case.id] = path
+        out.write(f"ok: {path} ({case.id})\n")
+    if failures:
+        err.write(f"{failures} of {len(args.cases)} case file(s) invalid\n")
+    return 1 if failures else 0
+
+
+def _cmd_formulas(args: argparse.Namespace, out: TextIO) -> int:
+    query, case = _query(args)
+    if args.top is not None and args.top < 0:
+        raise ElucidateError("--top must be 0 (all) or more")
+    top = args.top if args.top is not None else (0 if args.json or args.why else 20)
+    result = derive_formulas(query, top=top or None, keep_rejected=args.explain)
+    if args.why:
+        full = result if not top else derive_formulas(query)
+        _why(args.why, query, out, [str(c.formula) for c in full.kept])
+        return 0
+    if args.json:
+        json.dump(formulas_json(result, explain=args.explain), out, indent=2)
+        out.write("\n")
+        return 0
+    title = f"case {case.id}: {case.title} ({case.path})" if case is not None else None
+    out.write(formulas_text(result, title=title, explain=args.explain))
+    return 0
+
+
+def main(argv: Sequence[str] | None = None, *, stdout: TextIO | None = None, stderr: TextIO | None = None) -> int:
+    """Run the command line; returns the exit code (never raises for bad input)."""
+    out = stdout or sys.stdout
+    err = stderr or sys.stderr
+    parser = build_parser()
+    try:
+        args = parser.parse_args(list(argv) if argv is not None else None)
+    except SystemExit as exc:  # argparse reports usage errors itself
+        return int(exc.code or 0)
+    if args.command is None:
+        parser.print_help(out)
+        return 2
+    try:
+        if args.command == "check":
+            return _cmd_check(args, out, err)
+        if args.command == "formulas":
+            return _cmd_formulas(args, out)
+    except ElucidateError as exc:
+        err.write(f"error: {exc}\n")
+        return 1
+    parser.error(f"unknown command {args.command}")  # pragma: no cover
+    return 2  # pragma: no cover
+
+

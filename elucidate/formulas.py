@@ -1,0 +1,467 @@
+"""The formula engine: candidate molecular formulas for a nominal molecular ion.
+
+Stages: enumerate every composition within the element limits whose nominal mass equals M;
+apply the chemist's filters in a fixed order (each rejection keeps its rule and reason); score the
+survivors' simulated isotope clusters against the observed peaks; rank.
+
+Enumeration has two interchangeable methods that give the same set (a test checks it):
+``"direct"`` (default) solves for H given every heteroatom and carbon count, vectorized with
+numpy; ``"constraint"`` states the same problem for python-constraint. ``bench/bench_formulas.py``
+prints both timings side by side; the direct method is kept as default because it is faster.
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from fractions import Fraction
+
+import numpy as np
+
+from .elements import ElementTable, default_elements
+from .errors import ElucidateError
+from .formula import Formula
+from .isotopes import ClusterFit, ClusterReading, ObservedCluster, _power, chi2_matrix, fit_cluster, read_cluster
+from .rules import (
+    RATIO_LEVELS,
+    FormulaRules,
+    RuleOf13,
+    default_rules,
+    kind_fiehn,
+    nitrogen_rule,
+    rule_of_13,
+    senior_rules,
+)
+
+__all__ = [
+    "RULES",
+    "EXACT_MASS_OF",
+    "FormulaQuery",
+    "Candidate",
+    "FormulaResult",
+    "enumerate_compositions",
+    "check_formula",
+    "derive_formulas",
+]
+
+#: filter names in the order they are applied
+RULES = ("dbe_negative", "nitrogen_rule", "senior", "dbe_range", "element_ratios", "exact_mass")
+EXACT_MASS_OF = ("ion", "neutral")
+METHODS = ("direct", "constraint")
+
+
+@dataclass(frozen=True)
+class FormulaQuery:
+    """What the chemist asks: a nominal M, limits, optional exact mass and isotope cluster."""
+
+    nominal_mass: int
+    elements: Mapping[str, tuple[int, int]]
+    dbe: tuple[int, int] = (0, 20)
+    element_ratios: str = "common"
+    exact_mass: float | None = None
+    exact_mass_of: str = "ion"
+    mass_tolerance_ppm: float = 5.0
+    cluster: ObservedCluster | None = None
+
+    def __post_init__(self) -> None:
+        if self.nominal_mass < 1:
+            raise ElucidateError(f"nominal mass must be a positive whole number, got {self.nominal_mass}")
+        if self.element_ratios not in RATIO_LEVELS:
+            raise ElucidateError(
+                f"element ratios {self.element_ratios!r}; choose one of {', '.join(RATIO_LEVELS)}"
+            )
+        if self.exact_mass_of not in EXACT_MASS_OF:
+            raise ElucidateError(f"exact_mass_of {self.exact_mass_of!r}; choose one of {', '.join(EXACT_MASS_OF)}")
+        for sym, (low, high) in self.elements.items():
+            if low < 0 or low > high:
+                raise ElucidateError(f"element range {sym}: {low}-{high} is not a valid range")
+        if self.dbe[0] > self.dbe[1]:
+            raise ElucidateError(f"DBE range {self.dbe[0]}-{self.dbe[1]}: low end exceeds high end")
+
+
+@dataclass(frozen=True)
+class Candidate:
+    formula: Formula
+    dbe: Fraction
+    nominal_mass: int
+    monoisotopic_mass: float
+    mz: float
+    ppm_error: float | None = None
+    fit: ClusterFit | None = None
+    rejected_by: str | None = None
+    reason: str | None = None
+
+    @property
+    def score(self) -> float | None:
+        return self.fit.score if self.fit is not None else None
+
+    def as_dict(self) -> dict[str, object]:
+        d: dict[str, object] = {
+            "formula": str(self.formula),
+            "dbe": float(self.dbe) if self.dbe.denominator != 1 else int(self.dbe),
+            "nominal_mass": self.nominal_mass,
+            "monoisotopic_mass": round(self.monoisotopic_mass, 6),
+            "mz": round(self.mz, 6),
+            "score": None if self.score is None else round(self.score, 6),
+        }
+        if self.ppm_error is not None:
+            d["ppm_error"] = round(self.ppm_error, 2)
+        if self.fit is not None:
+            d["isotopes"] = [
+                {"offset": k, "observed": round(o, 3), "predicted": round(p, 3), "z": round(z, 3)}
+                for k, o, p, z in self.fit.compared
+            ]
+        if self.rejected_by is not None:
+            d["rejected_by"] = self.rejected_by
+            d["reason"] = self.reason
+        return d
+
+
+@dataclass(frozen=True)
+class FormulaResult:
+    query: FormulaQuery
+    kept: tuple[Candidate, ...]  # best first; at most `top` of them
+    kept_count: int  # all survivors
+    rejected: tuple[Candidate, ...]  # filled only with keep_rejected
+    rejected_counts: Mapping[str, int]
+    total: int
+    rule13: RuleOf13 | None = None
+    reading: ClusterReading | None = None
+    notes: tuple[str, ...] = field(default=())
+
+
+# ------------------------------------------------------------------ enumeration
+
+
+def _ordered(limits: Mapping[str, tuple[int, int]], table: ElementTable) -> list[str]:
+    for sym in limits:
+        table[sym]  # raises with the list of known elements
+    return [s for s in table.symbols if s in limits]
+
+
+def _direct(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> np.ndarray:
+    symbols = _ordered(limits, table)
+    if "H" not in symbols or "C" not in symbols:
+        return _brute(mass, limits, table, symbols)
+    others = [s for s in symbols if s not in ("C", "H")]
+    masses = np.array([table[s].nominal_mass for s in others], dtype=np.int64)
+    ranges = [range(limits[s][0], limits[s][1] + 1) for s in others]
+    if others:
+        grid = np.array(list(itertools.product(*ranges)), dtype=np.int64).reshape(-1, len(others))
+    else:
+        grid = np.zeros((1, 0), dtype=np.int64)
+    rest = mass - grid @ masses
+    keep = rest >= 0
+    grid, rest = grid[keep], rest[keep]
+    c_lo, c_hi = limits["C"]
+    h_lo, h_hi = limits["H"]
+    cs = np.arange(c_lo, c_hi + 1, dtype=np.int64)
+    hs = rest[:, None] - table["C"].nominal_mass * cs[None, :]
+    if table["H"].nominal_mass != 1:  # pragma: no cover - a hand-made table
+        return _brute(mass, limits, table, symbols)
+    ok = (hs >= h_lo) & (hs <= h_hi)
+    rows, cols = np.nonzero(ok)
+    out = np.zeros((rows.shape[0], len(symbols)), dtype=np.int64)
+    ci, hi = symbols.index("C"), symbols.index("H")
+    out[:, ci] = cs[cols]
+    out[:, hi] = hs[rows, cols]
+    for j, s in enumerate(others):
+        out[:, symbols.index(s)] = grid[rows, j]
+    return out
+
+
+def _brute(
+    mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable, symbols: list[str]
+) -> np.ndarray:
+    masses = [table[s].nominal_mass for s in symbols]
+    found = []
+    for combo in itertools.product(*(range(limits[s][0], limits[s][1] + 1) for s in symbols)):
+        if sum(n * m for n, m in zip(combo, masses)) == mass:
+            found.append(combo)
+    return np.array(found, dtype=np.int64).reshape(-1, len(symbols))
+
+
+def _constraint(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> np.ndarray:
+    import constraint  # python-constraint2
+
+    symbols = _ordered(limits, table)
+    problem = constraint.Problem()
+    for s in symbols:
+        problem.addVariable(s, list(range(limits[s][0], limits[s][1] + 1)))
+    problem.addConstraint(
+        constraint.ExactSumConstraint(mass, [table[s].nominal_mass for s in symbols]), symbols
+    )
+    rows = [tuple(sol[s] for s in symbols) for sol in problem.getSolutionIter()]
+    return np.array(rows, dtype=np.int64).reshape(-1, len(symbols))
+
+
+def enumerate_compositions(
+    mass: int,
+    limits: Mapping[str, tuple[int, int]],
+    table: ElementTable | None = None,
+    *,
+    method: str = "direct",
+) -> list[Formula]:
+    """Every composition within ``limits`` whose nominal mass is ``mass``, in a fixed order."""
+    t = table or default_elements()
+    if method not in METHODS:
+        raise ElucidateError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
+    symbols = _ordered(limits, t)
+    arr = (_direct if method == "direct" else _constraint)(mass, limits, t)
+    return [Formula.of(dict(zip(symbols, map(int, row)))) for row in _sort_rows(arr)]
+
+
+def _sort_rows(arr: np.ndarray) -> np.ndarray:
+    if arr.shape[0] == 0:
+        return arr
+    order = np.lexsort(arr.T[::-1])
+    return arr[order]
+
+
+# ------------------------------------------------------------------ filters
+
+
+def _mz_theory(formula: Formula, query: FormulaQuery, table: ElementTable) -> float:
+    mono = formula.monoisotopic_mass(table)
+    return mono - table.electron_mass if query.exact_mass_of == "ion" else mono
+
+
+def check_formula(
+    formula: Formula,
+    query: FormulaQuery,
+    *,
+    table: ElementTable | None = None,
+    rules: FormulaRules | None = None,
+) -> tuple[str, str] | None:
+    """The first filter that rejects ``formula`` as ``(rule, reason)``, or None if it passes.
+
+    This is the reference definition; :func:`derive_formulas` applies the same tests vectorized.
+    """
+    t = table or default_elements()
+    r = rules or default_rules()
+    dbe = formula.dbe(t)
+    if dbe < 0:
+        return "dbe_negative", f"DBE = {dbe} < 0: too many H and halogens for the skeleton"
+    reason = nitrogen_rule(formula, t)
+    if reason:
+        return "nitrogen_rule", reason
+    reason = senior_rules(formula, t)
+    if reason:
+        return "senior", reason
+    low, high = query.dbe
+    if not low <= dbe <= high:
+        return "dbe_range", f"DBE = {dbe} outside the allowed {low}-{high}"
+    reason = kind_fiehn(formula, r, query.element_ratios)
+    if reason:
+        return "element_ratios", reason
+    if query.exact_mass is not None:
+        theory = _mz_theory(formula, query, t)
+        ppm = (query.exact_mass - theory) / theory * 1e6
+        if abs(ppm) > query.mass_tolerance_ppm:
+            return (
+                "exact_mass",
+                f"exact mass {query.exact_mass:.5f} is {ppm:+.1f} ppm from {theory:.5f} "
+                f"(tolerance {query.mass_tolerance_ppm:g} ppm)",
+            )
+    return None
+
+
+def _first_failure(
+    arr: np.ndarray,
+    symbols: list[str],
+    query: FormulaQuery,
+    table: ElementTable,
+    rules: FormulaRules,
+) -> np.ndarray:
+    """Index into RULES of the first filter each row fails, or -1 (vectorized check_formula).
+
+    Same tests in the same order as :func:`check_formula`; a test checks the two agree row by row.
+    """
+    rows = arr.shape[0]
+    out = np.full(rows, -1, dtype=np.int64)
+    if rows == 0:
+        return out
+
+    def col(sym: str) -> np.ndarray:
+        return arr[:, symbols.index(sym)] if sym in symbols else np.zeros(rows, dtype=np.int64)
+
+    def mark(code: int, failed: np.ndarray) -> None:
+        out[(out < 0) & failed] = code
+
+    val = np.array([table[s].valence for s in symbols], dtype=np.int64)
+    twice_dbe = 2 + arr @ (val - 2)
+    nominal = arr @ np.array([table[s].nominal_mass for s in symbols], dtype=np.int64)
+    mark(0, twice_dbe < 0)
+    mark(1, (nominal % 2) != (col("N") % 2))
+    total = arr @ val
+    present_max = np.max(np.where(arr > 0, val[None, :], 0), axis=1)
+    atoms = arr.sum(axis=1)
+    mark(2, (total % 2 == 1) | (total < 2 * present_max) | (total < 2 * (atoms - 1)))
+    low, high = query.dbe
+    mark(3, (twice_dbe < 2 * low) | (twice_dbe > 2 * high))
+    if query.element_ratios != "off":
+        c = col("C")
+        bad = c == 0
+        safe_c = np.where(c == 0, 1, c)
+        for sym, (lo, hi) in rules.ratios[query.element_ratios].items():
+            ratio = col(sym) / safe_c
+            bad |= (ratio < lo - 1e-12) | (ratio > hi + 1e-12)
+        picked = np.zeros(rows, dtype=bool)
+        for below_mass, counts in rules.max_counts:
+            here = (~picked) & (nominal < below_mass)
+            for sym, limit in counts.items():
+                bad |= here & (col(sym) > limit)
+            picked |= here
+        for rule in rules.combined_counts:
+            applies = np.ones(rows, dtype=bool)
+            for sym in rule.elements:
+                applies &= col(sym) > rule.when_all_above
+            for sym, limit in rule.below.items():
+                bad |= applies & (col(sym) >= limit)
+        mark(4, bad)
+    if query.exact_mass is not None:
+        mono = arr @ np.array([table[s].monoisotopic_mass for s in symbols])
+        theory = mono - table.electron_mass if query.exact_mass_of == "ion" else mono
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ppm = (query.exact_mass - theory) / theory * 1e6
+        mark(5, ~(np.abs(ppm) <= query.mass_tolerance_ppm))
+    return out
+
+
+def _patterns(arr: np.ndarray, symbols: list[str], table: ElementTable, max_offset: int) -> np.ndarray:
+    """Isotope clusters (M = 100) for every row at once; same numbers as isotope_pattern."""
+    length = max_offset + 1
+    total = np.zeros((arr.shape[0], length))
+    total[:, 0] = 1.0
+    for j, sym in enumerate(symbols):
+        top = int(arr[:, j].max()) if arr.shape[0] else 0
+        if top == 0:
+            continue
+        lut = np.zeros((top + 1, length))
+        for n in range(top + 1):
+            p = _power(table, sym, n, length)
+            lut[n, : p.shape[0]] = p
+        factor = lut[arr[:, j]]
+        new = np.zeros_like(total)
+        for i in range(length):
+            new[:, i:] += total[:, i : i + 1] * factor[:, : length - i]
+        total = new
+    return total / total[:, :1] * 100.0
+
+
+def derive_formulas(
+    query: FormulaQuery,
+    *,
+    table: ElementTable | None = None,
+    rules: FormulaRules | None = None,
+    method: str = "direct",
+    top: int | None = None,
+    keep_rejected: bool = False,
+) -> FormulaResult:
+    """Enumerate, filter, score and rank candidate formulas for ``query``.
+
+    All survivors are scored and ranked; ``top`` limits how many are returned as
+    :class:`Candidate` objects (``kept_count`` still counts all). Ranking: isotope-fit score
+    (best first), then |ppm error| when an exact mass is given, then composition order
+    (C, H, N, O, … counts ascending, the order of the element table) so ties never depend on
+    anything but the input. With ``keep_rejected`` every rejected composition is returned with
+    its rule and reason.
+    """
+    t = table or default_elements()
+    r = rules or default_rules()
+    if method not in METHODS:
+        raise ElucidateError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
+    if top is not None and top < 0:
+        raise ElucidateError(f"top must be 0 or more, got {top}")
+    symbols = _ordered(query.elements, t)
+    arr = _sort_rows((_direct if method == "direct" else _constraint)(query.nominal_mass, query.elements, t))
+    failed = _first_failure(arr, symbols, query, t, r)
+    counts = {rule: int(np.count_nonzero(failed == i)) for i, rule in enumerate(RULES)}
+    rejected: list[Candidate] = []
+    if keep_rejected:
+        for row in arr[failed >= 0]:
+            formula = Formula.of(dict(zip(symbols, map(int, row))))
+            verdict = check_formula(formula, query, table=t, rules=r)
+            if verdict is None:  # pragma: no cover - vectorized filter and reference disagree
+                raise AssertionError(f"filter mismatch for {formula}")
+            rejected.append(_candidate(formula, query, t, rejected=verdict))
+    good = arr[failed < 0]
+    n_good = good.shape[0]
+    score = np.zeros(n_good)
+    patterns = None
+    if query.cluster is not None and n_good:
+        patterns = _patterns(good, symbols, t, r.isotope_max_offset)
+        chi2, _, _ = chi2_matrix(patterns, query.cluster, r.isotope_tolerance)
+        score = np.exp(-0.5 * chi2)
+    ppm = np.zeros(n_good)
+    if query.exact_mass is not None and n_good:
+        mono = good @ np.array([t[s].monoisotopic_mass for s in symbols])
+        theory = mono - t.electron_mass if query.exact_mass_of == "ion" else mono
+        ppm = np.abs((query.exact_mass - theory) / theory * 1e6)
+    # lexsort: last key is primary. Round so float noise cannot reorder equal scores.
+    order = np.lexsort((np.arange(n_good), np.round(ppm, 9), -np.round(score, 12)))
+    if top is not None and top > 0:
+        order = order[:top]
+    kept = []
+    for i in order:
+        formula = Formula.of(dict(zip(symbols, map(int, good[i]))))
+        fit = None
+        if patterns is not None and query.cluster is not None:
+            fit = fit_cluster(patterns[i], query.cluster, r.isotope_tolerance)
+        kept.append(_candidate(formula, query, t, fit=fit))
+    notes: list[str] = []
+    reading = None
+    if query.cluster is not None:
+        reading = read_cluster(query.cluster, t, r.isotope_tolerance, allowed=query.elements)
+        notes.extend(reading.notes)
+    else:
+        notes.append("no isotope peaks at M+ in the peak list: candidates are not scored")
+    rule13 = rule_of_13(query.nominal_mass) if query.nominal_mass >= 13 else None
+    return FormulaResult(
+        query=query,
+        kept=tuple(kept),
+        kept_count=int(n_good),
+        rejected=tuple(rejected),
+        rejected_counts=counts,
+        total=int(arr.shape[0]),
+        rule13=rule13,
+        reading=reading,
+        notes=tuple(notes),
+    )
+
+
+def _candidate(
+    formula: Formula,
+    query: FormulaQuery,
+    table: ElementTable,
+    *,
+    fit: ClusterFit | None = None,
+    rejected: tuple[str, str] | None = None,
+) -> Candidate:
+    mono = formula.monoisotopic_mass(table)
+    ppm = None
+    if query.exact_mass is not None:
+        theory = _mz_theory(formula, query, table)
+        ppm = (query.exact_mass - theory) / theory * 1e6
+    return Candidate(
+        formula=formula,
+        dbe=formula.dbe(table),
+        nominal_mass=formula.nominal_mass(table),
+        monoisotopic_mass=mono,
+        mz=mono - table.electron_mass,
+        ppm_error=ppm,
+        fit=fit,
+        rejected_by=rejected[0] if rejected else None,
+        reason=rejected[1] if rejected else None,
+    )
+
+
+def limits_for(
+    elements: Mapping[str, tuple[int, int]] | None, rules: FormulaRules | None = None
+) -> dict[str, tuple[int, int]]:
+    """The element limits to use: the given ones, else the table's defaults."""
+    r = rules or default_rules()
+    return dict(elements) if elements is not None else dict(r.default_elements)
+
+

@@ -1,0 +1,288 @@
+"""Nominal-mass isotope clusters: simulation by convolution and comparison with observed peaks.
+
+The cluster of a formula is the distribution of the number of extra neutrons over its atoms. Each
+element's single-atom distribution (offsets from its lightest isotope, which for every element in
+the table is also its most abundant one) is raised to the atom count by repeated convolution
+(exponentiation by squaring) and the elements are convolved together, all in numpy.
+Intensities are reported relative to the M peak (M = 100), the way a chemist reads M+1 and M+2.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+import numpy as np
+
+from .elements import ElementTable, default_elements
+from .formula import Formula
+
+__all__ = [
+    "isotope_pattern",
+    "IsotopeTolerance",
+    "ObservedCluster",
+    "ClusterFit",
+    "fit_cluster",
+    "chi2_matrix",
+    "ClusterReading",
+    "read_cluster",
+]
+
+
+def _truncate(arr: np.ndarray, length: int) -> np.ndarray:
+    return arr[:length] if arr.shape[0] > length else arr
+
+
+def _atom_distribution(table: ElementTable, symbol: str) -> np.ndarray:
+    el = table[symbol]
+    first = el.isotopes[0].mass_number
+    dist = np.zeros(el.isotopes[-1].mass_number - first + 1)
+    for iso in el.isotopes:
+        dist[iso.mass_number - first] = iso.abundance / 100.0
+    return dist / dist.sum()
+
+
+@lru_cache(maxsize=4096)
+def _power(table: ElementTable, symbol: str, count: int, length: int) -> np.ndarray:
+    base = _atom_distribution(table, symbol)
+    result = np.ones(1)
+    square = base
+    n = count
+    while n:
+        if n & 1:
+            result = _truncate(np.convolve(result, square), length)
+        n >>= 1
+        if n:
+            square = _truncate(np.convolve(square, square), length)
+    return result
+
+
+def isotope_pattern(
+    formula: Formula,
+    table: ElementTable | None = None,
+    *,
+    max_offset: int = 8,
+) -> np.ndarray:
+    """Relative intensities of M, M+1, …, M+max_offset (nominal), with M = 100."""
+    t = table or default_elements()
+    length = max_offset + 1
+    total = np.ones(1)
+    for symbol, n in formula.counts:
+        total = _truncate(np.convolve(total, _power(t, symbol, n, length)), length)
+    out = np.zeros(length)
+    out[: total.shape[0]] = total
+    return out / out[0] * 100.0
+
+
+@dataclass(frozen=True)
+class IsotopeTolerance:
+    """How closely an observed ratio I(M+k)/I(M) (in % of M) must match.
+
+    ``sigma = relative * predicted + absolute + reading * 100 / I(M)``, where ``I(M)`` is the
+    molecular-ion intensity in % of base peak and ``reading`` the precision of a reported
+    intensity (in % of base peak). A weak M+ therefore widens the window.
+    """
+
+    relative: float = 0.10
+    absolute: float = 0.5
+    reading: float = 0.05
+
+    def sigma(self, predicted: float, m_intensity: float) -> float:
+        return self.relative * predicted + self.absolute + self.reading * 100.0 / m_intensity
+
+
+@dataclass(frozen=True)
+class ObservedCluster:
+    """The isotope peaks at and above a nominal molecular ion, from a peak list.
+
+    ``ratios`` maps offset k (1, 2, …) to I(M+k)/I(M) in percent for the peaks listed.
+    ``threshold`` is the smallest intensity in the peak list (% of base peak): an unlisted
+    M+k peak predicted above it is taken as observed at 0 (below the reporting threshold).
+    """
+
+    nominal_mass: int
+    m_intensity: float
+    ratios: Mapping[int, float]
+    threshold: float = 0.0
+
+    @classmethod
+    def from_peaks(
+        cls, nominal_mass: int, peaks: Mapping[int, float], *, max_offset: int = 8
+    ) -> "ObservedCluster | None":
+        """Build the cluster, or ``None`` when M itself is not in the peak list."""
+        m = peaks.get(nominal_mass)
+        if not m:
+            return None
+        ratios = {
+            k: peaks[nominal_mass + k] / m * 100.0
+            for k in range(1, max_offset + 1)
+            if nominal_mass + k in peaks
+        }
+        threshold = min(peaks.values()) if peaks else 0.0
+        return cls(nominal_mass, float(m), ratios, float(threshold))
+
+    def describe(self) -> str:
+        parts = ["M 100"] + [f"M+{k} {v:.1f}" for k, v in sorted(self.ratios.items())]
+        return ", ".join(parts) + " (% of M+)"
+
+
+@dataclass(frozen=True)
+class ClusterFit:
+    """Result of comparing one formula's predicted cluster with the observed one."""
+
+    score: float  # exp(-chi2 / 2), 1 = perfect
+    chi2: float
+    predicted: tuple[float, ...]  # % of M for offsets 0..max_offset
+    compared: tuple[tuple[int, float, float, float], ...] = field(default=())
+    # (offset, observed %, predicted %, z) for every offset compared
+
+    def worst(self) -> tuple[int, float, float, float] | None:
+        return max(self.compared, key=lambda c: abs(c[3])) if self.compared else None
+
+
+def chi2_matrix(
+    predicted: np.ndarray,
+    observed: ObservedCluster,
+    tolerance: IsotopeTolerance = IsotopeTolerance(),
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Vectorized comparison of many predicted clusters (rows, M = 100) with one observed one.
+
+    Returns ``(chi2, z, used)``: chi-square per row, and per row and offset the z value and
+    whether that offset was compared. Offsets compared: every listed M+k, and every unlisted M+k
+    whose predicted intensity in the spectrum (% of base) is above the reporting threshold,
+    taken as observed 0 (it would have been listed).
+    """
+    pred = np.atleast_2d(predicted)[:, 1:]
+    offsets = np.arange(1, pred.shape[1] + 1)
+    listed = np.array([k in observed.ratios for k in offsets])
+    obs = np.array([observed.ratios.get(int(k), 0.0) for k in offsets])
+    unlisted_used = (pred * observed.m_intensity / 100.0 > observed.threshold) & bool(observed.ratios)
+    used = listed[None, :] | unlisted_used
+    sigma = tolerance.relative * pred + tolerance.absolute + tolerance.reading * 100.0 / observed.m_intensity
+    z = np.where(used, (obs[None, :] - pred) / sigma, 0.0)
+    return (z * z).sum(axis=1), z, used
+
+
+def fit_cluster(
+    predicted: np.ndarray,
+    observed: ObservedCluster,
+    tolerance: IsotopeTolerance = IsotopeTolerance(),
+) -> ClusterFit:
+    """Compare one predicted cluster (M = 100) with the observed ratios; see :func:`chi2_matrix`."""
+    chi2, z, used = chi2_matrix(predicted, observed, tolerance)
+    compared = tuple(
+        (k + 1, float(observed.ratios.get(k + 1, 0.0)), float(predicted[k + 1]), float(z[0, k]))
+        for k in range(used.shape[1])
+        if used[0, k]
+    )
+    return ClusterFit(
+        score=float(np.exp(-0.5 * chi2[0])),
+        chi2=float(chi2[0]),
+        predicted=tuple(float(x) for x in predicted),
+        compared=compared,
+    )
+
+
+# ------------------------------------------------------------------ reading a cluster by eye
+
+
+@dataclass(frozen=True)
+class ClusterReading:
+    """What the M+1 / M+2 / M+4 peaks say on their own, as a chemist reads them."""
+
+    heavy_atoms: str  # e.g. "Cl1", "Br2", "S1", "none" or "Cl1 or Br1?"
+    heavy_fit: float
+    carbon_estimate: float | None
+    carbon_range: tuple[int, int] | None
+    notes: tuple[str, ...]
+
+
+_HEAVY_SETS: tuple[dict[str, int], ...] = (
+    {},
+    {"S": 1},
+    {"S": 2},
+    {"Si": 1},
+    {"Cl": 1},
+    {"Cl": 2},
+    {"Cl": 3},
+    {"Br": 1},
+    {"Br": 2},
+    {"Cl": 1, "Br": 1},
+    {"Cl": 2, "Br": 1},
+    {"Cl": 1, "Br": 2},
+)
+
+
+def _label(counts: Mapping[str, int]) -> str:
+    return " ".join(f"{s}{n}" for s, n in counts.items()) or "none"
+
+
+def read_cluster(
+    observed: ObservedCluster,
+    table: ElementTable | None = None,
+    tolerance: IsotopeTolerance = IsotopeTolerance(),
+    *,
+    allowed: Mapping[str, tuple[int, int]] | None = None,
+) -> ClusterReading:
+    """Read the M+2/M+4 pattern for Cl, Br, S and Si, and M+1 for the carbon count.
+
+    The M+2 pattern is compared with the even-offset clusters of each heavy-atom set on a
+    nominal C6 skeleton; the carbon estimate is M+1 (after removing the heavy atoms'
+    contributions) divided by the per-carbon 13C contribution, 1.0816 % with the table's
+    abundances, with the range given by the M+1 tolerance.
+    """
+    t = table or default_elements()
+    notes: list[str] = []
+    best: tuple[float, str] = (-1.0, "none")
+    scores: list[tuple[float, str, dict[str, int]]] = []
+    even = {k: v for k, v in observed.ratios.items() if k % 2 == 0}
+    for heavy in _HEAVY_SETS:
+        if allowed is not None and any(allowed.get(s, (0, 0))[1] < n for s, n in heavy.items()):
+            continue
+        pattern = isotope_pattern(Formula.of({"C": 6, **heavy}), t, max_offset=8)
+        chi2 = 0.0
+        used = 0
+        for k in (2, 4, 6):
+            pred = float(pattern[k])
+            if k in even:
+                obs = even[k]
+            elif pred * observed.m_intensity / 100.0 > observed.threshold and observed.ratios:
+                obs = 0.0
+            else:
+                continue
+            sigma = tolerance.sigma(pred, observed.m_intensity) + 0.5  # skeleton unknown: looser
+            chi2 += ((obs - pred) / sigma) ** 2
+            used += 1
+        if used:
+            scores.append((float(np.exp(-0.5 * chi2)), _label(heavy), heavy))
+    heavy_counts: dict[str, int] = {}
+    if scores:
+        scores.sort(key=lambda s: (-s[0], s[1]))
+        best = (scores[0][0], scores[0][1])
+        heavy_counts = scores[0][2]
+        if len(scores) > 1 and scores[1][0] > 0.5 * scores[0][0] and scores[1][0] > 0.05:
+            best = (best[0], f"{scores[0][1]} (or {scores[1][1]})")
+        if 2 in observed.ratios:
+            notes.append(
+                f"M+2 = {observed.ratios[2]:.1f} % of M+: best read as {best[1]}"
+            )
+    else:
+        notes.append("no M+2 peak listed: halogens and sulfur cannot be read from the cluster")
+
+    carbon: float | None = None
+    c_range: tuple[int, int] | None = None
+    if 1 in observed.ratios:
+        heavy_m1 = float(isotope_pattern(Formula.of(heavy_counts), t, max_offset=1)[1]) if heavy_counts else 0.0
+        per_c = float(isotope_pattern(Formula.of({"C": 1}), t, max_offset=1)[1])
+        m1 = observed.ratios[1] - heavy_m1
+        carbon = m1 / per_c
+        sigma = tolerance.sigma(max(m1, 0.0), observed.m_intensity)
+        low = max(0, int(np.floor((m1 - sigma) / per_c)))
+        high = max(low, int(np.ceil((m1 + sigma) / per_c)))
+        c_range = (low, high)
+        notes.append(
+            f"M+1 = {observed.ratios[1]:.1f} % of M+: about {carbon:.1f} C at {per_c:.2f} % per C "
+            f"(range {low}-{high}; H, N and O add a little)"
+        )
+    return ClusterReading(best[1], best[0], carbon, c_range, tuple(notes))

@@ -1,0 +1,113 @@
+"""Plain-text and JSON renderings of results (pure functions returning strings / objects)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from .formulas import RULES, Candidate, FormulaResult
+
+__all__ = ["CAUTION", "RULE_LABELS", "formulas_text", "formulas_json"]
+
+CAUTION = (
+    "Caution: an unknown may be toxic or reactive; handle it under your lab's safety rules. "
+    "These candidates are hypotheses to confirm against a reference standard under the lab's own "
+    "procedures, not an identification."
+)
+
+RULE_LABELS = {
+    "dbe_negative": "DBE < 0",
+    "nitrogen_rule": "nitrogen rule",
+    "senior": "Senior's rules",
+    "dbe_range": "DBE outside range",
+    "element_ratios": "element ratios (Kind & Fiehn)",
+    "exact_mass": "exact mass",
+}
+
+
+def _dbe(c: Candidate) -> str:
+    return str(int(c.dbe)) if c.dbe.denominator == 1 else f"{float(c.dbe):.1f}"
+
+
+def _table(rows: Sequence[Sequence[str]], right: Sequence[bool]) -> list[str]:
+    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
+    out = []
+    for r in rows:
+        cells = [cell.rjust(w) if ra else cell.ljust(w) for cell, w, ra in zip(r, widths, right)]
+        out.append("  ".join(cells).rstrip())
+    return out
+
+
+def formulas_text(result: FormulaResult, *, title: str | None = None, explain: bool = False) -> str:
+    q = result.query
+    lines: list[str] = []
+    if title:
+        lines.append(title)
+    cluster = q.cluster
+    head = f"M+ = {q.nominal_mass} (nominal m/z)"
+    if q.exact_mass is not None:
+        head += f"; exact {'m/z of M+.' if q.exact_mass_of == 'ion' else 'neutral mass'} {q.exact_mass:.5f} ± {q.mass_tolerance_ppm:g} ppm"
+    lines.append(head)
+    if cluster is not None:
+        lines.append(f"isotope cluster: {cluster.describe()}; M+ is {cluster.m_intensity:g} % of base peak")
+    for note in result.notes:
+        lines.append(f"  {note}")
+    if result.rule13 is not None:
+        lines.append(result.rule13.describe())
+    limits = ", ".join(f"{s} {lo}-{hi}" if lo != hi else f"{s} {lo}" for s, (lo, hi) in q.elements.items())
+    lines.append(f"element limits: {limits}; DBE {q.dbe[0]}-{q.dbe[1]}; element ratios: {q.element_ratios}")
+    rejected = ", ".join(f"{RULE_LABELS[r]} {n}" for r, n in result.rejected_counts.items() if n)
+    lines.append(
+        f"compositions at nominal mass {q.nominal_mass}: {result.total}; kept {result.kept_count}"
+        + (f"; rejected: {rejected}" if rejected else "")
+    )
+    lines.append("")
+    if not result.kept:
+        lines.append("No formula survives the filters." + ("" if explain else " Run with --explain to see why each was rejected."))
+    else:
+        offsets = sorted({k for c in result.kept if c.fit for k, *_ in c.fit.compared})[:6]
+        header = ["rank", "formula", "DBE", "nominal", "monoisotopic", "m/z M+."]
+        if q.exact_mass is not None:
+            header.append("ppm")
+        header.append("fit")
+        header += [f"M+{k} obs/pred" for k in offsets]
+        rows = [header]
+        for i, c in enumerate(result.kept, 1):
+            row = [str(i), str(c.formula), _dbe(c), str(c.nominal_mass), f"{c.monoisotopic_mass:.6f}", f"{c.mz:.6f}"]
+            if q.exact_mass is not None:
+                row.append(f"{c.ppm_error:+.1f}" if c.ppm_error is not None else "")
+            row.append("-" if c.score is None else f"{c.score:.3f}")
+            compared = {k: (o, p) for k, o, p, _ in c.fit.compared} if c.fit else {}
+            for k in offsets:
+                row.append(f"{compared[k][0]:.1f}/{compared[k][1]:.1f}" if k in compared else "")
+            rows.append(row)
+        lines += _table(rows, [True, False, True, True, True, True] + [True] * (len(header) - 6))
+        if len(result.kept) < result.kept_count:
+            lines.append(f"(showing {len(result.kept)} of {result.kept_count}; --top 0 shows all)")
+        if cluster is not None:
+            lines.append("fit = exp(-chi2/2) over the isotope peaks compared (1 = perfect); unlisted peaks predicted above the")
+            lines.append("peak list's smallest intensity count as observed 0.")
+    if explain:
+        lines.append("")
+        lines.append("rejected compositions (rule: reason):")
+        if not result.rejected:
+            lines.append("  none")
+        for rule in RULES:
+            group = [c for c in result.rejected if c.rejected_by == rule]
+            if group:
+                lines.append(f"  {RULE_LABELS[rule]} ({len(group)}):")
+                for c in group:
+                    lines.append(f"    {c.formula}: {c.reason}")
+    lines.append("")
+    lines.append(CAUTION)
+    return "\n".join(lines) + "\n"
+
+
+def formulas_json(result: FormulaResult, *, explain: bool = False) -> list[dict[str, object]]:
+    out: list[dict[str, object]] = []
+    for i, c in enumerate(result.kept, 1):
+        d = {"rank": i, "status": "kept", **c.as_dict()}
+        out.append(d)
+    if explain:
+        for c in result.rejected:
+            out.append({"rank": None, "status": "rejected", **c.as_dict()})
+    return out

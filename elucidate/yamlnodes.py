@@ -1,0 +1,349 @@
+"""Strict, located reading of YAML documents (case files and knowledge tables).
+
+``yaml.safe_load`` loses line numbers and silently accepts duplicate keys, so documents are first
+composed into a node tree (with the safe loader) and then turned into :class:`Located` values that
+remember the file, line and dotted key path of every value. The helpers below read one typed value
+each and raise :class:`~elucidate.errors.ElucidateError` with a message saying what was expected.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import yaml
+
+from .errors import ElucidateError
+
+__all__ = [
+    "Located",
+    "read_yaml_file",
+    "parse_yaml",
+    "mapping",
+    "as_bool",
+    "as_str",
+    "as_int",
+    "as_number",
+    "as_range",
+    "as_list",
+    "as_choice",
+]
+
+_MAX_NODES = 200_000
+_MAX_DEPTH = 60
+
+
+@dataclass(frozen=True)
+class Located:
+    """A YAML value with the place it came from.
+
+    ``value`` is a scalar (str, int, float, bool, None, date), a ``dict`` mapping plain keys to
+    :class:`Located`, or a ``list`` of :class:`Located`.
+    """
+
+    value: Any
+    file: str
+    line: int
+    key: str
+    flow_gap: bool = False  # a key in a {...} mapping written without a value
+
+    def error(self, message: str) -> ElucidateError:
+        return ElucidateError(message, file=self.file, line=self.line, key=self.key or None)
+
+    def child_key(self, name: object) -> str:
+        return f"{self.key}.{name}" if self.key else str(name)
+
+    @property
+    def is_missing(self) -> bool:
+        return self.value is None
+
+
+def read_yaml_file(path: str | Path) -> Located:
+    """Read and compose a YAML file; never modifies it."""
+    name = str(path)
+    try:
+        data = Path(path).read_bytes()
+    except FileNotFoundError as exc:
+        raise ElucidateError("file not found", file=name) from exc
+    except IsADirectoryError as exc:
+        raise ElucidateError("is a directory, expected a YAML file", file=name) from exc
+    except OSError as exc:
+        raise ElucidateError(f"cannot read file: {exc.strerror}", file=name) from exc
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = data[: exc.start].count(b"\n") + 1
+        raise ElucidateError("not UTF-8 text (save the file as UTF-8)", file=name, line=line) from exc
+    return parse_yaml(text, file=name)
+
+
+def parse_yaml(text: str, *, file: str = "<text>") -> Located:
+    """Compose ``text`` with the safe loader and convert it to a :class:`Located` tree."""
+    loader = yaml.SafeLoader(text)
+    try:
+        try:
+            root = loader.get_single_node()
+        except yaml.MarkedYAMLError as exc:
+            mark = exc.problem_mark or exc.context_mark
+            line = mark.line + 1 if mark is not None else None
+            problem = exc.problem or exc.context or "invalid YAML"
+            raise ElucidateError(f"not valid YAML: {problem}", file=file, line=line) from exc
+        except yaml.YAMLError as exc:
+            raise ElucidateError(f"not valid YAML: {exc}", file=file) from exc
+        if root is None:
+            raise ElucidateError("the file is empty, expected a YAML mapping", file=file, line=1)
+        converter = _Converter(loader, file)
+        return converter.convert(root, "", 0)
+    finally:
+        loader.dispose()
+
+
+class _Converter:
+    def __init__(self, loader: yaml.SafeLoader, file: str) -> None:
+        self.loader = loader
+        self.file = file
+        self.count = 0
+        self.active: set[int] = set()
+
+    def convert(self, node: yaml.Node, key: str, depth: int, flow_gap: bool = False) -> Located:
+        line = node.start_mark.line + 1
+        self.count += 1
+        if self.count > _MAX_NODES or depth > _MAX_DEPTH:
+            raise ElucidateError(
+                "document too large or too deeply nested (aliases expanding?)",
+                file=self.file,
+                line=line,
+                key=key or None,
+            )
+        if id(node) in self.active:
+            raise ElucidateError("recursive alias", file=self.file, line=line, key=key or None)
+        if isinstance(node, yaml.ScalarNode):
+            return Located(self._scalar(node, key), self.file, line, key, flow_gap)
+        self.active.add(id(node))
+        try:
+            if isinstance(node, yaml.SequenceNode):
+                items = [
+                    self.convert(child, f"{key}[{i}]", depth + 1)
+                    for i, child in enumerate(node.value)
+                ]
+                return Located(items, self.file, line, key)
+            if isinstance(node, yaml.MappingNode):
+                return Located(self._mapping(node, key, depth), self.file, line, key)
+        finally:
+            self.active.discard(id(node))
+        raise ElucidateError("unsupported YAML node", file=self.file, line=line, key=key or None)
+
+    def _mapping(self, node: yaml.MappingNode, key: str, depth: int) -> dict[Any, Located]:
+        out: dict[Any, Located] = {}
+        for key_node, value_node in node.value:
+            kline = key_node.start_mark.line + 1
+            if key_node.tag == "tag:yaml.org,2002:merge":
+                raise ElucidateError(
+                    "merge keys ('<<') are not supported in case files; write the keys out",
+                    file=self.file,
+                    line=kline,
+                    key=key or None,
+                )
+            if not isinstance(key_node, yaml.ScalarNode):
+                raise ElucidateError(
+                    "a mapping key must be a plain value, not a list or mapping",
+                    file=self.file,
+                    line=kline,
+                    key=key or None,
+                )
+            k = self._scalar(key_node, key)
+            if not isinstance(k, (str, int, float, bool)) or k is None:
+                k = key_node.value
+            path = f"{key}.{k}" if key else str(k)
+            if k in out:
+                raise ElucidateError(
+                    f"duplicate key {k!r} (first given on line {out[k].line})",
+                    file=self.file,
+                    line=kline,
+                    key=path,
+                )
+            gap = bool(
+                node.flow_style
+                and isinstance(value_node, yaml.ScalarNode)
+                and value_node.tag == "tag:yaml.org,2002:null"
+                and value_node.value == ""
+            )
+            out[k] = self.convert(value_node, path, depth + 1, gap)
+        return out
+
+    def _scalar(self, node: yaml.ScalarNode, key: str) -> Any:
+        try:
+            value = self.loader.construct_object(node, deep=True)
+        except (yaml.YAMLError, ValueError, OverflowError, TypeError) as exc:
+            raise ElucidateError(
+                f"cannot read value {node.value!r}",
+                file=self.file,
+                line=node.start_mark.line + 1,
+                key=key or None,
+            ) from exc
+        return value
+
+
+# ---------------------------------------------------------------- typed readers
+
+
+def _describe(value: Any) -> str:
+    if value is None:
+        return "nothing"
+    if isinstance(value, bool):
+        return f"{str(value).lower()} (a yes/no value)"
+    if isinstance(value, dict):
+        return "a mapping"
+    if isinstance(value, list):
+        return "a list"
+    return repr(value)
+
+
+def _comma_hint(value: Any) -> str:
+    if isinstance(value, str) and "," in value:
+        return " (a comma is not a decimal point or separator here; write 2.7, not 2,7)"
+    return ""
+
+
+def mapping(
+    loc: Located,
+    allowed: Sequence[str],
+    *,
+    required: Iterable[str] = (),
+    what: str = "a mapping",
+) -> dict[str, Located]:
+    """Check ``loc`` is a mapping whose keys are all in ``allowed``; return it."""
+    if not isinstance(loc.value, dict):
+        raise loc.error(f"expected {what} with keys {', '.join(allowed)}; got {_describe(loc.value)}")
+    result: dict[str, Located] = {}
+    for k, v in loc.value.items():
+        if not isinstance(k, str) or k not in allowed:
+            close = difflib.get_close_matches(str(k), list(allowed), n=1)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            raise ElucidateError(
+                f"unknown key {str(k)!r}{hint}; valid keys here: {', '.join(allowed)}",
+                file=loc.file,
+                line=v.line,
+                key=loc.child_key(k),
+            )
+        result[k] = v
+    missing = [k for k in required if k not in result]
+    if missing:
+        raise loc.error(f"missing required key {missing[0]!r}")
+    return result
+
+
+def _check_gap(loc: Located) -> None:
+    if loc.flow_gap:
+        name = loc.key.rsplit(".", 1)[-1]
+        raise loc.error(
+            f"{name!r} has no value. In a {{...}} mapping a comma separates entries, so a comma "
+            "inside a value splits it (write 2.7, not 2,7; 0-40, not 0,40)"
+        )
+
+
+def as_bool(loc: Located) -> bool:
+    _check_gap(loc)
+    if not isinstance(loc.value, bool):
+        raise loc.error(f"expected true or false; got {_describe(loc.value)}")
+    return loc.value
+
+
+def as_str(loc: Located, *, what: str = "text", allow_empty: bool = False) -> str:
+    _check_gap(loc)
+    value = loc.value
+    if isinstance(value, bool) or value is None or isinstance(value, (dict, list)):
+        raise loc.error(f"expected {what}; got {_describe(value)}")
+    text = str(value)
+    if not allow_empty and not text.strip():
+        raise loc.error(f"expected {what}; got an empty value")
+    return text
+
+
+def as_number(
+    loc: Located,
+    *,
+    minimum: float | None = None,
+    maximum: float | None = None,
+    what: str = "a number",
+    exclusive_minimum: bool = False,
+) -> float:
+    _check_gap(loc)
+    value = loc.value
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise loc.error(f"expected {what}; got {_describe(value)}{_comma_hint(value)}")
+    number = float(value)
+    if not math.isfinite(number):
+        raise loc.error(f"expected {what}; got {value!r}")
+    too_low = minimum is not None and (
+        number <= minimum if exclusive_minimum else number < minimum
+    )
+    if too_low or (maximum is not None and number > maximum):
+        raise loc.error(f"expected {what}; got {value!r}")
+    return number
+
+
+def as_int(
+    loc: Located,
+    *,
+    minimum: int | None = None,
+    maximum: int | None = None,
+    what: str = "a whole number",
+) -> int:
+    _check_gap(loc)
+    value = loc.value
+    if isinstance(value, float) and value.is_integer():
+        value = int(value)
+    if isinstance(value, bool) or not isinstance(value, int):
+        raise loc.error(f"expected {what}; got {_describe(value)}{_comma_hint(value)}")
+    if (minimum is not None and value < minimum) or (maximum is not None and value > maximum):
+        raise loc.error(f"expected {what}; got {value!r}")
+    return value
+
+
+def parse_range_text(text: str) -> tuple[int, int] | None:
+    """``'3'`` -> (3, 3); ``'0-40'`` -> (0, 40); anything else -> None."""
+    parts = text.strip().split("-")
+    if len(parts) == 1 and parts[0].strip().isdigit():
+        n = int(parts[0])
+        return n, n
+    if len(parts) == 2 and all(p.strip().isdigit() for p in parts):
+        return int(parts[0]), int(parts[1])
+    return None
+
+
+def as_range(loc: Located, *, what: str = "a count or range such as 0-40") -> tuple[int, int]:
+    """A whole number ``n`` or a text range ``low-high`` of non-negative whole numbers."""
+    _check_gap(loc)
+    value = loc.value
+    if isinstance(value, int) and not isinstance(value, bool):
+        if value < 0:
+            raise loc.error(f"expected {what}; got {value!r} (counts cannot be negative)")
+        return value, value
+    parsed = parse_range_text(value) if isinstance(value, str) else None
+    if parsed is None:
+        raise loc.error(f"expected {what}; got {_describe(value)}")
+    low, high = parsed
+    if low > high:
+        raise loc.error(f"range {value!r}: the low end {low} exceeds the high end {high}")
+    return low, high
+
+
+def as_list(loc: Located, *, what: str = "a list") -> list[Located]:
+    _check_gap(loc)
+    if not isinstance(loc.value, list):
+        raise loc.error(f"expected {what}; got {_describe(loc.value)}")
+    return list(loc.value)
+
+
+def as_choice(loc: Located, choices: Sequence[str], *, what: str = "one of") -> str:
+    _check_gap(loc)
+    value = loc.value
+    text = str(value) if isinstance(value, (str, int, float)) and not isinstance(value, bool) else None
+    if text is None or text not in choices:
+        raise loc.error(f"expected {what} {', '.join(choices)}; got {_describe(value)}")
+    return text
