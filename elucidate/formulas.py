@@ -363,9 +363,9 @@ def derive_formulas(
 
     All survivors are scored and ranked; ``top`` limits how many are returned as
     :class:`Candidate` objects (``kept_count`` still counts all). Ranking: isotope-fit score
-    (best first), then |ppm error| when an exact mass is given, then composition order
-    (C, H, N, O, … counts ascending, the order of the element table) so ties never depend on
-    anything but the input. With ``keep_rejected`` every rejected composition is returned with
+    (best first), then |ppm error| when an exact mass is given, then parsimony (fewest
+    heteroatoms, then most carbons), then composition order (the element table's order), so ties
+    never depend on anything but the input. With ``keep_rejected`` every rejected composition is returned with
     its rule and reason.
     """
     t = table or default_elements()
@@ -399,8 +399,12 @@ def derive_formulas(
         mono = good @ np.array([t[s].monoisotopic_mass for s in symbols])
         theory = mono - t.electron_mass if query.exact_mass_of == "ion" else mono
         ppm = np.abs((query.exact_mass - theory) / theory * 1e6)
-    # lexsort: last key is primary. Round so float noise cannot reorder equal scores.
-    order = np.lexsort((np.arange(n_good), np.round(ppm, 9), -np.round(score, 12)))
+    # Ties (and every row when nothing is scored) fall back to parsimony: fewest heteroatoms,
+    # then most carbons, then composition order. lexsort: the last key is primary; scores are
+    # rounded so float noise cannot reorder equal ones.
+    hetero = good[:, [j for j, s in enumerate(symbols) if s not in ("C", "H")]].sum(axis=1)
+    carbons = good[:, symbols.index("C")] if "C" in symbols else np.zeros(n_good, dtype=np.int64)
+    order = np.lexsort((np.arange(n_good), -carbons, hetero, np.round(ppm, 9), -np.round(score, 12)))
     if top is not None and top > 0:
         order = order[:top]
     kept = []
@@ -415,8 +419,15 @@ def derive_formulas(
     if query.cluster is not None:
         reading = read_cluster(query.cluster, t, r.isotope_tolerance, allowed=query.elements)
         notes.extend(reading.notes)
+        best_kept = float(score.max()) if n_good else 0.0
+        warning = _heuristic_warning(arr[failed == 4], symbols, query, t, r, best_kept)
+        if warning:
+            notes.append(warning)
     else:
-        notes.append("no isotope peaks at M+ in the peak list: candidates are not scored")
+        notes.append(
+            "no isotope peaks at M+ in the peak list: candidates are not scored; listed by parsimony "
+            "(fewest heteroatoms, then most carbons)"
+        )
     rule13 = rule_of_13(query.nominal_mass) if query.nominal_mass >= 13 else None
     return FormulaResult(
         query=query,
@@ -428,6 +439,36 @@ def derive_formulas(
         rule13=rule13,
         reading=reading,
         notes=tuple(notes),
+    )
+
+
+def _heuristic_warning(
+    rows: np.ndarray,
+    symbols: list[str],
+    query: FormulaQuery,
+    table: ElementTable,
+    rules: FormulaRules,
+    best_kept: float,
+) -> str | None:
+    """A warning when a formula removed only by the element-ratio heuristic fits the cluster
+    clearly better than every kept one (e.g. CH2Cl2 or CHCl3, outside Kind & Fiehn's Cl/C).
+
+    The heuristic is library statistics, not chemistry, so it must never hide the right answer
+    without saying so.
+    """
+    if query.cluster is None or rows.shape[0] == 0:
+        return None
+    chi2, _, _ = chi2_matrix(_patterns(rows, symbols, table, rules.isotope_max_offset), query.cluster, rules.isotope_tolerance)
+    scores = np.exp(-0.5 * chi2)
+    best = int(np.lexsort((np.arange(rows.shape[0]), -np.round(scores, 12)))[0])
+    if scores[best] < 0.5 or scores[best] < 2 * best_kept:
+        return None
+    formula = Formula.of(dict(zip(symbols, map(int, rows[best]))))
+    reason = kind_fiehn(formula, rules, query.element_ratios)
+    return (
+        f"warning: {formula} fits the isotope cluster better (fit {scores[best]:.3f}) than any kept "
+        f"formula (best {best_kept:.3f}) but was removed by the element-ratio heuristic ({reason}); "
+        "rerun with element ratios 'extended' or 'off' if such a compound is possible"
     )
 
 

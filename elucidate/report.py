@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from .formula import hill_order
 from .formulas import RULES, Candidate, FormulaResult
 
 __all__ = ["CAUTION", "RULE_LABELS", "formulas_text", "formulas_json"]
@@ -53,7 +54,10 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
         lines.append(f"  {note}")
     if result.rule13 is not None:
         lines.append(result.rule13.describe())
-    limits = ", ".join(f"{s} {lo}-{hi}" if lo != hi else f"{s} {lo}" for s, (lo, hi) in q.elements.items())
+    limits = ", ".join(
+        f"{s} {q.elements[s][0]}-{q.elements[s][1]}" if q.elements[s][0] != q.elements[s][1] else f"{s} {q.elements[s][0]}"
+        for s in hill_order(list(q.elements))
+    )
     lines.append(f"element limits: {limits}; DBE {q.dbe[0]}-{q.dbe[1]}; element ratios: {q.element_ratios}")
     rejected = ", ".join(f"{RULE_LABELS[r]} {n}" for r, n in result.rejected_counts.items() if n)
     lines.append(
