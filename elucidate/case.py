@@ -25,6 +25,7 @@ from .yamlnodes import (
     as_number,
     as_range,
     as_str,
+    check_gap,
     mapping,
     parse_yaml,
     read_yaml_file,
@@ -233,6 +234,7 @@ def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[
             raise eloc.error("expected a mapping of element symbol to count or range, e.g. {C: 0-20, H: 0-40}")
         elements = {}
         for sym, rloc in eloc.value.items():
+            check_gap(rloc)
             if not isinstance(sym, str) or sym not in table:
                 raise ElucidateError(
                     f"unknown element {sym!r}; known elements: {', '.join(table.symbols)}",

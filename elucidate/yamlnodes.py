@@ -31,6 +31,8 @@ __all__ = [
     "as_range",
     "as_list",
     "as_choice",
+    "check_gap",
+    "parse_range_text",
 ]
 
 _MAX_NODES = 200_000
@@ -83,7 +85,13 @@ def read_yaml_file(path: str | Path) -> Located:
 
 def parse_yaml(text: str, *, file: str = "<text>") -> Located:
     """Compose ``text`` with the safe loader and convert it to a :class:`Located` tree."""
-    loader = yaml.SafeLoader(text)
+    try:
+        loader = yaml.SafeLoader(text)
+    except yaml.reader.ReaderError as exc:
+        line = text[: exc.position].count("\n") + 1
+        raise ElucidateError(
+            f"not valid YAML: character #x{exc.character:04x} is not allowed in YAML text", file=file, line=line
+        ) from exc
     try:
         try:
             root = loader.get_single_node()
@@ -92,6 +100,13 @@ def parse_yaml(text: str, *, file: str = "<text>") -> Located:
             line = mark.line + 1 if mark is not None else None
             problem = exc.problem or exc.context or "invalid YAML"
             raise ElucidateError(f"not valid YAML: {problem}", file=file, line=line) from exc
+        except yaml.reader.ReaderError as exc:
+            line = text[: exc.position].count("\n") + 1
+            raise ElucidateError(
+                f"not valid YAML: character #x{exc.character:04x} is not allowed in YAML text",
+                file=file,
+                line=line,
+            ) from exc
         except yaml.YAMLError as exc:
             raise ElucidateError(f"not valid YAML: {exc}", file=file) from exc
         if root is None:
@@ -221,6 +236,7 @@ def mapping(
         raise loc.error(f"expected {what} with keys {', '.join(allowed)}; got {_describe(loc.value)}")
     result: dict[str, Located] = {}
     for k, v in loc.value.items():
+        check_gap(v)
         if not isinstance(k, str) or k not in allowed:
             close = difflib.get_close_matches(str(k), list(allowed), n=1)
             hint = f" (did you mean {close[0]!r}?)" if close else ""
@@ -237,7 +253,8 @@ def mapping(
     return result
 
 
-def _check_gap(loc: Located) -> None:
+def check_gap(loc: Located) -> None:
+    """Raise if ``loc`` is a key written without a value inside a ``{...}`` mapping."""
     if loc.flow_gap:
         name = loc.key.rsplit(".", 1)[-1]
         raise loc.error(
@@ -247,14 +264,14 @@ def _check_gap(loc: Located) -> None:
 
 
 def as_bool(loc: Located) -> bool:
-    _check_gap(loc)
+    check_gap(loc)
     if not isinstance(loc.value, bool):
         raise loc.error(f"expected true or false; got {_describe(loc.value)}")
     return loc.value
 
 
 def as_str(loc: Located, *, what: str = "text", allow_empty: bool = False) -> str:
-    _check_gap(loc)
+    check_gap(loc)
     value = loc.value
     if isinstance(value, bool) or value is None or isinstance(value, (dict, list)):
         raise loc.error(f"expected {what}; got {_describe(value)}")
@@ -272,7 +289,7 @@ def as_number(
     what: str = "a number",
     exclusive_minimum: bool = False,
 ) -> float:
-    _check_gap(loc)
+    check_gap(loc)
     value = loc.value
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         raise loc.error(f"expected {what}; got {_describe(value)}{_comma_hint(value)}")
@@ -294,7 +311,7 @@ def as_int(
     maximum: int | None = None,
     what: str = "a whole number",
 ) -> int:
-    _check_gap(loc)
+    check_gap(loc)
     value = loc.value
     if isinstance(value, float) and value.is_integer():
         value = int(value)
@@ -318,7 +335,7 @@ def parse_range_text(text: str) -> tuple[int, int] | None:
 
 def as_range(loc: Located, *, what: str = "a count or range such as 0-40") -> tuple[int, int]:
     """A whole number ``n`` or a text range ``low-high`` of non-negative whole numbers."""
-    _check_gap(loc)
+    check_gap(loc)
     value = loc.value
     if isinstance(value, int) and not isinstance(value, bool):
         if value < 0:
@@ -334,14 +351,14 @@ def as_range(loc: Located, *, what: str = "a count or range such as 0-40") -> tu
 
 
 def as_list(loc: Located, *, what: str = "a list") -> list[Located]:
-    _check_gap(loc)
+    check_gap(loc)
     if not isinstance(loc.value, list):
         raise loc.error(f"expected {what}; got {_describe(loc.value)}")
     return list(loc.value)
 
 
 def as_choice(loc: Located, choices: Sequence[str], *, what: str = "one of") -> str:
-    _check_gap(loc)
+    check_gap(loc)
     value = loc.value
     text = str(value) if isinstance(value, (str, int, float)) and not isinstance(value, bool) else None
     if text is None or text not in choices:
