@@ -40,6 +40,7 @@ __all__ = [
     "FormulaQuery",
     "Candidate",
     "FormulaResult",
+    "composition_array",
     "enumerate_compositions",
     "check_formula",
     "derive_formulas",
@@ -196,6 +197,23 @@ def _constraint(mass: int, limits: Mapping[str, tuple[int, int]], table: Element
     return np.array(rows, dtype=np.int64).reshape(-1, len(symbols))
 
 
+def composition_array(
+    mass: int,
+    limits: Mapping[str, tuple[int, int]],
+    table: ElementTable | None = None,
+    *,
+    method: str = "direct",
+) -> tuple[list[str], np.ndarray]:
+    """The compositions as an integer array (one row each, columns in element-table order),
+    rows in a fixed order. This is what the engine works on; no Python object per row."""
+    t = table or default_elements()
+    if method not in METHODS:
+        raise ElucidateError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
+    symbols = _ordered(limits, t)
+    arr = (_direct if method == "direct" else _constraint)(mass, limits, t)
+    return symbols, _sort_rows(arr)
+
+
 def enumerate_compositions(
     mass: int,
     limits: Mapping[str, tuple[int, int]],
@@ -204,12 +222,8 @@ def enumerate_compositions(
     method: str = "direct",
 ) -> list[Formula]:
     """Every composition within ``limits`` whose nominal mass is ``mass``, in a fixed order."""
-    t = table or default_elements()
-    if method not in METHODS:
-        raise ElucidateError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
-    symbols = _ordered(limits, t)
-    arr = (_direct if method == "direct" else _constraint)(mass, limits, t)
-    return [Formula.of(dict(zip(symbols, map(int, row)))) for row in _sort_rows(arr)]
+    symbols, arr = composition_array(mass, limits, table, method=method)
+    return [Formula.of(dict(zip(symbols, map(int, row)))) for row in arr]
 
 
 def _sort_rows(arr: np.ndarray) -> np.ndarray:
@@ -370,12 +384,9 @@ def derive_formulas(
     """
     t = table or default_elements()
     r = rules or default_rules()
-    if method not in METHODS:
-        raise ElucidateError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
     if top is not None and top < 0:
         raise ElucidateError(f"top must be 0 or more, got {top}")
-    symbols = _ordered(query.elements, t)
-    arr = _sort_rows((_direct if method == "direct" else _constraint)(query.nominal_mass, query.elements, t))
+    symbols, arr = composition_array(query.nominal_mass, query.elements, t, method=method)
     failed = _first_failure(arr, symbols, query, t, r)
     counts = {rule: int(np.count_nonzero(failed == i)) for i, rule in enumerate(RULES)}
     rejected: list[Candidate] = []

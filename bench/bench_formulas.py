@@ -1,0 +1,70 @@
+"""Formula-engine benchmark: prints figures, asserts nothing (machines are shared and noisy).
+
+    python3 bench/bench_formulas.py [--quick]
+
+1. enumeration alone, direct (numpy) vs python-constraint, side by side at the same masses;
+2. the whole `formulas` computation (enumerate, filter, score, rank) with the default element
+   limits and an isotope cluster, for M up to 500 (target: under 1 s each);
+3. the command line as a new process (`python -m elucidate formulas M --json`), start-up included.
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import subprocess
+import sys
+import time
+
+from elucidate import FormulaQuery, ObservedCluster, default_rules, derive_formulas
+from elucidate.formulas import composition_array
+
+
+def best_of(fn, repeat: int) -> float:
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return min(times)
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser()
+    parser.add_argument("--quick", action="store_true", help="fewer masses, no constraint run at 500")
+    args = parser.parse_args()
+    limits = dict(default_rules().default_elements)
+
+    print("1. enumeration only (integer arrays), default element limits (best of runs, seconds)")
+    print(f"{'M':>5} {'compositions':>13} {'direct':>9} {'constraint':>11} {'ratio':>7}")
+    for mass in (120, 300) if args.quick else (120, 300, 500):
+        n = composition_array(mass, limits)[1].shape[0]
+        direct = best_of(lambda: composition_array(mass, limits, method="direct"), 3)
+        solved = best_of(lambda: composition_array(mass, limits, method="constraint"), 1)
+        print(f"{mass:>5} {n:>13} {direct:>9.3f} {solved:>11.3f} {solved / direct:>6.0f}x")
+
+    print("\n2. whole computation with an isotope cluster (best of 3, seconds)")
+    print(f"{'M':>5} {'kept':>7} {'seconds':>9}")
+    worst = 0.0
+    masses = (100, 300, 500) if args.quick else (100, 200, 300, 400, 450, 500)
+    for mass in masses:
+        cluster = ObservedCluster.from_peaks(mass, {mass: 40, mass + 1: 5.0, mass + 2: 1.2, 57: 100})
+        q = FormulaQuery(mass, limits, default_rules().default_dbe, cluster=cluster)
+        kept = derive_formulas(q, top=20).kept_count
+        sec = best_of(lambda: derive_formulas(q, top=20), 3)
+        worst = max(worst, sec)
+        print(f"{mass:>5} {kept:>7} {sec:>9.3f}")
+    print(f"slowest: {worst:.3f} s (target < 1 s)")
+
+    print("\n3. command line in a new process, M = 500 (median of 3, seconds, start-up included)")
+    runs = []
+    for _ in range(3):
+        t0 = time.perf_counter()
+        subprocess.run([sys.executable, "-m", "elucidate", "formulas", "500", "--json", "--top", "20"],
+                       check=True, capture_output=True)
+        runs.append(time.perf_counter() - t0)
+    print(f"  {statistics.median(runs):.3f}")
+
+
+if __name__ == "__main__":
+    main()
