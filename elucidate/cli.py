@@ -148,6 +148,8 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
         case = load_case(target)
         ms = case.mass_spec
         mass_opt = args.molecular_ion if args.molecular_ion is not None else (ms.molecular_ion if ms else None)
+        if mass_opt is None and case.formula.known is not None:
+            mass_opt = case.formula.known.nominal_mass()
         if mass_opt is None:
             raise ElucidateError(
                 "the case gives no molecular ion (molecular_ion absent or unknown); "

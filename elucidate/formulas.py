@@ -135,10 +135,24 @@ class FormulaResult:
 # ------------------------------------------------------------------ enumeration
 
 
+#: largest search grid (heteroatom combinations x carbon counts) the engine will build
+MAX_GRID = 50_000_000
+
+
 def _ordered(limits: Mapping[str, tuple[int, int]], table: ElementTable) -> list[str]:
     for sym in limits:
         table[sym]  # raises with the list of known elements
-    return [s for s in table.symbols if s in limits]
+    symbols = [s for s in table.symbols if s in limits]
+    size = 1
+    for s in symbols:
+        if s != "H" or "C" not in symbols:
+            size *= limits[s][1] - limits[s][0] + 1
+    if size > MAX_GRID:
+        raise ElucidateError(
+            f"element limits too wide: {size:,} combinations to search (at most {MAX_GRID:,}); "
+            "narrow the ranges of the rarer elements"
+        )
+    return symbols
 
 
 def _direct(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> np.ndarray:

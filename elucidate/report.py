@@ -79,7 +79,7 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
             row = [str(i), str(c.formula), _dbe(c), str(c.nominal_mass), f"{c.monoisotopic_mass:.6f}", f"{c.mz:.6f}"]
             if q.exact_mass is not None:
                 row.append(f"{c.ppm_error:+.1f}" if c.ppm_error is not None else "")
-            row.append("-" if c.score is None else f"{c.score:.3f}")
+            row.append("-" if c.score is None else (f"{c.score:.3f}" if c.score >= 0.0005 else "<0.001"))
             compared = {k: (o, p) for k, o, p, _ in c.fit.compared} if c.fit else {}
             for k in offsets:
                 row.append(f"{compared[k][0]:.1f}/{compared[k][1]:.1f}" if k in compared else "")

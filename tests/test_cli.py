@@ -132,3 +132,16 @@ def test_readme_demo_command_targets_an_existing_case():
     demo = _readme_commands()[0]
     paths = re.findall(r"cases/[\w.-]+\.yaml", demo)
     assert paths and all((ROOT / p).is_file() for p in paths)
+
+
+def test_known_formula_without_molecular_ion(cli, tmp_path):
+    case = tmp_path / "k.yaml"
+    case.write_text("schema: 1\nid: k1\nmass_spec:\n  peaks: {105: 100, 77: 60}\nformula:\n  known: C8H8O\n")
+    res = cli("formulas", str(case), "--json")
+    assert res.code == 0, res.err
+    assert [d["formula"] for d in res.json()] == ["C8H8O"]
+
+
+def test_too_wide_limits_are_refused(cli):
+    res = cli("formulas", "400", "--elements", "C:0-40,H:0-80,N:0-60,O:0-60,S:0-60,Cl:0-60,Br:0-60")
+    assert res.code == 1 and "too wide" in res.err
