@@ -133,7 +133,7 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
     rules = default_rules()
     case: Case | None = None
     target = args.target.strip()
-    if re.fullmatch(r"\d+", target):
+    if re.fullmatch(r"[0-9]+", target):
         mass = int(target)
         if args.molecular_ion is not None:
             raise ElucidateError("give the mass once: either M as the first argument or --molecular-ion with a case")

@@ -50,6 +50,8 @@ __all__ = [
 RULES = ("dbe_negative", "nitrogen_rule", "senior", "dbe_range", "element_ratios", "exact_mass")
 EXACT_MASS_OF = ("ion", "neutral")
 METHODS = ("direct", "constraint")
+#: isotope-fit scores closer than this rank as equal (then parsimony decides)
+SCORE_STEP = 0.01
 
 
 @dataclass(frozen=True)
@@ -390,11 +392,11 @@ def derive_formulas(
     """Enumerate, filter, score and rank candidate formulas for ``query``.
 
     All survivors are scored and ranked; ``top`` limits how many are returned as
-    :class:`Candidate` objects (``kept_count`` still counts all). Ranking: isotope-fit score
-    (best first), then |ppm error| when an exact mass is given, then parsimony (fewest
-    heteroatoms, then most carbons), then composition order (the element table's order), so ties
-    never depend on anything but the input. With ``keep_rejected`` every rejected composition is returned with
-    its rule and reason.
+    :class:`Candidate` objects (``kept_count`` still counts all). Ranking: isotope-fit score to
+    the nearest SCORE_STEP (best first), then |ppm error| when an exact mass is given, then
+    parsimony (fewest atoms beyond C, H, N, O; fewest heteroatoms; most carbons), then
+    composition order (the element table's order), so ties never depend on anything but the
+    input. With ``keep_rejected`` every rejected composition is returned with its rule and reason.
     """
     t = table or default_elements()
     r = rules or default_rules()
@@ -424,12 +426,15 @@ def derive_formulas(
         mono = good @ np.array([t[s].monoisotopic_mass for s in symbols])
         theory = mono - t.electron_mass if query.exact_mass_of == "ion" else mono
         ppm = np.abs((query.exact_mass - theory) / theory * 1e6)
-    # Ties (and every row when nothing is scored) fall back to parsimony: fewest heteroatoms,
-    # then most carbons, then composition order. lexsort: the last key is primary; scores are
-    # rounded so float noise cannot reorder equal ones.
+    # Fits within SCORE_STEP of each other are not distinguishable by a low-resolution cluster;
+    # such ties (and every row when nothing is scored) fall back to parsimony: fewest atoms
+    # beyond C, H, N and O, then fewest heteroatoms, then most carbons, then composition order.
+    # lexsort: the last key is primary.
     hetero = good[:, [j for j, s in enumerate(symbols) if s not in ("C", "H")]].sum(axis=1)
+    rare = good[:, [j for j, s in enumerate(symbols) if s not in ("C", "H", "N", "O")]].sum(axis=1)
     carbons = good[:, symbols.index("C")] if "C" in symbols else np.zeros(n_good, dtype=np.int64)
-    order = np.lexsort((np.arange(n_good), -carbons, hetero, np.round(ppm, 9), -np.round(score, 12)))
+    score_class = np.floor(score / SCORE_STEP + 0.5 + 1e-9)
+    order = np.lexsort((np.arange(n_good), -carbons, hetero, rare, np.round(ppm, 9), -score_class))
     if top is not None and top > 0:
         order = order[:top]
     kept = []
@@ -451,7 +456,7 @@ def derive_formulas(
     else:
         notes.append(
             "no isotope peaks at M+ in the peak list: candidates are not scored; listed by parsimony "
-            "(fewest heteroatoms, then most carbons)"
+            "(fewest atoms beyond C, H, N, O; fewest heteroatoms; most carbons)"
         )
     rule13 = rule_of_13(query.nominal_mass) if query.nominal_mass >= 13 else None
     return FormulaResult(

@@ -87,6 +87,12 @@ class IsotopeTolerance:
     relative: float = 0.10
     absolute: float = 0.5
     reading: float = 0.05
+    #: an unlisted M+k counts as observed 0 only when predicted above this many times the
+    #: smallest intensity in the peak list (clearly above what the list reports)
+    unlisted_factor: float = 2.0
+
+    def unlisted_counts(self, predicted_in_spectrum: float, threshold: float) -> bool:
+        return predicted_in_spectrum > self.unlisted_factor * threshold
 
     def sigma(self, predicted: float, m_intensity: float) -> float:
         return self.relative * predicted + self.absolute + self.reading * 100.0 / m_intensity
@@ -98,7 +104,7 @@ class ObservedCluster:
 
     ``ratios`` maps offset k (1, 2, …) to I(M+k)/I(M) in percent for the peaks listed.
     ``threshold`` is the smallest intensity in the peak list (% of base peak): an unlisted
-    M+k peak predicted above it is taken as observed at 0 (below the reporting threshold).
+    M+k peak predicted clearly above it (see :class:`IsotopeTolerance`) is taken as observed 0.
     """
 
     nominal_mass: int
@@ -150,14 +156,17 @@ def chi2_matrix(
 
     Returns ``(chi2, z, used)``: chi-square per row, and per row and offset the z value and
     whether that offset was compared. Offsets compared: every listed M+k, and every unlisted M+k
-    whose predicted intensity in the spectrum (% of base) is above the reporting threshold,
-    taken as observed 0 (it would have been listed).
+    whose predicted intensity in the spectrum (% of base) is clearly above the smallest listed
+    intensity (``tolerance.unlisted_factor`` times it), taken as observed 0 (it would have been
+    listed).
     """
     pred = np.atleast_2d(predicted)[:, 1:]
     offsets = np.arange(1, pred.shape[1] + 1)
     listed = np.array([k in observed.ratios for k in offsets])
     obs = np.array([observed.ratios.get(int(k), 0.0) for k in offsets])
-    unlisted_used = (pred * observed.m_intensity / 100.0 > observed.threshold) & bool(observed.ratios)
+    unlisted_used = (pred * observed.m_intensity / 100.0 > tolerance.unlisted_factor * observed.threshold) & bool(
+        observed.ratios
+    )
     used = listed[None, :] | unlisted_used
     sigma = tolerance.relative * pred + tolerance.absolute + tolerance.reading * 100.0 / observed.m_intensity
     z = np.where(used, (obs[None, :] - pred) / sigma, 0.0)
@@ -247,7 +256,7 @@ def read_cluster(
             pred = float(pattern[k])
             if k in even:
                 obs = even[k]
-            elif pred * observed.m_intensity / 100.0 > observed.threshold and observed.ratios:
+            elif observed.ratios and tolerance.unlisted_counts(pred * observed.m_intensity / 100.0, observed.threshold):
                 obs = 0.0
             else:
                 continue

@@ -88,8 +88,9 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
         if len(result.kept) < result.kept_count:
             lines.append(f"(showing {len(result.kept)} of {result.kept_count}; --top 0 shows all)")
         if cluster is not None:
-            lines.append("fit = exp(-chi2/2) over the isotope peaks compared (1 = perfect); unlisted peaks predicted above the")
-            lines.append("peak list's smallest intensity count as observed 0.")
+            lines.append("fit = exp(-chi2/2) over the isotope peaks compared (1 = perfect); an unlisted peak predicted above")
+            lines.append("twice the peak list's smallest intensity counts as observed 0. Fits within 0.01 rank as equal;")
+            lines.append("ties go to fewer atoms beyond C, H, N, O, then fewer heteroatoms, then more carbons.")
     if explain:
         lines.append("")
         lines.append("rejected compositions (rule: reason):")

@@ -166,8 +166,8 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
     }
     fit = mapping(
         root["isotope_fit"],
-        ["source", "relative", "absolute", "reading", "max_offset"],
-        required=["relative", "absolute", "reading", "max_offset"],
+        ["source", "relative", "absolute", "reading", "unlisted_factor", "max_offset"],
+        required=["relative", "absolute", "reading", "unlisted_factor", "max_offset"],
     )
     rules = FormulaRules(
         default_elements=default_limits,
@@ -180,6 +180,7 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
             relative=as_number(fit["relative"], minimum=0),
             absolute=as_number(fit["absolute"], minimum=0),
             reading=as_number(fit["reading"], minimum=0),
+            unlisted_factor=as_number(fit["unlisted_factor"], minimum=1),
         ),
         isotope_max_offset=as_int(fit["max_offset"], minimum=2, maximum=20),
     )

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -36,6 +37,7 @@ __all__ = [
 ]
 
 _MAX_NODES = 200_000
+_RANGE = re.compile(r"([0-9]+)\s*(?:-\s*([0-9]+))?", re.ASCII)
 _MAX_DEPTH = 60
 
 
@@ -324,13 +326,11 @@ def as_int(
 
 def parse_range_text(text: str) -> tuple[int, int] | None:
     """``'3'`` -> (3, 3); ``'0-40'`` -> (0, 40); anything else -> None."""
-    parts = text.strip().split("-")
-    if len(parts) == 1 and parts[0].strip().isdigit():
-        n = int(parts[0])
-        return n, n
-    if len(parts) == 2 and all(p.strip().isdigit() for p in parts):
-        return int(parts[0]), int(parts[1])
-    return None
+    match = _RANGE.fullmatch(text.strip())
+    if match is None:
+        return None
+    low = int(match.group(1))
+    return low, int(match.group(2)) if match.group(2) is not None else low
 
 
 def as_range(loc: Located, *, what: str = "a count or range such as 0-40") -> tuple[int, int]:
