@@ -186,7 +186,7 @@ def _dumped():
     return base.map(lambda d: yaml.safe_dump(d, default_flow_style=None))
 
 
-@settings(max_examples=3000, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=2000, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.one_of(_mutated_good(), _dumped(), st.text(max_size=80)))
 def test_fuzzed_case_text_raises_only_domain_errors(text):
     try:
