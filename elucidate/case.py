@@ -15,7 +15,7 @@ from pathlib import Path
 
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
-from .formula import Formula, parse_formula
+from .formula import Formula, parse_formula, ppm_error
 from .rules import RATIO_LEVELS
 from .yamlnodes import (
     Located,
@@ -393,11 +393,10 @@ def _case(root: Located, table: ElementTable) -> Case:
                 )
             if ms.exact_mass is not None:
                 mono = spec.known.monoisotopic_mass(table)
-                theory = mono - table.electron_mass if ms.exact_mass_of == "ion" else mono
-                ppm = (ms.exact_mass - theory) / theory * 1e6
+                ppm = ppm_error(ms.exact_mass, mono, electron_mass=table.electron_mass, of=ms.exact_mass_of)
                 if abs(ppm) > ms.mass_tolerance_ppm:
                     raise spec_body["known"].error(
-                        f"{spec.known} ({theory:.5f}) is {ppm:+.1f} ppm from mass_spec.exact_mass "
+                        f"{spec.known} is {ppm:+.1f} ppm from mass_spec.exact_mass "
                         f"{ms.exact_mass} (tolerance {ms.mass_tolerance_ppm:g} ppm)"
                     )
         if ms.molecular_ion is not None and ms.peaks:

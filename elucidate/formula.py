@@ -6,11 +6,12 @@ import re
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from fractions import Fraction
+from typing import Any
 
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 
-__all__ = ["Formula", "parse_formula", "hill_order"]
+__all__ = ["Formula", "parse_formula", "hill_order", "ppm_error"]
 
 _TOKEN = re.compile(r"([A-Z][a-z]?)(\d*)")
 
@@ -94,6 +95,16 @@ class Formula(Mapping[str, int]):
         """
         t = table or default_elements()
         return 1 + Fraction(sum(n * (t[s].valence - 2) for s, n in self.counts), 2)
+
+
+def ppm_error(measured: Any, monoisotopic: Any, *, electron_mass: float, of: str = "ion") -> Any:
+    """ppm error of a measured exact mass against neutral monoisotopic mass(es).
+
+    ``of="ion"``: ``measured`` is the m/z of M+., so one electron mass is subtracted from the
+    neutral mass first; ``of="neutral"``: compared as given. Works on floats and numpy arrays.
+    """
+    theory = monoisotopic - electron_mass if of == "ion" else monoisotopic
+    return (measured - theory) / theory * 1e6
 
 
 def parse_formula(text: str, table: ElementTable | None = None) -> Formula:

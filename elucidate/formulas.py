@@ -21,7 +21,7 @@ import numpy as np
 
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
-from .formula import Formula
+from .formula import Formula, ppm_error
 from .isotopes import ClusterFit, ClusterReading, ObservedCluster, _power, chi2_matrix, fit_cluster, read_cluster
 from .rules import (
     RATIO_LEVELS,
@@ -252,9 +252,11 @@ def _sort_rows(arr: np.ndarray) -> np.ndarray:
 # ------------------------------------------------------------------ filters
 
 
-def _mz_theory(formula: Formula, query: FormulaQuery, table: ElementTable) -> float:
-    mono = formula.monoisotopic_mass(table)
-    return mono - table.electron_mass if query.exact_mass_of == "ion" else mono
+def _ppm(formula: Formula, query: FormulaQuery, table: ElementTable) -> float:
+    assert query.exact_mass is not None
+    return float(
+        ppm_error(query.exact_mass, formula.monoisotopic_mass(table), electron_mass=table.electron_mass, of=query.exact_mass_of)
+    )
 
 
 def check_formula(
@@ -286,12 +288,12 @@ def check_formula(
     if reason:
         return "element_ratios", reason
     if query.exact_mass is not None:
-        theory = _mz_theory(formula, query, t)
-        ppm = (query.exact_mass - theory) / theory * 1e6
+        ppm = _ppm(formula, query, t)
         if abs(ppm) > query.mass_tolerance_ppm:
+            expected = formula.mz(t) if query.exact_mass_of == "ion" else formula.monoisotopic_mass(t)
             return (
                 "exact_mass",
-                f"exact mass {query.exact_mass:.5f} is {ppm:+.1f} ppm from {theory:.5f} "
+                f"exact mass {query.exact_mass:.5f} is {ppm:+.1f} ppm from {expected:.5f} "
                 f"(tolerance {query.mass_tolerance_ppm:g} ppm)",
             )
     return None
@@ -352,9 +354,8 @@ def _first_failure(
         mark(4, bad)
     if query.exact_mass is not None:
         mono = arr @ np.array([table[s].monoisotopic_mass for s in symbols])
-        theory = mono - table.electron_mass if query.exact_mass_of == "ion" else mono
         with np.errstate(divide="ignore", invalid="ignore"):
-            ppm = (query.exact_mass - theory) / theory * 1e6
+            ppm = ppm_error(query.exact_mass, mono, electron_mass=table.electron_mass, of=query.exact_mass_of)
         mark(5, ~(np.abs(ppm) <= query.mass_tolerance_ppm))
     return out
 
@@ -424,8 +425,7 @@ def derive_formulas(
     ppm = np.zeros(n_good)
     if query.exact_mass is not None and n_good:
         mono = good @ np.array([t[s].monoisotopic_mass for s in symbols])
-        theory = mono - t.electron_mass if query.exact_mass_of == "ion" else mono
-        ppm = np.abs((query.exact_mass - theory) / theory * 1e6)
+        ppm = np.abs(ppm_error(query.exact_mass, mono, electron_mass=t.electron_mass, of=query.exact_mass_of))
     # Fits within SCORE_STEP of each other are not distinguishable by a low-resolution cluster;
     # such ties (and every row when nothing is scored) fall back to parsimony: fewest atoms
     # beyond C, H, N and O, then fewest heteroatoms, then most carbons, then composition order.
@@ -511,10 +511,7 @@ def _candidate(
     rejected: tuple[str, str] | None = None,
 ) -> Candidate:
     mono = formula.monoisotopic_mass(table)
-    ppm = None
-    if query.exact_mass is not None:
-        theory = _mz_theory(formula, query, table)
-        ppm = (query.exact_mass - theory) / theory * 1e6
+    ppm = _ppm(formula, query, table) if query.exact_mass is not None else None
     return Candidate(
         formula=formula,
         dbe=formula.dbe(table),
