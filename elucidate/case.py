@@ -407,14 +407,22 @@ def _case(root: Located, table: ElementTable) -> Case:
 
                 limits = dict(spec.elements) if spec.elements is not None else dict(default_rules().default_elements)
             ceiling = ms.molecular_ion + isotope_span(limits)
-            above = [mz for mz in ms.peaks if mz > ceiling]
-            if above:
-                ploc = ms_body["peaks"].value[above[0]]
-                raise ploc.error(
-                    f"a peak at m/z {above[0]} lies above the molecular ion {ms.molecular_ion} by more than "
-                    f"its isotope cluster allows (at most m/z {ceiling} with these element limits): "
-                    "either molecular_ion is wrong or the peak belongs to something else"
-                )
+            reached = {ms.molecular_ion}
+            for mz in sorted(p for p in ms.peaks if p > ms.molecular_ion):
+                # an isotope cluster climbs in steps of 1 or 2 without gaps
+                contiguous = mz - 1 in reached or mz - 2 in reached
+                if mz > ceiling or not contiguous:
+                    ploc = ms_body["peaks"].value[mz]
+                    why = (
+                        f"by more than its isotope cluster allows (at most m/z {ceiling} with these element limits)"
+                        if mz > ceiling
+                        else "and is not part of its isotope cluster (no peak at either of the two m/z below it)"
+                    )
+                    raise ploc.error(
+                        f"a peak at m/z {mz} lies above the molecular ion {ms.molecular_ion} {why}: "
+                        "either molecular_ion is wrong or the peak belongs to something else"
+                    )
+                reached.add(mz)
     if nmr is not None and nmr.c13_signals is not None and spec.known is not None:
         carbons = spec.known.get("C")
         if nmr.c13_signals > carbons:
