@@ -1,0 +1,173 @@
+"""Connected simple graphs ("skeletons") by canonical augmentation (McKay, J. Algorithms 26, 1998).
+
+Every skeleton with ``n`` vertices, cyclomatic number at most ``max_rings`` and sorted degree
+sequence dominated by a given sorted bound sequence (the atoms' valences, largest first) is
+produced exactly once, up to isomorphism.
+
+Method. A graph H is grown from its parent G = H - v by adding the vertex v joined to a set S.
+The canonical parent of H is H - m(H), where m(H) is the non-cut vertex of H of smallest degree,
+ties broken by the largest position in nauty's canonical labelling (an isomorphism invariant
+choice, up to automorphism). A child is accepted only if the added vertex lies in the same
+automorphism orbit of H as m(H); accepted children of the same parent that are isomorphic
+(their sets S lie in one orbit of Aut(G)) are merged by their nauty certificate, after the test. McKay's theorem gives exactly one acceptance per isomorphism class. The
+constraints are hereditary (deleting a vertex never raises a degree, never raises the cyclomatic
+number, keeps a dominated degree sequence dominated, and a non-cut vertex keeps the parent
+connected), so pruning children that break them loses nothing.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Sequence
+from itertools import combinations
+
+import pynauty
+
+__all__ = ["Skeleton", "skeletons", "automorphisms"]
+
+Skeleton = tuple[int, tuple[tuple[int, int], ...]]  # (vertex count, sorted edge list)
+
+
+def _adjacency(n: int, edges: Sequence[tuple[int, int]]) -> list[list[int]]:
+    adj: list[list[int]] = [[] for _ in range(n)]
+    for a, b in edges:
+        adj[a].append(b)
+        adj[b].append(a)
+    return adj
+
+
+def _nauty(n: int, adj: list[list[int]]) -> pynauty.Graph:
+    return pynauty.Graph(n, directed=False, adjacency_dict={i: nb for i, nb in enumerate(adj) if nb})
+
+
+def _is_cut_vertex(adj: list[list[int]], v: int) -> bool:
+    n = len(adj)
+    if n <= 2 or len(adj[v]) <= 1:
+        return False
+    start = adj[v][0]
+    seen = {v, start}
+    stack = [start]
+    while stack:
+        u = stack.pop()
+        for w in adj[u]:
+            if w not in seen:
+                seen.add(w)
+                stack.append(w)
+    return len(seen) < n
+
+
+def _dominated(degrees: list[int], bounds: Sequence[int]) -> bool:
+    return all(d <= b for d, b in zip(sorted(degrees, reverse=True), bounds))
+
+
+def skeletons(n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
+    """Yield every connected simple graph on ``n`` vertices once.
+
+    ``bounds``: the largest allowed degrees, sorted largest first (length n). ``max_rings``:
+    the largest cyclomatic number (edges - vertices + 1).
+    """
+    bounds = sorted(bounds, reverse=True)
+    if len(bounds) != n:
+        raise ValueError("need one degree bound per vertex")
+    if n == 0:
+        return
+    if n == 1:
+        yield (1, ())
+        return
+    if bounds[1] < 1:
+        return
+    yield from _grow(1, [[]], 0, n, bounds, max_rings)
+
+
+def _grow(k: int, adj: list[list[int]], rings: int, n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
+    """Children of the k-vertex graph ``adj``; yields finished n-vertex graphs."""
+    top = bounds[0]
+    seen: set[bytes] = set()
+    degrees = [len(nb) for nb in adj]
+    open_vertices = [u for u in range(k) if degrees[u] < top]
+    max_size = min(top, len(open_vertices), max_rings - rings + 1)
+    for size in range(1, max_size + 1):
+        for subset in combinations(open_vertices, size):
+            new_degrees = degrees[:]
+            for u in subset:
+                new_degrees[u] += 1
+            new_degrees.append(size)
+            if not _dominated(new_degrees, bounds):
+                continue
+            child = [nb[:] for nb in adj]
+            for u in subset:
+                child[u].append(k)
+            child.append(list(subset))
+            if not _accept(child, k):
+                continue
+            graph = _nauty(k + 1, child)
+            if not _canonical_deletion_ok(child, k, graph):
+                continue
+            # accepted children of one parent are isomorphic only when their sets S lie in
+            # one orbit of Aut(parent): keep one of them
+            cert = pynauty.certificate(graph)
+            if cert in seen:
+                continue
+            seen.add(cert)
+            new_rings = rings + size - 1
+            if k + 1 == n:
+                edges = tuple(sorted((a, b) for a in range(n) for b in child[a] if a < b))
+                yield (n, edges)
+            else:
+                yield from _grow(k + 1, child, new_rings, n, bounds, max_rings)
+
+
+def _accept(adj: list[list[int]], v: int) -> bool:
+    """Cheap necessary test: no non-cut vertex may have a smaller degree than v."""
+    dv = len(adj[v])
+    if dv == 1:
+        return True
+    # leaves are never cut vertices (graphs with more than two vertices)
+    return all(len(nb) >= dv or (len(nb) > 1 and _is_cut_vertex(adj, u)) for u, nb in enumerate(adj) if u != v) and not _is_cut_vertex(adj, v)
+
+
+def _canonical_deletion_ok(adj: list[list[int]], v: int, graph: pynauty.Graph) -> bool:
+    n = len(adj)
+    candidates = [u for u in range(n) if not _is_cut_vertex(adj, u)]
+    low = min(len(adj[u]) for u in candidates)
+    candidates = [u for u in candidates if len(adj[u]) == low]
+    if len(adj[v]) != low or v not in candidates:
+        return False
+    _, _, _, orbits, _ = pynauty.autgrp(graph)
+    if len(candidates) == 1:
+        return True
+    if len({orbits[u] for u in candidates}) == 1:
+        return True
+    labels = pynauty.canon_label(graph)  # labels[i] = vertex at canonical position i
+    position = {u: i for i, u in enumerate(labels)}
+    chosen = max(candidates, key=lambda u: position[u])
+    return orbits[chosen] == orbits[v]
+
+
+def automorphisms(n: int, edges: Sequence[tuple[int, int]], *, limit: int = 5000) -> list[tuple[int, ...]] | None:
+    """All automorphisms of the skeleton as vertex permutations, or None if there are more than
+    ``limit`` (callers then fall back to canonical certificates)."""
+    adj = _adjacency(n, edges)
+    generators, order, _, _, _ = pynauty.autgrp(_nauty(n, adj)) if edges else ([], float(_factorial(n)), 0, [], 0)
+    if order > limit:
+        return None
+    identity = tuple(range(n))
+    group = {identity}
+    frontier = [identity]
+    gens = [tuple(g) for g in generators]
+    while frontier:
+        nxt = []
+        for p in frontier:
+            for g in gens:
+                q = tuple(g[p[i]] for i in range(n))
+                if q not in group:
+                    group.add(q)
+                    nxt.append(q)
+        frontier = nxt
+    return sorted(group)
+
+
+def _factorial(n: int) -> int:
+    out = 1
+    for i in range(2, n + 1):
+        out *= i
+    return out

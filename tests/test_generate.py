@@ -1,0 +1,204 @@
+"""The isomer generator against published counts (OEIS) and a naive brute-force enumerator.
+
+OEIS values are copied from the On-Line Encyclopedia of Integer Sequences; the sequence number
+stands beside each check.
+"""
+
+from __future__ import annotations
+
+import pytest
+from rdkit import Chem, RDLogger
+
+from elucidate import parse_formula
+from elucidate.formula import Formula
+from elucidate.generate import count_isomers, isomer_smiles, structures, to_smiles
+from elucidate.skeletons import skeletons
+
+RDLogger.DisableLog("rdApp.*")
+
+A000602 = [1, 1, 1, 2, 3, 5, 9, 18, 35, 75, 159, 355, 802, 1858]  # alkanes CnH2n+2, n = 1..14
+A000598 = [1, 1, 2, 4, 8, 17, 39, 89, 211, 507]  # alkyl radicals = acyclic alcohols, n = 1..10
+A121941 = [1, 1, 2, 6, 21, 78, 353, 1929, 12207]  # saturated hydrocarbons, rings allowed, n = 1..9
+A002986 = [1, 3, 4, 12, 27, 84, 247, 826]  # acyclic hydrocarbons, any unsaturation, n = 1..8
+A134818 = [1, 3, 9, 37, 146, 772, 4449]  # all hydrocarbons summed over H, graph counting, n = 1..7
+
+
+def _hydrocarbons(n: int):
+    return [Formula.of({"C": n, "H": h}) for h in range(0, 2 * n + 3)]
+
+
+@pytest.mark.parametrize("n", range(1, 12))
+def test_alkanes_A000602(n):
+    assert count_isomers(Formula.of({"C": n, "H": 2 * n + 2})) == A000602[n - 1]
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("n", [12, 13, 14])
+def test_alkanes_A000602_large(n):
+    assert count_isomers(Formula.of({"C": n, "H": 2 * n + 2}), kekule=True) == A000602[n - 1]
+
+
+@pytest.mark.parametrize("n", range(1, 9))
+def test_skeletons_A121941(n):
+    assert sum(1 for _ in skeletons(n, [4] * n, 4 * n)) == A121941[n - 1]
+
+
+@pytest.mark.parametrize("n", range(1, 9))
+def test_saturated_hydrocarbons_A121941(n):
+    total = sum(count_isomers(f, kekule=True, max_bond_order=1) for f in _hydrocarbons(n))
+    assert total == A121941[n - 1]
+
+
+@pytest.mark.slow
+def test_saturated_hydrocarbons_A121941_n9():
+    assert sum(count_isomers(f, kekule=True, max_bond_order=1) for f in _hydrocarbons(9)) == A121941[8]
+
+
+@pytest.mark.parametrize("n", range(1, 9))
+def test_acyclic_hydrocarbons_A002986(n):
+    assert sum(count_isomers(f, kekule=True, max_rings=0) for f in _hydrocarbons(n)) == A002986[n - 1]
+
+
+@pytest.mark.parametrize("n", range(1, 7))
+def test_all_hydrocarbons_A134818(n):
+    assert sum(count_isomers(f, kekule=True) for f in _hydrocarbons(n)) == A134818[n - 1]
+
+
+@pytest.mark.slow
+def test_all_hydrocarbons_A134818_n7():
+    assert sum(count_isomers(f, kekule=True) for f in _hydrocarbons(7)) == A134818[6]
+
+
+ALCOHOL = Chem.MolFromSmarts("[CX4][OX2H1]")
+
+
+@pytest.mark.parametrize("n", range(1, 9))
+def test_acyclic_alcohols_A000598(n):
+    # CnH2n+1OH: the isomers of CnH(2n+2)O that carry an OH (the rest are ethers)
+    smiles = isomer_smiles(Formula.of({"C": n, "H": 2 * n + 2, "O": 1}))
+    assert sum(1 for s in smiles if Chem.MolFromSmiles(s).HasSubstructMatch(ALCOHOL)) == A000598[n - 1]
+
+
+def test_benzene_formula_has_217_graphs():
+    # C6H6: 217 constitutional isomers counted as graphs (published count, common practice)
+    assert count_isomers(parse_formula("C6H6"), kekule=True) == 217
+
+
+def test_kekule_forms_merge_by_default():
+    # o-xylene's two Kekule forms are different graphs but one compound
+    kekule = set(isomer_smiles(parse_formula("C8H10"), kekule=True))
+    merged = set(isomer_smiles(parse_formula("C8H10")))
+    assert len(kekule) == len(merged) + 1
+    assert "Cc1ccccc1C" in merged
+
+
+# ------------------------------------------------------------------ naive brute force
+
+
+def _canon(mol, kekule: bool) -> str | None:
+    m = Chem.Mol(mol)
+    try:
+        if kekule:
+            Chem.SanitizeMol(m, Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_SETAROMATICITY)
+            return Chem.MolToSmiles(m, kekuleSmiles=True)
+        Chem.SanitizeMol(m)
+        return Chem.MolToSmiles(m)
+    except Exception:  # noqa: BLE001 - brute force may build things RDKit rejects
+        return None
+
+
+VALENCE = {"C": 4, "N": 3, "O": 2, "S": 2, "F": 1, "Cl": 1, "Br": 1}
+ORDER = {1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE}
+
+
+def brute_force(formula: Formula, kekule: bool) -> set[str]:
+    """Grow graphs atom by atom and bond by bond; deduplicate every state by canonical SMILES."""
+    heavy = sorted((s for s, n in formula.counts if s != "H" for _ in range(n)), key=lambda s: (-VALENCE[s], s))
+    target_h = formula.get("H")
+
+    def free(state, i):
+        atoms, bonds = state
+        return VALENCE[atoms[i]] - sum(o for (a, b), o in bonds.items() if i in (a, b))
+
+    def key(state):
+        atoms, bonds = state
+        mol = Chem.RWMol()
+        for i, s in enumerate(atoms):
+            a = Chem.Atom(s)
+            a.SetNoImplicit(True)
+            a.SetNumExplicitHs(free(state, i))
+            mol.AddAtom(a)
+        for (a, b), o in bonds.items():
+            mol.AddBond(a, b, ORDER[o])
+        return _canon(mol.GetMol(), True), mol
+
+    start = ((heavy[0],), {})
+    frontier = {key(start)[0]: start}
+    results: set[str] = set()
+    seen = set(frontier)
+    while frontier:
+        nxt = {}
+        for state in frontier.values():
+            atoms, bonds = state
+            h = sum(free(state, i) for i in range(len(atoms)))
+            remaining = list(heavy)
+            for s in atoms:
+                remaining.remove(s)
+            if not remaining:
+                if h == target_h:
+                    results.add(_canon(key(state)[1].GetMol(), kekule))
+            moves = []
+            for sym in sorted(set(remaining)):  # add an atom
+                for i in range(len(atoms)):
+                    for o in (1, 2, 3):
+                        if free(state, i) >= o and VALENCE[sym] >= o:
+                            nb = dict(bonds)
+                            nb[(i, len(atoms))] = o
+                            moves.append((atoms + (sym,), nb))
+            if not remaining:  # add or raise a bond
+                for i in range(len(atoms)):
+                    for j in range(i + 1, len(atoms)):
+                        if free(state, i) >= 1 and free(state, j) >= 1 and bonds.get((i, j), 0) < 3:
+                            nb = dict(bonds)
+                            nb[(i, j)] = bonds.get((i, j), 0) + 1
+                            moves.append((atoms, nb))
+            for move in moves:
+                if not remaining and sum(free(move, i) for i in range(len(move[0]))) < target_h:
+                    continue
+                k = key(move)[0]
+                if k is not None and k not in seen:
+                    seen.add(k)
+                    nxt[k] = move
+        frontier = nxt
+    results.discard(None)
+    return results
+
+
+BRUTE = ["C4H8O", "C3H5N", "C3H6O2", "C2H4O2", "C4H6", "C3H3Cl", "CH3NO", "C2H5NO", "C3H4S", "C4H4O",
+         "C2H3F", "C3H7N", "C2H2Br2", "C4H9Cl", "C3H4N2", "C5H8", "C4H6O", "C5H5N", "C3H6OS", "C4H4N2",
+         "C2HClO", "C6H6", "C4H10N2", "C5H10O"]
+
+
+@pytest.mark.parametrize("formula", BRUTE)
+@pytest.mark.parametrize("kekule", [True, False], ids=["graphs", "merged"])
+def test_against_brute_force(formula, kekule):
+    f = parse_formula(formula)
+    ours = list(isomer_smiles(f, kekule=kekule))
+    assert len(ours) == len(set(ours)), "duplicates"
+    assert set(ours) == brute_force(f, kekule)
+
+
+@pytest.mark.parametrize("formula", ["C7H8O", "C5H5NO", "C4H4OS", "C6H11Cl"])
+def test_every_smiles_parses_with_the_formula(formula):
+    from rdkit.Chem import rdMolDescriptors
+
+    for smiles in isomer_smiles(parse_formula(formula)):
+        mol = Chem.MolFromSmiles(smiles)
+        assert mol is not None, smiles
+        assert rdMolDescriptors.CalcMolFormula(mol) == formula, smiles
+
+
+def test_structures_have_consistent_hydrogens():
+    for s in structures(parse_formula("C4H5N")):
+        assert sum(s.hydrogens) == 5 and all(h >= 0 for h in s.hydrogens)
+        assert to_smiles(s)
