@@ -1,4 +1,4 @@
-"""Command line: ``elucidate check`` and ``elucidate formulas``.
+"""Command line: ``elucidate check``, ``elucidate formulas`` and ``elucidate isomers``.
 
 Thin layer over the pure core: it parses arguments, reads case files, calls the engine and prints.
 Exit codes: 0 success, 1 invalid input (a case file or value; the message says where), 2 usage.
@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import re
 import sys
 from collections.abc import Sequence
@@ -76,6 +77,28 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument("--explain", action="store_true", help="also list every rejected composition with the rule that rejected it")
     f.add_argument("--why", metavar="FORMULA", help="say whether FORMULA is kept and, if not, which rule rejects it")
     f.add_argument("--json", action="store_true", help="print a JSON list, best first")
+    g = sub.add_parser(
+        "isomers",
+        help="every constitutional isomer of a formula, as canonical SMILES",
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        description=(
+            "Stream the canonical SMILES (RDKit) of every constitutional isomer of FORMULA, each once,\n"
+            "one per line. Constitution only: stereoisomers are not distinguished.\n\n"
+            "Valence states: each element at its lowest valence (C, Si 4; N, P 3; O, S 2; H and\n"
+            "halogens 1); bond orders 1-3; hydrogens fill each atom's free valence.\n\n"
+            "Counting: by default the Kekule forms of one aromatic compound count once (what a chemist\n"
+            "calls one compound); --kekule counts every multigraph, as the graph-enumeration\n"
+            "literature does, and writes Kekule SMILES."
+        ),
+    )
+    g.add_argument("formula", metavar="FORMULA", help="molecular formula, e.g. C7H8O")
+    g.add_argument("--count", action="store_true", help="print only the number of isomers")
+    g.add_argument("--json", action="store_true", help="print a JSON object with the formula, count and SMILES list")
+    g.add_argument("--kekule", action="store_true", help="count and write every Kekule multigraph separately")
+    g.add_argument("--no-rings", action="store_true", help="acyclic isomers only")
+    g.add_argument("--max-rings", type=int, metavar="N", help="at most N rings (cyclomatic number)")
+    g.add_argument("--max-bond-order", type=int, choices=(1, 2, 3), default=3, help="1: single bonds only; 2: no triple bonds")
+    g.add_argument("--sort", action="store_true", help="print the SMILES sorted (the same set and order for any run)")
     return parser
 
 
@@ -269,6 +292,31 @@ def _cmd_formulas(args: argparse.Namespace, out: TextIO) -> int:
     return 0
 
 
+def _cmd_isomers(args: argparse.Namespace, out: TextIO) -> int:
+    from .generate import isomer_smiles
+
+    formula = parse_formula(args.formula)
+    if args.max_rings is not None and args.max_rings < 0:
+        raise ElucidateError("--max-rings must be 0 or more")
+    max_rings = 0 if args.no_rings else args.max_rings
+    stream = isomer_smiles(formula, kekule=args.kekule, max_rings=max_rings, max_bond_order=args.max_bond_order)
+    if args.sort or args.json:
+        stream = iter(sorted(stream))
+    if args.json:
+        smiles = list(stream)
+        json.dump({"formula": str(formula), "kekule": args.kekule, "count": len(smiles), "smiles": smiles}, out, indent=1)
+        out.write("\n")
+        return 0
+    count = 0
+    for smiles in stream:
+        count += 1
+        if not args.count:
+            out.write(smiles + "\n")
+    if args.count:
+        out.write(f"{count}\n")
+    return 0
+
+
 def main(argv: Sequence[str] | None = None, *, stdout: TextIO | None = None, stderr: TextIO | None = None) -> int:
     """Run the command line; returns the exit code (never raises for bad input)."""
     out = stdout or sys.stdout
@@ -282,10 +330,25 @@ def main(argv: Sequence[str] | None = None, *, stdout: TextIO | None = None, std
         parser.print_help(out)
         return 2
     try:
+        return _dispatch(args, parser, out, err)
+    except BrokenPipeError:  # e.g. `elucidate isomers C8H10 | head`
+        if out is sys.stdout:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        return 0
+    except KeyboardInterrupt:
+        err.write("interrupted\n")
+        return 130
+
+
+def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: TextIO, err: TextIO) -> int:
+    try:
         if args.command == "check":
             return _cmd_check(args, out, err)
         if args.command == "formulas":
             return _cmd_formulas(args, out)
+        if args.command == "isomers":
+            return _cmd_isomers(args, out)
     except ElucidateError as exc:
         err.write(f"error: {exc}\n")
         return 1

@@ -145,3 +145,25 @@ def test_known_formula_without_molecular_ion(cli, tmp_path):
 def test_too_wide_limits_are_refused(cli):
     res = cli("formulas", "400", "--elements", "C:0-40,H:0-80,N:0-60,O:0-60,S:0-60,Cl:0-60,Br:0-60")
     assert res.code == 1 and "too wide" in res.err
+
+
+def test_isomers_streams_smiles_and_counts(cli):
+    res = cli("isomers", "C4H10")
+    assert res.code == 0 and res.out.splitlines() == ["CC(C)C", "CCCC"]
+    res = cli("isomers", "C6H6", "--kekule", "--count")
+    assert res.out.strip().splitlines()[-1] == "217"  # C6H6 as graphs (published count)
+    res = cli("isomers", "C6H14", "--no-rings", "--count")
+    assert res.out.strip() == "5"  # hexanes, OEIS A000602
+
+
+def test_isomers_json_and_sort(cli):
+    data = cli("isomers", "C3H6O", "--json").json()
+    assert data["formula"] == "C3H6O" and data["count"] == 9 == len(data["smiles"])
+    assert data["smiles"] == sorted(data["smiles"])
+    assert cli("isomers", "C3H6O", "--sort").out.splitlines() == data["smiles"]
+
+
+@pytest.mark.parametrize("argv,message", [(["isomers", "C6H6Q"], "unknown element"), (["isomers", "C6H6", "--max-rings", "-1"], "--max-rings")])
+def test_isomers_bad_input(cli, argv, message):
+    res = cli(*argv)
+    assert res.code == 1 and message in res.err

@@ -72,7 +72,7 @@ def test_all_hydrocarbons_A134818_n7():
 ALCOHOL = Chem.MolFromSmarts("[CX4][OX2H1]")
 
 
-@pytest.mark.parametrize("n", range(1, 9))
+@pytest.mark.parametrize("n", [pytest.param(n, marks=pytest.mark.slow) if n > 8 else n for n in range(1, 11)])
 def test_acyclic_alcohols_A000598(n):
     # CnH2n+1OH: the isomers of CnH(2n+2)O that carry an OH (the rest are ethers)
     smiles = isomer_smiles(Formula.of({"C": n, "H": 2 * n + 2, "O": 1}))
