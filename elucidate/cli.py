@@ -84,8 +84,11 @@ def build_parser() -> argparse.ArgumentParser:
         description=(
             "Stream the canonical SMILES (RDKit) of every constitutional isomer of FORMULA, each once,\n"
             "one per line. Constitution only: stereoisomers are not distinguished.\n\n"
-            "Valence states: each element at its lowest valence (C, Si 4; N, P 3; O, S 2; H and\n"
-            "halogens 1); bond orders 1-3; hydrogens fill each atom's free valence.\n\n"
+            "Valence states on by default: C, Si 4; N 3, and 5 as nitro / N-oxide written\n"
+            "charge-separated ([N+][O-]); P 3, and 5 with P=O or P=S; O 2; S 2, and 4 / 6 with S=O\n"
+            "(sulfoxides, sulfones, sulfinic and sulfonic groups; no H on such S); H and halogens 1.\n"
+            "--lowest-valence switches the higher states off (plain graph counting, as in the\n"
+            "enumeration literature). Bond orders 1-3; hydrogens fill each atom's free valence.\n\n"
             "Counting: by default the Kekule forms of one aromatic compound count once (what a chemist\n"
             "calls one compound); --kekule counts every multigraph, as the graph-enumeration\n"
             "literature does, and writes Kekule SMILES."
@@ -98,6 +101,7 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--no-rings", action="store_true", help="acyclic isomers only")
     g.add_argument("--max-rings", type=int, metavar="N", help="at most N rings (cyclomatic number)")
     g.add_argument("--max-bond-order", type=int, choices=(1, 2, 3), default=3, help="1: single bonds only; 2: no triple bonds")
+    g.add_argument("--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)")
     g.add_argument("--sort", action="store_true", help="print the SMILES sorted (the same set and order for any run)")
     return parser
 
@@ -299,7 +303,13 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO) -> int:
     if args.max_rings is not None and args.max_rings < 0:
         raise ElucidateError("--max-rings must be 0 or more")
     max_rings = 0 if args.no_rings else args.max_rings
-    stream = isomer_smiles(formula, kekule=args.kekule, max_rings=max_rings, max_bond_order=args.max_bond_order)
+    stream = isomer_smiles(
+        formula,
+        kekule=args.kekule,
+        max_rings=max_rings,
+        max_bond_order=args.max_bond_order,
+        lowest_valence=args.lowest_valence,
+    )
     if args.sort or args.json:
         stream = iter(sorted(stream))
     if args.json:

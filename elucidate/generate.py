@@ -16,12 +16,17 @@ Counting conventions:
   after RDKit aromaticity perception, duplicates within a skeleton are dropped — Kekulé forms
   differ only in bond orders, never in the skeleton.
 
-Valences: the lowest valence of each element (C, Si 4; N, P 3; O, S 2; H and halogens 1).
-Constitution only: no stereochemistry.
+Valence states (``constraints/elements.yaml``): C, Si 4; N 3, or 5 for the charge-separated groups
+(nitro, N-oxides: written [N+]-[O-]); P 3 or 5 (P=O, P=S); O 2; S 2, 4 (sulfoxides, sulfinic
+groups) or 6 (sulfones, sulfonic groups), written hypervalent, with no H on S; H and halogens 1.
+A higher state always carries a double bond to a terminal O (or S for P). ``lowest_valence=True`` keeps only the lowest state of each
+element (plain graph counting, as the enumeration literature does). Constitution only: no
+stereochemistry.
 """
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 
@@ -40,17 +45,35 @@ class Structure:
     elements: tuple[str, ...]
     bonds: tuple[tuple[int, int, int], ...]  # (atom, atom, order)
     hydrogens: tuple[int, ...]
+    valences: tuple[int, ...]  # valence state of each atom (bond orders + hydrogens)
 
 
-def _heavy_atoms(formula: Formula, table: ElementTable) -> tuple[list[tuple[str, int]], int]:
-    heavy = []
+def _valence_splits(formula: Formula, table: ElementTable, lowest_valence: bool) -> Iterator[list[tuple[str, int]]]:
+    """Each way of giving the formula's heavy atoms valence states (lowest first)."""
+    per_element: list[list[list[tuple[str, int]]]] = []
     for sym, n in formula.counts:
         if sym == "H":
             continue
-        heavy.extend([(sym, table[sym].valence)] * n)
-    # higher valence first: a stable element order for labels
-    heavy.sort(key=lambda a: (-a[1], a[0]))
-    return heavy, formula.get("H")
+        states = table[sym].valences[:1] if lowest_valence else table[sym].valences
+        options = []
+        for split in _compositions(n, len(states)):
+            atoms: list[tuple[str, int]] = []
+            for v, k in zip(states, split):
+                atoms.extend([(sym, v)] * k)
+            options.append(atoms)
+        per_element.append(options)
+    for choice in itertools.product(*per_element):
+        yield [atom for part in choice for atom in part]
+
+
+def _compositions(n: int, parts: int) -> Iterator[tuple[int, ...]]:
+    """Ways to write n as an ordered sum of ``parts`` non-negative counts, lowest states first."""
+    if parts == 1:
+        yield (n,)
+        return
+    for first in range(n, -1, -1):
+        for rest in _compositions(n - first, parts - 1):
+            yield (first, *rest)
 
 
 def structures(
@@ -59,16 +82,27 @@ def structures(
     table: ElementTable | None = None,
     max_rings: int | None = None,
     max_bond_order: int = 3,
+    lowest_valence: bool = False,
 ) -> Iterator[Structure]:
     """Every constitutional isomer of ``formula`` once, as a multigraph (Kekulé forms apart).
 
+    Valence states are those of the element table (N 3 or 5, P 3 or 5, S 2, 4 or 6);
+    ``lowest_valence`` keeps only the first (lowest) of each. A higher state stands for the
+    usual oxo groups and needs a double bond to a terminal O (see :data:`OXO_STATES`).
     ``max_rings`` bounds the ring count (cyclomatic number; 0 = acyclic); ``max_bond_order``
     1 gives saturated skeletons only, 2 excludes triple bonds.
     """
     if max_bond_order not in (1, 2, 3):
         raise ElucidateError(f"max_bond_order must be 1, 2 or 3, got {max_bond_order}")
     t = table or default_elements()
-    heavy, hydrogens = _heavy_atoms(formula, t)
+    hydrogens = formula.get("H")
+    for heavy in _valence_splits(formula, t, lowest_valence):
+        yield from _with_valences(heavy, hydrogens, max_rings, max_bond_order)
+
+
+def _with_valences(
+    heavy: list[tuple[str, int]], hydrogens: int, max_rings: int | None, max_bond_order: int
+) -> Iterator[Structure]:
     n = len(heavy)
     if n == 0:
         return
@@ -82,29 +116,34 @@ def structures(
     if max_rings is not None:
         rings_max = min(rings_max, max_rings)
     if n == 1:
-        if hydrogens == heavy[0][1]:
-            yield Structure((heavy[0][0],), (), (hydrogens,))
+        sym, v = heavy[0]
+        if hydrogens == v and _allowed_alone(sym, v):
+            yield Structure((sym,), (), (hydrogens,), (v,))
         return
-    labels = sorted({sym for sym, _ in heavy}, key=lambda s: (-t[s].valence, s))
-    label_index = {s: i for i, s in enumerate(labels)}
-    valence = [t[s].valence for s in labels]
+    labels = sorted(set(heavy), key=lambda a: (-a[1], a[0]))
+    label_index = {a: i for i, a in enumerate(labels)}
     counts = [0] * len(labels)
-    for sym, _ in heavy:
-        counts[label_index[sym]] += 1
+    for atom in heavy:
+        counts[label_index[atom]] += 1
     bounds = [v for _, v in heavy]
     for size, edges in skeletons(n, bounds, rings_max):
-        yield from _on_skeleton(size, edges, labels, valence, counts, bond_sum, max_bond_order - 1)
+        yield from _on_skeleton(size, edges, labels, counts, bond_sum, max_bond_order - 1)
+
+
+def _allowed_alone(symbol: str, valence: int) -> bool:
+    return (symbol, valence) not in OXO_STATES
 
 
 def _on_skeleton(
     n: int,
     edges: tuple[tuple[int, int], ...],
-    labels: list[str],
-    valence: list[int],
+    labels: list[tuple[str, int]],
     counts: list[int],
     bond_sum: int,
     max_extra: int,
 ) -> Iterator[Structure]:
+    valence = [v for _, v in labels]
+    special = [label in OXO_STATES for label in labels]
     m = len(edges)
     extra_total = bond_sum - m
     if extra_total < 0 or extra_total > max_extra * m:
@@ -148,20 +187,52 @@ def _on_skeleton(
         for orders in _multiplicities(edges, capacity, extra_total, max_extra):
             if stabilizer and any(tuple(orders[e] for e in einv) < orders for einv in stabilizer):
                 continue
+            used = [0] * n
+            for (a, b), o in zip(edges, orders):
+                used[a] += o
+                used[b] += o
+            if any(special[c] for c in colouring) and not _oxo_ok(n, edges, orders, colouring, labels, degree, used):
+                continue
             if seen is not None:
                 key = _certificate(n, edges, colouring, orders)
                 if key in seen:
                     continue
                 seen.add(key)
-            used = [0] * n
-            for (a, b), o in zip(edges, orders):
-                used[a] += o
-                used[b] += o
             yield Structure(
-                tuple(labels[c] for c in colouring),
+                tuple(labels[c][0] for c in colouring),
                 tuple((a, b, o) for (a, b), o in zip(edges, orders)),
                 tuple(valence[colouring[i]] - used[i] for i in range(n)),
+                tuple(valence[c] for c in colouring),
             )
+
+
+#: higher valence states and what they stand for: (symbol, valence) -> (terminal atoms one of
+#: which must be double bonded to it, whether it may carry hydrogen). N(V): nitro, N-oxides,
+#: nitrones (written N+ - O-); S(IV)/S(VI): sulfoxides, sulfinic and sulfonic groups, sulfones;
+#: P(V): phosphine oxides and sulfides, phosphonates, phosphates (common practice).
+OXO_STATES: dict[tuple[str, int], tuple[frozenset[str], bool]] = {
+    ("N", 5): (frozenset({"O"}), True),
+    ("S", 4): (frozenset({"O"}), False),
+    ("S", 6): (frozenset({"O"}), False),
+    ("P", 5): (frozenset({"O", "S"}), True),
+}
+
+
+def _oxo_ok(n, edges, orders, colouring, labels, degree, used) -> bool:  # type: ignore[no-untyped-def]
+    """Each higher-valence atom carries a double bond to a terminal O (or S for P), see OXO_STATES."""
+    for i in range(n):
+        rule = OXO_STATES.get(labels[colouring[i]])
+        if rule is None:
+            continue
+        partners, may_have_h = rule
+        if not may_have_h and labels[colouring[i]][1] - used[i] > 0:
+            return False
+        if not any(
+            o == 2 and i in (a, b) and degree[b if a == i else a] == 1 and labels[colouring[b if a == i else a]][0] in partners
+            for (a, b), o in zip(edges, orders)
+        ):
+            return False
+    return True
 
 
 def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> Iterator[tuple[int, ...]]:
@@ -239,6 +310,7 @@ def _certificate(n: int, edges, colouring, orders) -> tuple[tuple[int, ...], tup
 
 
 def _to_mol(structure: Structure):  # type: ignore[no-untyped-def]
+    """An RDKit Mol; N(V) is written charge-separated: one N=O (terminal O) becomes N+-O-."""
     from ._rdkit import Chem
 
     mol = Chem.RWMol()
@@ -248,7 +320,21 @@ def _to_mol(structure: Structure):  # type: ignore[no-untyped-def]
         atom.SetNumExplicitHs(h)
         mol.AddAtom(atom)
     bond_types = {1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE}
-    for a, b, o in structure.bonds:
+    orders = {(a, b): o for a, b, o in structure.bonds}
+    degree = [0] * len(structure.elements)
+    for a, b, _ in structure.bonds:
+        degree[a] += 1
+        degree[b] += 1
+    for i, (sym, v) in enumerate(zip(structure.elements, structure.valences)):
+        if sym == "N" and v == 5:
+            for (a, b), o in sorted(orders.items()):
+                other = b if a == i else a if b == i else None
+                if other is not None and o == 2 and structure.elements[other] == "O" and degree[other] == 1:
+                    orders[(a, b)] = 1
+                    mol.GetAtomWithIdx(i).SetFormalCharge(1)
+                    mol.GetAtomWithIdx(other).SetFormalCharge(-1)
+                    break
+    for (a, b), o in orders.items():
         mol.AddBond(a, b, bond_types[o])
     return mol
 
@@ -276,11 +362,14 @@ def isomer_smiles(
     table: ElementTable | None = None,
     max_rings: int | None = None,
     max_bond_order: int = 3,
+    lowest_valence: bool = False,
 ) -> Iterator[str]:
     """Canonical SMILES of every constitutional isomer of ``formula``, each once."""
     if not formula.counts:
         raise ElucidateError("empty formula")
-    stream = structures(formula, table=table, max_rings=max_rings, max_bond_order=max_bond_order)
+    stream = structures(
+        formula, table=table, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence
+    )
     if kekule:
         for s in stream:
             yield to_smiles(s, kekule=True)
@@ -305,8 +394,10 @@ def count_isomers(
     table: ElementTable | None = None,
     max_rings: int | None = None,
     max_bond_order: int = 3,
+    lowest_valence: bool = False,
 ) -> int:
     """How many isomers :func:`isomer_smiles` yields (graph counting needs no SMILES)."""
+    options = dict(table=table, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence)
     if kekule:
-        return sum(1 for _ in structures(formula, table=table, max_rings=max_rings, max_bond_order=max_bond_order))
-    return sum(1 for _ in isomer_smiles(formula, table=table, max_rings=max_rings, max_bond_order=max_bond_order))
+        return sum(1 for _ in structures(formula, **options))  # type: ignore[arg-type]
+    return sum(1 for _ in isomer_smiles(formula, **options))  # type: ignore[arg-type]

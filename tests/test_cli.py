@@ -156,6 +156,13 @@ def test_isomers_streams_smiles_and_counts(cli):
     assert res.out.strip() == "5"  # hexanes, OEIS A000602
 
 
+def test_isomers_lowest_valence_switch(cli):
+    full = cli("isomers", "CH3NO2").out.splitlines()
+    lowest = cli("isomers", "CH3NO2", "--lowest-valence").out.splitlines()
+    assert "C[N+](=O)[O-]" in full and "C[N+](=O)[O-]" not in lowest
+    assert set(lowest) < set(full)
+
+
 def test_isomers_json_and_sort(cli):
     data = cli("isomers", "C3H6O", "--json").json()
     assert data["formula"] == "C3H6O" and data["count"] == 9 == len(data["smiles"])

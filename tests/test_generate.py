@@ -183,12 +183,38 @@ BRUTE = ["C4H8O", "C3H5N", "C3H6O2", "C2H4O2", "C4H6", "C3H3Cl", "CH3NO", "C2H5N
 @pytest.mark.parametrize("kekule", [True, False], ids=["graphs", "merged"])
 def test_against_brute_force(formula, kekule):
     f = parse_formula(formula)
-    ours = list(isomer_smiles(f, kekule=kekule))
+    ours = list(isomer_smiles(f, kekule=kekule, lowest_valence=True))  # the brute force knows lowest valences only
     assert len(ours) == len(set(ours)), "duplicates"
     assert set(ours) == brute_force(f, kekule)
 
 
-@pytest.mark.parametrize("formula", ["C7H8O", "C5H5NO", "C4H4OS", "C6H11Cl"])
+@pytest.mark.parametrize(
+    "formula,smiles",
+    # higher valence states: the usual charge-separated or hypervalent SMILES (common practice)
+    [("CH3NO2", "C[N+](=O)[O-]"), ("C2H6OS", "CS(C)=O"), ("C2H6O2S", "CS(C)(=O)=O"),
+     ("C3H9O4P", "COP(=O)(OC)OC"), ("C5H5NO", "[O-][n+]1ccccc1"), ("C3H9NO", "C[N+](C)(C)[O-]"),
+     ("CH4O3S", "CS(=O)(=O)O")],
+)
+def test_higher_valence_states_are_reachable(formula, smiles):
+    found = set(isomer_smiles(parse_formula(formula)))
+    assert Chem.MolToSmiles(Chem.MolFromSmiles(smiles)) in found
+    assert smiles not in set(isomer_smiles(parse_formula(formula), lowest_valence=True))
+
+
+def test_nitrobenzene_is_reachable():
+    found = set(isomer_smiles(parse_formula("C6H5NO2"), max_rings=1))
+    assert "O=[N+]([O-])c1ccccc1" in found
+
+
+def test_no_hydrogen_on_hypervalent_sulfur():
+    for smiles in isomer_smiles(parse_formula("C2H6O2S")):
+        mol = Chem.MolFromSmiles(smiles)
+        for atom in mol.GetAtoms():
+            if atom.GetSymbol() == "S" and atom.GetTotalValence() > 2:
+                assert atom.GetTotalNumHs() == 0, smiles
+
+
+@pytest.mark.parametrize("formula", ["C7H8O", "C5H5NO", "C4H4OS", "C6H11Cl", "C2H7O3P", "C3H7NO2", "CH4N2O2S"])
 def test_every_smiles_parses_with_the_formula(formula):
     from rdkit.Chem import rdMolDescriptors
 
