@@ -8,6 +8,7 @@ naming the file, line and key. Case files are only ever read, never written.
 
 from __future__ import annotations
 
+import difflib
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -289,6 +290,18 @@ def _infrared(loc: Located) -> Infrared:
             bands.append(IRBand(at=as_number(item, minimum=400, maximum=4000, what="a wavenumber 400-4000 cm-1")))
     require = _names(body["require"], "group names") if "require" in body else ()
     forbid = _names(body["forbid"], "group names") if "forbid" in body else ()
+    if require or forbid:
+        from .groups import default_groups
+
+        vocabulary = default_groups()
+        for key, names in (("require", require), ("forbid", forbid)):
+            for item, name in zip(as_list(body[key]), names):
+                if name not in vocabulary:
+                    close = difflib.get_close_matches(name, list(vocabulary.names), n=1)
+                    hint = f" (did you mean {close[0]!r}?)" if close else ""
+                    raise item.error(
+                        f"unknown group {name!r}{hint}; groups (constraints/groups.yaml): {', '.join(vocabulary.names)}"
+                    )
     both = sorted(set(require) & set(forbid))
     if both:
         raise body["forbid"].error(f"{both[0]!r} is both required and forbidden")

@@ -94,13 +94,19 @@ def build_parser() -> argparse.ArgumentParser:
             "literature does, and writes Kekule SMILES."
         ),
     )
-    g.add_argument("formula", metavar="FORMULA", help="molecular formula, e.g. C7H8O")
+    g.add_argument("formula", metavar="FORMULA", nargs="?", help="molecular formula, e.g. C7H8O")
     g.add_argument("--count", action="store_true", help="print only the number of isomers")
     g.add_argument("--json", action="store_true", help="print a JSON object with the formula, count and SMILES list")
     g.add_argument("--kekule", action="store_true", help="count and write every Kekule multigraph separately")
     g.add_argument("--no-rings", action="store_true", help="acyclic isomers only")
     g.add_argument("--max-rings", type=int, metavar="N", help="at most N rings (cyclomatic number)")
     g.add_argument("--max-bond-order", type=int, choices=(1, 2, 3), default=3, help="1: single bonds only; 2: no triple bonds")
+    g.add_argument("--require", action="append", default=[], metavar="GROUP", help="keep only isomers with this group (repeatable; see --list-groups)")
+    g.add_argument("--forbid", action="append", default=[], metavar="GROUP", help="drop isomers with this group (repeatable)")
+    g.add_argument("--require-smarts", action="append", default=[], metavar="SMARTS", help="keep only isomers matching this SMARTS (repeatable)")
+    g.add_argument("--forbid-smarts", action="append", default=[], metavar="SMARTS", help="drop isomers matching this SMARTS (repeatable)")
+    g.add_argument("--max-ring-size", type=int, metavar="N", help="no ring (smallest set of smallest rings) larger than N atoms")
+    g.add_argument("--list-groups", action="store_true", help="list the group names with their definitions and exit")
     g.add_argument("--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)")
     g.add_argument("--sort", action="store_true", help="print the SMILES sorted (the same set and order for any run)")
     return parser
@@ -296,10 +302,31 @@ def _cmd_formulas(args: argparse.Namespace, out: TextIO) -> int:
     return 0
 
 
-def _cmd_isomers(args: argparse.Namespace, out: TextIO) -> int:
+def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     from .generate import isomer_smiles
+    from .groups import default_groups
+    from .selection import Selection
 
+    if args.list_groups:
+        groups = default_groups()
+        width = max(map(len, groups.names))
+        for name in groups.names:
+            out.write(f"{name.ljust(width)}  {groups[name].definition}\n")
+        return 0
+    if args.formula is None:
+        raise ElucidateError("give a formula, e.g. elucidate isomers C7H8O")
     formula = parse_formula(args.formula)
+    groups = default_groups()
+    for name in [*args.require, *args.forbid]:
+        groups[name]  # unknown names raise with the list of known ones
+    selection = Selection(
+        require=tuple(args.require),
+        forbid=tuple(args.forbid),
+        require_smarts=tuple(args.require_smarts),
+        forbid_smarts=tuple(args.forbid_smarts),
+        max_ring_size=args.max_ring_size,
+    )
+    removed: dict[str, int] = {}
     if args.max_rings is not None and args.max_rings < 0:
         raise ElucidateError("--max-rings must be 0 or more")
     max_rings = 0 if args.no_rings else args.max_rings
@@ -309,12 +336,15 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO) -> int:
         max_rings=max_rings,
         max_bond_order=args.max_bond_order,
         lowest_valence=args.lowest_valence,
+        selection=selection,
+        removed=removed,
     )
     if args.sort or args.json:
         stream = iter(sorted(stream))
     if args.json:
         smiles = list(stream)
-        json.dump({"formula": str(formula), "kekule": args.kekule, "count": len(smiles), "smiles": smiles}, out, indent=1)
+        data = {"formula": str(formula), "kekule": args.kekule, "count": len(smiles), "removed": removed, "smiles": smiles}
+        json.dump(data, out, indent=1)
         out.write("\n")
         return 0
     count = 0
@@ -322,6 +352,8 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO) -> int:
         count += 1
         if not args.count:
             out.write(smiles + "\n")
+    for label, n in removed.items():
+        err.write(f"removed by {label}: {n}\n")
     if args.count:
         out.write(f"{count}\n")
     return 0
@@ -358,7 +390,7 @@ def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: Te
         if args.command == "formulas":
             return _cmd_formulas(args, out)
         if args.command == "isomers":
-            return _cmd_isomers(args, out)
+            return _cmd_isomers(args, out, err)
     except ElucidateError as exc:
         err.write(f"error: {exc}\n")
         return 1

@@ -33,6 +33,7 @@ from dataclasses import dataclass
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 from .formula import Formula
+from .selection import Selection
 from .skeletons import automorphisms, skeletons
 
 __all__ = ["Structure", "structures", "isomer_smiles", "count_isomers"]
@@ -339,20 +340,23 @@ def _to_mol(structure: Structure):  # type: ignore[no-untyped-def]
     return mol
 
 
+def _sanitized(structure: Structure, kekule: bool):  # type: ignore[no-untyped-def]
+    from ._rdkit import Chem
+
+    mol = _to_mol(structure)
+    if kekule:
+        Chem.SanitizeMol(mol, Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_SETAROMATICITY)
+    else:
+        Chem.SanitizeMol(mol)
+    return mol
+
+
 def to_smiles(structure: Structure, *, kekule: bool = False) -> str:
     """Canonical SMILES (RDKit): aromatic by default, Kekulé form with ``kekule=True``."""
     from ._rdkit import Chem, quiet_rdkit
 
-    mol = _to_mol(structure)
     with quiet_rdkit():
-        if kekule:
-            Chem.SanitizeMol(
-                mol,
-                Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_SETAROMATICITY,
-            )
-            return Chem.MolToSmiles(mol, kekuleSmiles=True)
-        Chem.SanitizeMol(mol)
-        return Chem.MolToSmiles(mol)
+        return Chem.MolToSmiles(_sanitized(structure, kekule), kekuleSmiles=kekule)
 
 
 def isomer_smiles(
@@ -363,28 +367,48 @@ def isomer_smiles(
     max_rings: int | None = None,
     max_bond_order: int = 3,
     lowest_valence: bool = False,
+    selection: Selection | None = None,
+    removed: dict[str, int] | None = None,
 ) -> Iterator[str]:
-    """Canonical SMILES of every constitutional isomer of ``formula``, each once."""
+    """Canonical SMILES of every constitutional isomer of ``formula`` that passes ``selection``,
+    each once. ``removed``, when given, is filled with how many structures each constraint
+    removed (the first constraint a structure breaks is the one counted)."""
+    from ._rdkit import Chem, quiet_rdkit
+
     if not formula.counts:
         raise ElucidateError("empty formula")
+    compiled = selection.compile() if selection is not None and not selection.empty else None
+    if removed is not None and compiled is not None:
+        for label in compiled.labels:
+            removed.setdefault(label, 0)
     stream = structures(
         formula, table=table, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence
     )
-    if kekule:
-        for s in stream:
-            yield to_smiles(s, kekule=True)
-        return
-    current: tuple[tuple[int, int, int], ...] | None = None
+    current: tuple[tuple[int, int], ...] | None = None
     seen: set[str] = set()
-    for s in stream:
-        skeleton = tuple((a, b, 0) for a, b, _ in s.bonds)
-        if skeleton != current:
-            current, seen = skeleton, set()
-        smiles = to_smiles(s)
-        if smiles in seen:
-            continue
-        seen.add(smiles)
-        yield smiles
+    with quiet_rdkit():
+        for s in stream:
+            mol = _sanitized(s, kekule)
+            smiles = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
+            if not kekule:
+                # Kekulé forms of one compound share the skeleton: merge them within it
+                skeleton = tuple((a, b) for a, b, _ in s.bonds)
+                if skeleton != current:
+                    current, seen = skeleton, set()
+                if smiles in seen:
+                    continue
+                seen.add(smiles)
+            if compiled is not None:
+                probe = mol
+                if kekule:
+                    probe = Chem.Mol(mol)
+                    Chem.SetAromaticity(probe)
+                failed = compiled.first_failure(probe)
+                if failed is not None:
+                    if removed is not None:
+                        removed[failed] += 1
+                    continue
+            yield smiles
 
 
 def count_isomers(
@@ -395,9 +419,10 @@ def count_isomers(
     max_rings: int | None = None,
     max_bond_order: int = 3,
     lowest_valence: bool = False,
+    selection: Selection | None = None,
 ) -> int:
     """How many isomers :func:`isomer_smiles` yields (graph counting needs no SMILES)."""
     options = dict(table=table, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence)
-    if kekule:
+    if kekule and (selection is None or selection.empty):
         return sum(1 for _ in structures(formula, **options))  # type: ignore[arg-type]
-    return sum(1 for _ in isomer_smiles(formula, **options))  # type: ignore[arg-type]
+    return sum(1 for _ in isomer_smiles(formula, kekule=kekule, selection=selection, **options))  # type: ignore[arg-type]

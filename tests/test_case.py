@@ -194,3 +194,9 @@ def test_fuzzed_case_text_raises_only_domain_errors(text):
         parse_case(text, file="fuzz.yaml")
     except ElucidateError as exc:
         assert str(exc).startswith("fuzz.yaml")
+
+
+def test_infrared_group_names_are_checked_against_the_vocabulary():
+    with pytest.raises(ElucidateError, match="did you mean 'alcohol'") as info:
+        parse_case(GOOD + "infrared:\n  require: [ketone, alcohl]\n", file="unk.yaml")
+    assert info.value.key == "infrared.require[1]" and info.value.line == 12

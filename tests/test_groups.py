@@ -1,0 +1,82 @@
+"""The group vocabulary: each SMARTS on reference molecules, positives and near-miss negatives.
+
+Class definitions follow the IUPAC Gold Book entries named in constraints/groups.yaml; the
+boundaries tested here (an ester is not an ether plus a ketone, an acid is not an alcohol, a
+phenol is not an enol, ...) are common practice.
+"""
+
+from __future__ import annotations
+
+import pytest
+from rdkit import Chem
+
+from elucidate import ElucidateError
+from elucidate.groups import default_groups, load_groups
+
+GROUPS = default_groups()
+
+CASES = {
+    # group: (molecules that have it, near misses that do not)
+    "alkene": (["C=CC", "CC=C(C)C", "C=CC(C)=O"], ["c1ccccc1", "C=C=C", "CC=O"]),
+    "alkyne": (["C#C", "CC#CC"], ["CC#N", "C=C"]),
+    "terminal_alkyne": (["C#CC", "C#C"], ["CC#CC"]),
+    "aromatic_ring": (["c1ccccc1", "Cc1ccccc1", "c1ccc2ccccc2c1"], ["C1=CCCC=C1", "c1ccncc1", "c1ccoc1"]),
+    "carbonyl": (["CC=O", "CC(C)=O", "CC(=O)O", "CC(=O)N", "C=C=O"], ["CCO", "COC", "CC=N"]),
+    "aldehyde": (["CC=O", "C=O", "O=Cc1ccccc1"], ["CC(C)=O", "OC=O", "NC=O", "COC=O"]),
+    "ketone": (["CC(C)=O", "O=C1CCCCC1", "CC(=O)c1ccccc1"], ["CC=O", "CC(=O)OC", "CC(N)=O", "CC(=O)O"]),
+    "carboxylic_acid": (["CC(=O)O", "OC(=O)c1ccccc1", "OC=O"], ["CC(=O)OC", "CCO", "CC(=O)OC(C)=O"]),
+    "ester": (["CC(=O)OC", "COC=O", "O=C1CCCO1", "COC(=O)c1ccccc1"], ["CC(=O)O", "CC(=O)OC(C)=O", "COC(=O)OC", "CC(C)=O", "COCC(C)=O"]),
+    "lactone": (["O=C1CCCO1", "O=C1CCO1"], ["CC(=O)OC", "O=C1CCCC1"]),
+    "amide": (["CC(N)=O", "CN(C)C=O", "O=C1CCCN1", "NC(N)=O"], ["CC(C)=O", "CCN", "CC(=N)C"]),
+    "acid_chloride": (["CC(=O)Cl"], ["CCCl", "ClC1=CC=CC1"]),
+    "anhydride": (["CC(=O)OC(C)=O", "O=C1CCC(=O)O1"], ["CC(=O)OC", "CC(=O)O"]),
+    "alcohol": (["CCO", "CC(C)(C)O", "OC1CCCCC1"], ["CC(=O)O", "Oc1ccccc1", "OC=C", "COC"]),
+    "phenol": (["Oc1ccccc1", "Cc1ccc(O)cc1"], ["OC1=CCCC=C1", "OCc1ccccc1", "COc1ccccc1"]),
+    "hydroxyl": (["CCO", "Oc1ccccc1", "CC(=O)O", "OC=C", "CC=NO"], ["COC", "CC=O", "CC(=O)OC"]),
+    "ether": (["COC", "CCOCC", "COc1ccccc1", "C1CCOC1"], ["CC(=O)OC", "c1ccoc1", "CCO", "CC(=O)OC(C)=O"]),
+    "primary_amine": (["CCN", "Nc1ccccc1"], ["CC(N)=O", "CNC", "NN"]),
+    "secondary_amine": (["CNC", "C1CCNC1"], ["CN(C)C", "c1cc[nH]c1", "CNC(C)=O"]),
+    "tertiary_amine": (["CN(C)C", "CN1CCCC1"], ["CNC", "CN(C)C=O", "C[N+](C)(C)[O-]"]),
+    "nitrile": (["CC#N", "N#Cc1ccccc1"], ["C#C", "[C-]#[N+]C"]),
+    "nitro": (["C[N+](=O)[O-]", "O=[N+]([O-])c1ccccc1"], ["CON=O", "CN=O"]),
+    "imine": (["CC=N", "CC(C)=NC", "CC=NO"], ["CC#N", "c1ccncc1", "CC(N)=O"]),
+    "thiol": (["CCS", "Sc1ccccc1"], ["CSC", "CC(=O)S"]),
+    "sulfide": (["CSC", "C1CCSC1"], ["CCS", "c1ccsc1", "CS(C)=O"]),
+    "sulfoxide": (["CS(C)=O"], ["CSC", "CS(C)(=O)=O"]),
+    "sulfone": (["CS(C)(=O)=O"], ["CS(C)=O", "CS(=O)(=O)O"]),
+    "alkyl_halide": (["CCCl", "CBr", "FC(F)(F)C"], ["Clc1ccccc1", "CC(=O)Cl", "C=CCl"]),
+    "aryl_halide": (["Clc1ccccc1", "Brc1ccccc1"], ["CCCl", "ClCc1ccccc1"]),
+}
+
+
+def test_vocabulary_validates_and_has_the_stable_names():
+    GROUPS.validate()
+    assert set(CASES) <= set(GROUPS.names)
+    for name in GROUPS.names:
+        assert GROUPS[name].definition and GROUPS[name].source
+
+
+PAIRS = [(g, smi, True) for g, (pos, _) in CASES.items() for smi in pos] + [
+    (g, smi, False) for g, (_, neg) in CASES.items() for smi in neg
+]
+
+
+@pytest.mark.parametrize("group,smiles,expected", PAIRS, ids=[f"{g}-{s}-{e}" for g, s, e in PAIRS])
+def test_group_patterns(group, smiles, expected):
+    mol = Chem.MolFromSmiles(smiles)
+    assert mol is not None
+    assert mol.HasSubstructMatch(GROUPS[group].pattern) is expected
+
+
+def test_unknown_group_suggests_the_near_name():
+    with pytest.raises(ElucidateError, match="did you mean 'ketone'"):
+        GROUPS["ketne"]
+
+
+def test_broken_smarts_names_file_line_and_key(tmp_path):
+    bad = tmp_path / "groups.yaml"
+    bad.write_text("groups:\n  ok_group:\n    smarts: 'C=O'\n    definition: d\n    source: s\n"
+                   "  broken:\n    smarts: '[C;=O'\n    definition: d\n    source: s\n")
+    with pytest.raises(ElucidateError) as info:
+        load_groups(bad)
+    assert info.value.file == str(bad) and info.value.key == "groups.broken.smarts" and info.value.line == 7
