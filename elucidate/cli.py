@@ -108,6 +108,7 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--max-ring-size", type=int, metavar="N", help="no ring (smallest set of smallest rings) larger than N atoms")
     g.add_argument("--list-groups", action="store_true", help="list the group names with their definitions and exit")
     g.add_argument("--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)")
+    g.add_argument("--workers", type=int, default=1, metavar="N", help="worker processes (default 1); the output and its order do not depend on N")
     g.add_argument("--sort", action="store_true", help="print the SMILES sorted (the same set and order for any run)")
     return parser
 
@@ -338,6 +339,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         lowest_valence=args.lowest_valence,
         selection=selection,
         removed=removed,
+        workers=args.workers,
     )
     if args.sort or args.json:
         stream = iter(sorted(stream))

@@ -33,8 +33,8 @@ from dataclasses import dataclass
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 from .formula import Formula
-from .selection import Selection
-from .skeletons import automorphisms, skeletons
+from .selection import CompiledSelection, Selection
+from .skeletons import Partial, automorphisms, frontier, grow
 
 __all__ = ["Structure", "structures", "isomer_smiles", "count_isomers"]
 
@@ -77,6 +77,67 @@ def _compositions(n: int, parts: int) -> Iterator[tuple[int, ...]]:
             yield (first, *rest)
 
 
+@dataclass(frozen=True)
+class _Plan:
+    """One valence-state split of the formula's heavy atoms, ready to generate."""
+
+    n: int
+    labels: tuple[tuple[str, int], ...]
+    counts: tuple[int, ...]
+    bounds: tuple[int, ...]
+    bond_sum: int
+    rings_max: int
+    max_extra: int
+    hydrogens: int
+
+
+#: partial-graph size at which the generation tree is cut into independent tasks
+TASK_DEPTH = 6
+
+
+def _plans(
+    formula: Formula, table: ElementTable, *, max_rings: int | None, max_bond_order: int, lowest_valence: bool
+) -> list[_Plan]:
+    if max_bond_order not in (1, 2, 3):
+        raise ElucidateError(f"max_bond_order must be 1, 2 or 3, got {max_bond_order}")
+    hydrogens = formula.get("H")
+    plans = []
+    for heavy in _valence_splits(formula, table, lowest_valence):
+        n = len(heavy)
+        total_valence = sum(v for _, v in heavy)
+        if n == 0 or (total_valence - hydrogens) % 2:
+            continue
+        bond_sum = (total_valence - hydrogens) // 2
+        rings_max = bond_sum - (n - 1)
+        if rings_max < 0:
+            continue
+        if max_rings is not None:
+            rings_max = min(rings_max, max_rings)
+        labels = sorted(set(heavy), key=lambda a: (-a[1], a[0]))
+        counts = [sum(1 for atom in heavy if atom == label) for label in labels]
+        plans.append(
+            _Plan(n, tuple(labels), tuple(counts), tuple(v for _, v in heavy), bond_sum, rings_max, max_bond_order - 1, hydrogens)
+        )
+    return plans
+
+
+def _tasks(plans: list[_Plan]) -> Iterator[tuple[int, Partial]]:
+    """(plan index, partial graph) pairs: the generation tree cut at TASK_DEPTH, in tree order."""
+    for i, plan in enumerate(plans):
+        for part in frontier(plan.n, plan.bounds, plan.rings_max, depth=TASK_DEPTH):
+            yield i, part
+
+
+def _task_structures(plan: _Plan, part: Partial) -> Iterator[Structure]:
+    if plan.n == 1:
+        (sym, v), = plan.labels
+        if plan.hydrogens == v and _allowed_alone(sym, v):
+            yield Structure((sym,), (), (plan.hydrogens,), (v,))
+        return
+    for size, edges in grow(part, plan.n, plan.bounds, plan.rings_max):
+        yield from _on_skeleton(size, edges, list(plan.labels), list(plan.counts), plan.bond_sum, plan.max_extra)
+
+
 def structures(
     formula: Formula,
     *,
@@ -93,42 +154,10 @@ def structures(
     ``max_rings`` bounds the ring count (cyclomatic number; 0 = acyclic); ``max_bond_order``
     1 gives saturated skeletons only, 2 excludes triple bonds.
     """
-    if max_bond_order not in (1, 2, 3):
-        raise ElucidateError(f"max_bond_order must be 1, 2 or 3, got {max_bond_order}")
     t = table or default_elements()
-    hydrogens = formula.get("H")
-    for heavy in _valence_splits(formula, t, lowest_valence):
-        yield from _with_valences(heavy, hydrogens, max_rings, max_bond_order)
-
-
-def _with_valences(
-    heavy: list[tuple[str, int]], hydrogens: int, max_rings: int | None, max_bond_order: int
-) -> Iterator[Structure]:
-    n = len(heavy)
-    if n == 0:
-        return
-    total_valence = sum(v for _, v in heavy)
-    if (total_valence - hydrogens) % 2:
-        return
-    bond_sum = (total_valence - hydrogens) // 2
-    rings_max = bond_sum - (n - 1)
-    if rings_max < 0:
-        return
-    if max_rings is not None:
-        rings_max = min(rings_max, max_rings)
-    if n == 1:
-        sym, v = heavy[0]
-        if hydrogens == v and _allowed_alone(sym, v):
-            yield Structure((sym,), (), (hydrogens,), (v,))
-        return
-    labels = sorted(set(heavy), key=lambda a: (-a[1], a[0]))
-    label_index = {a: i for i, a in enumerate(labels)}
-    counts = [0] * len(labels)
-    for atom in heavy:
-        counts[label_index[atom]] += 1
-    bounds = [v for _, v in heavy]
-    for size, edges in skeletons(n, bounds, rings_max):
-        yield from _on_skeleton(size, edges, labels, counts, bond_sum, max_bond_order - 1)
+    plans = _plans(formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence)
+    for i, part in _tasks(plans):
+        yield from _task_structures(plans[i], part)
 
 
 def _allowed_alone(symbol: str, valence: int) -> bool:
@@ -359,35 +388,16 @@ def to_smiles(structure: Structure, *, kekule: bool = False) -> str:
         return Chem.MolToSmiles(_sanitized(structure, kekule), kekuleSmiles=kekule)
 
 
-def isomer_smiles(
-    formula: Formula,
-    *,
-    kekule: bool = False,
-    table: ElementTable | None = None,
-    max_rings: int | None = None,
-    max_bond_order: int = 3,
-    lowest_valence: bool = False,
-    selection: Selection | None = None,
-    removed: dict[str, int] | None = None,
+def _task_smiles(
+    plan: _Plan, part: Partial, kekule: bool, compiled: CompiledSelection | None, removed: dict[str, int]
 ) -> Iterator[str]:
-    """Canonical SMILES of every constitutional isomer of ``formula`` that passes ``selection``,
-    each once. ``removed``, when given, is filled with how many structures each constraint
-    removed (the first constraint a structure breaks is the one counted)."""
+    """SMILES of one task (a subtree of the generation tree), merged and filtered."""
     from ._rdkit import Chem, quiet_rdkit
 
-    if not formula.counts:
-        raise ElucidateError("empty formula")
-    compiled = selection.compile() if selection is not None and not selection.empty else None
-    if removed is not None and compiled is not None:
-        for label in compiled.labels:
-            removed.setdefault(label, 0)
-    stream = structures(
-        formula, table=table, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence
-    )
     current: tuple[tuple[int, int], ...] | None = None
     seen: set[str] = set()
     with quiet_rdkit():
-        for s in stream:
+        for s in _task_structures(plan, part):
             mol = _sanitized(s, kekule)
             smiles = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
             if not kekule:
@@ -405,10 +415,67 @@ def isomer_smiles(
                     Chem.SetAromaticity(probe)
                 failed = compiled.first_failure(probe)
                 if failed is not None:
-                    if removed is not None:
-                        removed[failed] += 1
+                    removed[failed] = removed.get(failed, 0) + 1
                     continue
             yield smiles
+
+
+def _worker(job: tuple[_Plan, Partial, bool, Selection | None]) -> tuple[list[str], dict[str, int]]:
+    plan, part, kekule, selection = job
+    compiled = _compiled_selection(selection)
+    removed: dict[str, int] = {}
+    return list(_task_smiles(plan, part, kekule, compiled, removed)), removed
+
+
+def _compiled_selection(selection: Selection | None) -> CompiledSelection | None:
+    if selection is None or selection.empty:
+        return None
+    return selection.compile()
+
+
+def isomer_smiles(
+    formula: Formula,
+    *,
+    kekule: bool = False,
+    table: ElementTable | None = None,
+    max_rings: int | None = None,
+    max_bond_order: int = 3,
+    lowest_valence: bool = False,
+    selection: Selection | None = None,
+    removed: dict[str, int] | None = None,
+    workers: int = 1,
+) -> Iterator[str]:
+    """Canonical SMILES of every constitutional isomer of ``formula`` that passes ``selection``,
+    each once. ``removed``, when given, is filled with how many structures each constraint
+    removed (the first constraint a structure breaks is the one counted).
+
+    With ``workers`` > 1 the generation tree is cut into subtrees (:data:`TASK_DEPTH`) that
+    worker processes grow independently; results are returned in task order, so the output,
+    and its order, is the same for any number of workers.
+    """
+    if not formula.counts:
+        raise ElucidateError("empty formula")
+    if workers < 1:
+        raise ElucidateError(f"workers must be 1 or more, got {workers}")
+    t = table or default_elements()
+    plans = _plans(formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence)
+    compiled = _compiled_selection(selection)
+    counts: dict[str, int] = removed if removed is not None else {}
+    if compiled is not None:
+        for label in compiled.labels:
+            counts.setdefault(label, 0)
+    if workers == 1:
+        for i, part in _tasks(plans):
+            yield from _task_smiles(plans[i], part, kekule, compiled, counts)
+        return
+    import multiprocessing
+
+    jobs = ((plans[i], part, kekule, selection) for i, part in _tasks(plans))
+    with multiprocessing.Pool(workers) as pool:
+        for smiles, rem in pool.imap(_worker, jobs, chunksize=1):
+            for label, n in rem.items():
+                counts[label] = counts.get(label, 0) + n
+            yield from smiles
 
 
 def count_isomers(

@@ -22,7 +22,7 @@ from itertools import combinations
 
 import pynauty
 
-__all__ = ["Skeleton", "skeletons", "automorphisms"]
+__all__ = ["Skeleton", "Partial", "skeletons", "frontier", "grow", "automorphisms"]
 
 Skeleton = tuple[int, tuple[tuple[int, int], ...]]  # (vertex count, sorted edge list)
 
@@ -59,27 +59,61 @@ def _dominated(degrees: list[int], bounds: Sequence[int]) -> bool:
     return all(d <= b for d, b in zip(sorted(degrees, reverse=True), bounds))
 
 
-def skeletons(n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
-    """Yield every connected simple graph on ``n`` vertices once.
+Partial = tuple[int, tuple[tuple[int, ...], ...], int]  # (vertices so far, adjacency, rings)
 
-    ``bounds``: the largest allowed degrees, sorted largest first (length n). ``max_rings``:
-    the largest cyclomatic number (edges - vertices + 1).
-    """
+
+def _checked(n: int, bounds: Sequence[int]) -> list[int]:
     bounds = sorted(bounds, reverse=True)
     if len(bounds) != n:
         raise ValueError("need one degree bound per vertex")
+    return bounds
+
+
+def skeletons(n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
+    """Yield every connected simple graph on ``n`` vertices once.
+
+    ``bounds``: the largest allowed degrees (one per vertex, any order). ``max_rings``: the
+    largest cyclomatic number (edges - vertices + 1).
+    """
+    for part in frontier(n, bounds, max_rings, depth=n):
+        yield from grow(part, n, bounds, max_rings)
+
+
+def frontier(n: int, bounds: Sequence[int], max_rings: int, *, depth: int) -> Iterator[Partial]:
+    """The partial graphs with ``min(depth, n)`` vertices on the generation tree, in the order
+    the tree visits them. Growing each with :func:`grow` and chaining the results in this order
+    gives exactly :func:`skeletons` — this is how work is split across processes."""
+    bounds = _checked(n, bounds)
     if n == 0:
         return
-    if n == 1:
-        yield (1, ())
+    if n > 1 and bounds[1] < 1:
         return
-    if bounds[1] < 1:
-        return
-    yield from _grow(1, [[]], 0, n, bounds, max_rings)
+    yield from _descend((1, ((),), 0), n, bounds, max_rings, min(depth, n))
 
 
-def _grow(k: int, adj: list[list[int]], rings: int, n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
-    """Children of the k-vertex graph ``adj``; yields finished n-vertex graphs."""
+def _descend(part: Partial, n: int, bounds: Sequence[int], max_rings: int, depth: int) -> Iterator[Partial]:
+    if part[0] == depth:
+        yield part
+        return
+    for child in _children(part, bounds, max_rings):
+        yield from _descend(child, n, bounds, max_rings, depth)
+
+
+def grow(part: Partial, n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
+    """Every finished n-vertex skeleton below the partial graph ``part``."""
+    bounds = _checked(n, bounds)
+    k, adj, _ = part
+    if k == n:
+        yield (n, tuple(sorted((a, b) for a in range(n) for b in adj[a] if a < b)))
+        return
+    for child in _children(part, bounds, max_rings):
+        yield from grow(child, n, bounds, max_rings)
+
+
+def _children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[Partial]:
+    """The accepted children of a partial graph, one per isomorphism class."""
+    k, adj_t, rings = part
+    adj = [list(nb) for nb in adj_t]
     top = bounds[0]
     seen: set[bytes] = set()
     degrees = [len(nb) for nb in adj]
@@ -108,12 +142,7 @@ def _grow(k: int, adj: list[list[int]], rings: int, n: int, bounds: Sequence[int
             if cert in seen:
                 continue
             seen.add(cert)
-            new_rings = rings + size - 1
-            if k + 1 == n:
-                edges = tuple(sorted((a, b) for a in range(n) for b in child[a] if a < b))
-                yield (n, edges)
-            else:
-                yield from _grow(k + 1, child, new_rings, n, bounds, max_rings)
+            yield (k + 1, tuple(tuple(nb) for nb in child), rings + size - 1)
 
 
 def _accept(adj: list[list[int]], v: int) -> bool:

@@ -228,3 +228,18 @@ def test_structures_have_consistent_hydrogens():
     for s in structures(parse_formula("C4H5N")):
         assert sum(s.hydrogens) == 5 and all(h >= 0 for h in s.hydrogens)
         assert to_smiles(s)
+
+
+@pytest.mark.parametrize("formula", ["C6H6", "C5H9NO", "C4H4OS"])
+def test_output_is_identical_for_any_worker_count(formula):
+    from elucidate.selection import Selection
+
+    f = parse_formula(formula)
+    one = list(isomer_smiles(f))
+    assert list(isomer_smiles(f, workers=2)) == one
+    assert list(isomer_smiles(f, workers=3, kekule=True)) == list(isomer_smiles(f, kekule=True))
+    sel = Selection(forbid=("hydroxyl",))
+    r1: dict[str, int] = {}
+    r3: dict[str, int] = {}
+    assert list(isomer_smiles(f, selection=sel, removed=r1)) == list(isomer_smiles(f, selection=sel, removed=r3, workers=3))
+    assert r1 == r3
