@@ -26,7 +26,10 @@ from .report import RULE_LABELS, formulas_json, formulas_text
 from .rules import RATIO_LEVELS, default_rules
 from .yamlnodes import parse_range_text
 
-__all__ = ["main", "build_parser"]
+__all__ = ["main", "build_parser", "DEFAULT_LIMIT"]
+
+#: largest estimated isomer space `isomers` enumerates without --limit
+DEFAULT_LIMIT = 1_000_000
 
 _DESCRIPTION = """\
 Structure elucidation from routine evidence (EI mass spectrum, IR, UV-Vis, 13C counts).
@@ -109,6 +112,13 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--list-groups", action="store_true", help="list the group names with their definitions and exit")
     g.add_argument("--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)")
     g.add_argument("--workers", type=int, default=1, metavar="N", help="worker processes (default 1); the output and its order do not depend on N")
+    g.add_argument(
+        "--limit",
+        type=float,
+        default=DEFAULT_LIMIT,
+        metavar="N",
+        help=f"refuse when the estimated number of structures exceeds N (default {DEFAULT_LIMIT:,.0f})",
+    )
     g.add_argument("--sort", action="store_true", help="print the SMILES sorted (the same set and order for any run)")
     return parser
 
@@ -303,8 +313,16 @@ def _cmd_formulas(args: argparse.Namespace, out: TextIO) -> int:
     return 0
 
 
+def _progress(err: TextIO, estimate: float):  # type: ignore[no-untyped-def]
+    """A progress bar on stderr for long runs; silent when stderr is not a terminal."""
+    from tqdm import tqdm
+
+    show = hasattr(err, "isatty") and err.isatty() and estimate > 50_000
+    return tqdm(total=int(estimate), file=err, disable=not show, unit=" isomers", unit_scale=True, leave=False)
+
+
 def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
-    from .generate import isomer_smiles
+    from .generate import estimate_structures, isomer_smiles
     from .groups import default_groups
     from .selection import Selection
 
@@ -331,6 +349,15 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if args.max_rings is not None and args.max_rings < 0:
         raise ElucidateError("--max-rings must be 0 or more")
     max_rings = 0 if args.no_rings else args.max_rings
+    estimate = estimate_structures(
+        formula, max_rings=max_rings, max_bond_order=args.max_bond_order, lowest_valence=args.lowest_valence
+    )
+    if estimate > args.limit:
+        raise ElucidateError(
+            f"{formula}: about {estimate:,.0f} structures estimated before constraints (Knuth's tree-size "
+            f"estimate), above the limit of {args.limit:,.0f}; narrow the question (--max-rings, "
+            "--max-bond-order) or raise the limit with --limit N"
+        )
     stream = isomer_smiles(
         formula,
         kekule=args.kekule,
@@ -350,10 +377,12 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         out.write("\n")
         return 0
     count = 0
-    for smiles in stream:
-        count += 1
-        if not args.count:
-            out.write(smiles + "\n")
+    with _progress(err, estimate) as bar:
+        for smiles in stream:
+            count += 1
+            bar.update(1)
+            if not args.count:
+                out.write(smiles + "\n")
     for label, n in removed.items():
         err.write(f"removed by {label}: {n}\n")
     if args.count:

@@ -34,9 +34,9 @@ from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 from .formula import Formula
 from .selection import CompiledSelection, Selection
-from .skeletons import Partial, automorphisms, frontier, grow
+from .skeletons import Partial, automorphisms, children, frontier, grow
 
-__all__ = ["Structure", "structures", "isomer_smiles", "count_isomers"]
+__all__ = ["Structure", "structures", "isomer_smiles", "count_isomers", "estimate_structures"]
 
 
 @dataclass(frozen=True)
@@ -476,6 +476,55 @@ def isomer_smiles(
             for label, n in rem.items():
                 counts[label] = counts.get(label, 0) + n
             yield from smiles
+
+
+def estimate_structures(
+    formula: Formula,
+    *,
+    table: ElementTable | None = None,
+    max_rings: int | None = None,
+    max_bond_order: int = 3,
+    lowest_valence: bool = False,
+    probes: int = 32,
+    seed: int = 0,
+) -> float:
+    """Estimated number of multigraph structures, by Knuth's tree-size estimator.
+
+    D. E. Knuth, "Estimating the efficiency of backtrack programs", Math. Comp. 29, 121-136
+    (1975): walk from the root of the generation tree to a leaf choosing a child uniformly at
+    random; the product of the branching factors met on the way, times the number of structures
+    on the skeleton reached, is an unbiased estimate. The mean over ``probes`` walks (a fixed
+    seed, so the same formula always gets the same estimate) is returned.
+    """
+    import random
+
+    t = table or default_elements()
+    plans = _plans(formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence)
+    rng = random.Random(seed)
+    total = 0.0
+    for plan in plans:
+        if plan.n == 1:
+            total += sum(1 for _ in _task_structures(plan, (1, ((),), 0)))
+            continue
+        estimate = 0.0
+        for _ in range(probes):
+            weight = 1.0
+            part: Partial = (1, ((),), 0)
+            while part[0] < plan.n:
+                children = list(_children_of(part, plan))
+                if not children:
+                    weight = 0.0
+                    break
+                weight *= len(children)
+                part = children[rng.randrange(len(children))]
+            if weight:
+                estimate += weight * sum(1 for _ in _task_structures(plan, part))
+        total += estimate / probes
+    return total
+
+
+def _children_of(part: Partial, plan: _Plan) -> Iterator[Partial]:
+    return children(part, sorted(plan.bounds, reverse=True), plan.rings_max)
 
 
 def count_isomers(

@@ -22,7 +22,7 @@ from itertools import combinations
 
 import pynauty
 
-__all__ = ["Skeleton", "Partial", "skeletons", "frontier", "grow", "automorphisms"]
+__all__ = ["Skeleton", "Partial", "skeletons", "frontier", "grow", "children", "automorphisms"]
 
 Skeleton = tuple[int, tuple[tuple[int, int], ...]]  # (vertex count, sorted edge list)
 
@@ -95,7 +95,7 @@ def _descend(part: Partial, n: int, bounds: Sequence[int], max_rings: int, depth
     if part[0] == depth:
         yield part
         return
-    for child in _children(part, bounds, max_rings):
+    for child in children(part, bounds, max_rings):
         yield from _descend(child, n, bounds, max_rings, depth)
 
 
@@ -106,11 +106,11 @@ def grow(part: Partial, n: int, bounds: Sequence[int], max_rings: int) -> Iterat
     if k == n:
         yield (n, tuple(sorted((a, b) for a in range(n) for b in adj[a] if a < b)))
         return
-    for child in _children(part, bounds, max_rings):
+    for child in children(part, bounds, max_rings):
         yield from grow(child, n, bounds, max_rings)
 
 
-def _children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[Partial]:
+def children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[Partial]:
     """The accepted children of a partial graph, one per isomorphism class."""
     k, adj_t, rings = part
     adj = [list(nb) for nb in adj_t]

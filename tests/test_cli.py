@@ -174,3 +174,15 @@ def test_isomers_json_and_sort(cli):
 def test_isomers_bad_input(cli, argv, message):
     res = cli(*argv)
     assert res.code == 1 and message in res.err
+
+
+def test_isomers_refuses_large_spaces_with_the_estimate(cli):
+    res = cli("isomers", "C10H12O", "--count")
+    assert res.code == 1
+    assert "estimated" in res.err and "--limit" in res.err
+
+
+def test_isomers_limit_can_be_raised(cli):
+    res = cli("isomers", "C6H6", "--limit", "10", "--count")
+    assert res.code == 1 and "--limit" in res.err
+    assert cli("isomers", "C6H6", "--limit", "1000", "--count").out.strip() == "217"

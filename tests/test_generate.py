@@ -243,3 +243,14 @@ def test_output_is_identical_for_any_worker_count(formula):
     r3: dict[str, int] = {}
     assert list(isomer_smiles(f, selection=sel, removed=r1)) == list(isomer_smiles(f, selection=sel, removed=r3, workers=3))
     assert r1 == r3
+
+
+@pytest.mark.parametrize("formula", ["C6H14", "C6H6", "C7H8O", "C5H9NO"])
+def test_knuth_estimate_is_the_right_order_of_magnitude(formula):
+    from elucidate.generate import estimate_structures
+
+    f = parse_formula(formula)
+    exact = count_isomers(f, kekule=True)
+    estimate = estimate_structures(f)
+    assert exact / 5 <= estimate <= exact * 5
+    assert estimate_structures(f) == estimate  # fixed seed: same formula, same estimate
