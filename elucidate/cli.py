@@ -109,6 +109,13 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--require-smarts", action="append", default=[], metavar="SMARTS", help="keep only isomers matching this SMARTS (repeatable)")
     g.add_argument("--forbid-smarts", action="append", default=[], metavar="SMARTS", help="drop isomers matching this SMARTS (repeatable)")
     g.add_argument("--max-ring-size", type=int, metavar="N", help="no ring (smallest set of smallest rings) larger than N atoms")
+    g.add_argument(
+        "--profile",
+        metavar="NAME",
+        help="drop structures a plausibility profile marks implausible (constraints/plausibility.yaml; e.g. "
+        "'stable': no enols, ynols, gem-diols, peroxides, small-ring triple bonds or allenes, Bredt violations). "
+        "Default: none, every isomer",
+    )
     g.add_argument("--list-groups", action="store_true", help="list the group names with their definitions and exit")
     g.add_argument("--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)")
     g.add_argument("--workers", type=int, default=1, metavar="N", help="worker processes (default 1); the output and its order do not depend on N")
@@ -344,7 +351,12 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         require_smarts=tuple(args.require_smarts),
         forbid_smarts=tuple(args.forbid_smarts),
         max_ring_size=args.max_ring_size,
+        profile=args.profile,
     )
+    if args.profile is not None:
+        from .plausibility import default_profiles
+
+        default_profiles()[args.profile]  # unknown names raise with the list of profiles
     removed: dict[str, int] = {}
     if args.max_rings is not None and args.max_rings < 0:
         raise ElucidateError("--max-rings must be 0 or more")

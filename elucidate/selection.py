@@ -1,12 +1,13 @@
 """Hard structural constraints on generated isomers: required / forbidden groups and SMARTS,
-largest ring size. Each constraint is a yes/no test on the finished molecule (aromaticity
-perceived), so applying it during generation equals generating everything and filtering.
+largest ring size, and a plausibility profile. Each constraint is a yes/no test on the finished
+molecule (aromaticity perceived), so applying it during generation equals generating everything
+and filtering.
 """
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from dataclasses import dataclass, field
+from collections.abc import Callable
+from dataclasses import dataclass
 from typing import Any
 
 from .errors import ElucidateError
@@ -22,55 +23,77 @@ class Selection:
     require_smarts: tuple[str, ...] = ()
     forbid_smarts: tuple[str, ...] = ()
     max_ring_size: int | None = None
+    profile: str | None = None  # a plausibility profile from constraints/plausibility.yaml
 
     @property
     def empty(self) -> bool:
-        return not (self.require or self.forbid or self.require_smarts or self.forbid_smarts) and self.max_ring_size is None
+        return (
+            not (self.require or self.forbid or self.require_smarts or self.forbid_smarts)
+            and self.max_ring_size is None
+            and self.profile is None
+        )
 
     def compile(self, groups: GroupTable | None = None) -> "CompiledSelection":
-        from ._rdkit import mol_from_smarts
-
         g = groups or default_groups()
         both = sorted(set(self.require) & set(self.forbid))
         if both:
             raise ElucidateError(f"group {both[0]!r} is both required and forbidden")
-        tests: list[tuple[str, Any, bool]] = []
+        tests: list[tuple[str, Callable[[Any], bool]]] = []  # (label, passes)
         for name in self.require:
-            tests.append((f"require {name}", g[name].pattern, True))
+            tests.append((f"require {name}", _has(g[name].pattern)))
         for name in self.forbid:
-            tests.append((f"forbid {name}", g[name].pattern, False))
+            tests.append((f"forbid {name}", _lacks(g[name].pattern)))
         for text in self.require_smarts:
-            pattern = mol_from_smarts(text)
-            if pattern is None:
-                raise ElucidateError(f"RDKit cannot read the SMARTS {text!r}")
-            tests.append((f"require SMARTS {text}", pattern, True))
+            tests.append((f"require SMARTS {text}", _has(_smarts(text))))
         for text in self.forbid_smarts:
-            pattern = mol_from_smarts(text)
-            if pattern is None:
-                raise ElucidateError(f"RDKit cannot read the SMARTS {text!r}")
-            tests.append((f"forbid SMARTS {text}", pattern, False))
-        if self.max_ring_size is not None and self.max_ring_size < 3:
-            raise ElucidateError(f"largest ring size must be 3 or more, got {self.max_ring_size}")
-        return CompiledSelection(tuple(tests), self.max_ring_size)
+            tests.append((f"forbid SMARTS {text}", _lacks(_smarts(text))))
+        if self.max_ring_size is not None:
+            if self.max_ring_size < 3:
+                raise ElucidateError(f"largest ring size must be 3 or more, got {self.max_ring_size}")
+            limit = self.max_ring_size
+            tests.append(
+                (f"largest ring {limit}", lambda mol: all(len(r) <= limit for r in mol.GetRingInfo().AtomRings()))
+            )
+        if self.profile is not None:
+            from .plausibility import default_profiles
+
+            for rule in default_profiles()[self.profile]:
+                tests.append((f"implausible {rule.name}", _not(rule.matches)))
+        return CompiledSelection(tuple(tests))
+
+
+def _smarts(text: str) -> Any:
+    from ._rdkit import mol_from_smarts
+
+    pattern = mol_from_smarts(text)
+    if pattern is None:
+        raise ElucidateError(f"RDKit cannot read the SMARTS {text!r}")
+    return pattern
+
+
+def _has(pattern: Any) -> Callable[[Any], bool]:
+    return lambda mol: bool(mol.HasSubstructMatch(pattern))
+
+
+def _lacks(pattern: Any) -> Callable[[Any], bool]:
+    return lambda mol: not mol.HasSubstructMatch(pattern)
+
+
+def _not(test: Callable[[Any], bool]) -> Callable[[Any], bool]:
+    return lambda mol: not test(mol)
 
 
 @dataclass(frozen=True)
 class CompiledSelection:
-    tests: tuple[tuple[str, Any, bool], ...]
-    max_ring_size: int | None = None
-    labels: tuple[str, ...] = field(init=False)
+    tests: tuple[tuple[str, Callable[[Any], bool]], ...]
 
-    def __post_init__(self) -> None:
-        extra = (f"largest ring {self.max_ring_size}",) if self.max_ring_size is not None else ()
-        object.__setattr__(self, "labels", tuple(t[0] for t in self.tests) + extra)
+    @property
+    def labels(self) -> tuple[str, ...]:
+        return tuple(label for label, _ in self.tests)
 
     def first_failure(self, mol: Any) -> str | None:
         """The label of the first constraint ``mol`` (aromaticity perceived) breaks, or None."""
-        for label, pattern, wanted in self.tests:
-            if mol.HasSubstructMatch(pattern) != wanted:
+        for label, passes in self.tests:
+            if not passes(mol):
                 return label
-        if self.max_ring_size is not None:
-            rings: Sequence[Sequence[int]] = mol.GetRingInfo().AtomRings()
-            if any(len(r) > self.max_ring_size for r in rings):
-                return self.labels[-1]
         return None

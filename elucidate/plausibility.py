@@ -1,0 +1,132 @@
+"""Plausibility profiles (``constraints/plausibility.yaml``): rules that mark a structure as one a
+chemist would not expect to isolate, each a SMARTS or a named test, with its reason."""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+from typing import Any
+
+from .errors import ElucidateError
+from .tables import table_path
+from .yamlnodes import as_list, as_str, mapping, read_yaml_file
+
+__all__ = ["Rule", "Profiles", "load_profiles", "default_profiles", "bridgehead_double_bond", "TESTS"]
+
+
+def bridgehead_double_bond(mol: Any) -> bool:
+    """Bredt's rule with Fawcett's S-number: a non-aromatic double bond at a bridgehead of a
+    bridged ring pair whose bridges hold fewer than seven atoms in all (S = atoms of the bicyclic
+    system minus the two bridgeheads; S >= 7, as in bicyclo[3.3.1]non-1-ene, is isolable)."""
+    rings = [set(r) for r in mol.GetRingInfo().AtomRings()]
+    for i in range(len(rings)):
+        for j in range(i + 1, len(rings)):
+            r1, r2 = rings[i], rings[j]
+            shared = r1 & r2
+            if len(shared) < 3:
+                continue  # fused (one shared bond) or separate rings: Bredt does not apply
+            system = r1 | r2
+            if len(system) - 2 >= 7:
+                continue
+            ends = {
+                a for a in shared
+                if any(n.GetIdx() in r1 - shared for n in mol.GetAtomWithIdx(a).GetNeighbors())
+                and any(n.GetIdx() in r2 - shared for n in mol.GetAtomWithIdx(a).GetNeighbors())
+            }
+            for bond in mol.GetBonds():
+                if bond.GetBondTypeAsDouble() != 2.0 or bond.GetIsAromatic():
+                    continue
+                a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+                if {a, b} & ends and a in system and b in system:
+                    return True
+    return False
+
+
+#: named tests for rules SMARTS cannot express
+TESTS: Mapping[str, Callable[[Any], bool]] = {"bridgehead_double_bond": bridgehead_double_bond}
+
+
+@dataclass(frozen=True)
+class Rule:
+    name: str
+    reason: str
+    smarts: str | None = None
+    test: str | None = None
+
+    def matches(self, mol: Any) -> bool:
+        if self.smarts is not None:
+            return bool(mol.HasSubstructMatch(_pattern(self.smarts)))
+        assert self.test is not None
+        return TESTS[self.test](mol)
+
+
+@lru_cache(maxsize=None)
+def _pattern(smarts: str) -> Any:
+    from ._rdkit import mol_from_smarts
+
+    pattern = mol_from_smarts(smarts)
+    if pattern is None:
+        raise ElucidateError(f"RDKit cannot read the SMARTS {smarts!r}")
+    return pattern
+
+
+@dataclass(frozen=True, eq=False)
+class Profiles:
+    profiles: Mapping[str, tuple[Rule, ...]]
+
+    def __getitem__(self, name: str) -> tuple[Rule, ...]:
+        try:
+            return self.profiles[name]
+        except KeyError as exc:
+            raise ElucidateError(f"unknown plausibility profile {name!r}; profiles: {', '.join(self.profiles)}") from exc
+
+    def validate(self) -> None:
+        for profile, rules in self.profiles.items():
+            names = [r.name for r in rules]
+            if len(names) != len(set(names)):
+                raise ElucidateError("rule names must be unique", key=f"profiles.{profile}")
+            for r in rules:
+                if (r.smarts is None) == (r.test is None):
+                    raise ElucidateError("give exactly one of smarts or test", key=f"profiles.{profile}.{r.name}")
+                if r.test is not None and r.test not in TESTS:
+                    raise ElucidateError(f"unknown test {r.test!r}; tests: {', '.join(TESTS)}", key=f"profiles.{profile}.{r.name}")
+                if r.smarts is not None:
+                    try:
+                        _pattern(r.smarts)
+                    except ElucidateError as exc:
+                        raise ElucidateError(exc.message, key=f"profiles.{profile}.{r.name}") from exc
+
+
+def load_profiles(path: str | Path | None = None) -> Profiles:
+    file = Path(path) if path is not None else table_path("plausibility.yaml")
+    root = mapping(read_yaml_file(file), ["source", "profiles"], required=["profiles"])
+    body = root["profiles"]
+    if not isinstance(body.value, dict) or not body.value:
+        raise body.error("expected a mapping of profile names to rule lists")
+    profiles = {}
+    for name, loc in body.value.items():
+        rules = []
+        for item in as_list(loc, what="a list of rules"):
+            entry = mapping(item, ["name", "smarts", "test", "reason"], required=["name", "reason"])
+            rules.append(
+                Rule(
+                    name=as_str(entry["name"], what="a rule name"),
+                    reason=as_str(entry["reason"], what="the chemical reason"),
+                    smarts=as_str(entry["smarts"], what="a SMARTS pattern") if "smarts" in entry else None,
+                    test=as_str(entry["test"], what="a test name") if "test" in entry else None,
+                )
+            )
+        profiles[str(name)] = tuple(rules)
+    table = Profiles(profiles)
+    try:
+        table.validate()
+    except ElucidateError as exc:
+        raise ElucidateError(exc.message, file=str(file), key=exc.key) from exc
+    return table
+
+
+@lru_cache(maxsize=1)
+def default_profiles() -> Profiles:
+    return load_profiles()
