@@ -384,7 +384,14 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         stream = iter(sorted(stream))
     if args.json:
         smiles = list(stream)
-        data = {"formula": str(formula), "kekule": args.kekule, "count": len(smiles), "removed": removed, "smiles": smiles}
+        data = {
+            "formula": str(formula),
+            "kekule": args.kekule,
+            "count": len(smiles),
+            "removed": removed,
+            "pruned_during_generation": [f"require {name}" for name in selection.pushed()],
+            "smiles": smiles,
+        }
         json.dump(data, out, indent=1)
         out.write("\n")
         return 0
@@ -397,6 +404,8 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
                 out.write(smiles + "\n")
     for label, n in removed.items():
         err.write(f"removed by {label}: {n}\n")
+    for name in selection.pushed():
+        err.write(f"require {name}: also applied to labelled skeletons during generation (not counted)\n")
     if args.count:
         out.write(f"{count}\n")
     return 0

@@ -29,6 +29,7 @@ from __future__ import annotations
 import itertools
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
@@ -128,14 +129,14 @@ def _tasks(plans: list[_Plan]) -> Iterator[tuple[int, Partial]]:
             yield i, part
 
 
-def _task_structures(plan: _Plan, part: Partial) -> Iterator[Structure]:
+def _task_structures(plan: _Plan, part: Partial, prefilter: tuple[Any, ...] = ()) -> Iterator[Structure]:
     if plan.n == 1:
         (sym, v), = plan.labels
         if plan.hydrogens == v and _allowed_alone(sym, v):
             yield Structure((sym,), (), (plan.hydrogens,), (v,))
         return
     for size, edges in grow(part, plan.n, plan.bounds, plan.rings_max):
-        yield from _on_skeleton(size, edges, list(plan.labels), list(plan.counts), plan.bond_sum, plan.max_extra)
+        yield from _on_skeleton(size, edges, list(plan.labels), list(plan.counts), plan.bond_sum, plan.max_extra, prefilter)
 
 
 def structures(
@@ -171,7 +172,10 @@ def _on_skeleton(
     counts: list[int],
     bond_sum: int,
     max_extra: int,
+    prefilter: tuple[Any, ...] = (),
 ) -> Iterator[Structure]:
+    """Structures on one skeleton. ``prefilter``: patterns every labelled skeleton must match
+    (necessary conditions of required groups, written for skeletons; see groups.yaml)."""
     valence = [v for _, v in labels]
     special = [label in OXO_STATES for label in labels]
     m = len(edges)
@@ -214,6 +218,8 @@ def _on_skeleton(
                     stabilizer.append(einv)
             if not canonical:
                 continue
+        if prefilter and not _labelled_skeleton_matches(n, edges, colouring, labels, prefilter):
+            continue
         for orders in _multiplicities(edges, capacity, extra_total, max_extra):
             if stabilizer and any(tuple(orders[e] for e in einv) < orders for einv in stabilizer):
                 continue
@@ -263,6 +269,20 @@ def _oxo_ok(n, edges, orders, colouring, labels, degree, used) -> bool:  # type:
         ):
             return False
     return True
+
+
+def _labelled_skeleton_matches(n, edges, colouring, labels, patterns) -> bool:  # type: ignore[no-untyped-def]
+    from ._rdkit import Chem
+
+    mol = Chem.RWMol()
+    for i in range(n):
+        atom = Chem.Atom(labels[colouring[i]][0])
+        atom.SetNoImplicit(True)
+        mol.AddAtom(atom)
+    for a, b in edges:
+        mol.AddBond(a, b, Chem.BondType.SINGLE)
+    mol.UpdatePropertyCache(strict=False)
+    return all(mol.HasSubstructMatch(p) for p in patterns)
 
 
 def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> Iterator[tuple[int, ...]]:
@@ -389,7 +409,12 @@ def to_smiles(structure: Structure, *, kekule: bool = False) -> str:
 
 
 def _task_smiles(
-    plan: _Plan, part: Partial, kekule: bool, compiled: CompiledSelection | None, removed: dict[str, int]
+    plan: _Plan,
+    part: Partial,
+    kekule: bool,
+    compiled: CompiledSelection | None,
+    removed: dict[str, int],
+    prefilter: tuple[Any, ...] = (),
 ) -> Iterator[str]:
     """SMILES of one task (a subtree of the generation tree), merged and filtered."""
     from ._rdkit import Chem, quiet_rdkit
@@ -397,7 +422,7 @@ def _task_smiles(
     current: tuple[tuple[int, int], ...] | None = None
     seen: set[str] = set()
     with quiet_rdkit():
-        for s in _task_structures(plan, part):
+        for s in _task_structures(plan, part, prefilter):
             mol = _sanitized(s, kekule)
             smiles = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
             if not kekule:
@@ -424,7 +449,8 @@ def _worker(job: tuple[_Plan, Partial, bool, Selection | None]) -> tuple[list[st
     plan, part, kekule, selection = job
     compiled = _compiled_selection(selection)
     removed: dict[str, int] = {}
-    return list(_task_smiles(plan, part, kekule, compiled, removed)), removed
+    prefilter = selection.skeleton_patterns() if selection is not None else ()
+    return list(_task_smiles(plan, part, kekule, compiled, removed, prefilter)), removed
 
 
 def _compiled_selection(selection: Selection | None) -> CompiledSelection | None:
@@ -446,8 +472,10 @@ def isomer_smiles(
     workers: int = 1,
 ) -> Iterator[str]:
     """Canonical SMILES of every constitutional isomer of ``formula`` that passes ``selection``,
-    each once. ``removed``, when given, is filled with how many structures each constraint
-    removed (the first constraint a structure breaks is the one counted).
+    each once. ``removed``, when given, is filled with how many generated structures each
+    constraint removed (the first constraint a structure breaks is the one counted). Required
+    groups with a skeleton condition (:meth:`Selection.pushed`) also prune labelled skeletons
+    during generation; what they prune is not generated and so not counted.
 
     With ``workers`` > 1 the generation tree is cut into subtrees (:data:`TASK_DEPTH`) that
     worker processes grow independently; results are returned in task order, so the output,
@@ -464,9 +492,10 @@ def isomer_smiles(
     if compiled is not None:
         for label in compiled.labels:
             counts.setdefault(label, 0)
+    prefilter = selection.skeleton_patterns() if selection is not None else ()
     if workers == 1:
         for i, part in _tasks(plans):
-            yield from _task_smiles(plans[i], part, kekule, compiled, counts)
+            yield from _task_smiles(plans[i], part, kekule, compiled, counts, prefilter)
         return
     import multiprocessing
 

@@ -25,11 +25,16 @@ class Group:
     smarts: str
     definition: str
     source: str
+    skeleton: str | None = None  # necessary condition on the labelled skeleton (see groups.yaml)
 
     @property
     def pattern(self) -> Any:
         """The compiled RDKit query (cached per group)."""
         return _compiled(self.smarts)
+
+    @property
+    def skeleton_pattern(self) -> Any | None:
+        return _compiled(self.skeleton) if self.skeleton is not None else None
 
 
 @lru_cache(maxsize=None)
@@ -70,6 +75,10 @@ class GroupTable:
                 group.pattern
             except ElucidateError as exc:
                 raise ElucidateError(exc.message, key=f"groups.{name}.smarts") from exc
+            try:
+                group.skeleton_pattern
+            except ElucidateError as exc:
+                raise ElucidateError(exc.message, key=f"groups.{name}.skeleton") from exc
 
 
 def load_groups(path: str | Path | None = None) -> GroupTable:
@@ -80,12 +89,13 @@ def load_groups(path: str | Path | None = None) -> GroupTable:
         raise body.error("expected a mapping of group names")
     groups = {}
     for name, loc in body.value.items():
-        entry = mapping(loc, ["smarts", "definition", "source"], required=["smarts", "definition", "source"])
+        entry = mapping(loc, ["smarts", "definition", "source", "skeleton"], required=["smarts", "definition", "source"])
         groups[str(name)] = Group(
             name=str(name),
             smarts=as_str(entry["smarts"], what="a SMARTS pattern"),
             definition=as_str(entry["definition"], what="a one-line definition"),
             source=as_str(entry["source"], what="a source"),
+            skeleton=as_str(entry["skeleton"], what="a SMARTS pattern") if "skeleton" in entry else None,
         )
     table = GroupTable(groups, as_str(root["source"]) if "source" in root else "")
     try:

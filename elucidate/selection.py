@@ -33,6 +33,15 @@ class Selection:
             and self.profile is None
         )
 
+    def pushed(self, groups: GroupTable | None = None) -> tuple[str, ...]:
+        """Required groups whose skeleton condition is applied during generation."""
+        g = groups or default_groups()
+        return tuple(name for name in self.require if g[name].skeleton is not None)
+
+    def skeleton_patterns(self, groups: GroupTable | None = None) -> tuple[Any, ...]:
+        g = groups or default_groups()
+        return tuple(g[name].skeleton_pattern for name in self.pushed(g))
+
     def compile(self, groups: GroupTable | None = None) -> "CompiledSelection":
         g = groups or default_groups()
         both = sorted(set(self.require) & set(self.forbid))

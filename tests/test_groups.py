@@ -7,6 +7,8 @@ phenol is not an enol, ...) are common practice.
 
 from __future__ import annotations
 
+import functools
+
 import pytest
 from rdkit import Chem
 
@@ -80,3 +82,42 @@ def test_broken_smarts_names_file_line_and_key(tmp_path):
     with pytest.raises(ElucidateError) as info:
         load_groups(bad)
     assert info.value.file == str(bad) and info.value.key == "groups.broken.smarts" and info.value.line == 7
+
+
+def _labelled_skeleton(mol):
+    """Heavy atoms with element labels, all bonds single, no hydrogens: what the generator sees
+    before bond orders are chosen."""
+    rw = Chem.RWMol()
+    for atom in mol.GetAtoms():
+        a = Chem.Atom(atom.GetSymbol())
+        a.SetNoImplicit(True)
+        rw.AddAtom(a)
+    for bond in mol.GetBonds():
+        rw.AddBond(bond.GetBeginAtomIdx(), bond.GetEndAtomIdx(), Chem.BondType.SINGLE)
+    rw.UpdatePropertyCache(strict=False)
+    return rw
+
+
+SKELETAL = [name for name in GROUPS.names if GROUPS[name].skeleton is not None]
+
+
+@functools.lru_cache(maxsize=1)
+def _isomer_corpus():
+    from elucidate import parse_formula
+    from elucidate.generate import isomer_smiles
+
+    smiles = []
+    for formula in ("C7H6O", "C4H7NO", "C4H6O2", "C3H5NO"):
+        smiles += list(isomer_smiles(parse_formula(formula)))
+    return tuple(smiles)
+
+
+@pytest.mark.parametrize("group", SKELETAL)
+def test_skeleton_condition_is_implied_by_the_group(group):
+    # every molecule with the group must pass the group's skeleton condition: reference
+    # positives plus every isomer of a few formulas that carries the group
+    molecules = [Chem.MolFromSmiles(s) for s in CASES.get(group, ([], []))[0] + list(_isomer_corpus())]
+    hits = [m for m in molecules if m.HasSubstructMatch(GROUPS[group].pattern)]
+    assert hits
+    for mol in hits:
+        assert _labelled_skeleton(mol).HasSubstructMatch(GROUPS[group].skeleton_pattern), Chem.MolToSmiles(mol)
