@@ -11,6 +11,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import ElucidateError
+from .patterns import compiled_smarts
 from .tables import table_path
 from .yamlnodes import as_str, mapping, read_yaml_file
 
@@ -30,21 +31,11 @@ class Group:
     @property
     def pattern(self) -> Any:
         """The compiled RDKit query (cached per group)."""
-        return _compiled(self.smarts)
+        return compiled_smarts(self.smarts)
 
     @property
     def skeleton_pattern(self) -> Any | None:
-        return _compiled(self.skeleton) if self.skeleton is not None else None
-
-
-@lru_cache(maxsize=None)
-def _compiled(smarts: str) -> Any:
-    from ._rdkit import mol_from_smarts
-
-    pattern = mol_from_smarts(smarts)
-    if pattern is None:
-        raise ElucidateError(f"RDKit cannot read the SMARTS {smarts!r}")
-    return pattern
+        return compiled_smarts(self.skeleton) if self.skeleton is not None else None
 
 
 @dataclass(frozen=True, eq=False)

@@ -10,6 +10,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import ElucidateError
+from .patterns import compiled_smarts
 from .tables import table_path
 from .yamlnodes import as_list, as_str, mapping, read_yaml_file
 
@@ -57,19 +58,9 @@ class Rule:
 
     def matches(self, mol: Any) -> bool:
         if self.smarts is not None:
-            return bool(mol.HasSubstructMatch(_pattern(self.smarts)))
+            return bool(mol.HasSubstructMatch(compiled_smarts(self.smarts)))
         assert self.test is not None
         return TESTS[self.test](mol)
-
-
-@lru_cache(maxsize=None)
-def _pattern(smarts: str) -> Any:
-    from ._rdkit import mol_from_smarts
-
-    pattern = mol_from_smarts(smarts)
-    if pattern is None:
-        raise ElucidateError(f"RDKit cannot read the SMARTS {smarts!r}")
-    return pattern
 
 
 @dataclass(frozen=True, eq=False)
@@ -94,7 +85,7 @@ class Profiles:
                     raise ElucidateError(f"unknown test {r.test!r}; tests: {', '.join(TESTS)}", key=f"profiles.{profile}.{r.name}")
                 if r.smarts is not None:
                     try:
-                        _pattern(r.smarts)
+                        compiled_smarts(r.smarts)
                     except ElucidateError as exc:
                         raise ElucidateError(exc.message, key=f"profiles.{profile}.{r.name}") from exc
 

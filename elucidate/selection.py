@@ -12,6 +12,7 @@ from typing import Any
 
 from .errors import ElucidateError
 from .groups import GroupTable, default_groups
+from .patterns import compiled_smarts
 
 __all__ = ["Selection", "CompiledSelection"]
 
@@ -53,9 +54,9 @@ class Selection:
         for name in self.forbid:
             tests.append((f"forbid {name}", _lacks(g[name].pattern)))
         for text in self.require_smarts:
-            tests.append((f"require SMARTS {text}", _has(_smarts(text))))
+            tests.append((f"require SMARTS {text}", _has(compiled_smarts(text))))
         for text in self.forbid_smarts:
-            tests.append((f"forbid SMARTS {text}", _lacks(_smarts(text))))
+            tests.append((f"forbid SMARTS {text}", _lacks(compiled_smarts(text))))
         if self.max_ring_size is not None:
             if self.max_ring_size < 3:
                 raise ElucidateError(f"largest ring size must be 3 or more, got {self.max_ring_size}")
@@ -69,15 +70,6 @@ class Selection:
             for rule in default_profiles()[self.profile]:
                 tests.append((f"implausible {rule.name}", _not(rule.matches)))
         return CompiledSelection(tuple(tests))
-
-
-def _smarts(text: str) -> Any:
-    from ._rdkit import mol_from_smarts
-
-    pattern = mol_from_smarts(text)
-    if pattern is None:
-        raise ElucidateError(f"RDKit cannot read the SMARTS {text!r}")
-    return pattern
 
 
 def _has(pattern: Any) -> Callable[[Any], bool]:
