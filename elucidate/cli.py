@@ -241,8 +241,6 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
         if args.ppm <= 0:
             raise ElucidateError("--ppm must be above 0")
         ppm = args.ppm
-    if mass < 1:
-        raise ElucidateError(f"nominal mass must be a positive whole number, got {mass}")
     cluster = ObservedCluster.from_peaks(mass, peaks, max_offset=rules.isotope_max_offset) if peaks else None
     query = FormulaQuery(
         nominal_mass=mass,
@@ -305,12 +303,12 @@ def _cmd_formulas(args: argparse.Namespace, out: TextIO) -> int:
     query, case = _query(args)
     if args.top is not None and args.top < 0:
         raise ElucidateError("--top must be 0 (all) or more")
-    top = args.top if args.top is not None else (0 if args.json or args.why else 20)
-    result = derive_formulas(query, top=top or None, keep_rejected=args.explain)
     if args.why:
-        full = result if not top else derive_formulas(query)
-        _why(args.why, query, out, [str(c.formula) for c in full.kept])
+        ranked = [str(c.formula) for c in derive_formulas(query).kept]
+        _why(args.why, query, out, ranked)
         return 0
+    top = args.top if args.top is not None else (0 if args.json else 20)
+    result = derive_formulas(query, top=top or None, keep_rejected=args.explain)
     if args.json:
         json.dump(formulas_json(result, explain=args.explain), out, indent=2)
         out.write("\n")

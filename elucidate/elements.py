@@ -157,7 +157,7 @@ def load_elements(path: str | Path | None = None) -> ElementTable:
     try:
         table.validate()
     except ElucidateError as exc:
-        raise ElucidateError(exc.message, file=str(file), key=exc.key) from exc
+        raise exc.in_file(str(file)) from exc
     return table
 
 

@@ -93,7 +93,7 @@ def load_groups(path: str | Path | None = None) -> GroupTable:
         table.validate()
     except ElucidateError as exc:
         line = body.value[exc.key.split(".")[1]].line if exc.key else None
-        raise ElucidateError(exc.message, file=str(file), line=line, key=exc.key) from exc
+        raise exc.in_file(str(file), line) from exc
     return table
 
 

@@ -114,7 +114,7 @@ def load_profiles(path: str | Path | None = None) -> Profiles:
     try:
         table.validate()
     except ElucidateError as exc:
-        raise ElucidateError(exc.message, file=str(file), key=exc.key) from exc
+        raise exc.in_file(str(file)) from exc
     return table
 
 

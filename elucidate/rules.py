@@ -187,7 +187,7 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
     try:
         rules.validate(table)
     except ElucidateError as exc:
-        raise ElucidateError(exc.message, file=str(file), key=exc.key) from exc
+        raise exc.in_file(str(file)) from exc
     return rules
 
 

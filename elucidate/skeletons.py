@@ -39,22 +39,6 @@ def _nauty(n: int, adj: list[list[int]]) -> pynauty.Graph:
     return pynauty.Graph(n, directed=False, adjacency_dict={i: nb for i, nb in enumerate(adj) if nb})
 
 
-def _is_cut_vertex(adj: list[list[int]], v: int) -> bool:
-    n = len(adj)
-    if n <= 2 or len(adj[v]) <= 1:
-        return False
-    start = adj[v][0]
-    seen = {v, start}
-    stack = [start]
-    while stack:
-        u = stack.pop()
-        for w in adj[u]:
-            if w not in seen:
-                seen.add(w)
-                stack.append(w)
-    return len(seen) < n
-
-
 def _dominated(degrees: list[int], bounds: Sequence[int]) -> bool:
     return all(d <= b for d, b in zip(sorted(degrees, reverse=True), bounds))
 
@@ -101,13 +85,16 @@ def _descend(part: Partial, n: int, bounds: Sequence[int], max_rings: int, depth
 
 def grow(part: Partial, n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
     """Every finished n-vertex skeleton below the partial graph ``part``."""
-    bounds = _checked(n, bounds)
+    yield from _grow(part, n, _checked(n, bounds), max_rings)
+
+
+def _grow(part: Partial, n: int, bounds: list[int], max_rings: int) -> Iterator[Skeleton]:
     k, adj, _ = part
     if k == n:
         yield (n, tuple(sorted((a, b) for a in range(n) for b in adj[a] if a < b)))
         return
     for child in children(part, bounds, max_rings):
-        yield from grow(child, n, bounds, max_rings)
+        yield from _grow(child, n, bounds, max_rings)
 
 
 def children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[Partial]:
@@ -131,10 +118,13 @@ def children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[P
             for u in subset:
                 child[u].append(k)
             child.append(list(subset))
-            if not _accept(child, k):
+            if size > 1 and any(len(nb) == 1 for nb in child):
+                continue  # a leaf (never a cut vertex) has a smaller degree than the new vertex
+            cut = _cut_vertices(child)
+            if not _accept(child, k, cut):
                 continue
             graph = _nauty(k + 1, child)
-            if not _canonical_deletion_ok(child, k, graph):
+            if not _canonical_deletion_ok(child, k, graph, cut):
                 continue
             # accepted children of one parent are isomorphic only when their sets S lie in
             # one orbit of Aut(parent): keep one of them
@@ -145,25 +135,59 @@ def children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[P
             yield (k + 1, tuple(tuple(nb) for nb in child), rings + size - 1)
 
 
-def _accept(adj: list[list[int]], v: int) -> bool:
-    """Cheap necessary test: no non-cut vertex may have a smaller degree than v."""
+def _cut_vertices(adj: list[list[int]]) -> set[int]:
+    """Articulation points of a connected graph (Hopcroft-Tarjan, one depth-first search)."""
+    n = len(adj)
+    order = [-1] * n
+    low = [0] * n
+    cut: set[int] = set()
+    counter = 0
+    stack = [(0, -1, iter(adj[0]))]
+    order[0] = low[0] = 0
+    root_children = 0
+    while stack:
+        u, parent, neighbours = stack[-1]
+        advanced = False
+        for w in neighbours:
+            if order[w] < 0:
+                counter += 1
+                order[w] = low[w] = counter
+                stack.append((w, u, iter(adj[w])))
+                advanced = True
+                break
+            if w != parent:
+                low[u] = min(low[u], order[w])
+        if advanced:
+            continue
+        stack.pop()
+        if parent >= 0:
+            low[parent] = min(low[parent], low[u])
+            if parent == 0:
+                root_children += 1
+            elif low[u] >= order[parent]:
+                cut.add(parent)
+    if root_children > 1:
+        cut.add(0)
+    return cut
+
+
+def _accept(adj: list[list[int]], v: int, cut: set[int]) -> bool:
+    """Cheap necessary test: v is not a cut vertex and no non-cut vertex has a smaller degree."""
     dv = len(adj[v])
     if dv == 1:
         return True
-    # leaves are never cut vertices (graphs with more than two vertices)
-    return all(len(nb) >= dv or (len(nb) > 1 and _is_cut_vertex(adj, u)) for u, nb in enumerate(adj) if u != v) and not _is_cut_vertex(adj, v)
+    return v not in cut and all(len(nb) >= dv or u in cut for u, nb in enumerate(adj) if u != v)
 
 
-def _canonical_deletion_ok(adj: list[list[int]], v: int, graph: pynauty.Graph) -> bool:
-    n = len(adj)
-    candidates = [u for u in range(n) if not _is_cut_vertex(adj, u)]
+def _canonical_deletion_ok(adj: list[list[int]], v: int, graph: pynauty.Graph, cut: set[int]) -> bool:
+    candidates = [u for u in range(len(adj)) if u not in cut]
     low = min(len(adj[u]) for u in candidates)
     candidates = [u for u in candidates if len(adj[u]) == low]
     if len(adj[v]) != low or v not in candidates:
         return False
-    _, _, _, orbits, _ = pynauty.autgrp(graph)
     if len(candidates) == 1:
         return True
+    _, _, _, orbits, _ = pynauty.autgrp(graph)
     if len({orbits[u] for u in candidates}) == 1:
         return True
     labels = pynauty.canon_label(graph)  # labels[i] = vertex at canonical position i
