@@ -360,13 +360,17 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         raise ElucidateError("--max-rings must be 0 or more")
     max_rings = 0 if args.no_rings else args.max_rings
     estimate = estimate_structures(
-        formula, max_rings=max_rings, max_bond_order=args.max_bond_order, lowest_valence=args.lowest_valence
+        formula,
+        max_rings=max_rings,
+        max_bond_order=args.max_bond_order,
+        lowest_valence=args.lowest_valence,
+        selection=selection,
     )
     if estimate > args.limit:
         raise ElucidateError(
-            f"{formula}: about {estimate:,.0f} structures estimated before constraints (Knuth's tree-size "
-            f"estimate), above the limit of {args.limit:,.0f}; narrow the question (--max-rings, "
-            "--max-bond-order) or raise the limit with --limit N"
+            f"{formula}: about {estimate:,.0f} structures to test estimated (Knuth's tree-size estimate "
+            f"of the space walked, before the constraints are tested), above the limit of {args.limit:,.0f}; "
+            "narrow the question (--require, --max-rings, --max-bond-order) or raise the limit with --limit N"
         )
     stream = isomer_smiles(
         formula,
@@ -403,7 +407,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     for label, n in removed.items():
         err.write(f"removed by {label}: {n}\n")
     for name in selection.pushed():
-        err.write(f"require {name}: also applied to labelled skeletons during generation (not counted)\n")
+        err.write(f"require {name}: also applied during generation (ring bound, skeleton conditions; not counted)\n")
     if args.count:
         out.write(f"{count}\n")
     return 0

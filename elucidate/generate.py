@@ -34,6 +34,7 @@ from typing import Any
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 from .formula import Formula
+from .groups import default_groups, min_pi_bonds
 from .selection import CompiledSelection, Selection
 from .skeletons import Partial, automorphisms, children, frontier, grow
 
@@ -97,8 +98,18 @@ TASK_DEPTH = 6
 
 
 def _plans(
-    formula: Formula, table: ElementTable, *, max_rings: int | None, max_bond_order: int, lowest_valence: bool
+    formula: Formula,
+    table: ElementTable,
+    *,
+    max_rings: int | None,
+    max_bond_order: int,
+    lowest_valence: bool,
+    required: tuple[str, ...] = (),
 ) -> list[_Plan]:
+    """One plan per valence split. Each plan's ring bound is lowered by the π bonds (bond order
+    − 1 summed) every wanted molecule must have — one oxo bond per higher-valence atom, and
+    those the ``required`` groups imply (:func:`min_pi_bonds`): rings = bond sum − (n − 1) −
+    π bonds, and a ring bound is hereditary, so skeleton generation prunes on it exactly."""
     if max_bond_order not in (1, 2, 3):
         raise ElucidateError(f"max_bond_order must be 1, 2 or 3, got {max_bond_order}")
     hydrogens = formula.get("H")
@@ -109,7 +120,8 @@ def _plans(
         if n == 0 or (total_valence - hydrogens) % 2:
             continue
         bond_sum = (total_valence - hydrogens) // 2
-        rings_max = bond_sum - (n - 1)
+        oxo = sum(1 for atom in heavy if atom in OXO_STATES)
+        rings_max = bond_sum - (n - 1) - min_pi_bonds(required, default_groups(), oxo=oxo)
         if rings_max < 0:
             continue
         if max_rings is not None:
@@ -174,13 +186,17 @@ def _on_skeleton(
     max_extra: int,
     prefilter: tuple[Any, ...] = (),
 ) -> Iterator[Structure]:
-    """Structures on one skeleton. ``prefilter``: patterns every labelled skeleton must match
-    (necessary conditions of required groups, written for skeletons; see groups.yaml)."""
+    """Structures on one skeleton. ``prefilter``: (shape, labelled, kekule) patterns that the
+    bare skeleton, the labelled skeleton and the labelled multigraph must match (necessary
+    conditions of required groups; see groups.yaml ``skeleton`` and ``kekule``)."""
     valence = [v for _, v in labels]
     special = [label in OXO_STATES for label in labels]
     m = len(edges)
     extra_total = bond_sum - m
     if extra_total < 0 or extra_total > max_extra * m:
+        return
+    test = _SkeletonTest(prefilter, labels) if prefilter else None
+    if test is not None and not test.bare_ok(n, edges):
         return
     degree = [0] * n
     for a, b in edges:
@@ -218,7 +234,7 @@ def _on_skeleton(
                     stabilizer.append(einv)
             if not canonical:
                 continue
-        if prefilter and not _labelled_skeleton_matches(n, edges, colouring, labels, prefilter):
+        if test is not None and not test.labelled_ok(colouring):
             continue
         for orders in _multiplicities(edges, capacity, extra_total, max_extra):
             if stabilizer and any(tuple(orders[e] for e in einv) < orders for einv in stabilizer):
@@ -228,6 +244,8 @@ def _on_skeleton(
                 used[a] += o
                 used[b] += o
             if any(special[c] for c in colouring) and not _oxo_ok(n, edges, orders, colouring, labels, degree, used):
+                continue
+            if test is not None and test.kekule and not test.kekule_ok(orders):
                 continue
             if seen is not None:
                 key = _certificate(n, edges, colouring, orders)
@@ -271,18 +289,52 @@ def _oxo_ok(n, edges, orders, colouring, labels, degree, used) -> bool:  # type:
     return True
 
 
-def _labelled_skeleton_matches(n, edges, colouring, labels, patterns) -> bool:  # type: ignore[no-untyped-def]
-    from ._rdkit import Chem
+_BOND_TYPES: dict[int, Any] = {}
 
-    mol = Chem.RWMol()
-    for i in range(n):
-        atom = Chem.Atom(labels[colouring[i]][0])
-        atom.SetNoImplicit(True)
-        mol.AddAtom(atom)
-    for a, b in edges:
-        mol.AddBond(a, b, Chem.BondType.SINGLE)
-    mol.UpdatePropertyCache(strict=False)
-    return all(mol.HasSubstructMatch(p) for p in patterns)
+
+class _SkeletonTest:
+    """Necessary conditions of required groups on a skeleton (``skeleton`` in groups.yaml): the
+    bare-graph form once per skeleton, the labelled form once per element labelling, on one
+    RDKit molecule per skeleton whose atomic numbers are rewritten."""
+
+    def __init__(self, patterns: Sequence[tuple[Any, Any, Any]], labels: Sequence[tuple[str, int]]) -> None:
+        from ._rdkit import Chem
+
+        self.patterns = patterns
+        self.kekule = any(kekule is not None for _, _, kekule in patterns)
+        if self.kekule and not _BOND_TYPES:
+            _BOND_TYPES.update({1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE})
+        table = Chem.GetPeriodicTable()
+        self.numbers = [table.GetAtomicNumber(sym) for sym, _ in labels]
+        self.mol: Any = None
+
+    def bare_ok(self, n: int, edges: Sequence[tuple[int, int]]) -> bool:
+        from ._rdkit import Chem
+
+        mol = Chem.RWMol()
+        for _ in range(n):
+            atom = Chem.Atom(6)
+            atom.SetNoImplicit(True)
+            mol.AddAtom(atom)
+        for a, b in edges:
+            mol.AddBond(a, b, Chem.BondType.SINGLE)
+        mol.UpdatePropertyCache(strict=False)
+        self.mol = mol
+        return all(mol.HasSubstructMatch(shape) for shape, _, _ in self.patterns)
+
+    def labelled_ok(self, colouring: Sequence[int]) -> bool:
+        mol = self.mol
+        for i, c in enumerate(colouring):
+            mol.GetAtomWithIdx(i).SetAtomicNum(self.numbers[c])
+        return all(mol.HasSubstructMatch(labelled) for _, labelled, _ in self.patterns)
+
+    def kekule_ok(self, orders: Sequence[int]) -> bool:
+        """The labelled skeleton with these bond orders (Kekulé form, before aromaticity) matches
+        every ``kekule`` condition; call after :meth:`labelled_ok` for the same labelling."""
+        mol = self.mol
+        for i, o in enumerate(orders):
+            mol.GetBondWithIdx(i).SetBondType(_BOND_TYPES[o])
+        return all(mol.HasSubstructMatch(kekule) for _, _, kekule in self.patterns if kekule is not None)
 
 
 def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> Iterator[tuple[int, ...]]:
@@ -486,7 +538,10 @@ def isomer_smiles(
     if workers < 1:
         raise ElucidateError(f"workers must be 1 or more, got {workers}")
     t = table or default_elements()
-    plans = _plans(formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence)
+    required = selection.require if selection is not None else ()
+    plans = _plans(
+        formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence, required=required
+    )
     compiled = _compiled_selection(selection)
     counts: dict[str, int] = removed if removed is not None else {}
     if compiled is not None:
@@ -514,6 +569,7 @@ def estimate_structures(
     max_rings: int | None = None,
     max_bond_order: int = 3,
     lowest_valence: bool = False,
+    selection: Selection | None = None,
     probes: int = 32,
     seed: int = 0,
 ) -> float:
@@ -523,12 +579,17 @@ def estimate_structures(
     (1975): walk from the root of the generation tree to a leaf choosing a child uniformly at
     random; the product of the branching factors met on the way, times the number of structures
     on the skeleton reached, is an unbiased estimate. The mean over ``probes`` walks (a fixed
-    seed, so the same formula always gets the same estimate) is returned.
+    seed, so the same formula always gets the same estimate) is returned. With ``selection``,
+    the space estimated is the one generation will walk (the ring bound its required groups
+    imply), before any structure is tested.
     """
     import random
 
     t = table or default_elements()
-    plans = _plans(formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence)
+    required = selection.require if selection is not None else ()
+    plans = _plans(
+        formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence, required=required
+    )
     rng = random.Random(seed)
     total = 0.0
     for plan in plans:

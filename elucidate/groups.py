@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import difflib
 import re
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -13,11 +13,15 @@ from typing import Any
 from .errors import ElucidateError
 from .patterns import compiled_smarts
 from .tables import table_path
-from .yamlnodes import as_str, mapping, read_yaml_file
+from .yamlnodes import as_choice, as_int, as_str, mapping, read_yaml_file
 
-__all__ = ["Group", "GroupTable", "load_groups", "default_groups"]
+__all__ = ["Group", "GroupTable", "load_groups", "default_groups", "min_pi_bonds", "PI_CLASSES"]
 
 _NAME = re.compile(r"^[a-z][a-z0-9_]*$")
+_ELEMENT = re.compile(r"#\d+")
+
+#: classes of π bonds (see groups.yaml and :func:`min_pi_bonds`)
+PI_CLASSES = ("aromatic", "aliphatic", "carbon", "hetero")
 
 
 @dataclass(frozen=True)
@@ -27,6 +31,9 @@ class Group:
     definition: str
     source: str
     skeleton: str | None = None  # necessary condition on the labelled skeleton (see groups.yaml)
+    pi_bonds: tuple[int, str] | None = None  # (at least, class): π bonds every match implies
+    kekule: str | None = None  # necessary condition on the labelled multigraph (see groups.yaml)
+
 
     @property
     def pattern(self) -> Any:
@@ -36,6 +43,20 @@ class Group:
     @property
     def skeleton_pattern(self) -> Any | None:
         return compiled_smarts(self.skeleton) if self.skeleton is not None else None
+
+    @property
+    def kekule_pattern(self) -> Any | None:
+        return compiled_smarts(self.kekule) if self.kekule is not None else None
+
+    @property
+    def shape(self) -> str | None:
+        """The skeleton condition with its element primitives (``#n``) dropped: a weaker condition
+        on the bare graph, tested once per skeleton before any element labels are placed."""
+        return _ELEMENT.sub("*", self.skeleton) if self.skeleton is not None else None
+
+    @property
+    def shape_pattern(self) -> Any | None:
+        return compiled_smarts(self.shape) if self.shape is not None else None
 
 
 @dataclass(frozen=True, eq=False)
@@ -68,8 +89,21 @@ class GroupTable:
                 raise ElucidateError(exc.message, key=f"groups.{name}.smarts") from exc
             try:
                 group.skeleton_pattern
+                group.shape_pattern
             except ElucidateError as exc:
                 raise ElucidateError(exc.message, key=f"groups.{name}.skeleton") from exc
+            try:
+                group.kekule_pattern
+            except ElucidateError as exc:
+                raise ElucidateError(exc.message, key=f"groups.{name}.kekule") from exc
+            if group.kekule is not None and group.skeleton is None:
+                raise ElucidateError("a kekule condition needs a skeleton condition too", key=f"groups.{name}.kekule")
+            if group.shape is not None and re.search(r"[A-CE-Za-z]", group.shape):
+                raise ElucidateError(
+                    f"skeleton condition {group.skeleton!r}: use only #n element primitives, D degrees "
+                    "and ~ bonds, so that dropping the elements gives a condition on the bare graph",
+                    key=f"groups.{name}.skeleton",
+                )
 
 
 def load_groups(path: str | Path | None = None) -> GroupTable:
@@ -80,13 +114,17 @@ def load_groups(path: str | Path | None = None) -> GroupTable:
         raise body.error("expected a mapping of group names")
     groups = {}
     for name, loc in body.value.items():
-        entry = mapping(loc, ["smarts", "definition", "source", "skeleton"], required=["smarts", "definition", "source"])
+        entry = mapping(
+            loc, ["smarts", "definition", "source", "skeleton", "kekule", "pi_bonds"], required=["smarts", "definition", "source"]
+        )
         groups[str(name)] = Group(
             name=str(name),
             smarts=as_str(entry["smarts"], what="a SMARTS pattern"),
             definition=as_str(entry["definition"], what="a one-line definition"),
             source=as_str(entry["source"], what="a source"),
             skeleton=as_str(entry["skeleton"], what="a SMARTS pattern") if "skeleton" in entry else None,
+            pi_bonds=_pi_bonds(entry["pi_bonds"]) if "pi_bonds" in entry else None,
+            kekule=as_str(entry["kekule"], what="a SMARTS pattern") if "kekule" in entry else None,
         )
     table = GroupTable(groups, as_str(root["source"]) if "source" in root else "")
     try:
@@ -95,6 +133,30 @@ def load_groups(path: str | Path | None = None) -> GroupTable:
         line = body.value[exc.key.split(".")[1]].line if exc.key else None
         raise exc.in_file(str(file), line) from exc
     return table
+
+
+def _pi_bonds(loc: Any) -> tuple[int, str]:
+    entry = mapping(loc, ["at_least", "among"], required=["at_least", "among"])
+    count = as_int(entry["at_least"], what="a whole number of π bonds", minimum=1)
+    kind = as_choice(entry["among"], PI_CLASSES, what="a class of π bonds:")
+    return count, kind
+
+
+def min_pi_bonds(required: Iterable[str], groups: GroupTable, *, oxo: int = 0) -> int:
+    """A lower bound on the π bonds (bond order − 1 summed over all bonds, in the generator's
+    Kekulé multigraph) of any molecule that has every group in ``required`` and ``oxo``
+    higher-valence atoms (each needs its own double bond to a terminal O or S).
+
+    Classes: ``aromatic`` (a bond with an aromatic carbon end) and ``aliphatic`` (a bond with a
+    carbon end, both ends non-aromatic) are disjoint and make up ``carbon`` (a bond with a carbon
+    end); ``hetero`` (no carbon end, as every oxo bond) is disjoint from all three. So the bound
+    is max(aromatic + aliphatic, carbon) + max(hetero, oxo)."""
+    best = dict.fromkeys(PI_CLASSES, 0)
+    for name in required:
+        bound = groups[name].pi_bonds
+        if bound is not None:
+            best[bound[1]] = max(best[bound[1]], bound[0])
+    return max(best["aromatic"] + best["aliphatic"], best["carbon"]) + max(best["hetero"], oxo)
 
 
 @lru_cache(maxsize=1)

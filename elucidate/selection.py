@@ -35,13 +35,21 @@ class Selection:
         )
 
     def pushed(self, groups: GroupTable | None = None) -> tuple[str, ...]:
-        """Required groups whose skeleton condition is applied during generation."""
+        """Required groups that also prune during generation: by their skeleton and Kekulé
+        conditions, or by the ring bound their π bonds imply (see groups.yaml)."""
         g = groups or default_groups()
-        return tuple(name for name in self.require if g[name].skeleton is not None)
+        return tuple(name for name in self.require if g[name].skeleton is not None or g[name].pi_bonds is not None)
 
-    def skeleton_patterns(self, groups: GroupTable | None = None) -> tuple[Any, ...]:
+    def skeleton_patterns(self, groups: GroupTable | None = None) -> tuple[tuple[Any, Any, Any], ...]:
+        """(shape, labelled, kekule) patterns of the pushed groups: conditions on the bare
+        skeleton, on the skeleton with element labels, and (or None) on the labelled multigraph
+        in its Kekulé form."""
         g = groups or default_groups()
-        return tuple(g[name].skeleton_pattern for name in self.pushed(g))
+        return tuple(
+            (g[name].shape_pattern, g[name].skeleton_pattern, g[name].kekule_pattern)
+            for name in self.pushed(g)
+            if g[name].skeleton is not None
+        )
 
     def compile(self, groups: GroupTable | None = None) -> "CompiledSelection":
         g = groups or default_groups()

@@ -121,3 +121,100 @@ def test_skeleton_condition_is_implied_by_the_group(group):
     assert hits
     for mol in hits:
         assert _labelled_skeleton(mol).HasSubstructMatch(GROUPS[group].skeleton_pattern), Chem.MolToSmiles(mol)
+
+
+# ------------------------------------------------ conditions on the generator's multigraph
+
+
+@functools.lru_cache(maxsize=1)
+def _structure_corpus():
+    """Every multigraph (Kekulé forms apart, all valence states) of formulas that reach each
+    conditioned group — including N(V) and S(IV)/S(VI) states, fused and exocyclic π systems —
+    with its sanitized molecule (atom order kept, so aromaticity flags index the multigraph)."""
+    from elucidate import parse_formula
+    from elucidate.generate import _sanitized, structures
+
+    out = []
+    for formula in ("C7H6O", "C8H8", "C7H8", "C6H4O2", "C4H7NO", "C4H6O2", "C3H5NO", "C4H4O2", "C4H4O3",
+                    "C3H3N", "C3H3ClO", "C2H3NO2", "C3H5NO2", "C2H6O2S", "C3H6OS"):
+        for s in structures(parse_formula(formula)):
+            out.append((s, _sanitized(s, kekule=False)))
+    return tuple(out)
+
+
+def _multigraph(structure):
+    """The labelled skeleton with the multigraph's bond orders, nothing perceived: what the
+    generator tests a `kekule` condition on."""
+    rw = Chem.RWMol()
+    for sym in structure.elements:
+        a = Chem.Atom(sym)
+        a.SetNoImplicit(True)
+        rw.AddAtom(a)
+    types = {1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE}
+    for a, b, o in structure.bonds:
+        rw.AddBond(a, b, types[o])
+    rw.UpdatePropertyCache(strict=False)
+    return rw
+
+
+def _pi_by_class(structure, mol):
+    counts = dict.fromkeys(("aromatic", "aliphatic", "carbon", "hetero"), 0)
+    for a, b, o in structure.bonds:
+        ends = [mol.GetAtomWithIdx(a), mol.GetAtomWithIdx(b)]
+        carbon = [x for x in ends if x.GetAtomicNum() == 6]
+        if not carbon:
+            counts["hetero"] += o - 1
+            continue
+        counts["carbon"] += o - 1
+        if any(x.GetIsAromatic() for x in carbon):
+            counts["aromatic"] += o - 1
+        elif not any(x.GetIsAromatic() for x in ends):
+            counts["aliphatic"] += o - 1
+    return counts
+
+
+KEKULE = [name for name in GROUPS.names if GROUPS[name].kekule is not None]
+PI = [name for name in GROUPS.names if GROUPS[name].pi_bonds is not None]
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("group", KEKULE)
+def test_kekule_condition_is_implied_by_the_group(group):
+    # the condition is tested on the generator's own multigraphs, so what it skips is exactly
+    # what would have failed the group's SMARTS afterwards
+    hits = [(s, m) for s, m in _structure_corpus() if m.HasSubstructMatch(GROUPS[group].pattern)]
+    assert len(hits) >= 3
+    for s, _ in hits:
+        graph = _multigraph(s)
+        assert graph.HasSubstructMatch(GROUPS[group].kekule_pattern), s
+        assert graph.HasSubstructMatch(GROUPS[group].skeleton_pattern), s
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("group", PI)
+def test_pi_bond_bound_is_implied_by_the_group(group):
+    at_least, among = GROUPS[group].pi_bonds
+    hits = [(s, m) for s, m in _structure_corpus() if m.HasSubstructMatch(GROUPS[group].pattern)]
+    assert hits
+    for s, m in hits:
+        assert _pi_by_class(s, m)[among] >= at_least, s
+
+
+@pytest.mark.parametrize(
+    "required,oxo,bound",
+    [
+        ((), 0, 0),
+        ((), 2, 2),  # two N(V) atoms: two oxo bonds
+        (("aromatic_ring", "ketone"), 0, 4),  # disjoint classes add up
+        (("ketone", "ester"), 0, 1),  # one class: the larger bound only (a keto ester may share nothing, but need not)
+        (("aromatic_ring", "carbonyl"), 0, 3),  # `carbon` overlaps `aromatic`
+        (("alkyne", "carbonyl"), 0, 2),
+        (("nitro", "alkene"), 1, 3),  # the nitro group's N=O are its oxo bonds: not counted twice
+        (("sulfone",), 0, 2),
+        (("phenol",), 0, 0),  # no bound declared
+    ],
+)
+def test_min_pi_bonds_combines_classes(required, oxo, bound):
+    from elucidate.groups import min_pi_bonds
+
+    assert min_pi_bonds(required, GROUPS, oxo=oxo) == bound

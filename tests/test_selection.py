@@ -62,6 +62,22 @@ CORPUS = [
     ("C4H6O2", dict(require=("ester",), forbid=("lactone",))),
     ("C4H9NO", dict(require=("amide",))),
     ("C5H8O", dict(require=("aldehyde",), profile="stable")),
+    # ring bounds from the π bonds required groups imply (groups.yaml pi_bonds), with oxo bonds
+    ("C7H8O", dict(require=("aromatic_ring", "ether"))),
+    ("C7H6O", dict(require=("aromatic_ring", "carbonyl"))),
+    ("C8H8", dict(require=("aromatic_ring", "alkene"))),
+    ("C8H8", dict(require=("alkyne",))),
+    ("C5H6O", dict(require=("ketone", "alkene"))),
+    ("C4H4O", dict(require=("alkyne", "carbonyl"))),
+    ("C4H5N", dict(require=("nitrile", "alkene"))),
+    ("C3H5NO", dict(require=("amide", "alkene"))),
+    ("C4H4O3", dict(require=("anhydride",))),
+    ("C3H3ClO", dict(require=("acid_chloride",))),
+    ("C2H3NO2", dict(require=("nitro", "alkene"))),
+    ("C3H5NO2", dict(require=("nitro",))),
+    ("C3H6OS", dict(require=("sulfoxide", "alkene"))),
+    ("C2H6O2S", dict(require=("sulfone",))),
+    ("C4H6N2", dict(require=("imine",))),
 ]
 
 
