@@ -1,0 +1,132 @@
+"""13C signal counts from carbon symmetry classes.
+
+Carbons are equivalent when the molecular graph's symmetry maps one onto the other (RDKit's
+canonical ranking without tie breaking). One refinement a chemist expects: at a C=C whose one
+end carries two identical groups and whose other end carries two different ones (H counts), the
+two identical groups are cis and trans to different neighbours, so they give two signals
+(2-methylbut-2-ene shows two methyl signals on C2). Multiplicities (DEPT-style CH3/CH2/CH/C)
+come from hydrogen counts.
+
+Scoring: fewer observed signals than predicted can be accidental overlap (mild penalty per
+missing signal); more observed signals than the structure can give is a strong penalty, never
+an elimination. The penalties live in ``constraints/scoring.yaml``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter
+from collections.abc import Mapping
+from typing import Any
+
+from ..case import Case
+from .base import Assessment, Subject
+from .weights import ScoringTable, default_scoring
+
+__all__ = ["carbon_classes", "Carbon13"]
+
+_KINDS = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
+
+
+def _ranks(mol: Any) -> list[int]:
+    from .._rdkit import Chem
+
+    return list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+
+
+def _split_geminal(mol: Any) -> Any:
+    """A copy in which one of each pair of identical geminal groups on a C=C whose other end is
+    unsymmetric carries an isotope label, so ranking tells the pair apart."""
+    from .._rdkit import Chem
+
+    work = Chem.RWMol(mol)
+    changed = True
+    done: set[int] = set()
+    while changed:
+        changed = False
+        ranks = _ranks(work)
+        for bond in work.GetBonds():
+            if bond.GetBondType() != Chem.BondType.DOUBLE or bond.GetIsAromatic():
+                continue
+            a, b = bond.GetBeginAtom(), bond.GetEndAtom()
+            if a.GetAtomicNum() != 6 or b.GetAtomicNum() != 6:
+                continue
+            for x, y in ((a, b), (b, a)):
+                subs = [n for n in x.GetNeighbors() if n.GetIdx() != y.GetIdx()]
+                if len(subs) != 2 or x.GetTotalNumHs() or ranks[subs[0].GetIdx()] != ranks[subs[1].GetIdx()]:
+                    continue
+                others = [ranks[n.GetIdx()] for n in y.GetNeighbors() if n.GetIdx() != x.GetIdx()]
+                others += [-1] * y.GetTotalNumHs()
+                if len(others) == 2 and others[0] != others[1]:
+                    first = min(subs[0].GetIdx(), subs[1].GetIdx())
+                    if first not in done:
+                        done.add(first)
+                        work.GetAtomWithIdx(first).SetIsotope(work.GetAtomWithIdx(first).GetIsotope() + 1000)
+                        changed = True
+                        break
+            if changed:
+                break
+    return work
+
+
+def carbon_classes(mol: Any) -> list[tuple[int, str, int]]:
+    """One entry per expected 13C signal: (first carbon index, multiplicity, carbons in it)."""
+    work = _split_geminal(mol)
+    ranks = _ranks(work)
+    classes: dict[int, list[int]] = {}
+    for atom in work.GetAtoms():
+        if atom.GetAtomicNum() == 6:
+            classes.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
+    out = []
+    for members in classes.values():
+        h = mol.GetAtomWithIdx(members[0]).GetTotalNumHs()
+        out.append((min(members), _KINDS.get(h, "CH3"), len(members)))
+    return sorted(out)
+
+
+class Carbon13:
+    name = "c13"
+
+    def __init__(self, scoring: ScoringTable | None = None) -> None:
+        self.scoring = scoring or default_scoring()
+
+    def applies(self, case: Case) -> bool:
+        return case.nmr is not None and (case.nmr.c13_signals is not None or case.nmr.c13_multiplicity is not None)
+
+    def hard_constraints(self, case: Case) -> Mapping[str, tuple[str, ...]]:
+        return {}
+
+    def assess(self, subject: Subject, case: Case) -> Assessment:
+        assert case.nmr is not None
+        classes = carbon_classes(subject.mol)
+        predicted = len(classes)
+        kinds = Counter(kind for _, kind, _ in classes)
+        p = self.scoring.carbon13
+        log = 0.0
+        reasons = []
+        observed = case.nmr.c13_signals
+        if observed is not None:
+            if observed < predicted:
+                log -= p["missing_signal"] * (predicted - observed)
+                reasons.append(f"13C: {observed} signals observed, {predicted} expected (overlap possible)")
+            elif observed > predicted:
+                log -= p["extra_signal"] * (observed - predicted)
+                reasons.append(f"13C: {observed} signals observed but at most {predicted} possible")
+            else:
+                reasons.append(f"13C: {predicted} signals expected, as observed")
+        if case.nmr.c13_multiplicity is not None:
+            for kind in _KINDS.values():
+                obs = case.nmr.c13_multiplicity.get(kind, 0)
+                pred = kinds.get(kind, 0)
+                if obs < pred:
+                    log -= p["missing_multiplicity"] * (pred - obs)
+                elif obs > pred:
+                    log -= p["extra_multiplicity"] * (obs - pred)
+            mult = " ".join(f"{k} {kinds.get(k, 0)}" for k in _KINDS.values())
+            reasons.append(f"13C multiplicities expected: {mult}")
+        detail = {
+            "predicted_signals": predicted,
+            "observed_signals": observed,
+            "predicted_multiplicity": {k: kinds.get(k, 0) for k in _KINDS.values()},
+        }
+        return Assessment(self.name, math.exp(log), tuple(reasons), detail)
