@@ -295,6 +295,8 @@ def _infrared(loc: Located) -> Infrared:
 
         vocabulary = default_groups()
         for key, names in (("require", require), ("forbid", forbid)):
+            if key not in body:
+                continue
             for item, name in zip(as_list(body[key]), names):
                 if name not in vocabulary:
                     close = difflib.get_close_matches(name, list(vocabulary.names), n=1)

@@ -1,4 +1,4 @@
-"""Command line: ``elucidate check``, ``elucidate formulas`` and ``elucidate isomers``.
+"""Command line: ``elucidate check``, ``formulas``, ``isomers`` and ``solve``.
 
 Thin layer over the pure core: it parses arguments, reads case files, calls the engine and prints.
 Exit codes: 0 success, 1 invalid input (a case file or value; the message says where), 2 usage.
@@ -127,6 +127,37 @@ def build_parser() -> argparse.ArgumentParser:
         help=f"refuse when the estimated number of structures exceeds N (default {DEFAULT_LIMIT:,.0f})",
     )
     g.add_argument("--sort", action="store_true", help="print the SMILES sorted (the same set and order for any run)")
+
+    from .solve import DEFAULT_LIMIT as SOLVE_LIMIT
+
+    v = sub.add_parser(
+        "solve",
+        help="rank candidate structures for a case on all its evidence",
+        description=(
+            "Derive the formulas, generate every constitutional isomer that passes the declared hard\n"
+            "constraints (infrared.require/forbid, structure.require_smarts/forbid_smarts) and the\n"
+            "'stable' plausibility profile, score each on the soft evidence (isotope fit, IR bands,\n"
+            "UV lambda max, EI fragments, 13C counts; weights in constraints/scoring.yaml) and rank\n"
+            "them. Soft evidence never eliminates. With molecular_ion: unknown, M is hypothesized\n"
+            "from the highest peak and the usual first losses.\n"
+            "The shortlist is a hypothesis: confirm it against a reference standard under your lab's\n"
+            "own procedures; unknowns may be toxic or reactive."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    v.add_argument("case", metavar="CASE", help="case file")
+    v.add_argument("--top", type=int, default=10, metavar="N", help="shortlist length (default 10; 0 = all)")
+    v.add_argument("--details", type=int, default=3, metavar="N", help="explain the top N in full (default 3)")
+    v.add_argument("--json", action="store_true", help="print a JSON object instead of text")
+    v.add_argument("--formulas", type=int, default=5, metavar="N", help="formulas kept per molecular ion (default 5)")
+    v.add_argument("--workers", type=int, default=1, metavar="N", help="worker processes for generation (default 1)")
+    v.add_argument(
+        "--limit",
+        type=float,
+        default=SOLVE_LIMIT,
+        metavar="N",
+        help=f"skip a formula whose estimated structure space exceeds N (default {SOLVE_LIMIT:,.0f}); say so",
+    )
     return parser
 
 
@@ -413,6 +444,25 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     return 0
 
 
+def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
+    from .solve import solve
+    from .solve_report import solve_json, solve_text
+
+    for option in ("top", "details", "formulas"):
+        if getattr(args, option) < 0:
+            raise ElucidateError(f"--{option} must be 0 or more")
+    if args.workers < 1:
+        raise ElucidateError("--workers must be 1 or more")
+    case = load_case(args.case)
+    solution = solve(case, limit=int(args.limit), max_formulas=args.formulas or 5, workers=args.workers)
+    if args.json:
+        json.dump(solve_json(solution, top=args.top), out, indent=1)
+        out.write("\n")
+    else:
+        out.write(solve_text(solution, top=args.top, details=args.details))
+    return 0
+
+
 def main(argv: Sequence[str] | None = None, *, stdout: TextIO | None = None, stderr: TextIO | None = None) -> int:
     """Run the command line; returns the exit code (never raises for bad input)."""
     out = stdout or sys.stdout
@@ -445,6 +495,8 @@ def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: Te
             return _cmd_formulas(args, out)
         if args.command == "isomers":
             return _cmd_isomers(args, out, err)
+        if args.command == "solve":
+            return _cmd_solve(args, out)
     except ElucidateError as exc:
         err.write(f"error: {exc}\n")
         return 1

@@ -1,0 +1,450 @@
+"""UV-Vis: predicted lambda max per candidate from the published empirical rules.
+
+Chromophores perceived on the candidate (non-aromatic double bonds joined by single bonds form
+a conjugated system):
+* a system with a C=O conjugated to C=C: Woodward's rules for alpha,beta-unsaturated carbonyls
+  (parent by the carbonyl type and ring size, increments by position alpha, beta, gamma, delta+,
+  further conjugated C=C, homoannular diene component, exocyclic C=C, solvent correction);
+* a system of two to four C=C: the Woodward-Fieser diene rules (acyclic, heteroannular,
+  homoannular base); five or more: the Fieser-Kuhn rule;
+* an aromatic carbonyl ArCOG: Scott's rules (base by G, ring substituents ortho/meta/para);
+* otherwise a simple benzenoid chromophore from a small table;
+* none of these: no maximum above ``no_maximum_below_nm`` (210 nm).
+The longest predicted wavelength is the candidate's lambda max. Increments: ``constraints/uv.yaml``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from functools import lru_cache
+from pathlib import Path
+from typing import Any
+
+from ..case import Case
+from ..errors import ElucidateError
+from ..patterns import compiled_smarts
+from ..tables import table_path
+from ..yamlnodes import Located, as_list, as_number, as_str, mapping, read_yaml_file
+from .base import Assessment, Subject
+
+__all__ = ["UVTable", "UVPrediction", "load_uv", "default_uv", "predict_lambda_max", "UvVis"]
+
+_POSITIONS = ("alpha", "beta", "gamma", "delta")
+
+
+@dataclass(frozen=True, eq=False)
+class UVTable:
+    raw: Mapping[str, Any]
+    source: str = ""
+
+    @property
+    def tolerance(self) -> float:
+        return float(self.raw["tolerance_nm"])
+
+    def validate(self) -> None:
+        for entry in self.raw["benzenoid"]:
+            compiled_smarts(entry["smarts"])
+
+
+def _plain(loc: Located) -> Any:
+    """A located YAML tree as plain values (numbers checked), for a table read once."""
+    value = loc.value
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, list):
+        return [_plain(v) for v in value]
+    return value
+
+
+def load_uv(path: str | Path | None = None) -> UVTable:
+    file = Path(path) if path is not None else table_path("uv.yaml")
+    keys = ["source", "tolerance_nm", "benzenoid_tolerance_nm", "no_maximum_below_nm", "diene", "polyene", "enone",
+            "aryl_carbonyl", "benzenoid"]
+    root = mapping(read_yaml_file(file), keys, required=keys[1:])
+    for key in ("tolerance_nm", "benzenoid_tolerance_nm", "no_maximum_below_nm"):
+        as_number(root[key], minimum=0, exclusive_minimum=True, what="a positive number of nm")
+    for item in as_list(root["benzenoid"], what="a list of {smarts, lambda_max, what}"):
+        entry = mapping(item, ["smarts", "lambda_max", "what"], required=["smarts", "lambda_max", "what"])
+        as_number(entry["lambda_max"], minimum=190, maximum=800, what="a wavelength 190-800 nm")
+        as_str(entry["smarts"], what="a SMARTS pattern")
+    raw = {k: _plain(v) for k, v in root.items()}
+    table = UVTable(raw, str(raw.get("source", "")))
+    try:
+        table.validate()
+    except (ElucidateError, KeyError, TypeError) as exc:
+        raise ElucidateError(f"uv table: {exc}", file=str(file)) from exc
+    return table
+
+
+@lru_cache(maxsize=1)
+def default_uv() -> UVTable:
+    return load_uv()
+
+
+@dataclass(frozen=True)
+class UVPrediction:
+    lambda_max: float | None  # nm; None = no maximum above the table's floor (210 nm)
+    rule: str
+    steps: tuple[str, ...] = field(default=())
+
+
+# ------------------------------------------------------------------ perception helpers
+
+
+def _substituent(atom: Any, via: Any) -> str | None:
+    """Classify a substituent atom (bonded to a chromophore atom ``via``) for the increments."""
+    z = atom.GetAtomicNum()
+    if z == 6:
+        return "alkyl"
+    if z == 8:
+        if atom.GetTotalNumHs():
+            return "OH"
+        others = [n for n in atom.GetNeighbors() if n.GetIdx() != via.GetIdx()]
+        if any(_is_acyl(n) for n in others):
+            return "OC(=O)R"
+        return "OR"
+    if z == 16:
+        return "SR"
+    if z == 17:
+        return "Cl"
+    if z == 35:
+        return "Br"
+    if z == 7:
+        return "NR2"
+    return None
+
+
+def _is_acyl(atom: Any) -> bool:
+    return atom.GetAtomicNum() == 6 and any(
+        b.GetBondTypeAsDouble() == 2 and b.GetOtherAtom(atom).GetAtomicNum() == 8 for b in atom.GetBonds()
+    )
+
+
+def _exocyclic(mol: Any, bonds: Sequence[Any]) -> tuple[int, set[int]]:
+    """(count of exocyclic C=C, rings they are exocyclic to): a C=C is exocyclic to a ring that
+    holds one of its atoms but not the bond."""
+    rings = mol.GetRingInfo()
+    count, which = 0, set()
+    for bond in bonds:
+        a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+        for i, ring in enumerate(rings.AtomRings()):
+            if (a in ring) != (b in ring):
+                count += 1
+                which.add(i)
+    return count, which
+
+
+def _endocyclic_rings(mol: Any, bonds: Sequence[Any]) -> set[int]:
+    rings = mol.GetRingInfo().BondRings()
+    return {i for i, ring in enumerate(rings) for bond in bonds if bond.GetIdx() in ring}
+
+
+def _homoannular(mol: Any, bonds: Sequence[Any]) -> bool:
+    """Two of the C=C lie in one ring (a cisoid diene in that ring)."""
+    for ring in mol.GetRingInfo().BondRings():
+        if sum(1 for b in bonds if b.GetIdx() in ring) >= 2:
+            return True
+    return False
+
+
+def _double_bonds(mol: Any) -> list[Any]:
+    out = []
+    for bond in mol.GetBonds():
+        if bond.GetBondType().name != "DOUBLE" or bond.GetIsAromatic():
+            continue
+        a, b = bond.GetBeginAtom(), bond.GetEndAtom()
+        if a.GetIsAromatic() or b.GetIsAromatic():
+            continue
+        if {a.GetAtomicNum(), b.GetAtomicNum()} in ({6}, {6, 8}):
+            out.append(bond)
+    return out
+
+
+def _systems(mol: Any) -> list[list[Any]]:
+    """Conjugated systems: C=C and C=O bonds joined through single bonds."""
+    bonds = _double_bonds(mol)
+    atom_of = {}
+    for i, bond in enumerate(bonds):
+        atom_of.setdefault(bond.GetBeginAtomIdx(), []).append(i)
+        atom_of.setdefault(bond.GetEndAtomIdx(), []).append(i)
+    parent = list(range(len(bonds)))
+
+    def find(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for bond in mol.GetBonds():
+        if bond.GetBondType().name != "SINGLE":
+            continue
+        for i in atom_of.get(bond.GetBeginAtomIdx(), []):
+            for j in atom_of.get(bond.GetEndAtomIdx(), []):
+                parent[find(i)] = find(j)
+    groups: dict[int, list[Any]] = {}
+    for i, bond in enumerate(bonds):
+        groups.setdefault(find(i), []).append(bond)
+    return [g for g in groups.values() if len(g) >= 2]
+
+
+# ------------------------------------------------------------------ the rules
+
+
+def _enone(mol: Any, system: list[Any], table: UVTable, solvent: str) -> UVPrediction | None:
+    rules = table.raw["enone"]
+    carbonyls = [b for b in system if 8 in (b.GetBeginAtom().GetAtomicNum(), b.GetEndAtom().GetAtomicNum())]
+    if not carbonyls:
+        return None
+    co = carbonyls[0]
+    c1 = co.GetBeginAtom() if co.GetBeginAtom().GetAtomicNum() == 6 else co.GetEndAtom()
+    o = co.GetOtherAtom(c1)
+    alkenes = [b for b in system if b not in carbonyls]
+    # walk the chain from the carbonyl carbon: alpha=beta, then gamma=delta, ...
+    chain: list[Any] = [c1]
+    used: list[Any] = []
+    current = c1
+    while True:
+        step = None
+        for nb in current.GetNeighbors():
+            bond = mol.GetBondBetweenAtoms(current.GetIdx(), nb.GetIdx())
+            if bond.GetBondType().name != "SINGLE":
+                continue
+            for db in alkenes:
+                if db in used:
+                    continue
+                if nb.GetIdx() in (db.GetBeginAtomIdx(), db.GetEndAtomIdx()):
+                    step = (nb, db.GetOtherAtom(nb), db)
+                    break
+            if step:
+                break
+        if step is None:
+            break
+        near, far, db = step
+        chain += [near, far]
+        used.append(db)
+        current = far
+    if not used:
+        return None
+    in_chain = {a.GetIdx() for a in chain} | {o.GetIdx()}
+    others = [n for n in c1.GetNeighbors() if n.GetIdx() not in in_chain]
+    ring5 = any(
+        len(r) == 5 and c1.GetIdx() in r and chain[1].GetIdx() in r and chain[2].GetIdx() in r
+        for r in mol.GetRingInfo().AtomRings()
+    )
+    if c1.GetTotalNumHs():
+        kind = "aldehyde"
+    elif any(n.GetAtomicNum() in (7, 8) for n in others):
+        kind = "acid_or_ester"
+    else:
+        kind = "ketone_5_ring" if ring5 else "ketone"
+    value = float(rules["base"][kind])
+    steps = [f"{kind.replace('_', ' ')} parent {value:g}"]
+    extra = len(used) - 1
+    if extra:
+        value += extra * rules["extra_double_bond"]
+        steps.append(f"{extra} extending C=C +{extra * rules['extra_double_bond']}")
+    if _homoannular(mol, used):
+        value += rules["homoannular_diene"]
+        steps.append(f"homoannular diene +{rules['homoannular_diene']}")
+    exo, _ = _exocyclic(mol, used)
+    if exo:
+        value += exo * rules["exocyclic"]
+        steps.append(f"{exo} exocyclic C=C +{exo * rules['exocyclic']}")
+    for k, atom in enumerate(chain[1:]):
+        position = _POSITIONS[min(k, 3)]
+        for nb in atom.GetNeighbors():
+            if nb.GetIdx() in in_chain:
+                continue
+            kind_s = _substituent(nb, atom)
+            if kind_s == "alkyl":
+                inc = rules["alkyl"][position]
+            elif kind_s is not None:
+                inc = rules["substituents"].get(kind_s, {}).get(position, 0)
+            else:
+                inc = 0
+            if inc:
+                value += inc
+                steps.append(f"{position} {kind_s} +{inc}")
+    correction = rules["solvent"].get(solvent, 0)
+    if correction:
+        value -= correction
+        steps.append(f"solvent {solvent} {-correction:+g}")
+    return UVPrediction(value, "Woodward (α,β-unsaturated carbonyl)", tuple(steps))
+
+
+def _diene(mol: Any, system: list[Any], table: UVTable) -> UVPrediction | None:
+    if any(8 in (b.GetBeginAtom().GetAtomicNum(), b.GetEndAtom().GetAtomicNum()) for b in system):
+        return None
+    n = len(system)
+    atoms = {i for b in system for i in (b.GetBeginAtomIdx(), b.GetEndAtomIdx())}
+    alkyl, others = 0, []
+    for idx in sorted(atoms):
+        atom = mol.GetAtomWithIdx(idx)
+        for nb in atom.GetNeighbors():
+            if nb.GetIdx() in atoms:
+                continue
+            kind = _substituent(nb, atom)
+            if kind == "alkyl":
+                alkyl += 1
+            elif kind is not None:
+                others.append(kind)
+    exo, exo_rings = _exocyclic(mol, system)
+    if n > 4:
+        rules = table.raw["polyene"]
+        endo = _endocyclic_rings(mol, system)
+        value = (
+            rules["constant"] + rules["per_alkyl"] * alkyl + n * (rules["n_linear"] + rules["n_square"] * n)
+            + rules["per_endocyclic_ring"] * len(endo) + rules["per_exocyclic_ring"] * len(exo_rings)
+        )
+        steps = (f"Fieser-Kuhn: n={n}, M={alkyl}, endocyclic rings {len(endo)}, exocyclic rings {len(exo_rings)}",)
+        return UVPrediction(round(value, 1), "Fieser-Kuhn (polyene)", steps)
+    rules = table.raw["diene"]
+    if _homoannular(mol, system):
+        base = "homoannular"
+    elif _endocyclic_rings(mol, system) or exo:
+        base = "heteroannular"
+    else:
+        base = "acyclic"
+    value = float(rules["base"][base])
+    steps = [f"{base} diene base {value:g}"]
+    if n > 2:
+        value += (n - 2) * rules["extra_double_bond"]
+        steps.append(f"{n - 2} extending C=C +{(n - 2) * rules['extra_double_bond']}")
+    if alkyl:
+        value += alkyl * rules["alkyl"]
+        steps.append(f"{alkyl} alkyl/ring residues +{alkyl * rules['alkyl']}")
+    if exo:
+        value += exo * rules["exocyclic"]
+        steps.append(f"{exo} exocyclic C=C +{exo * rules['exocyclic']}")
+    for kind in others:
+        inc = rules["substituents"].get(kind, 0)
+        if inc:
+            value += inc
+            steps.append(f"{kind} +{inc}")
+    return UVPrediction(value, "Woodward-Fieser (diene)", tuple(steps))
+
+
+_ARYL_CO = "[c;r6]-[CX3](=[OX1])"
+
+
+def _scott(mol: Any, table: UVTable) -> list[UVPrediction]:
+    rules = table.raw["aryl_carbonyl"]
+    out = []
+    rings = [r for r in mol.GetRingInfo().AtomRings() if len(r) == 6]
+    for ring_atom, carbon, _ in mol.GetSubstructMatches(compiled_smarts(_ARYL_CO)):
+        c = mol.GetAtomWithIdx(carbon)
+        g = [
+            n
+            for n in c.GetNeighbors()
+            if n.GetIdx() != ring_atom and mol.GetBondBetweenAtoms(carbon, n.GetIdx()).GetBondType().name == "SINGLE"
+        ]
+        if c.GetTotalNumHs():
+            kind = "H"
+        elif any(n.GetAtomicNum() in (7, 8) for n in g):
+            kind = "OR"
+        else:
+            kind = "alkyl"
+        value = float(rules["base"][kind])
+        steps = [f"ArCO{'-' + kind if kind != 'OR' else 'OR/OH'} base {value:g}"]
+        ring = next((r for r in rings if ring_atom in r and all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in r)), None)
+        if ring is not None:
+            k = ring.index(ring_atom)
+            for step in range(1, 6):
+                pos = min(step, 6 - step)  # 1 ortho, 2 meta, 3 para
+                atom = mol.GetAtomWithIdx(ring[(k + step) % 6])
+                for nb in atom.GetNeighbors():
+                    if nb.GetIdx() in ring:
+                        continue
+                    kind_r = _ring_substituent(nb, atom)
+                    if kind_r is None:
+                        continue
+                    inc = rules["ring"][kind_r][pos - 1]
+                    if inc:
+                        value += inc
+                        steps.append(f"{('ortho', 'meta', 'para')[pos - 1]} {kind_r} +{inc}")
+        out.append(UVPrediction(value, "Scott (aromatic carbonyl)", tuple(steps)))
+    return out
+
+
+def _ring_substituent(atom: Any, via: Any) -> str | None:
+    z = atom.GetAtomicNum()
+    if z == 6:
+        return None if _is_acyl(atom) else "alkyl"
+    if z == 8:
+        return "OR"
+    if z == 17:
+        return "Cl"
+    if z == 35:
+        return "Br"
+    if z == 7:
+        others = [n for n in atom.GetNeighbors() if n.GetIdx() != via.GetIdx()]
+        if any(_is_acyl(n) for n in others):
+            return "NHC(=O)R"
+        h = atom.GetTotalNumHs()
+        return "NH2" if h == 2 else "NHR" if h == 1 else "NR2"
+    return None
+
+
+def predict_lambda_max(mol: Any, *, table: UVTable | None = None, solvent: str = "ethanol") -> UVPrediction:
+    """The predicted lambda max of ``mol`` (aromaticity perceived) with the rule and steps used."""
+    t = table or default_uv()
+    predictions: list[UVPrediction] = []
+    for system in _systems(mol):
+        p = _enone(mol, system, t, solvent) or _diene(mol, system, t)
+        if p is not None:
+            predictions.append(p)
+    predictions += _scott(mol, t)
+    if not predictions:
+        for entry in t.raw["benzenoid"]:
+            if mol.HasSubstructMatch(compiled_smarts(entry["smarts"])):
+                predictions.append(UVPrediction(float(entry["lambda_max"]), f"benzenoid table ({entry['what']})"))
+                break
+    if not predictions:
+        floor = t.raw["no_maximum_below_nm"]
+        return UVPrediction(None, f"no conjugated chromophore: no maximum above {floor} nm")
+    return max(predictions, key=lambda p: (p.lambda_max or 0.0, p.rule))
+
+
+class UvVis:
+    name = "uv_vis"
+
+    def __init__(self, table: UVTable | None = None) -> None:
+        self.table = table or default_uv()
+
+    def applies(self, case: Case) -> bool:
+        return case.uv_vis is not None
+
+    def hard_constraints(self, case: Case) -> Mapping[str, tuple[str, ...]]:
+        return {}
+
+    def assess(self, subject: Subject, case: Case) -> Assessment:
+        assert case.uv_vis is not None
+        p = predict_lambda_max(subject.mol, table=self.table, solvent=case.uv_vis.solvent)
+        observed = case.uv_vis.lambda_max
+        floor = float(self.table.raw["no_maximum_below_nm"])
+        tol = self.table.tolerance if not p.rule.startswith("benzenoid") else float(self.table.raw["benzenoid_tolerance_nm"])
+        predicted = p.lambda_max
+        if observed is None and predicted is None:
+            score, text = 1.0, f"UV: no maximum above {floor:g} nm, as observed"
+        elif observed is None:
+            assert predicted is not None
+            gap = predicted - floor
+            score = math.exp(-0.5 * max(0.0, gap - tol) ** 2 / (2 * tol) ** 2) if gap < 3 * tol else 0.05
+            text = f"UV: predicts {predicted:g} nm ({p.rule}) but no maximum above {floor:g} nm was seen"
+        elif predicted is None:
+            gap = observed[0] - floor
+            score = 0.05 if gap > 2 * tol else 0.5
+            text = f"UV: no chromophore to absorb above {floor:g} nm, observed {_range(observed)} nm"
+        else:
+            low, high = observed
+            d = max(low - predicted, predicted - high, 0.0)
+            score = 1.0 if d <= tol else math.exp(-0.5 * ((d - tol) / tol) ** 2)
+            text = f"UV: predicted {predicted:g} nm ({p.rule}), observed {_range(observed)} nm"
+        detail = {"predicted": predicted, "rule": p.rule, "steps": list(p.steps), "observed": observed}
+        return Assessment(self.name, max(score, 0.0), (text,), detail)
+
+
+def _range(r: tuple[float, float]) -> str:
+    return f"{r[0]:g}" if r[0] == r[1] else f"{r[0]:g}-{r[1]:g}"

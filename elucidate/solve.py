@@ -1,0 +1,354 @@
+"""The solver: case -> formulas -> generate -> evidence -> rank.
+
+Hard constraints (the only things that eliminate): the formula stage (nominal mass, element
+limits, DBE, nitrogen/Senior rules, element ratios), the declared groups (``infrared.require`` /
+``forbid``), the declared SMARTS (``structure.require_smarts`` / ``forbid_smarts``) and the
+``stable`` plausibility profile. Everything else — IR bands, UV lambda max, EI fragments, 13C
+counts, isotope fit — only ranks (see :mod:`elucidate.evidence` and ``constraints/scoring.yaml``).
+
+Results are hypotheses to confirm against a reference standard under the lab's own procedures.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from .case import Case
+from .errors import ElucidateError
+from .evidence import TECHNIQUES, Assessment, Subject, make_subject
+from .evidence.infrared import IRReading, read_bands
+from .evidence.weights import ScoringTable, default_scoring
+from .formula import Formula
+from .formulas import FormulaQuery, check_formula, derive_formulas
+from .groups import GroupTable, default_groups
+from .isotopes import ObservedCluster
+from .rules import default_rules
+from .selection import Selection
+
+__all__ = [
+    "case_query",
+    "molecular_ion_hypotheses",
+    "KeptFormula",
+    "Ranked",
+    "SuspectResult",
+    "Solution",
+    "solve",
+    "DEFAULT_LIMIT",
+    "PROFILE",
+]
+
+#: largest estimated structure space per formula the solver enumerates without a raised limit
+DEFAULT_LIMIT = 200_000
+#: the plausibility profile the solver applies
+PROFILE = "stable"
+#: neutral losses tried when the molecular ion is not seen: highest peak + these (CH3, OH, H2O)
+LOSSES_FOR_M = (0, 15, 17, 18)
+
+
+def case_query(case: Case, molecular_ion: int) -> FormulaQuery:
+    """The formula question a case asks for one molecular-ion hypothesis."""
+    rules = default_rules()
+    ms = case.mass_spec
+    spec = case.formula
+    if spec.known is not None:
+        elements = {s: (n, n) for s, n in spec.known.counts}
+        ratios = "off"
+    else:
+        elements = dict(spec.elements) if spec.elements is not None else dict(rules.default_elements)
+        ratios = spec.element_ratios
+    peaks = dict(ms.peaks) if ms else {}
+    exact = ms.exact_mass if ms and ms.exact_mass is not None and abs(ms.exact_mass - molecular_ion) < 1 else None
+    cluster = None
+    if peaks and molecular_ion in peaks:
+        cluster = ObservedCluster.from_peaks(molecular_ion, peaks, max_offset=rules.isotope_max_offset)
+    return FormulaQuery(
+        nominal_mass=molecular_ion,
+        elements=elements,
+        dbe=spec.dbe if spec.dbe is not None else rules.default_dbe,
+        element_ratios=ratios,
+        exact_mass=exact,
+        exact_mass_of=ms.exact_mass_of if ms else "ion",
+        mass_tolerance_ppm=ms.mass_tolerance_ppm if ms else 5.0,
+        cluster=cluster,
+    )
+
+
+def molecular_ion_hypotheses(case: Case) -> tuple[int, ...]:
+    """The molecular ions to try: the declared one (or the known formula's mass); when the
+    molecular ion is unknown, the highest peak (at least 1 % of base) and that peak plus the
+    usual first losses (CH3 15, OH 17, H2O 18), since alcohols and branched compounds often show
+    no M+."""
+    ms = case.mass_spec
+    if ms is not None and ms.molecular_ion is not None:
+        return (ms.molecular_ion,)
+    if case.formula.known is not None:
+        return (case.formula.known.nominal_mass(),)
+    if ms is None or not ms.peaks:
+        raise ElucidateError(
+            "no molecular ion and no peaks: give mass_spec.molecular_ion, mass_spec.peaks or formula.known",
+            file=case.path,
+            key="mass_spec",
+        )
+    highest = max(mz for mz, v in ms.peaks.items() if v >= 1.0)
+    return tuple(highest + loss for loss in LOSSES_FOR_M)
+
+
+@dataclass(frozen=True)
+class KeptFormula:
+    formula: Formula
+    molecular_ion: int
+    isotope_score: float | None  # exp(-chi2/2) of the isotope-cluster fit; None without a cluster
+    structures: int = 0  # candidates that passed the hard constraints
+    skipped: str | None = None  # why it was not enumerated (space above the limit)
+
+
+@dataclass(frozen=True)
+class Ranked:
+    rank: int
+    smiles: str
+    inchikey: str
+    formula: str
+    molecular_ion: int | None
+    score: float
+    components: Mapping[str, float]
+    reasons: tuple[str, ...]
+    assessments: tuple[Assessment, ...] = ()
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "rank": self.rank,
+            "smiles": self.smiles,
+            "inchikey": self.inchikey,
+            "formula": self.formula,
+            "molecular_ion": self.molecular_ion,
+            "score": round(self.score, 6),
+            "components": {k: round(v, 6) for k, v in self.components.items()},
+            "reasons": list(self.reasons),
+        }
+
+
+@dataclass(frozen=True)
+class SuspectResult:
+    given: str
+    smiles: str | None  # canonical
+    formula: str | None
+    rank: int | None
+    eliminated_by: str | None
+    why: str | None
+    score: float | None
+    components: Mapping[str, float] = field(default_factory=dict)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "given": self.given,
+            "smiles": self.smiles,
+            "formula": self.formula,
+            "rank": self.rank,
+            "eliminated_by": self.eliminated_by,
+            "why": self.why,
+            "score": None if self.score is None else round(self.score, 6),
+            "components": {k: round(v, 6) for k, v in self.components.items()},
+        }
+
+
+@dataclass(frozen=True)
+class Solution:
+    case: Case
+    hypotheses: tuple[int, ...]
+    formulas: tuple[KeptFormula, ...]
+    generated: int
+    eliminated: Mapping[str, int]
+    candidates: tuple[Ranked, ...]
+    suspects: tuple[SuspectResult, ...]
+    reading: IRReading | None
+    techniques: tuple[str, ...]
+    empty_reason: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+def hard_selection(case: Case, techniques: Sequence[Any]) -> Selection:
+    require: list[str] = []
+    forbid: list[str] = []
+    for technique in techniques:
+        hard = technique.hard_constraints(case)
+        require += hard.get("require", ())
+        forbid += hard.get("forbid", ())
+    s = case.structure
+    return Selection(
+        require=tuple(dict.fromkeys(require)),
+        forbid=tuple(dict.fromkeys(forbid)),
+        require_smarts=s.require_smarts if s else (),
+        forbid_smarts=s.forbid_smarts if s else (),
+        profile=PROFILE,
+    )
+
+
+def _combine(assessments: Sequence[Assessment], isotope: float | None, scoring: ScoringTable) -> tuple[float, dict[str, float]]:
+    components: dict[str, float] = {}
+    if isotope is not None:
+        components["formula"] = isotope
+    for a in assessments:
+        components[a.technique] = a.score
+    total_w = sum(scoring.weights[k] for k in components)
+    if not total_w:
+        return 1.0, components
+    log = sum(scoring.weights[k] * math.log(max(v, scoring.floor)) for k, v in components.items())
+    return math.exp(log / total_w), components
+
+
+def _inchikey(mol: Any) -> str:
+    from ._rdkit import Chem, quiet_rdkit
+
+    with quiet_rdkit():
+        return Chem.MolToInchiKey(mol) or ""
+
+
+def solve(
+    case: Case,
+    *,
+    limit: int = DEFAULT_LIMIT,
+    max_formulas: int = 5,
+    workers: int = 1,
+    groups: GroupTable | None = None,
+    scoring: ScoringTable | None = None,
+) -> Solution:
+    """Solve one case. ``limit``: largest estimated structure space per formula that is
+    enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
+    isotope fit, and only those within a factor 20 of the best fit)."""
+    from ._rdkit import Chem, quiet_rdkit
+    from .generate import estimate_structures, isomer_smiles
+
+    g = groups or default_groups()
+    sc = scoring or default_scoring()
+    techniques = [t for t in (cls() for cls in TECHNIQUES) if t.applies(case)]
+    selection = hard_selection(case, [cls() for cls in TECHNIQUES])
+    compiled = selection.compile(g)
+    hypotheses = molecular_ion_hypotheses(case)
+    kept: list[KeptFormula] = []
+    notes: list[str] = []
+    removed: dict[str, int] = {label: 0 for label in compiled.labels}
+    generated = 0
+    entries: list[tuple[float, float, str, Subject, list[Assessment], dict[str, float], float | None]] = []
+    for m in hypotheses:
+        result = derive_formulas(case_query(case, m), top=max_formulas)
+        best = max((c.score or 0.0 for c in result.kept), default=0.0)
+        for cand in result.kept:
+            if cand.score is not None and best > 0 and cand.score < best / 20:
+                continue
+            estimate = estimate_structures(cand.formula, selection=selection)
+            if estimate > limit:
+                why = (
+                    f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: declare groups "
+                    "(infrared.require / forbid) or raise --limit"
+                )
+                kept.append(KeptFormula(cand.formula, m, cand.score, 0, why))
+                notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
+                continue
+            count = 0
+            local: dict[str, int] = {}
+            with quiet_rdkit():
+                for smiles in isomer_smiles(cand.formula, selection=selection, removed=local, workers=workers):
+                    count += 1
+                    mol = Chem.MolFromSmiles(smiles)
+                    subject = make_subject(smiles, mol, cand.formula, g, m)
+                    assessments = [t.assess(subject, case) for t in techniques]
+                    score, components = _combine(assessments, cand.score, sc)
+                    entries.append((score, cand.score or 0.0, smiles, subject, assessments, components, cand.score))
+            for label, n in local.items():
+                removed[label] = removed.get(label, 0) + n
+            generated += count + sum(local.values())
+            kept.append(KeptFormula(cand.formula, m, cand.score, count))
+    entries.sort(key=lambda e: (-round(e[0], 6), -round(e[1], 6), e[2]))
+    candidates = []
+    for i, (score, _, smiles, subject, assessments, components, _) in enumerate(entries, start=1):
+        reasons = tuple(r for a in assessments for r in a.reasons[:2])
+        candidates.append(
+            Ranked(i, smiles, _inchikey(subject.mol), str(subject.formula), subject.molecular_ion, score, components, reasons, tuple(assessments))
+        )
+    suspects = tuple(
+        _suspect(text, case, candidates, kept, hypotheses, compiled, techniques, sc, g) for text in (case.structure.suspects if case.structure else ())
+    )
+    reading = read_bands(case.infrared.bands, g) if case.infrared is not None and case.infrared.bands else None
+    empty = _why_empty(case, kept, removed, selection, generated) if not candidates else ()
+    return Solution(
+        case, hypotheses, tuple(kept), generated, removed, tuple(candidates), suspects, reading,
+        tuple(t.name for t in techniques), empty, tuple(notes),
+    )
+
+
+def _suspect(text, case, candidates, kept, hypotheses, compiled, techniques, scoring, groups) -> SuspectResult:  # type: ignore[no-untyped-def]
+    from ._rdkit import Chem, mol_from_smiles, quiet_rdkit
+    from .formula import parse_formula
+
+    mol = mol_from_smiles(text)
+    if mol is None:  # the case loader already checked it
+        return SuspectResult(text, None, None, None, "SMILES", "RDKit cannot read it", None)
+    with quiet_rdkit():
+        smiles = Chem.MolToSmiles(mol)
+    from ._rdkit import rdMolDescriptors
+
+    formula = parse_formula(rdMolDescriptors.CalcMolFormula(mol))
+    fstr = str(formula)
+    for c in candidates:
+        if c.smiles == smiles:
+            return SuspectResult(text, smiles, fstr, c.rank, None, None, c.score, dict(c.components))
+    match = next((k for k in kept if k.formula == formula), None)
+    m = match.molecular_ion if match is not None else formula.nominal_mass()
+    subject = make_subject(smiles, mol, formula, groups, m)
+    assessments = [t.assess(subject, case) for t in techniques]
+    score, components = _combine(assessments, match.isotope_score if match else None, scoring)
+    if Chem.GetFormalCharge(mol) != 0 or any(a.GetNumRadicalElectrons() for a in mol.GetAtoms()):
+        return SuspectResult(text, smiles, fstr, None, "structure", "not a neutral closed-shell molecule", score, components)
+    if match is None:
+        nominal = formula.nominal_mass()
+        if nominal not in hypotheses:
+            why = f"nominal mass {nominal} is not a molecular ion considered ({', '.join(map(str, hypotheses))})"
+        else:
+            verdict = check_formula(formula, case_query(case, nominal))
+            why = f"{fstr} is rejected by the formula stage: {verdict[1]}" if verdict else f"{fstr} is not among the formulas kept (isotope fit or --formulas)"
+        return SuspectResult(text, smiles, fstr, None, "formula", why, score, components)
+    failed = compiled.first_failure(mol)
+    if failed is not None:
+        return SuspectResult(text, smiles, fstr, None, failed, f"breaks the declared constraint: {failed}", score, components)
+    if match.skipped:
+        return SuspectResult(text, smiles, fstr, None, None, f"{fstr} was not enumerated ({match.skipped})", score, components)
+    return SuspectResult(text, smiles, fstr, None, "generator", "passes every constraint but was not generated (please report)", score, components)
+
+
+def _why_empty(case: Case, kept: Sequence[KeptFormula], removed: Mapping[str, int], selection: Selection, generated: int) -> tuple[str, ...]:
+    from .generate import count_isomers
+
+    if not kept:
+        return ("no formula survived the formula stage for molecular ion(s) "
+                + ", ".join(map(str, molecular_ion_hypotheses(case))) + " (see `elucidate formulas` with --explain)",)
+    if all(k.skipped for k in kept):
+        return ("every formula's structure space is above the limit; declare groups or raise --limit",)
+    lines = []
+    last = [label for label, n in removed.items() if n]
+    if last:
+        lines.append("removed by: " + ", ".join(f"{label} ({removed[label]})" for label in last))
+    declared = [("require", n) for n in selection.require] + [("forbid", n) for n in selection.forbid]
+    declared += [("require_smarts", s) for s in selection.require_smarts] + [("forbid_smarts", s) for s in selection.forbid_smarts]
+    formulas = [k.formula for k in kept if not k.skipped]
+
+    def survivors(parts: Sequence[tuple[str, str]]) -> int:
+        spec: dict[str, Any] = {"require": (), "forbid": (), "require_smarts": (), "forbid_smarts": ()}
+        for key, value in parts:
+            spec[key] = spec[key] + (value,)
+        sel = Selection(**spec, profile=PROFILE)
+        return sum(count_isomers(f, selection=sel) for f in formulas)
+
+    alone = {d: survivors([d]) for d in declared}
+    for d, n in alone.items():
+        if n == 0:
+            lines.append(f"{d[0]} {d[1]} alone leaves no structure of {', '.join(map(str, formulas))}")
+    for i, a in enumerate(declared):
+        for b in declared[i + 1 :]:
+            if alone[a] and alone[b] and survivors([a, b]) == 0:
+                lines.append(f"{a[0]} {a[1]} and {b[0]} {b[1]} contradict each other for {', '.join(map(str, formulas))}")
+    if not lines:
+        lines.append(f"all {generated} generated structures were removed by the plausibility profile {PROFILE!r}")
+    return tuple(lines)
