@@ -580,8 +580,8 @@ def estimate_structures(
     random; the product of the branching factors met on the way, times the number of structures
     on the skeleton reached, is an unbiased estimate. The mean over ``probes`` walks (a fixed
     seed, so the same formula always gets the same estimate) is returned. With ``selection``,
-    the space estimated is the one generation will walk (the ring bound its required groups
-    imply), before any structure is tested.
+    the space estimated is the one generation will walk (the ring bound and the skeleton and
+    Kekulé conditions of its required groups), before the finished structures are tested.
     """
     import random
 
@@ -590,11 +590,12 @@ def estimate_structures(
     plans = _plans(
         formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence, required=required
     )
+    prefilter = selection.skeleton_patterns() if selection is not None else ()
     rng = random.Random(seed)
     total = 0.0
     for plan in plans:
         if plan.n == 1:
-            total += sum(1 for _ in _task_structures(plan, (1, ((),), 0)))
+            total += sum(1 for _ in _task_structures(plan, (1, ((),), 0), prefilter))
             continue
         estimate = 0.0
         for _ in range(probes):
@@ -608,7 +609,7 @@ def estimate_structures(
                 weight *= len(children)
                 part = children[rng.randrange(len(children))]
             if weight:
-                estimate += weight * sum(1 for _ in _task_structures(plan, part))
+                estimate += weight * sum(1 for _ in _task_structures(plan, part, prefilter))
         total += estimate / probes
     return total
 

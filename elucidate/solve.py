@@ -326,7 +326,7 @@ def _why_empty(case: Case, kept: Sequence[KeptFormula], removed: Mapping[str, in
                 + ", ".join(map(str, molecular_ion_hypotheses(case))) + " (see `elucidate formulas` with --explain)",)
     if all(k.skipped for k in kept):
         return ("every formula's structure space is above the limit; declare groups or raise --limit",)
-    lines = []
+    lines = [f"{k.formula} was not enumerated: {k.skipped}" for k in kept if k.skipped]
     last = [label for label, n in removed.items() if n]
     if last:
         lines.append("removed by: " + ", ".join(f"{label} ({removed[label]})" for label in last))

@@ -1,0 +1,80 @@
+"""IR vocabulary against a named correlation table, and the band-list reading.
+
+Reference ranges: Encyclopedia of Physical Science and Technology, 3rd ed. (2002), "Infrared
+Spectroscopy", Table IV, and the UMass OWL / NIU tables, as collected in the project's
+reference notes; each tabulated band must overlap the published range it cites.
+"""
+
+from __future__ import annotations
+
+import pytest
+from rdkit import Chem
+
+from elucidate import parse_case, parse_formula
+from elucidate.evidence.base import make_subject
+from elucidate.evidence.infrared import Infrared, read_bands
+from elucidate.groups import default_groups
+
+GROUPS = default_groups()
+
+PUBLISHED = [
+    # (group, mode text in groups.yaml, published low, high, source)
+    ("nitrile", "C≡N", 2220, 2260, "Table IV [E]"),
+    ("ketone", "stretch, saturated", 1705, 1725, "Table IV [E]"),
+    ("ketone", "conjugated", 1640, 1700, "Table IV [E]"),
+    ("ester", "stretch, saturated", 1735, 1750, "UMass OWL"),
+    ("aldehyde", "CHO", 2695, 2830, "educational IR tables"),
+    ("carboxylic_acid", "O-H", 2500, 3300, "UMass OWL; NIU"),
+    ("amide", "amide I", 1630, 1690, "Table IV [E]"),
+    ("acid_chloride", "C=O", 1790, 1810, "Table IV [E]"),
+    ("terminal_alkyne", "≡C-H", 3267, 3340, "Table IV [E]"),
+    ("alcohol", "O-H", 3200, 3550, "UCLA WebSpectra; NIU"),
+    ("nitro", "asymmetric", 1475, 1550, "CU Boulder"),
+    ("primary_amine", "N-H stretch", 3300, 3500, "UCLA WebSpectra"),
+    ("alkene", "C=C", 1620, 1680, "UMass OWL"),
+]
+
+
+@pytest.mark.parametrize("group,mode,low,high,source", PUBLISHED, ids=[f"{p[0]}-{p[1]}" for p in PUBLISHED])
+def test_bands_follow_the_published_table(group, mode, low, high, source):
+    bands = [b for b in GROUPS[group].ir if mode in b.mode]
+    assert bands, f"{group}: no band described as {mode!r}"
+    for b in bands:
+        assert b.low < high and b.high > low  # overlaps the published range
+        assert abs(b.low - low) <= 15 and abs(b.high - high) <= 15
+
+
+def _case(bands: str):
+    return parse_case(f"schema: 1\nid: t\ninfrared:\n  bands:\n{bands}")
+
+
+def test_reading_argues_against_carbonyl_without_a_band_in_its_region():
+    case = _case("    - {at: 2960, strength: strong}\n    - {at: 3350, strength: strong, shape: broad}\n")
+    reading = read_bands(case.infrared.bands)
+    against = {g for g, _ in reading.against}
+    assert {"carbonyl", "ketone", "ester"} <= against
+    assert "alcohol" in {g for g, _ in reading.indicated}
+
+
+def test_reading_indicates_an_acid_from_broad_oh_and_co():
+    case = _case("    - {at: 3000, strength: medium, shape: broad}\n    - {at: 1710, strength: strong}\n")
+    assert "carboxylic_acid" in {g for g, _ in read_bands(case.infrared.bands).indicated}
+
+
+@pytest.mark.parametrize(
+    "smiles,better,worse",
+    [
+        ("1715 strong", "CCC(C)=O", "CCCCO"),  # a ketone explains 1715, an alcohol does not
+        ("1740 strong", "CCOC=O", "CCCC(C)=O"),
+    ],
+)
+def test_scores_prefer_the_group_that_explains_the_band(smiles, better, worse):
+    at, strength = smiles.split()
+    case = _case(f"    - {{at: {at}, strength: {strength}}}\n    - {{at: 2960, strength: strong}}\n")
+    ir = Infrared()
+
+    def score(s: str) -> float:
+        mol = Chem.MolFromSmiles(s)
+        return ir.assess(make_subject(s, mol, parse_formula("C4H8O"), GROUPS, None), case).score
+
+    assert score(better) > score(worse)

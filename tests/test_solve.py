@@ -1,0 +1,98 @@
+"""`elucidate solve`, run in-process: report content, JSON keys, suspects, determinism, the
+explanation when nothing survives, and molecular-ion hypotheses."""
+
+from __future__ import annotations
+
+import pytest
+
+from elucidate import parse_case
+from elucidate.solve import LOSSES_FOR_M, molecular_ion_hypotheses, solve
+
+from conftest import CASES
+
+DEMO = str(CASES / "cr-0509-i.yaml")
+
+
+@pytest.fixture(scope="module")
+def demo_json():
+    from conftest import run_cli
+
+    res = run_cli("solve", DEMO, "--json", "--top", "5")
+    assert res.code == 0, res.err
+    return res.json()
+
+
+def test_json_has_the_promised_keys(demo_json):
+    for key in ("case_id", "formulas", "generated", "eliminated", "candidates"):
+        assert key in demo_json
+    assert demo_json["case_id"] == "cr-0509-i"
+    first = demo_json["candidates"][0]
+    for key in ("rank", "smiles", "inchikey", "formula", "score", "components", "reasons"):
+        assert key in first
+    assert [c["rank"] for c in demo_json["candidates"]] == list(range(1, 6))
+    scores = [c["score"] for c in demo_json["candidates"]]
+    assert scores == sorted(scores, reverse=True)
+
+
+def test_demo_ranks_the_para_isomer_first_and_reports_suspects(demo_json):
+    # 4'-methylacetophenone: 7 13C signals (common practice), Scott 246 + p-alkyl 10
+    assert demo_json["candidates"][0]["smiles"] == "CC(=O)c1ccc(C)cc1"
+    assert demo_json["candidates"][0]["inchikey"] == "GNKZMNRKLCTJAY-UHFFFAOYSA-N"  # RDKit InChIKey
+    suspects = {s["given"]: s for s in demo_json["suspects"]}
+    assert suspects["CC(=O)c1ccc(C)cc1"]["rank"] == 1
+    assert suspects["CCC(=O)c1ccccc1"]["rank"] is not None  # propiophenone: ranked, lower
+    toluene = suspects["Cc1ccccc1"]
+    assert toluene["rank"] is None and toluene["eliminated_by"] == "formula"
+    assert "92" in toluene["why"]
+
+
+def test_text_report_has_caution_shortlist_and_details(cli):
+    res = cli("solve", DEMO, "--top", "3")
+    assert res.code == 0
+    assert "reference standard" in res.out and "toxic" in res.out
+    assert "shortlist (3 of" in res.out
+    assert "#1  CC(=O)c1ccc(C)cc1" in res.out
+    assert "EI  m/z  119" in res.out
+    assert "removed by require aromatic_ring" in res.out
+    assert "suspects" in res.out
+
+
+def test_same_case_same_output(cli):
+    assert cli("solve", DEMO, "--json").out == cli("solve", DEMO, "--json").out
+
+
+def test_contradictory_constraints_are_named(tmp_path, cli):
+    case = tmp_path / "c.yaml"
+    case.write_text(
+        "schema: 1\nid: c1\nmass_spec:\n  molecular_ion: 72\n  peaks: {72: 50, 73: 2.2, 43: 100}\n"
+        "formula:\n  elements: {C: 0-8, H: 0-20, O: 0-2}\n"
+        "infrared:\n  require: [ketone]\nstructure:\n  forbid_smarts: ['[CX3]=O']\n"
+    )
+    res = cli("solve", str(case), "--json")
+    assert res.code == 0
+    data = res.json()
+    assert data["candidates"] == []
+    text = " ".join(data["empty_reason"])
+    assert "require ketone and forbid_smarts [CX3]=O contradict each other" in text
+
+
+def test_unknown_molecular_ion_hypotheses():
+    case = parse_case("schema: 1\nid: u\nmass_spec:\n  molecular_ion: unknown\n  peaks: {73: 25, 59: 100, 55: 40}\n")
+    assert molecular_ion_hypotheses(case) == tuple(73 + x for x in LOSSES_FOR_M)
+
+
+def test_unknown_molecular_ion_candidates_say_which_m(tmp_path):
+    text = (
+        "schema: 1\nid: u2\nmass_spec:\n  molecular_ion: unknown\n  peaks: {73: 25, 59: 100, 55: 40, 45: 10, 31: 20}\n"
+        "formula:\n  elements: {C: 0-8, H: 0-20, O: 0-1}\ninfrared:\n  bands: [3380, 2970]\n  require: [alcohol]\n"
+        "nmr:\n  c13_signals: 4\n"
+    )
+    solution = solve(parse_case(text))
+    ms = {c.molecular_ion for c in solution.candidates}
+    assert 88 in ms  # C5H12O alcohols: M = 73 + 15
+    assert any(c.smiles == "CCC(C)(C)O" for c in solution.candidates)
+
+
+def test_bad_options_are_errors(cli):
+    assert cli("solve", DEMO, "--top", "-1").code == 1
+    assert cli("solve", "missing.yaml").code == 1
