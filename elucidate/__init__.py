@@ -1,7 +1,9 @@
 """elucidate: candidate structures for an unknown compound from routine spectroscopic evidence.
 
-Pipeline: case -> formulas -> generate -> evidence -> rank -> report. This release provides the
-case files and the formula stage.
+Pipeline: case -> formulas -> generate -> evidence -> rank -> report: case files
+(:mod:`elucidate.case`), the formula stage (:mod:`elucidate.formulas`), the isomer generator
+(:mod:`elucidate.generate`), evidence techniques (:mod:`elucidate.evidence`) and the solver
+(:mod:`elucidate.solve`). Results are hypotheses to confirm against a reference standard.
 """
 
 from __future__ import annotations
@@ -14,6 +16,7 @@ from .errors import ElucidateError
 from .formula import Formula, parse_formula
 from .formulas import Candidate, FormulaQuery, FormulaResult, check_formula, derive_formulas, enumerate_compositions
 from .isotopes import IsotopeTolerance, ObservedCluster, fit_cluster, isotope_pattern, read_cluster
+from .solve import Solution, solve
 from .rules import FormulaRules, default_rules, kind_fiehn, load_formula_rules, nitrogen_rule, rule_of_13, senior_rules
 
 __all__ = [
@@ -47,4 +50,6 @@ __all__ = [
     "nitrogen_rule",
     "rule_of_13",
     "senior_rules",
+    "Solution",
+    "solve",
 ]

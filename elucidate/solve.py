@@ -14,11 +14,13 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Any
 
 from .case import Case
 from .errors import ElucidateError
-from .evidence import TECHNIQUES, Assessment, Subject, make_subject
+from .evidence import TECHNIQUES, Assessment, make_subject
+from .evidence.infrared import Infrared
 from .evidence.infrared import IRReading, read_bands
 from .evidence.weights import ScoringTable, default_scoring
 from .formula import Formula
@@ -109,13 +111,17 @@ class KeptFormula:
 class Ranked:
     rank: int
     smiles: str
-    inchikey: str
     formula: str
     molecular_ion: int | None
     score: float
     components: Mapping[str, float]
     reasons: tuple[str, ...]
     assessments: tuple[Assessment, ...] = ()
+
+    @property
+    def inchikey(self) -> str:
+        """Standard InChIKey (RDKit), computed when first asked for."""
+        return _inchikey(self.smiles)
 
     def as_dict(self) -> dict[str, Any]:
         return {
@@ -199,11 +205,37 @@ def _combine(assessments: Sequence[Assessment], isotope: float | None, scoring: 
     return math.exp(log / total_w), components
 
 
-def _inchikey(mol: Any) -> str:
+@lru_cache(maxsize=4096)
+def _inchikey(smiles: str) -> str:
     from ._rdkit import Chem, quiet_rdkit
 
     with quiet_rdkit():
-        return Chem.MolToInchiKey(mol) or ""
+        return Chem.MolToInchiKey(Chem.MolFromSmiles(smiles)) or ""
+
+
+#: candidates scored per task when scoring runs in worker processes
+CHUNK = 500
+
+
+_Job = tuple[Case, list[tuple[str, str, int, "float | None"]], GroupTable, ScoringTable]
+
+
+def _score_chunk(job: _Job) -> list[tuple[float, dict[str, float], tuple[Assessment, ...]]]:
+    """Score candidates (SMILES, formula, M, isotope fit) on every technique that applies."""
+    from ._rdkit import Chem, quiet_rdkit
+    from .formula import parse_formula
+
+    case, items, groups, scoring = job
+    made = (Infrared(groups) if cls is Infrared else cls() for cls in TECHNIQUES)
+    techniques = [t for t in made if t.applies(case)]
+    out = []
+    with quiet_rdkit():
+        for smiles, formula, m, isotope in items:
+            subject = make_subject(smiles, Chem.MolFromSmiles(smiles), parse_formula(formula), groups, m)
+            assessments = tuple(t.assess(subject, case) for t in techniques)
+            score, components = _combine(assessments, isotope, scoring)
+            out.append((score, components, assessments))
+    return out
 
 
 def solve(
@@ -217,8 +249,8 @@ def solve(
 ) -> Solution:
     """Solve one case. ``limit``: largest estimated structure space per formula that is
     enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
-    isotope fit, and only those within a factor 20 of the best fit)."""
-    from ._rdkit import Chem, quiet_rdkit
+    isotope fit, and only those within a factor 20 of the best fit); ``workers``: processes
+    for generation and scoring (the result does not depend on it)."""
     from .generate import estimate_structures, isomer_smiles
 
     g = groups or default_groups()
@@ -231,7 +263,7 @@ def solve(
     notes: list[str] = []
     removed: dict[str, int] = {label: 0 for label in compiled.labels}
     generated = 0
-    entries: list[tuple[float, float, str, Subject, list[Assessment], dict[str, float], float | None]] = []
+    found: list[tuple[str, str, int, float | None]] = []  # (SMILES, formula, M, isotope fit)
     for m in hypotheses:
         result = derive_formulas(case_query(case, m), top=max_formulas)
         best = max((c.score or 0.0 for c in result.kept), default=0.0)
@@ -247,27 +279,30 @@ def solve(
                 kept.append(KeptFormula(cand.formula, m, cand.score, 0, why))
                 notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
                 continue
-            count = 0
             local: dict[str, int] = {}
-            with quiet_rdkit():
-                for smiles in isomer_smiles(cand.formula, selection=selection, removed=local, workers=workers):
-                    count += 1
-                    mol = Chem.MolFromSmiles(smiles)
-                    subject = make_subject(smiles, mol, cand.formula, g, m)
-                    assessments = [t.assess(subject, case) for t in techniques]
-                    score, components = _combine(assessments, cand.score, sc)
-                    entries.append((score, cand.score or 0.0, smiles, subject, assessments, components, cand.score))
+            before = len(found)
+            for smiles in isomer_smiles(cand.formula, selection=selection, removed=local, workers=workers):
+                found.append((smiles, str(cand.formula), m, cand.score))
+            count = len(found) - before
             for label, n in local.items():
                 removed[label] = removed.get(label, 0) + n
             generated += count + sum(local.values())
             kept.append(KeptFormula(cand.formula, m, cand.score, count))
-    entries.sort(key=lambda e: (-round(e[0], 6), -round(e[1], 6), e[2]))
+    chunks: list[_Job] = [(case, found[i : i + CHUNK], g, sc) for i in range(0, len(found), CHUNK)]
+    if workers > 1 and len(chunks) > 1:
+        import multiprocessing
+
+        with multiprocessing.Pool(workers) as pool:
+            scored = [r for part in pool.imap(_score_chunk, chunks) for r in part]
+    else:
+        scored = [r for job in chunks for r in _score_chunk(job)]
+    order = sorted(range(len(found)), key=lambda i: (-round(scored[i][0], 6), -round(found[i][3] or 0.0, 6), found[i][0]))
     candidates = []
-    for i, (score, _, smiles, subject, assessments, components, _) in enumerate(entries, start=1):
+    for rank, i in enumerate(order, start=1):
+        smiles, formula, m, _ = found[i]
+        score, components, assessments = scored[i]
         reasons = tuple(r for a in assessments for r in a.reasons[:2])
-        candidates.append(
-            Ranked(i, smiles, _inchikey(subject.mol), str(subject.formula), subject.molecular_ion, score, components, reasons, tuple(assessments))
-        )
+        candidates.append(Ranked(rank, smiles, formula, m, score, components, reasons, assessments))
     suspects = tuple(
         _suspect(text, case, candidates, kept, hypotheses, compiled, techniques, sc, g) for text in (case.structure.suspects if case.structure else ())
     )

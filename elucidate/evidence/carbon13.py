@@ -38,7 +38,10 @@ def _split_geminal(mol: Any) -> Any:
     """A copy in which one of each pair of identical geminal groups on a C=C whose other end is
     unsymmetric carries an isotope label, so ranking tells the pair apart."""
     from .._rdkit import Chem
+    from ..patterns import compiled_smarts
 
+    if not mol.HasSubstructMatch(compiled_smarts("[CX3;H0](-[#6,#7,#8,#9,#15,#16,#17,#35,#53])(-[#6,#7,#8,#9,#15,#16,#17,#35,#53])=[C]")):
+        return mol  # no C=C end with two substituents: nothing to split
     work = Chem.RWMol(mol)
     changed = True
     done: set[int] = set()
@@ -74,9 +77,9 @@ def carbon_classes(mol: Any) -> list[tuple[int, str, int]]:
     work = _split_geminal(mol)
     ranks = _ranks(work)
     classes: dict[int, list[int]] = {}
-    for atom in work.GetAtoms():
-        if atom.GetAtomicNum() == 6:
-            classes.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
+    for i in range(work.GetNumAtoms()):
+        if work.GetAtomWithIdx(i).GetAtomicNum() == 6:
+            classes.setdefault(ranks[i], []).append(i)
     out = []
     for members in classes.values():
         h = mol.GetAtomWithIdx(members[0]).GetTotalNumHs()

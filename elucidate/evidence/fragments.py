@@ -52,6 +52,16 @@ class FragmentRule:
     def pattern(self) -> Any:
         return compiled_smarts(self.smarts)
 
+    @property
+    def mapped(self) -> dict[int, int]:
+        """Map number -> query atom index (cached: iterating RDKit atoms is slow)."""
+        return _mapped(self.smarts)
+
+
+@lru_cache(maxsize=None)
+def _mapped(smarts: str) -> dict[int, int]:
+    return {a.GetAtomMapNum(): a.GetIdx() for a in compiled_smarts(smarts).GetAtoms() if a.GetAtomMapNum()}
+
 
 @dataclass(frozen=True, eq=False)
 class FragmentTable:
@@ -127,7 +137,11 @@ def default_fragments() -> FragmentTable:
 
 def _atom_masses(mol: Any, table: ElementTable) -> list[int]:
     h = table["H"].nominal_mass
-    return [table[a.GetSymbol()].nominal_mass + h * a.GetTotalNumHs() for a in mol.GetAtoms()]
+    out = []
+    for i in range(mol.GetNumAtoms()):  # indexing is much faster than iterating GetAtoms()
+        a = mol.GetAtomWithIdx(i)
+        out.append(table[a.GetSymbol()].nominal_mass + h * a.GetTotalNumHs())
+    return out
 
 
 def _piece(mol: Any, start: int, cut: set[frozenset[int]]) -> set[int] | None:
@@ -185,9 +199,14 @@ def predict_ions(mol: Any, *, table: FragmentTable | None = None, elements: Elem
                 if rule.then_loss:
                     add(rule.mz - rule.then_loss, rule.weight * 0.5, rule, f"{rule.what}, then -{rule.then_loss}")
             continue
-        maps = {a.GetAtomMapNum(): a.GetIdx() for a in rule.pattern.GetAtoms() if a.GetAtomMapNum()}
+        maps = rule.mapped
+        done: set[tuple[int, ...]] = set()
         for match in mol.GetSubstructMatches(rule.pattern, uniquify=False, maxMatches=200):
             at = {k: match[i] for k, i in maps.items()}
+            key = tuple(sorted(at.items()))
+            if key in done:  # the same cleavage through another mapping of unmapped atoms
+                continue
+            done.add(key)
             if rule.kind == "retro_diels_alder":
                 cut = {frozenset((at[3], at[4])), frozenset((at[5], at[6]))}
             else:

@@ -149,23 +149,26 @@ def _homoannular(mol: Any, bonds: Sequence[Any]) -> bool:
     return False
 
 
+_DOUBLE = "[C]=[C,O]"  # non-aromatic C=C and C=O (aliphatic atoms only)
+
+
 def _double_bonds(mol: Any) -> list[Any]:
+    seen: set[int] = set()
     out = []
-    for bond in mol.GetBonds():
-        if bond.GetBondType().name != "DOUBLE" or bond.GetIsAromatic():
-            continue
-        a, b = bond.GetBeginAtom(), bond.GetEndAtom()
-        if a.GetIsAromatic() or b.GetIsAromatic():
-            continue
-        if {a.GetAtomicNum(), b.GetAtomicNum()} in ({6}, {6, 8}):
+    for a, b in mol.GetSubstructMatches(compiled_smarts(_DOUBLE)):
+        bond = mol.GetBondBetweenAtoms(a, b)
+        if bond.GetIdx() not in seen:
+            seen.add(bond.GetIdx())
             out.append(bond)
-    return out
+    return sorted(out, key=lambda bond: bond.GetIdx())
 
 
 def _systems(mol: Any) -> list[list[Any]]:
     """Conjugated systems: C=C and C=O bonds joined through single bonds."""
     bonds = _double_bonds(mol)
-    atom_of = {}
+    if len(bonds) < 2:
+        return []
+    atom_of: dict[int, list[int]] = {}
     for i, bond in enumerate(bonds):
         atom_of.setdefault(bond.GetBeginAtomIdx(), []).append(i)
         atom_of.setdefault(bond.GetEndAtomIdx(), []).append(i)
