@@ -5,8 +5,9 @@
 1. Scoring rate: candidates scored per second on one core (all four techniques plus the group
    perception), on the isomers of C7H8O (the stable profile applied) against the evidence of
    the demo case cr-0509-i (goal >= 2,000 per second).
-2. A case whose hard constraints leave about 10^4 candidates (C9H12O with a required alcohol
-   and IR, UV, EI and 13C evidence), solved end to end with 1 and 2 workers (goal < 10 s with 2).
+2. A case whose hard constraints leave about 10^4 candidates (M 122, C8H10O with a required
+   alcohol and IR, UV, EI and 13C evidence), solved end to end with 1 and 2 workers, with the
+   generation and scoring time apart (goal < 10 s with 2).
 """
 
 from __future__ import annotations
@@ -29,8 +30,8 @@ schema: 1
 id: bench-big
 title: benchmark, about 10^4 candidates
 mass_spec:
-  molecular_ion: 136
-  peaks: {136: 20, 137: 2.0, 118: 15, 107: 100, 91: 30, 77: 25, 45: 10}
+  molecular_ion: 122
+  peaks: {122: 20, 123: 1.8, 104: 15, 107: 100, 91: 30, 77: 25, 45: 10}
 formula:
   elements: {C: 0-12, H: 0-30, O: 0-1}
 infrared:
@@ -78,7 +79,10 @@ def big_case() -> None:
         t0 = time.perf_counter()
         solution = solve(case, workers=workers)
         dt = time.perf_counter() - t0
-        print(f"C9H12O-type case: {len(solution.candidates):,} candidates, {workers} worker(s): {dt:.1f} s (goal < 10 s with 2)")
+        print(
+            f"M 122 alcohol case: {solution.generated:,} structures generated, {len(solution.candidates):,} candidates, "
+            f"{workers} worker(s): {dt:.1f} s (goal < 10 s with 2)"
+        )
 
 
 if __name__ == "__main__":

@@ -113,7 +113,9 @@ def _plans(
     if max_bond_order not in (1, 2, 3):
         raise ElucidateError(f"max_bond_order must be 1, 2 or 3, got {max_bond_order}")
     hydrogens = formula.get("H")
-    plans = []
+    plans: list[_Plan] = []
+    if not _has_elements(formula, required):
+        return plans  # a required group needs an element (or more atoms of it) the formula lacks
     for heavy in _valence_splits(formula, table, lowest_valence):
         n = len(heavy)
         total_valence = sum(v for _, v in heavy)
@@ -132,6 +134,20 @@ def _plans(
             _Plan(n, tuple(labels), tuple(counts), tuple(v for _, v in heavy), bond_sum, rings_max, max_bond_order - 1, hydrogens)
         )
     return plans
+
+
+def _has_elements(formula: Formula, required: Sequence[str]) -> bool:
+    from ._rdkit import Chem
+
+    if not required:
+        return True
+    table = Chem.GetPeriodicTable()
+    groups = default_groups()
+    for name in required:
+        for z, n in groups[name].elements.items():
+            if formula.get(table.GetElementSymbol(z)) < n:
+                return False
+    return True
 
 
 def _tasks(plans: list[_Plan]) -> Iterator[tuple[int, Partial]]:

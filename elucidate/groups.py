@@ -77,6 +77,20 @@ class Group:
         return compiled_smarts(self.skeleton) if self.skeleton is not None else None
 
     @property
+    def elements(self) -> dict[int, int]:
+        """Atomic number -> how many atoms of it any molecule with the group has at least: the
+        bracket atoms of the skeleton condition that name exactly one element (``[#8;D1]``)."""
+        if self.skeleton is None:
+            return {}
+        need: dict[int, int] = {}
+        for atom in re.findall(r"\[([^\]]*)\]", self.skeleton):
+            numbers = _ELEMENT.findall(atom)
+            if len(numbers) == 1 and "," not in atom.split(";")[0]:
+                z = int(numbers[0][1:])
+                need[z] = need.get(z, 0) + 1
+        return need
+
+    @property
     def kekule_pattern(self) -> Any | None:
         return compiled_smarts(self.kekule) if self.kekule is not None else None
 

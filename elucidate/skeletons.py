@@ -120,7 +120,9 @@ def children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[P
             child.append(list(subset))
             if size > 1 and any(len(nb) == 1 for nb in child):
                 continue  # a leaf (never a cut vertex) has a smaller degree than the new vertex
-            cut = _cut_vertices(child)
+            # a new leaf: the deletion candidates are the leaves, which are never cut vertices,
+            # so the articulation points are not needed
+            cut = _cut_vertices(child) if size > 1 else set()
             if not _accept(child, k, cut):
                 continue
             graph = _nauty(k + 1, child)

@@ -218,3 +218,12 @@ def test_min_pi_bonds_combines_classes(required, oxo, bound):
     from elucidate.groups import min_pi_bonds
 
     assert min_pi_bonds(required, GROUPS, oxo=oxo) == bound
+
+
+@pytest.mark.parametrize(
+    "group,needs",
+    [("ketone", {6: 3, 8: 1}), ("ester", {6: 2, 8: 2}), ("amide", {6: 1, 7: 1, 8: 1}), ("aromatic_ring", {6: 6}), ("hydroxyl", {8: 1})],
+)
+def test_elements_a_group_needs(group, needs):
+    # read from the skeleton condition: one atom per single-element bracket atom
+    assert GROUPS[group].elements == needs

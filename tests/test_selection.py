@@ -78,6 +78,17 @@ CORPUS = [
     ("C3H6OS", dict(require=("sulfoxide", "alkene"))),
     ("C2H6O2S", dict(require=("sulfone",))),
     ("C4H6N2", dict(require=("imine",))),
+    # skeleton and Kekulé conditions of O-H, ether, amine and thiol groups
+    ("C5H10O", dict(require=("alcohol",))),
+    ("C5H8O", dict(require=("hydroxyl",), forbid=("alcohol",))),
+    ("C7H8O", dict(require=("phenol",))),
+    ("C4H8O2", dict(require=("ether", "alcohol"))),
+    ("C4H9NO", dict(require=("primary_amine",))),
+    ("C4H9N", dict(require=("secondary_amine",))),
+    ("C4H6S", dict(require=("thiol",))),
+    # a required group needs elements the formula lacks: nothing, without walking skeletons
+    ("C6H14", dict(require=("alcohol",))),
+    ("C4H8O", dict(require=("ester",))),
 ]
 
 
