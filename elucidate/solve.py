@@ -28,7 +28,7 @@ from .formulas import FormulaQuery, check_formula, derive_formulas
 from .groups import GroupTable, default_groups
 from .isotopes import ObservedCluster
 from .rules import default_rules
-from .selection import Selection
+from .selection import CompiledSelection, Selection
 
 __all__ = [
     "case_query",
@@ -314,7 +314,17 @@ def solve(
     )
 
 
-def _suspect(text, case, candidates, kept, hypotheses, compiled, techniques, scoring, groups) -> SuspectResult:  # type: ignore[no-untyped-def]
+def _suspect(
+    text: str,
+    case: Case,
+    candidates: Sequence[Ranked],
+    kept: Sequence[KeptFormula],
+    hypotheses: Sequence[int],
+    compiled: CompiledSelection,
+    techniques: Sequence[Any],
+    scoring: ScoringTable,
+    groups: GroupTable,
+) -> SuspectResult:
     from ._rdkit import Chem, mol_from_smiles, quiet_rdkit
     from .formula import parse_formula
 
