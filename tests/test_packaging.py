@@ -24,6 +24,8 @@ def test_wheel_ships_tables_and_runs_outside_the_checkout(tmp_path):
     for table in sorted(p.name for p in (ROOT / "constraints").glob("*.yaml")):
         assert f"elucidate/_constraints/{table}" in names
     assert "elucidate/py.typed" in names
+    for module in sorted((ROOT / "elucidate").rglob("*.py")):  # every subpackage ships
+        assert module.relative_to(ROOT).as_posix() in names
     venv = tmp_path / "venv"
     subprocess.run([sys.executable, "-m", "venv", "--system-site-packages", str(venv)], check=True)
     python = venv / "bin" / "python"
@@ -41,3 +43,11 @@ def test_wheel_ships_tables_and_runs_outside_the_checkout(tmp_path):
     )
     assert proc.returncode == 0, proc.stderr
     assert json.loads(proc.stdout)[0]["formula"] == "C6H5Cl"
+    case = workdir / "demo.yaml"
+    case.write_text((ROOT / "cases" / "cr-0509-i.yaml").read_text())
+    proc = subprocess.run(
+        [str(venv / "bin" / "elucidate"), "solve", str(case), "--json", "--top", "1"],
+        cwd=workdir, capture_output=True, text=True, check=False,
+    )
+    assert proc.returncode == 0, proc.stderr
+    assert json.loads(proc.stdout)["candidates"][0]["smiles"] == "CC(=O)c1ccc(C)cc1"
