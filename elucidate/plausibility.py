@@ -18,7 +18,7 @@ __all__ = ["Rule", "Profiles", "load_profiles", "default_profiles", "bridgehead_
 
 
 def bridgehead_double_bond(mol: Any) -> bool:
-    """Bredt's rule with Fawcett's S-number: a non-aromatic double bond at a bridgehead of a
+    """Bredt's rule with Fawcett's S-number: a double or aromatic bond at a bridgehead of a
     bridged ring pair whose bridges hold fewer than seven atoms in all (S = atoms of the bicyclic
     system minus the two bridgeheads; S >= 7, as in bicyclo[3.3.1]non-1-ene, is isolable)."""
     rings = [set(r) for r in mol.GetRingInfo().AtomRings()]
@@ -37,8 +37,8 @@ def bridgehead_double_bond(mol: Any) -> bool:
                 and any(n.GetIdx() in r2 - shared for n in mol.GetAtomWithIdx(a).GetNeighbors())
             }
             for bond in mol.GetBonds():
-                if bond.GetBondTypeAsDouble() != 2.0 or bond.GetIsAromatic():
-                    continue
+                if bond.GetBondTypeAsDouble() != 2.0 and not bond.GetIsAromatic():
+                    continue  # aromatic bonds count too: a benzene ring cannot be a short bridge's end
                 a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
                 if {a, b} & ends and a in system and b in system:
                     return True

@@ -26,7 +26,10 @@ CASES = {
     "allene_in_small_ring": (["C1=C=CCCC1", "C1=C=CC1"], ["C=C=CC1CCC1", "C1=CCCCC1", "O=C=C1CC1"]),
     # norbornene-1 (S = 5), bicyclo[2.2.2]oct-1-ene (S = 6) removed; bicyclo[3.3.1]non-1-ene (S = 7),
     # norborn-2-ene and fused-ring double bonds kept
-    "bredt": (["C1=C2CCC1C2", "C1CC2=CCC1C2", "C1=C2CCC(C1)CC2"], ["C1=CC2CCC1C2", "C1=C2CCCCC2CCC1", "C1CC2CCCC(=C1)C2"]),
+    "bredt": (
+        ["C1=C2CCC1C2", "C1CC2=CCC1C2", "C1=C2CCC(C1)CC2", "CC(=O)c1cc2ccc1o2", "c1cc2ccc1C2"],
+        ["C1=CC2CCC1C2", "C1=C2CCCCC2CCC1", "C1CC2CCCC(=C1)C2", "c1ccc2ccccc2c1", "c1ccc2c(c1)CC2", "c1cc2ccc1CCCCCCCC2"],
+    ),
     "fused_three_ring_alkene": (["C1=C2CC12", "O=CC1=C2CC12", "C1CC2=CC2C1"], ["C1=CC1", "C1CC2CC2C1", "C1=CC2CC2C1"]),
     "antiaromatic_three_ring": (["C1=CN1", "C1=CO1", "CC1=CS1"], ["C1CN1", "C1CO1", "C1=CC1"]),
     "monosubstituted_diazene": (["CN=N", "N=NCC1CC1=O"], ["CN=NC", "C=NN"]),
