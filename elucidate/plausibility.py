@@ -14,7 +14,15 @@ from .patterns import compiled_smarts
 from .tables import table_path
 from .yamlnodes import as_list, as_str, mapping, read_yaml_file
 
-__all__ = ["Rule", "Profiles", "load_profiles", "default_profiles", "bridgehead_double_bond", "TESTS"]
+__all__ = [
+    "Rule",
+    "Profiles",
+    "load_profiles",
+    "default_profiles",
+    "bridgehead_double_bond",
+    "aromatic_atom_only_in_small_rings",
+    "TESTS",
+]
 
 
 def bridgehead_double_bond(mol: Any) -> bool:
@@ -45,8 +53,25 @@ def bridgehead_double_bond(mol: Any) -> bool:
     return False
 
 
+def aromatic_atom_only_in_small_rings(mol: Any) -> bool:
+    """An aromatic atom all of whose rings (smallest set) have fewer than five atoms: a benzene
+    ring drawn with a chord across it (Dewar-benzene valence tautomers) that RDKit still
+    perceives as aromatic. Fused small rings (benzocyclobutene) keep their six-membered ring."""
+    rings = mol.GetRingInfo().AtomRings()
+    for i in range(mol.GetNumAtoms()):
+        if not mol.GetAtomWithIdx(i).GetIsAromatic():
+            continue
+        sizes = [len(r) for r in rings if i in r]
+        if sizes and max(sizes) < 5:
+            return True
+    return False
+
+
 #: named tests for rules SMARTS cannot express
-TESTS: Mapping[str, Callable[[Any], bool]] = {"bridgehead_double_bond": bridgehead_double_bond}
+TESTS: Mapping[str, Callable[[Any], bool]] = {
+    "bridgehead_double_bond": bridgehead_double_bond,
+    "aromatic_atom_only_in_small_rings": aromatic_atom_only_in_small_rings,
+}
 
 
 @dataclass(frozen=True)

@@ -32,6 +32,8 @@ CASES = {
     ),
     "fused_three_ring_alkene": (["C1=C2CC12", "O=CC1=C2CC12", "C1CC2=CC2C1"], ["C1=CC1", "C1CC2CC2C1", "C1=CC2CC2C1"]),
     "antiaromatic_three_ring": (["C1=CN1", "C1=CO1", "CC1=CS1"], ["C1CN1", "C1CO1", "C1=CC1"]),
+    "hetero_three_ring_on_arene": (["CC(=O)c1cccc2c1O2", "c1ccc2c(c1)N2"], ["c1ccc2c(c1)C2", "C1=CC2OC2C=C1", "c1ccc(C2CO2)cc1"]),
+    "chorded_aromatic_ring": (["CC(=O)c1c(O)c2ccc1=2"], ["c1ccc2c(c1)CC2", "c1ccc2c(c1)C2", "c1ccccc1"]),
     "monosubstituted_diazene": (["CN=N", "N=NCC1CC1=O"], ["CN=NC", "C=NN"]),
 }
 
