@@ -20,7 +20,7 @@ from .case import Case, load_case
 from .elements import default_elements
 from .errors import ElucidateError
 from .formula import parse_formula
-from .formulas import EXACT_MASS_OF, FormulaQuery, check_formula, derive_formulas
+from .formulas import EXACT_MASS_OF, FormulaQuery, case_query, check_formula, derive_formulas
 from .isotopes import ObservedCluster
 from .report import RULE_LABELS, formulas_json, formulas_text
 from .rules import RATIO_LEVELS, default_rules
@@ -241,19 +241,9 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
             )
         mass = mass_opt
         peaks = dict(ms.peaks) if ms else {}
-        spec = case.formula
-        if spec.known is not None:
-            elements = {s: (n, n) for s, n in spec.known.counts}
-            ratios = "off"  # a known formula is not second-guessed by heuristics
-        else:
-            elements = dict(spec.elements) if spec.elements is not None else dict(rules.default_elements)
-            ratios = spec.element_ratios
-        dbe = spec.dbe if spec.dbe is not None else rules.default_dbe
-        exact = ms.exact_mass if ms else None
-        exact_of = ms.exact_mass_of if ms else "ion"
-        ppm = ms.mass_tolerance_ppm if ms else 5.0
-        if args.molecular_ion is not None and exact is not None and abs(exact - mass) >= 1:
-            exact = None  # the case's exact mass belongs to another M
+        asked = case_query(case, mass)  # the case's own question; the options below override it
+        elements, dbe, ratios = dict(asked.elements), asked.dbe, asked.element_ratios
+        exact, exact_of, ppm = asked.exact_mass, asked.exact_mass_of, asked.mass_tolerance_ppm
     if args.peaks is not None:
         peaks = _parse_peaks(args.peaks)
     if args.elements is not None:

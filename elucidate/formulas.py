@@ -12,6 +12,8 @@ prints both timings side by side; the direct method is kept as default because i
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import itertools
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -22,6 +24,9 @@ import numpy as np
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 from .formula import Formula, ppm_error
+
+if TYPE_CHECKING:
+    from .case import Case
 from .isotopes import ClusterFit, ClusterReading, ObservedCluster, _power, chi2_matrix, fit_cluster, read_cluster
 from .rules import (
     RATIO_LEVELS,
@@ -44,6 +49,7 @@ __all__ = [
     "enumerate_compositions",
     "check_formula",
     "derive_formulas",
+    "case_query",
 ]
 
 #: filter names in the order they are applied
@@ -533,3 +539,29 @@ def limits_for(
     return dict(elements) if elements is not None else dict(r.default_elements)
 
 
+def case_query(case: "Case", molecular_ion: int) -> FormulaQuery:
+    """The formula question a case asks for one molecular-ion hypothesis: its element limits
+    (a known formula fixes them and switches the element-ratio heuristic off), DBE range, exact
+    mass when it belongs to this M, and the isotope cluster at M."""
+    rules = default_rules()
+    ms = case.mass_spec
+    spec = case.formula
+    if spec.known is not None:
+        elements = {s: (n, n) for s, n in spec.known.counts}
+        ratios = "off"
+    else:
+        elements = dict(spec.elements) if spec.elements is not None else dict(rules.default_elements)
+        ratios = spec.element_ratios
+    peaks = dict(ms.peaks) if ms else {}
+    exact = ms.exact_mass if ms and ms.exact_mass is not None and abs(ms.exact_mass - molecular_ion) < 1 else None
+    cluster = ObservedCluster.from_peaks(molecular_ion, peaks, max_offset=rules.isotope_max_offset) if peaks else None
+    return FormulaQuery(
+        nominal_mass=molecular_ion,
+        elements=elements,
+        dbe=spec.dbe if spec.dbe is not None else rules.default_dbe,
+        element_ratios=ratios,
+        exact_mass=exact,
+        exact_mass_of=ms.exact_mass_of if ms else "ion",
+        mass_tolerance_ppm=ms.mass_tolerance_ppm if ms else 5.0,
+        cluster=cluster,
+    )

@@ -136,6 +136,29 @@ def _plans(
     return plans
 
 
+def _selection_plans(
+    formula: Formula,
+    table: ElementTable | None,
+    selection: Selection | None,
+    *,
+    max_rings: int | None,
+    max_bond_order: int,
+    lowest_valence: bool,
+) -> tuple[list[_Plan], tuple[Any, ...]]:
+    """The plans for ``formula`` with the required groups' bounds, and the groups' skeleton
+    patterns: what :func:`isomer_smiles` walks and :func:`estimate_structures` estimates."""
+    required = selection.require if selection is not None else ()
+    plans = _plans(
+        formula,
+        table or default_elements(),
+        max_rings=max_rings,
+        max_bond_order=max_bond_order,
+        lowest_valence=lowest_valence,
+        required=required,
+    )
+    return plans, (selection.skeleton_patterns() if selection is not None else ())
+
+
 def _has_elements(formula: Formula, required: Sequence[str]) -> bool:
     from ._rdkit import Chem
 
@@ -163,8 +186,10 @@ def _task_structures(plan: _Plan, part: Partial, prefilter: tuple[Any, ...] = ()
         if plan.hydrogens == v and _allowed_alone(sym, v):
             yield Structure((sym,), (), (plan.hydrogens,), (v,))
         return
+    labels, counts = list(plan.labels), list(plan.counts)
+    test = _SkeletonTest(prefilter, labels) if prefilter else None  # once per task, reused per skeleton
     for size, edges in grow(part, plan.n, plan.bounds, plan.rings_max):
-        yield from _on_skeleton(size, edges, list(plan.labels), list(plan.counts), plan.bond_sum, plan.max_extra, prefilter)
+        yield from _on_skeleton(size, edges, labels, counts, plan.bond_sum, plan.max_extra, test)
 
 
 def structures(
@@ -200,18 +225,17 @@ def _on_skeleton(
     counts: list[int],
     bond_sum: int,
     max_extra: int,
-    prefilter: tuple[Any, ...] = (),
+    test: "_SkeletonTest | None" = None,
 ) -> Iterator[Structure]:
-    """Structures on one skeleton. ``prefilter``: (shape, labelled, kekule) patterns that the
-    bare skeleton, the labelled skeleton and the labelled multigraph must match (necessary
-    conditions of required groups; see groups.yaml ``skeleton`` and ``kekule``)."""
+    """Structures on one skeleton. ``test``: the necessary conditions of required groups that
+    the bare skeleton, the labelled skeleton and the labelled multigraph must meet (groups.yaml
+    ``skeleton`` and ``kekule``)."""
     valence = [v for _, v in labels]
     special = [label in OXO_STATES for label in labels]
     m = len(edges)
     extra_total = bond_sum - m
     if extra_total < 0 or extra_total > max_extra * m:
         return
-    test = _SkeletonTest(prefilter, labels) if prefilter else None
     if test is not None and not test.bare_ok(n, edges):
         return
     degree = [0] * n
@@ -553,17 +577,14 @@ def isomer_smiles(
         raise ElucidateError("empty formula")
     if workers < 1:
         raise ElucidateError(f"workers must be 1 or more, got {workers}")
-    t = table or default_elements()
-    required = selection.require if selection is not None else ()
-    plans = _plans(
-        formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence, required=required
+    plans, prefilter = _selection_plans(
+        formula, table, selection, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence
     )
     compiled = _compiled_selection(selection)
     counts: dict[str, int] = removed if removed is not None else {}
     if compiled is not None:
         for label in compiled.labels:
             counts.setdefault(label, 0)
-    prefilter = selection.skeleton_patterns() if selection is not None else ()
     if workers == 1:
         for i, part in _tasks(plans):
             yield from _task_smiles(plans[i], part, kekule, compiled, counts, prefilter)
@@ -601,12 +622,9 @@ def estimate_structures(
     """
     import random
 
-    t = table or default_elements()
-    required = selection.require if selection is not None else ()
-    plans = _plans(
-        formula, t, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence, required=required
+    plans, prefilter = _selection_plans(
+        formula, table, selection, max_rings=max_rings, max_bond_order=max_bond_order, lowest_valence=lowest_valence
     )
-    prefilter = selection.skeleton_patterns() if selection is not None else ()
     rng = random.Random(seed)
     total = 0.0
     for plan in plans:

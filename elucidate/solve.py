@@ -24,14 +24,11 @@ from .evidence.infrared import Infrared
 from .evidence.infrared import IRReading, read_bands
 from .evidence.weights import ScoringTable, default_scoring
 from .formula import Formula
-from .formulas import FormulaQuery, check_formula, derive_formulas
+from .formulas import case_query, check_formula, derive_formulas
 from .groups import GroupTable, default_groups
-from .isotopes import ObservedCluster
-from .rules import default_rules
 from .selection import CompiledSelection, Selection
 
 __all__ = [
-    "case_query",
     "molecular_ion_hypotheses",
     "KeptFormula",
     "Ranked",
@@ -48,34 +45,6 @@ DEFAULT_LIMIT = 200_000
 PROFILE = "stable"
 #: neutral losses tried when the molecular ion is not seen: highest peak + these (CH3, OH, H2O)
 LOSSES_FOR_M = (0, 15, 17, 18)
-
-
-def case_query(case: Case, molecular_ion: int) -> FormulaQuery:
-    """The formula question a case asks for one molecular-ion hypothesis."""
-    rules = default_rules()
-    ms = case.mass_spec
-    spec = case.formula
-    if spec.known is not None:
-        elements = {s: (n, n) for s, n in spec.known.counts}
-        ratios = "off"
-    else:
-        elements = dict(spec.elements) if spec.elements is not None else dict(rules.default_elements)
-        ratios = spec.element_ratios
-    peaks = dict(ms.peaks) if ms else {}
-    exact = ms.exact_mass if ms and ms.exact_mass is not None and abs(ms.exact_mass - molecular_ion) < 1 else None
-    cluster = None
-    if peaks and molecular_ion in peaks:
-        cluster = ObservedCluster.from_peaks(molecular_ion, peaks, max_offset=rules.isotope_max_offset)
-    return FormulaQuery(
-        nominal_mass=molecular_ion,
-        elements=elements,
-        dbe=spec.dbe if spec.dbe is not None else rules.default_dbe,
-        element_ratios=ratios,
-        exact_mass=exact,
-        exact_mass_of=ms.exact_mass_of if ms else "ion",
-        mass_tolerance_ppm=ms.mass_tolerance_ppm if ms else 5.0,
-        cluster=cluster,
-    )
 
 
 def molecular_ion_hypotheses(case: Case) -> tuple[int, ...]:
@@ -175,6 +144,11 @@ class Solution:
     notes: tuple[str, ...] = ()
 
 
+def _techniques(groups: GroupTable) -> list[Any]:
+    """One instance of every technique, the group vocabulary given to those that read it."""
+    return [Infrared(groups) if cls is Infrared else cls() for cls in TECHNIQUES]
+
+
 def hard_selection(case: Case, techniques: Sequence[Any]) -> Selection:
     require: list[str] = []
     forbid: list[str] = []
@@ -226,8 +200,7 @@ def _score_chunk(job: _Job) -> list[tuple[float, dict[str, float], tuple[Assessm
     from .formula import parse_formula
 
     case, items, groups, scoring = job
-    made = (Infrared(groups) if cls is Infrared else cls() for cls in TECHNIQUES)
-    techniques = [t for t in made if t.applies(case)]
+    techniques = [t for t in _techniques(groups) if t.applies(case)]
     out = []
     with quiet_rdkit():
         for smiles, formula, m, isotope in items:
@@ -255,8 +228,9 @@ def solve(
 
     g = groups or default_groups()
     sc = scoring or default_scoring()
-    techniques = [t for t in (cls() for cls in TECHNIQUES) if t.applies(case)]
-    selection = hard_selection(case, [cls() for cls in TECHNIQUES])
+    every = _techniques(g)
+    techniques = [t for t in every if t.applies(case)]
+    selection = hard_selection(case, every)
     compiled = selection.compile(g)
     hypotheses = molecular_ion_hypotheses(case)
     kept: list[KeptFormula] = []

@@ -20,6 +20,7 @@ from collections.abc import Mapping
 from typing import Any
 
 from ..case import Case
+from ..patterns import compiled_smarts
 from .base import Assessment, Subject
 from .weights import ScoringTable, default_scoring
 
@@ -38,7 +39,6 @@ def _split_geminal(mol: Any) -> Any:
     """A copy in which one of each pair of identical geminal groups on a C=C whose other end is
     unsymmetric carries an isotope label, so ranking tells the pair apart."""
     from .._rdkit import Chem
-    from ..patterns import compiled_smarts
 
     if not mol.HasSubstructMatch(compiled_smarts("[CX3;H0](-[#6,#7,#8,#9,#15,#16,#17,#35,#53])(-[#6,#7,#8,#9,#15,#16,#17,#35,#53])=[C]")):
         return mol  # no C=C end with two substituents: nothing to split
