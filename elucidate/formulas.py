@@ -12,21 +12,17 @@ prints both timings side by side; the direct method is kept as default because i
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 import itertools
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from fractions import Fraction
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 from .formula import Formula, ppm_error
-
-if TYPE_CHECKING:
-    from .case import Case
 from .isotopes import ClusterFit, ClusterReading, ObservedCluster, _power, chi2_matrix, fit_cluster, read_cluster
 from .rules import (
     RATIO_LEVELS,
@@ -38,6 +34,9 @@ from .rules import (
     rule_of_13,
     senior_rules,
 )
+
+if TYPE_CHECKING:
+    from .case import Case
 
 __all__ = [
     "RULES",
