@@ -1,0 +1,29 @@
+"""The outputs recorded before the package was reorganised stay byte-identical.
+
+The reference is the program's own earlier output (``tests/golden/outputs.json``, recorded by
+``tests/golden/record.py`` before the change): this is a regression check, not a check of
+correctness, which the other test files make against outside sources.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+from pathlib import Path
+
+import pytest
+
+from elucidate.cli import main
+
+GOLDEN = Path(__file__).resolve().parent / "golden" / "outputs.json"
+RECORDS = json.loads(GOLDEN.read_text(encoding="utf-8"))
+
+
+@pytest.mark.parametrize("record", RECORDS, ids=[" ".join(r["argv"][:2]) + f"#{i}" for i, r in enumerate(RECORDS)])
+def test_output_is_byte_identical(record: dict, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.chdir(GOLDEN.parents[2])
+    out, err = io.StringIO(), io.StringIO()
+    code = main(record["argv"], stdout=out, stderr=err)
+    assert code == record["code"]
+    assert err.getvalue() == record["stderr"]
+    assert out.getvalue() == record["stdout"]
