@@ -15,7 +15,8 @@ import time
 
 from elucidate import parse_formula
 from elucidate._rdkit import Chem
-from elucidate.generate import _to_mol, isomer_smiles, structures
+from elucidate.generator import GeneratorOptions, isomer_smiles, structures
+from elucidate.generator.smiles import to_mol
 
 
 CONSTRAINED = [
@@ -29,18 +30,18 @@ def constrained(verify: bool) -> None:
     """The constrained targets (goal < 2 s each with one worker). With ``verify``, also filter
     the exhaustive set (millions of structures, two workers, many minutes) with the groups'
     SMARTS applied afresh by RDKit and say whether the results are equal."""
-    from elucidate.groups import default_groups
-    from elucidate.selection import Selection
+    from elucidate.generator.groups import default_groups
+    from elucidate.generator.selection import Selection
 
     print(f"{'formula':>8} {'required':>24} {'isomers':>8} {'seconds':>8}" + ("  exhaustive  filtered  equal" if verify else ""))
     for text, required in CONSTRAINED:
         t0 = time.perf_counter()
-        found = list(isomer_smiles(parse_formula(text), selection=Selection(require=required)))
+        found = list(isomer_smiles(parse_formula(text), GeneratorOptions(selection=Selection(require=required))))
         line = f"{text:>8} {' + '.join(required):>24} {len(found):>8} {time.perf_counter() - t0:>8.1f}"
         if verify:
             patterns = [Chem.MolFromSmarts(default_groups()[name].smarts) for name in required]
             total, kept = 0, []
-            for smiles in isomer_smiles(parse_formula(text), workers=2):
+            for smiles in isomer_smiles(parse_formula(text), GeneratorOptions(workers=2)):
                 total += 1
                 mol = Chem.MolFromSmiles(smiles)
                 if all(mol.HasSubstructMatch(p) for p in patterns):
@@ -66,7 +67,7 @@ def main() -> None:
         t_smiles = time.perf_counter() - t0
         mols = []
         for s in graphs:
-            mol = _to_mol(s)
+            mol = to_mol(s)
             Chem.SanitizeMol(mol)
             mols.append(mol)
         t0 = time.perf_counter()

@@ -18,10 +18,10 @@ from pathlib import Path
 from elucidate import load_case, parse_case, parse_formula
 from elucidate._rdkit import Chem, quiet_rdkit
 from elucidate.evidence import TECHNIQUES, make_subject
-from elucidate.generate import isomer_smiles
-from elucidate.groups import default_groups
-from elucidate.selection import Selection
-from elucidate.solve import solve
+from elucidate.generator import GeneratorOptions, isomer_smiles
+from elucidate.generator.groups import default_groups
+from elucidate.generator.selection import Selection
+from elucidate.solver import solve
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -51,7 +51,7 @@ nmr:
 def scoring_rate() -> None:
     case = load_case(ROOT / "cases" / "cr-0509-i.yaml")
     formula = parse_formula("C7H8O")
-    smiles = list(isomer_smiles(formula, selection=Selection(profile="stable")))
+    smiles = list(isomer_smiles(formula, GeneratorOptions(selection=Selection(profile="stable"))))
     groups = default_groups()
     techniques = [t() for t in TECHNIQUES]
     techniques = [t for t in techniques if t.applies(case)]

@@ -1,19 +1,42 @@
-"""RDKit in one place: the names the project uses and a context manager that silences its log.
+"""RDKit in one place: the names the project uses, type aliases, and a context manager that
+silences RDKit's log.
 
 Import RDKit only through this module so the rest of the code does not depend on its layout,
-and so commands that never touch structures (``formulas``, ``check`` without SMARTS) start fast.
+and so commands that never touch structures (``formulas``, ``check`` without SMARTS) start fast:
+other modules import it inside the functions that need it, or under ``TYPE_CHECKING`` for the
+aliases.
 """
 
 from __future__ import annotations
 
 import contextlib
 from collections.abc import Iterator
-from typing import Any
+from typing import TypeAlias
 
-__all__ = ["Chem", "Descriptors", "rdMolDescriptors", "quiet_rdkit", "mol_from_smiles", "mol_from_smarts"]
+from rdkit import Chem, RDLogger
+from rdkit.Chem import Descriptors, rdMolDescriptors
 
-from rdkit import Chem, RDLogger  # noqa: E402
-from rdkit.Chem import Descriptors, rdMolDescriptors  # noqa: E402
+__all__ = [
+    "Chem",
+    "Descriptors",
+    "rdMolDescriptors",
+    "Mol",
+    "RWMol",
+    "Atom",
+    "Bond",
+    "BondType",
+    "quiet_rdkit",
+    "mol_from_smiles",
+    "mol_from_smarts",
+]
+
+#: a molecule (aromaticity perceived unless said otherwise, hydrogens implicit)
+Mol: TypeAlias = Chem.Mol
+#: an editable molecule
+RWMol: TypeAlias = Chem.RWMol
+Atom: TypeAlias = Chem.Atom
+Bond: TypeAlias = Chem.Bond
+BondType: TypeAlias = Chem.BondType
 
 
 @contextlib.contextmanager
@@ -27,13 +50,15 @@ def quiet_rdkit() -> Iterator[None]:
         logger.setLevel(RDLogger.WARNING)
 
 
-def mol_from_smiles(smiles: str) -> Any:
+def mol_from_smiles(smiles: str) -> Mol | None:
     """Parse SMILES quietly; ``None`` when RDKit cannot read it."""
     with quiet_rdkit():
-        return Chem.MolFromSmiles(smiles)
+        mol: Mol | None = Chem.MolFromSmiles(smiles)
+    return mol
 
 
-def mol_from_smarts(smarts: str) -> Any:
+def mol_from_smarts(smarts: str) -> Mol | None:
     """Parse SMARTS quietly; ``None`` when RDKit cannot read it."""
     with quiet_rdkit():
-        return Chem.MolFromSmarts(smarts)
+        mol: Mol | None = Chem.MolFromSmarts(smarts)
+    return mol

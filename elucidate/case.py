@@ -9,15 +9,16 @@ naming the file, line and key. Case files are only ever read, never written.
 from __future__ import annotations
 
 import difflib
+import math
 import re
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from .defaults import ELEMENT_RATIOS, EXACT_MASS_KINDS, EXACT_MASS_OF, PPM_TOLERANCE, RATIO_LEVELS
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 from .formula import Formula, parse_formula, ppm_error
-from .rules import RATIO_LEVELS
 from .yamlnodes import (
     Located,
     as_choice,
@@ -47,6 +48,9 @@ __all__ = [
     "load_case",
     "parse_case",
     "isotope_span",
+    "mz_problem",
+    "intensity_problem",
+    "base_peak_problem",
 ]
 
 SCHEMA_VERSION = 1
@@ -74,8 +78,8 @@ class MassSpec:
     ionization: str = "EI"
     molecular_ion: int | None = None  # nominal m/z of M+.; None = unknown / absent
     exact_mass: float | None = None  # measured m/z (HRMS)
-    exact_mass_of: str = "ion"  # "ion": m/z of M+. (electron removed); "neutral": neutral mass
-    mass_tolerance_ppm: float = 5.0
+    exact_mass_of: str = EXACT_MASS_OF  # "ion": m/z of M+. (electron removed); "neutral": neutral mass
+    mass_tolerance_ppm: float = PPM_TOLERANCE
     peaks: Mapping[int, float] = field(default_factory=dict)  # m/z -> % of base peak
 
     @property
@@ -90,7 +94,7 @@ class FormulaSpec:
     known: Formula | None = None
     elements: Mapping[str, tuple[int, int]] | None = None  # None = the table's defaults
     dbe: tuple[int, int] | None = None
-    element_ratios: str = "common"
+    element_ratios: str = ELEMENT_RATIOS
 
 
 @dataclass(frozen=True)
@@ -155,6 +159,37 @@ def isotope_span(limits: Mapping[str, tuple[int, int]]) -> int:
     return 2 * sum(limits.get(s, (0, 0))[1] for s in ("Cl", "Br", "S", "Si")) + 4
 
 
+def mz_problem(mz: object, *, what: str = "m/z") -> str | None:
+    """What is wrong with a peak's m/z (a whole, positive nominal value), or None."""
+    if isinstance(mz, bool) or not isinstance(mz, int) or mz < 1:
+        hint = " (nominal m/z only: round to a whole number)" if isinstance(mz, float) else ""
+        return f"expected a whole, positive {what}; got {mz!r}{hint}"
+    return None
+
+
+#: what a peak intensity is
+INTENSITY = "an intensity from 0 to 100 (% of base peak)"
+
+
+def intensity_problem(value: object) -> str | None:
+    """What is wrong with a peak intensity (% of base peak, 0-100), or None."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return f"expected {INTENSITY}; got {value!r}"
+    if not math.isfinite(value) or not 0 <= value <= 100:
+        return f"expected {INTENSITY}; got {value!r}"
+    return None
+
+
+def base_peak_problem(intensities: Iterable[float]) -> str | None:
+    """Intensities are % of the base peak, so the largest must be 100; None when it is."""
+    values = list(intensities)
+    if values and max(values) != 100:
+        return (
+            f"intensities are % of the base peak, so the largest must be 100; the largest is {max(values):g}"
+        )
+    return None
+
+
 def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
     body = mapping(
         loc,
@@ -175,10 +210,10 @@ def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
     exact = None
     if "exact_mass" in body:
         exact = as_number(body["exact_mass"], minimum=0, exclusive_minimum=True, what="a measured m/z above 0")
-    exact_of = "ion"
+    exact_of = EXACT_MASS_OF
     if "exact_mass_of" in body:
-        exact_of = as_choice(body["exact_mass_of"], ("ion", "neutral"), what="one of")
-    ppm = 5.0
+        exact_of = as_choice(body["exact_mass_of"], EXACT_MASS_KINDS, what="one of")
+    ppm = PPM_TOLERANCE
     if "mass_tolerance_ppm" in body:
         if exact is None:
             raise body["mass_tolerance_ppm"].error("given without exact_mass; add exact_mass or remove it")
@@ -197,20 +232,13 @@ def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
         if not isinstance(ploc.value, dict):
             raise ploc.error("expected a mapping of m/z to intensity (% of base peak), e.g. {120: 30, 105: 100}")
         for mz, vloc in ploc.value.items():
-            if isinstance(mz, bool) or not isinstance(mz, int) or mz < 1:
-                hint = " (nominal m/z only: round to a whole number)" if isinstance(mz, float) else ""
-                raise ElucidateError(
-                    f"expected a whole, positive m/z as the key; got {mz!r}{hint}",
-                    file=vloc.file,
-                    line=vloc.line,
-                    key=vloc.key,
-                )
-            peaks[mz] = as_number(vloc, minimum=0, maximum=100, what="an intensity from 0 to 100 (% of base peak)")
-        if peaks and max(peaks.values()) != 100:
-            top = max(peaks.values())
-            raise ploc.error(
-                f"intensities are % of the base peak, so the largest must be 100; the largest is {top:g}"
-            )
+            problem = mz_problem(mz, what="m/z as the key")
+            if problem is not None:
+                raise ElucidateError(problem, file=vloc.file, line=vloc.line, key=vloc.key)
+            peaks[mz] = as_number(vloc, minimum=0, maximum=100, what=INTENSITY)
+        problem = base_peak_problem(peaks.values())
+        if problem is not None:
+            raise ploc.error(problem)
     return MassSpec(ionization, molecular_ion, exact, exact_of, ppm, dict(sorted(peaks.items()))), body
 
 
@@ -246,7 +274,7 @@ def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[
             elements[sym] = as_range(rloc)
         elements = {s: elements[s] for s in table.symbols if s in elements}
     dbe_range = as_range(body["dbe"], what="a DBE value or range such as 0-20") if "dbe" in body else None
-    ratios = "common"
+    ratios = ELEMENT_RATIOS
     if "element_ratios" in body:
         ratios = as_choice(body["element_ratios"], RATIO_LEVELS, what="one of")
     if known is not None and elements is not None:
@@ -291,7 +319,7 @@ def _infrared(loc: Located) -> Infrared:
     require = _names(body["require"], "group names") if "require" in body else ()
     forbid = _names(body["forbid"], "group names") if "forbid" in body else ()
     if require or forbid:
-        from .groups import default_groups
+        from .generator.groups import default_groups
 
         vocabulary = default_groups()
         for key, names in (("require", require), ("forbid", forbid)):
@@ -418,7 +446,7 @@ def _case(root: Located, table: ElementTable) -> Case:
             if spec.known is not None:
                 limits = {s: (n, n) for s, n in spec.known.counts}
             else:
-                from .rules import default_rules
+                from .formula_search.rules import default_rules
 
                 limits = dict(spec.elements) if spec.elements is not None else dict(default_rules().default_elements)
             ceiling = ms.molecular_ion + isotope_span(limits)

@@ -12,24 +12,21 @@ import os
 import re
 import sys
 from collections.abc import Sequence
+from dataclasses import replace
 from pathlib import Path
 from typing import TextIO
 
 from . import __version__
-from .case import Case, load_case
+from .case import Case, FormulaSpec, base_peak_problem, intensity_problem, load_case, mz_problem
+from .defaults import EXACT_MASS_KINDS, FORMULAS_PER_ION, ISOMERS_LIMIT, RATIO_LEVELS, SOLVER_LIMIT, WORKERS
 from .elements import default_elements
 from .errors import ElucidateError
 from .formula import parse_formula
-from .formulas import EXACT_MASS_OF, FormulaQuery, case_query, check_formula, derive_formulas
-from .isotopes import ObservedCluster
-from .report import RULE_LABELS, formulas_json, formulas_text
-from .rules import RATIO_LEVELS, default_rules
+from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
+from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
 from .yamlnodes import parse_range_text
 
-__all__ = ["main", "build_parser", "DEFAULT_LIMIT"]
-
-#: largest estimated isomer space `isomers` enumerates without --limit
-DEFAULT_LIMIT = 1_000_000
+__all__ = ["main", "build_parser"]
 
 _DESCRIPTION = """\
 Structure elucidation from routine evidence (EI mass spectrum, IR, UV-Vis, 13C counts).
@@ -66,7 +63,7 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument("--exact-mass", type=float, metavar="MZ", help="measured exact m/z (HRMS)")
     f.add_argument(
         "--exact-mass-of",
-        choices=EXACT_MASS_OF,
+        choices=EXACT_MASS_KINDS,
         help="'ion' (default): the exact mass is the m/z of M+. and one electron mass (0.000549 u) is "
         "subtracted from the neutral monoisotopic mass before comparing; 'neutral': compared as given",
     )
@@ -118,17 +115,15 @@ def build_parser() -> argparse.ArgumentParser:
     )
     g.add_argument("--list-groups", action="store_true", help="list the group names with their definitions and exit")
     g.add_argument("--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)")
-    g.add_argument("--workers", type=int, default=1, metavar="N", help="worker processes (default 1); the output and its order do not depend on N")
+    g.add_argument("--workers", type=int, default=WORKERS, metavar="N", help="worker processes (default 1); the output and its order do not depend on N")
     g.add_argument(
         "--limit",
         type=float,
-        default=DEFAULT_LIMIT,
+        default=ISOMERS_LIMIT,
         metavar="N",
-        help=f"refuse when the estimated number of structures exceeds N (default {DEFAULT_LIMIT:,.0f})",
+        help=f"refuse when the estimated number of structures exceeds N (default {ISOMERS_LIMIT:,.0f})",
     )
     g.add_argument("--sort", action="store_true", help="print the SMILES sorted (the same set and order for any run)")
-
-    from .solve import DEFAULT_LIMIT as SOLVE_LIMIT
 
     v = sub.add_parser(
         "solve",
@@ -149,14 +144,22 @@ def build_parser() -> argparse.ArgumentParser:
     v.add_argument("--top", type=int, default=10, metavar="N", help="shortlist length (default 10; 0 = all)")
     v.add_argument("--details", type=int, default=3, metavar="N", help="explain the top N in full (default 3)")
     v.add_argument("--json", action="store_true", help="print a JSON object instead of text")
-    v.add_argument("--formulas", type=int, default=5, metavar="N", help="formulas kept per molecular ion (default 5)")
-    v.add_argument("--workers", type=int, default=1, metavar="N", help="worker processes for generation (default 1)")
+    v.add_argument(
+        "--formulas",
+        type=int,
+        default=FORMULAS_PER_ION,
+        metavar="N",
+        help=f"formulas kept per molecular ion (default {FORMULAS_PER_ION})",
+    )
+    v.add_argument(
+        "--workers", type=int, default=WORKERS, metavar="N", help=f"worker processes for generation (default {WORKERS})"
+    )
     v.add_argument(
         "--limit",
         type=float,
-        default=SOLVE_LIMIT,
+        default=SOLVER_LIMIT,
         metavar="N",
-        help=f"skip a formula whose estimated structure space exceeds N (default {SOLVE_LIMIT:,.0f}); say so",
+        help=f"skip a formula whose estimated structure space exceeds N (default {SOLVER_LIMIT:,.0f}); say so",
     )
     return parser
 
@@ -169,6 +172,7 @@ def _tokens(text: str) -> list[str]:
 
 
 def _parse_peaks(text: str) -> dict[int, float]:
+    """``--peaks``: tokens mz:intensity, checked by the case loader's own peak checks."""
     peaks: dict[int, float] = {}
     for tok in _tokens(text):
         mz_text, sep, value_text = tok.partition(":")
@@ -181,13 +185,15 @@ def _parse_peaks(text: str) -> dict[int, float]:
                 f"--peaks: cannot read {tok!r}; expected mz:intensity such as 113:6.6 "
                 "(whole m/z, intensity in % of base peak, a point as the decimal mark)"
             ) from exc
-        if mz < 1 or not 0 <= value <= 100:
-            raise ElucidateError(f"--peaks: {tok!r}: m/z must be a positive whole number, intensity 0-100")
+        problem = mz_problem(mz) or intensity_problem(value)
+        if problem is not None:
+            raise ElucidateError(f"--peaks: {tok!r}: {problem}")
         if mz in peaks:
             raise ElucidateError(f"--peaks: m/z {mz} given twice")
         peaks[mz] = value
-    if peaks and max(peaks.values()) != 100:
-        raise ElucidateError("--peaks: intensities are % of the base peak, so the largest must be 100")
+    problem = base_peak_problem(peaks.values())
+    if problem is not None:
+        raise ElucidateError(f"--peaks: {problem}")
     return peaks
 
 
@@ -212,6 +218,8 @@ def _parse_elements(text: str) -> dict[str, tuple[int, int]]:
 
 
 def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
+    """The formula question: the case's (or the defaults' for a bare mass), built by the same
+    function the solver uses, then the options' overrides."""
     rules = default_rules()
     case: Case | None = None
     target = args.target.strip()
@@ -219,11 +227,7 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
         mass = int(target)
         if args.molecular_ion is not None:
             raise ElucidateError("give the mass once: either M as the first argument or --molecular-ion with a case")
-        peaks: dict[int, float] = {}
-        elements = dict(rules.default_elements)
-        dbe = rules.default_dbe
-        ratios = "common"
-        exact, exact_of, ppm = None, "ion", 5.0
+        query = formula_query(mass, formula=FormulaSpec(), mass_spec=None, rules=rules)
     else:
         if not Path(target).suffix and not Path(target).exists():
             raise ElucidateError(f"{target!r} is neither a nominal mass (whole number) nor a case file")
@@ -240,39 +244,27 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
                 key="mass_spec.molecular_ion",
             )
         mass = mass_opt
-        peaks = dict(ms.peaks) if ms else {}
-        asked = case_query(case, mass)  # the case's own question; the options below override it
-        elements, dbe, ratios = dict(asked.elements), asked.dbe, asked.element_ratios
-        exact, exact_of, ppm = asked.exact_mass, asked.exact_mass_of, asked.mass_tolerance_ppm
+        query = formula_query(mass, formula=case.formula, mass_spec=ms, rules=rules)
     if args.peaks is not None:
         peaks = _parse_peaks(args.peaks)
+        cluster = ObservedCluster.from_peaks(mass, peaks, max_offset=rules.isotope_max_offset) if peaks else None
+        query = replace(query, cluster=cluster)
     if args.elements is not None:
-        elements = _parse_elements(args.elements)
+        query = replace(query, elements=_parse_elements(args.elements))
     if args.dbe is not None:
-        dbe = _parse_range(args.dbe, "--dbe")
+        query = replace(query, dbe=_parse_range(args.dbe, "--dbe"))
     if args.element_ratios is not None:
-        ratios = args.element_ratios
+        query = replace(query, element_ratios=args.element_ratios)
     if args.exact_mass is not None:
-        exact = args.exact_mass
-        if abs(exact - mass) >= 1:
-            raise ElucidateError(f"--exact-mass {exact} cannot belong to nominal M {mass}")
+        if abs(args.exact_mass - mass) >= 1:
+            raise ElucidateError(f"--exact-mass {args.exact_mass} cannot belong to nominal M {mass}")
+        query = replace(query, exact_mass=args.exact_mass)
     if args.exact_mass_of is not None:
-        exact_of = args.exact_mass_of
+        query = replace(query, exact_mass_of=args.exact_mass_of)
     if args.ppm is not None:
         if args.ppm <= 0:
             raise ElucidateError("--ppm must be above 0")
-        ppm = args.ppm
-    cluster = ObservedCluster.from_peaks(mass, peaks, max_offset=rules.isotope_max_offset) if peaks else None
-    query = FormulaQuery(
-        nominal_mass=mass,
-        elements=elements,
-        dbe=dbe,
-        element_ratios=ratios,
-        exact_mass=exact,
-        exact_mass_of=exact_of,
-        mass_tolerance_ppm=ppm,
-        cluster=cluster,
-    )
+        query = replace(query, mass_tolerance_ppm=args.ppm)
     return query, case
 
 
@@ -348,9 +340,7 @@ def _progress(err: TextIO, estimate: float):  # type: ignore[no-untyped-def]
 
 
 def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
-    from .generate import estimate_structures, isomer_smiles
-    from .groups import default_groups
-    from .selection import Selection
+    from .generator import GeneratorOptions, Selection, default_groups, default_profiles, estimate_structures, isomer_smiles
 
     if args.list_groups:
         groups = default_groups()
@@ -373,36 +363,26 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         profile=args.profile,
     )
     if args.profile is not None:
-        from .plausibility import default_profiles
-
         default_profiles()[args.profile]  # unknown names raise with the list of profiles
     removed: dict[str, int] = {}
     if args.max_rings is not None and args.max_rings < 0:
         raise ElucidateError("--max-rings must be 0 or more")
-    max_rings = 0 if args.no_rings else args.max_rings
-    estimate = estimate_structures(
-        formula,
-        max_rings=max_rings,
+    options = GeneratorOptions(
+        kekule=args.kekule,
+        max_rings=0 if args.no_rings else args.max_rings,
         max_bond_order=args.max_bond_order,
         lowest_valence=args.lowest_valence,
         selection=selection,
+        workers=args.workers,
     )
+    estimate = estimate_structures(formula, options)
     if estimate > args.limit:
         raise ElucidateError(
             f"{formula}: about {estimate:,.0f} structures to test estimated (Knuth's tree-size estimate "
             f"of the space walked, before the constraints are tested), above the limit of {args.limit:,.0f}; "
             "narrow the question (--require, --max-rings, --max-bond-order) or raise the limit with --limit N"
         )
-    stream = isomer_smiles(
-        formula,
-        kekule=args.kekule,
-        max_rings=max_rings,
-        max_bond_order=args.max_bond_order,
-        lowest_valence=args.lowest_valence,
-        selection=selection,
-        removed=removed,
-        workers=args.workers,
-    )
+    stream = isomer_smiles(formula, options, removed=removed)
     if args.sort or args.json:
         stream = iter(sorted(stream))
     if args.json:
@@ -435,8 +415,8 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
 
 def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
-    from .solve import solve
-    from .solve_report import solve_json, solve_text
+    from .reports.solution_report import solve_json, solve_text
+    from .solver import solve
 
     for option in ("top", "details", "formulas"):
         if getattr(args, option) < 0:
@@ -444,7 +424,7 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
     if args.workers < 1:
         raise ElucidateError("--workers must be 1 or more")
     case = load_case(args.case)
-    solution = solve(case, limit=int(args.limit), max_formulas=args.formulas or 5, workers=args.workers)
+    solution = solve(case, limit=int(args.limit), max_formulas=args.formulas or FORMULAS_PER_ION, workers=args.workers)
     if args.json:
         json.dump(solve_json(solution, top=args.top), out, indent=1)
         out.write("\n")

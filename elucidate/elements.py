@@ -8,7 +8,7 @@ from functools import cached_property, lru_cache
 from pathlib import Path
 
 from .errors import ElucidateError
-from .tables import table_path
+from .tables import table_path, validated
 from .yamlnodes import Located, as_int, as_list, as_number, as_str, mapping, read_yaml_file
 
 __all__ = ["Isotope", "Element", "ElementTable", "load_elements", "default_elements"]
@@ -154,11 +154,7 @@ def load_elements(path: str | Path | None = None) -> ElementTable:
         electron_mass=as_number(top["electron_mass"], minimum=0, what="the electron mass in u"),
         source=source,
     )
-    try:
-        table.validate()
-    except ElucidateError as exc:
-        raise exc.in_file(str(file)) from exc
-    return table
+    return validated(table, root)
 
 
 @lru_cache(maxsize=1)

@@ -1,4 +1,4 @@
-"""Where the knowledge tables live, found the same way from a checkout and from a wheel.
+"""Where the knowledge tables live, and the one way a loaded table is validated.
 
 In a checkout the tables are the top-level ``constraints/`` folder next to the package. A wheel
 ships the same files as the package data ``elucidate/_constraints`` (see ``pyproject.toml``).
@@ -10,10 +10,13 @@ from __future__ import annotations
 import os
 from importlib import resources
 from pathlib import Path
+from collections.abc import Callable
+from typing import Protocol, TypeVar
 
 from .errors import ElucidateError
+from .yamlnodes import Located
 
-__all__ = ["tables_dir", "table_path"]
+__all__ = ["tables_dir", "table_path", "Validating", "validated"]
 
 _ENV = "ELUCIDATE_TABLES"
 
@@ -36,8 +39,7 @@ def tables_dir() -> Path:
     if (packaged / "elements.yaml").is_file():
         return packaged
     raise ElucidateError(
-        f"cannot find the knowledge tables (looked in {checkout} and {packaged}); "
-        f"reinstall elucidate or set {_ENV}"
+        f"cannot find the knowledge tables (looked in {checkout} and {packaged}); reinstall elucidate or set {_ENV}"
     )
 
 
@@ -47,3 +49,22 @@ def table_path(name: str) -> Path:
     if not path.is_file():
         raise ElucidateError(f"knowledge table {name!r} is missing from {path.parent}")
     return path
+
+
+class Validating(Protocol):
+    def validate(self) -> None: ...
+
+
+T = TypeVar("T", bound=Validating)
+
+
+def validated(table: T, root: Located, *, check: Callable[[], None] | None = None) -> T:
+    """``table`` after its ``validate()`` (or ``check``, a call of it with arguments); an error it
+    raises is placed in the table's file, on the line of the deepest key of its key path that
+    the file has."""
+    try:
+        (check or table.validate)()
+    except ElucidateError as exc:
+        found = root.find(exc.key) if exc.key else None
+        raise exc.in_file(root.file, found.line if found is not None else exc.line) from exc
+    return table

@@ -39,6 +39,7 @@ __all__ = [
 _MAX_NODES = 200_000
 _RANGE = re.compile(r"([0-9]+)\s*(?:-\s*([0-9]+))?", re.ASCII)
 _MAX_DEPTH = 60
+_KEY_PART = re.compile(r"([^.\[\]]+)|\[(\d+)\]")
 
 
 @dataclass(frozen=True)
@@ -64,6 +65,22 @@ class Located:
     @property
     def is_missing(self) -> bool:
         return self.value is None
+
+    def find(self, key: str) -> Located:
+        """The deepest value along a dotted key path such as ``rules[3].smarts`` (the path is
+        relative to this value; parts the document does not have are ignored)."""
+        node = self
+        for name, index in _KEY_PART.findall(key):
+            child: Located | None = None
+            position = index or (name if name.isdigit() else "")
+            if name and isinstance(node.value, dict):
+                child = next((v for k, v in node.value.items() if str(k) == name), None)
+            elif position and isinstance(node.value, list) and int(position) < len(node.value):
+                child = node.value[int(position)]
+            if child is None:
+                break
+            node = child
+        return node
 
 
 def read_yaml_file(path: str | Path) -> Located:

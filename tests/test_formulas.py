@@ -9,8 +9,8 @@ import pytest
 
 from elucidate import FormulaQuery, ObservedCluster, check_formula, default_elements, derive_formulas, parse_formula
 from elucidate.formula import Formula
-from elucidate.formulas import RULES, _first_failure, _ordered, enumerate_compositions
-from elucidate.rules import default_rules
+from elucidate.formula_search.search import RULES, enumerate_compositions, first_failure_codes, search_symbols
+from elucidate.formula_search.rules import default_rules
 
 TABLE = default_elements()
 DEFAULTS = dict(default_rules().default_elements)
@@ -48,9 +48,9 @@ def test_constraint_method_equals_direct(mass):
 def test_vectorized_filters_agree_with_reference(mass, level):
     query = FormulaQuery(mass, DEFAULTS, (0, 12), element_ratios=level, exact_mass=mass + 0.02, mass_tolerance_ppm=400)
     formulas = enumerate_compositions(mass, DEFAULTS)
-    symbols = _ordered(DEFAULTS, TABLE)
+    symbols = search_symbols(DEFAULTS, TABLE)
     arr = np.array([[f.get(s) for s in symbols] for f in formulas])
-    codes = _first_failure(arr, symbols, query, TABLE, default_rules())
+    codes = first_failure_codes(arr, symbols, query, TABLE, default_rules())
     for f, code in zip(formulas, codes):
         verdict = check_formula(f, query)
         assert (verdict[0] if verdict else None) == (RULES[code] if code >= 0 else None), str(f)

@@ -46,8 +46,8 @@ def test_mclafferty_needs_a_gamma_hydrogen():
 def test_table_validates_and_bad_rule_is_located(tmp_path):
     default_fragments().validate()
     bad = tmp_path / "fragments.yaml"
-    bad.write_text("strong_weight: 0.7\nmissing_penalty: 0.5\nrules:\n"
+    bad.write_text("strong_weight: 0.7\nmissing_penalty: 0.5\nlowest_mz: 26\nrules:\n"
                    "  - {name: x, kind: cleave, smarts: 'CC', weight: 0.5, what: w}\n")
     with pytest.raises(ElucidateError) as info:
         load_fragments(bad)
-    assert info.value.line == 4 and "mapped atoms" in info.value.message
+    assert info.value.line == 5 and "mapped atoms" in info.value.message

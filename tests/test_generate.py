@@ -11,8 +11,8 @@ from rdkit import Chem, RDLogger
 
 from elucidate import parse_formula
 from elucidate.formula import Formula
-from elucidate.generate import count_isomers, isomer_smiles, structures, to_smiles
-from elucidate.skeletons import skeletons
+from elucidate.generator import GeneratorOptions, count_isomers, isomer_smiles, structures, to_smiles
+from elucidate.generator.skeletons import skeletons
 
 RDLogger.DisableLog("rdApp.*")
 
@@ -35,7 +35,7 @@ def test_alkanes_A000602(n):
 @pytest.mark.slow
 @pytest.mark.parametrize("n", [12, 13, 14])
 def test_alkanes_A000602_large(n):
-    assert count_isomers(Formula.of({"C": n, "H": 2 * n + 2}), kekule=True) == A000602[n - 1]
+    assert count_isomers(Formula.of({"C": n, "H": 2 * n + 2}), GeneratorOptions(kekule=True)) == A000602[n - 1]
 
 
 @pytest.mark.parametrize("n", range(1, 9))
@@ -45,28 +45,28 @@ def test_skeletons_A121941(n):
 
 @pytest.mark.parametrize("n", range(1, 9))
 def test_saturated_hydrocarbons_A121941(n):
-    total = sum(count_isomers(f, kekule=True, max_bond_order=1) for f in _hydrocarbons(n))
+    total = sum(count_isomers(f, GeneratorOptions(kekule=True, max_bond_order=1)) for f in _hydrocarbons(n))
     assert total == A121941[n - 1]
 
 
 @pytest.mark.slow
 def test_saturated_hydrocarbons_A121941_n9():
-    assert sum(count_isomers(f, kekule=True, max_bond_order=1) for f in _hydrocarbons(9)) == A121941[8]
+    assert sum(count_isomers(f, GeneratorOptions(kekule=True, max_bond_order=1)) for f in _hydrocarbons(9)) == A121941[8]
 
 
 @pytest.mark.parametrize("n", range(1, 9))
 def test_acyclic_hydrocarbons_A002986(n):
-    assert sum(count_isomers(f, kekule=True, max_rings=0) for f in _hydrocarbons(n)) == A002986[n - 1]
+    assert sum(count_isomers(f, GeneratorOptions(kekule=True, max_rings=0)) for f in _hydrocarbons(n)) == A002986[n - 1]
 
 
 @pytest.mark.parametrize("n", range(1, 7))
 def test_all_hydrocarbons_A134818(n):
-    assert sum(count_isomers(f, kekule=True) for f in _hydrocarbons(n)) == A134818[n - 1]
+    assert sum(count_isomers(f, GeneratorOptions(kekule=True)) for f in _hydrocarbons(n)) == A134818[n - 1]
 
 
 @pytest.mark.slow
 def test_all_hydrocarbons_A134818_n7():
-    assert sum(count_isomers(f, kekule=True) for f in _hydrocarbons(7)) == A134818[6]
+    assert sum(count_isomers(f, GeneratorOptions(kekule=True)) for f in _hydrocarbons(7)) == A134818[6]
 
 
 ALCOHOL = Chem.MolFromSmarts("[CX4][OX2H1]")
@@ -81,12 +81,12 @@ def test_acyclic_alcohols_A000598(n):
 
 def test_benzene_formula_has_217_graphs():
     # C6H6: 217 constitutional isomers counted as graphs (published count, common practice)
-    assert count_isomers(parse_formula("C6H6"), kekule=True) == 217
+    assert count_isomers(parse_formula("C6H6"), GeneratorOptions(kekule=True)) == 217
 
 
 def test_kekule_forms_merge_by_default():
     # o-xylene's two Kekule forms are different graphs but one compound
-    kekule = set(isomer_smiles(parse_formula("C8H10"), kekule=True))
+    kekule = set(isomer_smiles(parse_formula("C8H10"), GeneratorOptions(kekule=True)))
     merged = set(isomer_smiles(parse_formula("C8H10")))
     assert len(kekule) == len(merged) + 1
     assert "Cc1ccccc1C" in merged
@@ -183,7 +183,7 @@ BRUTE = ["C4H8O", "C3H5N", "C3H6O2", "C2H4O2", "C4H6", "C3H3Cl", "CH3NO", "C2H5N
 @pytest.mark.parametrize("kekule", [True, False], ids=["graphs", "merged"])
 def test_against_brute_force(formula, kekule):
     f = parse_formula(formula)
-    ours = list(isomer_smiles(f, kekule=kekule, lowest_valence=True))  # the brute force knows lowest valences only
+    ours = list(isomer_smiles(f, GeneratorOptions(kekule=kekule, lowest_valence=True)))  # the brute force knows lowest valences only
     assert len(ours) == len(set(ours)), "duplicates"
     assert set(ours) == brute_force(f, kekule)
 
@@ -198,11 +198,11 @@ def test_against_brute_force(formula, kekule):
 def test_higher_valence_states_are_reachable(formula, smiles):
     found = set(isomer_smiles(parse_formula(formula)))
     assert Chem.MolToSmiles(Chem.MolFromSmiles(smiles)) in found
-    assert smiles not in set(isomer_smiles(parse_formula(formula), lowest_valence=True))
+    assert smiles not in set(isomer_smiles(parse_formula(formula), GeneratorOptions(lowest_valence=True)))
 
 
 def test_nitrobenzene_is_reachable():
-    found = set(isomer_smiles(parse_formula("C6H5NO2"), max_rings=1))
+    found = set(isomer_smiles(parse_formula("C6H5NO2"), GeneratorOptions(max_rings=1)))
     assert "O=[N+]([O-])c1ccccc1" in found
 
 
@@ -232,25 +232,25 @@ def test_structures_have_consistent_hydrogens():
 
 @pytest.mark.parametrize("formula", ["C6H6", "C5H9NO", "C4H4OS"])
 def test_output_is_identical_for_any_worker_count(formula):
-    from elucidate.selection import Selection
+    from elucidate.generator.selection import Selection
 
     f = parse_formula(formula)
     one = list(isomer_smiles(f))
-    assert list(isomer_smiles(f, workers=2)) == one
-    assert list(isomer_smiles(f, workers=3, kekule=True)) == list(isomer_smiles(f, kekule=True))
+    assert list(isomer_smiles(f, GeneratorOptions(workers=2))) == one
+    assert list(isomer_smiles(f, GeneratorOptions(workers=3, kekule=True))) == list(isomer_smiles(f, GeneratorOptions(kekule=True)))
     sel = Selection(forbid=("hydroxyl",))
     r1: dict[str, int] = {}
     r3: dict[str, int] = {}
-    assert list(isomer_smiles(f, selection=sel, removed=r1)) == list(isomer_smiles(f, selection=sel, removed=r3, workers=3))
+    assert list(isomer_smiles(f, GeneratorOptions(selection=sel), removed=r1)) == list(isomer_smiles(f, GeneratorOptions(selection=sel, workers=3), removed=r3))
     assert r1 == r3
 
 
 @pytest.mark.parametrize("formula", ["C6H14", "C6H6", "C7H8O", "C5H9NO"])
 def test_knuth_estimate_is_the_right_order_of_magnitude(formula):
-    from elucidate.generate import estimate_structures
+    from elucidate.generator import estimate_structures
 
     f = parse_formula(formula)
-    exact = count_isomers(f, kekule=True)
+    exact = count_isomers(f, GeneratorOptions(kekule=True))
     estimate = estimate_structures(f)
     assert exact / 5 <= estimate <= exact * 5
     assert estimate_structures(f) == estimate  # fixed seed: same formula, same estimate
@@ -260,11 +260,11 @@ def test_knuth_estimate_is_the_right_order_of_magnitude(formula):
 def test_certificate_fallback_for_large_groups_gives_the_same_isomers(formula, monkeypatch):
     # skeletons with more automorphisms than the listing limit are deduplicated by nauty
     # certificates instead; force that path everywhere and compare
-    import elucidate.generate as gen
-    from elucidate.skeletons import automorphisms
+    import elucidate.generator.labelling as gen
+    from elucidate.generator.skeletons import automorphisms
 
     f = parse_formula(formula)
-    normal = list(isomer_smiles(f, kekule=True))
+    normal = list(isomer_smiles(f, GeneratorOptions(kekule=True)))
     monkeypatch.setattr(gen, "automorphisms", lambda n, edges: automorphisms(n, edges, limit=1))
-    forced = list(isomer_smiles(f, kekule=True))
+    forced = list(isomer_smiles(f, GeneratorOptions(kekule=True)))
     assert sorted(forced) == sorted(normal) and len(forced) == len(set(forced))

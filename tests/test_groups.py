@@ -13,7 +13,7 @@ import pytest
 from rdkit import Chem
 
 from elucidate import ElucidateError
-from elucidate.groups import default_groups, load_groups
+from elucidate.generator.groups import default_groups, load_groups
 
 GROUPS = default_groups()
 
@@ -104,7 +104,7 @@ SKELETAL = [name for name in GROUPS.names if GROUPS[name].skeleton is not None]
 @functools.lru_cache(maxsize=1)
 def _isomer_corpus():
     from elucidate import parse_formula
-    from elucidate.generate import isomer_smiles
+    from elucidate.generator import isomer_smiles
 
     smiles = []
     for formula in ("C7H6O", "C4H7NO", "C4H6O2", "C3H5NO"):
@@ -132,13 +132,14 @@ def _structure_corpus():
     conditioned group — including N(V) and S(IV)/S(VI) states, fused and exocyclic π systems —
     with its sanitized molecule (atom order kept, so aromaticity flags index the multigraph)."""
     from elucidate import parse_formula
-    from elucidate.generate import _sanitized, structures
+    from elucidate.generator import structures
+    from elucidate.generator.smiles import sanitized
 
     out = []
     for formula in ("C7H6O", "C8H8", "C7H8", "C6H4O2", "C4H7NO", "C4H6O2", "C3H5NO", "C4H4O2", "C4H4O3",
                     "C3H3N", "C3H3ClO", "C2H3NO2", "C3H5NO2", "C2H6O2S", "C3H6OS"):
         for s in structures(parse_formula(formula)):
-            out.append((s, _sanitized(s, kekule=False)))
+            out.append((s, sanitized(s, kekule=False)))
     return tuple(out)
 
 
@@ -215,7 +216,7 @@ def test_pi_bond_bound_is_implied_by_the_group(group):
     ],
 )
 def test_min_pi_bonds_combines_classes(required, oxo, bound):
-    from elucidate.groups import min_pi_bonds
+    from elucidate.generator.groups import min_pi_bonds
 
     assert min_pi_bonds(required, GROUPS, oxo=oxo) == bound
 

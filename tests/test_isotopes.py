@@ -12,8 +12,8 @@ import numpy as np
 import pytest
 
 from elucidate import ObservedCluster, isotope_pattern, parse_formula, read_cluster
-from elucidate.formulas import _patterns
-from elucidate.isotopes import IsotopeTolerance, chi2_matrix, fit_cluster
+from elucidate.formula_search.isotopes import cluster_matrix
+from elucidate.formula_search.isotopes import IsotopeTolerance, chi2_matrix, fit_cluster
 
 
 def _relative_to_max(pattern):
@@ -71,7 +71,7 @@ def test_vectorized_patterns_equal_single_patterns():
 
     symbols = list(default_elements().symbols)
     rows = np.array([[parse_formula(f).get(s) for s in symbols] for f in formulas])
-    together = _patterns(rows, symbols, default_elements(), 8)
+    together = cluster_matrix(rows, symbols, default_elements(), 8)
     for f, row in zip(formulas, together):
         assert np.allclose(row, isotope_pattern(parse_formula(f), max_offset=8), rtol=1e-12, atol=1e-12)
 

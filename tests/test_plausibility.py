@@ -11,9 +11,9 @@ import pytest
 from rdkit import Chem
 
 from elucidate import ElucidateError, parse_formula
-from elucidate.generate import isomer_smiles
-from elucidate.plausibility import bridgehead_double_bond, default_profiles, load_profiles
-from elucidate.selection import Selection
+from elucidate.generator import GeneratorOptions, isomer_smiles
+from elucidate.generator.plausibility import bridgehead_double_bond, default_profiles, load_profiles
+from elucidate.generator.selection import Selection
 
 STABLE = {r.name: r for r in default_profiles()["stable"]}
 
@@ -59,7 +59,7 @@ def test_bredt_keeps_fused_ring_double_bonds():
 
 def test_profile_filter_counts_each_rule():
     removed: dict[str, int] = {}
-    kept = list(isomer_smiles(parse_formula("C3H6O"), selection=Selection(profile="stable"), removed=removed))
+    kept = list(isomer_smiles(parse_formula("C3H6O"), GeneratorOptions(selection=Selection(profile="stable")), removed=removed))
     assert "CC=CO" not in kept and "C=C(C)O" not in kept  # enols
     assert "CC(C)=O" in kept
     assert removed["implausible enol"] == 2  # C=C(C)O and CC=CO; allyl alcohol is no enol

@@ -13,7 +13,7 @@ import pytest
 from rdkit import Chem
 
 from elucidate import load_case
-from elucidate.solve import solve
+from elucidate.solver import solve
 
 HERE = Path(__file__).parent / "reference_cases"
 

@@ -7,8 +7,8 @@ from fractions import Fraction
 import pytest
 
 from elucidate import ElucidateError, default_rules, kind_fiehn, nitrogen_rule, parse_formula, rule_of_13, senior_rules
-from elucidate.formulas import enumerate_compositions
-from elucidate.rules import load_formula_rules, rule_of_13_formulas
+from elucidate.formula_search import enumerate_compositions
+from elucidate.formula_search.rules import load_formula_rules, rule_of_13_formulas
 
 RULES = default_rules()
 

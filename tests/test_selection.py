@@ -10,10 +10,10 @@ import pytest
 from rdkit import Chem
 
 from elucidate import ElucidateError, parse_formula
-from elucidate.generate import isomer_smiles
-from elucidate.groups import default_groups
-from elucidate.plausibility import default_profiles
-from elucidate.selection import Selection
+from elucidate.generator import GeneratorOptions, isomer_smiles
+from elucidate.generator.groups import default_groups
+from elucidate.generator.plausibility import default_profiles
+from elucidate.generator.selection import Selection
 
 GROUPS = default_groups()
 
@@ -118,7 +118,7 @@ def _reference(formula, spec):
 def test_constrained_equals_filtered(formula, spec):
     removed: dict[str, int] = {}
     selection = Selection(**spec)
-    pushed = list(isomer_smiles(parse_formula(formula), selection=selection, removed=removed))
+    pushed = list(isomer_smiles(parse_formula(formula), GeneratorOptions(selection=selection), removed=removed))
     reference = _reference(formula, spec)
     assert pushed == reference
     if not selection.pushed():  # pruned skeletons are never generated, so not counted
@@ -127,7 +127,7 @@ def test_constrained_equals_filtered(formula, spec):
 
 def test_contradictory_constraints_are_refused():
     with pytest.raises(ElucidateError, match="both required and forbidden"):
-        list(isomer_smiles(parse_formula("C4H8O"), selection=Selection(require=("ketone",), forbid=("ketone",))))
+        list(isomer_smiles(parse_formula("C4H8O"), GeneratorOptions(selection=Selection(require=("ketone",), forbid=("ketone",)))))
 
 
 def test_cli_require_and_removed_counts(cli):

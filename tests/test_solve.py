@@ -6,7 +6,7 @@ from __future__ import annotations
 import pytest
 
 from elucidate import parse_case
-from elucidate.solve import LOSSES_FOR_M, molecular_ion_hypotheses, solve
+from elucidate.solver import LOSSES_FOR_M, molecular_ion_hypotheses, solve
 
 from conftest import CASES
 

@@ -1,29 +1,34 @@
 """Evidence techniques: each module implements :class:`~elucidate.evidence.base.Technique`
-(hard constraints where it declares any, a score 0-1, reasons) with its own knowledge table."""
+(hard constraints where it declares any, a score 0-1, reasons, its report column and detail)
+with its own knowledge table. A new technique is one module, one table and one test file, and
+one entry in :data:`TECHNIQUES`."""
 
 from __future__ import annotations
 
-from .base import Assessment, Subject, Technique, make_subject
+from .base import Assessment, Reading, Subject, Technique, make_subject
 from .carbon13 import Carbon13, carbon_classes
 from .fragments import Fragments, predict_ions
 from .infrared import Infrared, read_bands
+from .isotope_fit import IsotopeFit
 from .uv import UvVis, predict_lambda_max
 
-#: the techniques the solver runs, in report order
-TECHNIQUES = (Infrared, UvVis, Fragments, Carbon13)
+#: the techniques the solver runs, in report order; each is built with no arguments
+TECHNIQUES: tuple[type[Technique], ...] = (IsotopeFit, Infrared, UvVis, Fragments, Carbon13)
 
 __all__ = [
+    "TECHNIQUES",
     "Assessment",
+    "Carbon13",
+    "Fragments",
+    "Infrared",
+    "IsotopeFit",
+    "Reading",
     "Subject",
     "Technique",
-    "make_subject",
-    "TECHNIQUES",
-    "Infrared",
-    "read_bands",
     "UvVis",
-    "predict_lambda_max",
-    "Fragments",
-    "predict_ions",
-    "Carbon13",
     "carbon_classes",
+    "make_subject",
+    "predict_ions",
+    "predict_lambda_max",
+    "read_bands",
 ]

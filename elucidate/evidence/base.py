@@ -3,20 +3,26 @@
 A technique reads its own section of the case and its own knowledge table. It may declare hard
 constraints (only what the chemist declared: required/forbidden groups, SMARTS), and it scores
 every candidate from 0 (contradicts the data) to 1 (fits), with one-line reasons and a detail
-record for the full explanation. Soft evidence never eliminates a candidate.
+record for the full explanation. Soft evidence never eliminates a candidate. The technique also
+says how it appears in reports: its component name, its weight key in
+``constraints/scoring.yaml``, its short column label, how its detail renders and, if it has
+one, its own reading of the case's data for the chemist.
 """
 
 from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any, Protocol
+from typing import TYPE_CHECKING, Any, Literal, Protocol
 
 from ..case import Case
 from ..formula import Formula
-from ..groups import GroupTable
+from ..generator.groups import GroupTable
 
-__all__ = ["Subject", "Assessment", "Technique", "make_subject"]
+if TYPE_CHECKING:
+    from .._rdkit import Mol
+
+__all__ = ["Subject", "Assessment", "Reading", "Technique", "make_subject"]
 
 
 @dataclass(frozen=True)
@@ -24,15 +30,23 @@ class Subject:
     """One candidate structure as the techniques see it."""
 
     smiles: str
-    mol: Any  # RDKit Mol, aromaticity perceived, hydrogens implicit
+    mol: Mol  # aromaticity perceived, hydrogens implicit
     formula: Formula
     groups: frozenset[str]  # names from the group vocabulary that the structure has
     molecular_ion: int | None  # the nominal M it is scored under (None: not known)
+    isotope_score: float | None = None  # its formula's isotope-cluster fit (None: no cluster)
 
 
-def make_subject(smiles: str, mol: Any, formula: Formula, groups: GroupTable, molecular_ion: int | None) -> Subject:
+def make_subject(
+    smiles: str,
+    mol: Mol,
+    formula: Formula,
+    groups: GroupTable,
+    molecular_ion: int | None,
+    isotope_score: float | None = None,
+) -> Subject:
     present = frozenset(name for name in groups.names if mol.HasSubstructMatch(groups[name].pattern))
-    return Subject(smiles, mol, formula, present, molecular_ion)
+    return Subject(smiles, mol, formula, present, molecular_ion, isotope_score)
 
 
 @dataclass(frozen=True)
@@ -42,19 +56,50 @@ class Assessment:
     technique: str
     score: float  # 0..1
     reasons: tuple[str, ...] = ()
-    detail: Mapping[str, Any] = field(default_factory=dict)
+    detail: Mapping[str, Any] = field(default_factory=dict)  # JSON-ready
+
+
+@dataclass(frozen=True)
+class Reading:
+    """A technique's own reading of the case's data (not of a candidate), for the chemist to
+    judge and copy into the case: text lines for the report and a JSON-ready record."""
+
+    title: str
+    lines: tuple[str, ...]
+    data: Mapping[str, Any]
 
 
 class Technique(Protocol):
-    """One evidence technique: a module plus its knowledge table."""
+    """One evidence technique: a module plus its knowledge table.
+
+    ``name``: the component name in reports and JSON; ``weight_key``: its weight in
+    ``constraints/scoring.yaml``; ``label``: the short column label; ``stage``: ``"formula"``
+    for evidence about the formula (the isotope cluster), ``"structure"`` for evidence about the
+    structure; ``reading_key``: the JSON key of its reading, or None if it has none.
+    """
 
     name: str
+    weight_key: str
+    label: str
+    stage: Literal["formula", "structure"]
+    reading_key: str | None
 
     def applies(self, case: Case) -> bool:
         """Whether the case holds data this technique can use."""
+        ...
 
     def hard_constraints(self, case: Case) -> Mapping[str, tuple[str, ...]]:
-        """Declared constraints that eliminate (keys of :class:`~elucidate.selection.Selection`)."""
+        """Declared constraints that eliminate (keys of :class:`~elucidate.generator.Selection`)."""
+        ...
 
-    def assess(self, subject: Subject, case: Case) -> Assessment:
-        """Score one candidate with reasons."""
+    def assess(self, subject: Subject, case: Case) -> Assessment | None:
+        """Score one candidate with reasons; None when this candidate has no such evidence."""
+        ...
+
+    def detail_lines(self, assessment: Assessment) -> list[str]:
+        """The full explanation of one assessment, one report line each."""
+        ...
+
+    def read(self, case: Case) -> Reading | None:
+        """The technique's own reading of the case's data, or None."""
+        ...

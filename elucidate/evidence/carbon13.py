@@ -9,7 +9,7 @@ come from hydrogen counts.
 
 Scoring: fewer observed signals than predicted can be accidental overlap (mild penalty per
 missing signal); more observed signals than the structure can give is a strong penalty, never
-an elimination. The penalties live in ``constraints/scoring.yaml``.
+an elimination. The penalties live in ``constraints/carbon13.yaml``.
 """
 
 from __future__ import annotations
@@ -17,25 +17,67 @@ from __future__ import annotations
 import math
 from collections import Counter
 from collections.abc import Mapping
-from typing import Any
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+from typing import TYPE_CHECKING, Literal
 
 from ..case import Case
-from ..patterns import compiled_smarts
-from .base import Assessment, Subject
-from .weights import ScoringTable, default_scoring
+from ..errors import ElucidateError
+from ..smarts import compiled_smarts
+from ..tables import table_path, validated
+from ..yamlnodes import as_number, as_str, mapping, read_yaml_file
+from .base import Assessment, Reading, Subject
 
-__all__ = ["carbon_classes", "Carbon13"]
+if TYPE_CHECKING:
+    from .._rdkit import Mol
+
+__all__ = ["Carbon13Table", "load_carbon13", "default_carbon13", "carbon_classes", "Carbon13"]
+
+_PENALTIES = ("missing_signal", "extra_signal", "missing_multiplicity", "extra_multiplicity")
+
+
+@dataclass(frozen=True, eq=False)
+class Carbon13Table:
+    """The contents of ``carbon13.yaml``: log-score penalties per signal."""
+
+    missing_signal: float
+    extra_signal: float
+    missing_multiplicity: float
+    extra_multiplicity: float
+    source: str = ""
+
+    def validate(self) -> None:
+        if self.extra_signal < self.missing_signal:
+            raise ElucidateError(
+                "an impossible extra signal must cost at least as much as a missing (overlapping) one",
+                key="extra_signal",
+            )
+
+
+def load_carbon13(path: str | Path | None = None) -> Carbon13Table:
+    file = Path(path) if path is not None else table_path("carbon13.yaml")
+    document = read_yaml_file(file)
+    root = mapping(document, ["source", *_PENALTIES], required=list(_PENALTIES))
+    values = [as_number(root[k], minimum=0, what="a penalty of 0 or more") for k in _PENALTIES]
+    source = as_str(root["source"]) if "source" in root else ""
+    return validated(Carbon13Table(*values, source=source), document)
+
+
+@lru_cache(maxsize=1)
+def default_carbon13() -> Carbon13Table:
+    return load_carbon13()
 
 _KINDS = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
 
 
-def _ranks(mol: Any) -> list[int]:
+def _ranks(mol: Mol) -> list[int]:
     from .._rdkit import Chem
 
     return list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
 
 
-def _split_geminal(mol: Any) -> Any:
+def _split_geminal(mol: Mol) -> Mol:
     """A copy in which one of each pair of identical geminal groups on a C=C whose other end is
     unsymmetric carries an isotope label, so ranking tells the pair apart."""
     from .._rdkit import Chem
@@ -72,7 +114,7 @@ def _split_geminal(mol: Any) -> Any:
     return work
 
 
-def carbon_classes(mol: Any) -> list[tuple[int, str, int]]:
+def carbon_classes(mol: Mol) -> list[tuple[int, str, int]]:
     """One entry per expected 13C signal: (first carbon index, multiplicity, carbons in it)."""
     work = _split_geminal(mol)
     ranks = _ranks(work)
@@ -88,10 +130,16 @@ def carbon_classes(mol: Any) -> list[tuple[int, str, int]]:
 
 
 class Carbon13:
-    name = "c13"
+    """The candidate's 13C signal count (and DEPT multiplicities) against the observed one."""
 
-    def __init__(self, scoring: ScoringTable | None = None) -> None:
-        self.scoring = scoring or default_scoring()
+    name = "c13"
+    weight_key = "c13"
+    label = "13C"
+    stage: Literal["formula", "structure"] = "structure"
+    reading_key: str | None = None
+
+    def __init__(self, table: Carbon13Table | None = None) -> None:
+        self.table = table or default_carbon13()
 
     def applies(self, case: Case) -> bool:
         return case.nmr is not None and (case.nmr.c13_signals is not None or case.nmr.c13_multiplicity is not None)
@@ -104,16 +152,16 @@ class Carbon13:
         classes = carbon_classes(subject.mol)
         predicted = len(classes)
         kinds = Counter(kind for _, kind, _ in classes)
-        p = self.scoring.carbon13
+        p = self.table
         log = 0.0
         reasons = []
         observed = case.nmr.c13_signals
         if observed is not None:
             if observed < predicted:
-                log -= p["missing_signal"] * (predicted - observed)
+                log -= p.missing_signal * (predicted - observed)
                 reasons.append(f"13C: {observed} signals observed, {predicted} expected (overlap possible)")
             elif observed > predicted:
-                log -= p["extra_signal"] * (observed - predicted)
+                log -= p.extra_signal * (observed - predicted)
                 reasons.append(f"13C: {observed} signals observed but at most {predicted} possible")
             else:
                 reasons.append(f"13C: {predicted} signals expected, as observed")
@@ -122,9 +170,9 @@ class Carbon13:
                 obs = case.nmr.c13_multiplicity.get(kind, 0)
                 pred = kinds.get(kind, 0)
                 if obs < pred:
-                    log -= p["missing_multiplicity"] * (pred - obs)
+                    log -= p.missing_multiplicity * (pred - obs)
                 elif obs > pred:
-                    log -= p["extra_multiplicity"] * (obs - pred)
+                    log -= p.extra_multiplicity * (obs - pred)
             mult = " ".join(f"{k} {kinds.get(k, 0)}" for k in _KINDS.values())
             reasons.append(f"13C multiplicities expected: {mult}")
         detail = {
@@ -133,3 +181,11 @@ class Carbon13:
             "predicted_multiplicity": {k: kinds.get(k, 0) for k in _KINDS.values()},
         }
         return Assessment(self.name, math.exp(log), tuple(reasons), detail)
+
+    def detail_lines(self, assessment: Assessment) -> list[str]:
+        d = assessment.detail
+        mult = " ".join(f"{k} {v}" for k, v in d["predicted_multiplicity"].items())
+        return [f"    13C predicted {d['predicted_signals']} signals ({mult}), observed {d['observed_signals']}"]
+
+    def read(self, case: Case) -> Reading | None:
+        return None

@@ -19,21 +19,22 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Literal
 
 from ..case import Case
 from ..elements import ElementTable, default_elements
 from ..errors import ElucidateError
-from ..patterns import compiled_smarts
-from ..tables import table_path
+from ..smarts import compiled_smarts
+from ..tables import table_path, validated
 from ..yamlnodes import as_choice, as_int, as_list, as_number, as_str, mapping, read_yaml_file
-from .base import Assessment, Subject
+from .base import Assessment, Reading, Subject
+
+if TYPE_CHECKING:
+    from .._rdkit import Mol
 
 __all__ = ["FragmentRule", "FragmentTable", "load_fragments", "default_fragments", "predict_ions", "Fragments"]
 
 KINDS = ("cleave", "rearrange", "retro_diels_alder", "loss", "ion")
-#: m/z below which peaks are not scored (too unspecific)
-LOWEST_MZ = 26
 
 
 @dataclass(frozen=True)
@@ -49,7 +50,7 @@ class FragmentRule:
     lost_size: float = 0.1
 
     @property
-    def pattern(self) -> Any:
+    def pattern(self) -> Mol:
         return compiled_smarts(self.smarts)
 
     @property
@@ -68,6 +69,7 @@ class FragmentTable:
     rules: tuple[FragmentRule, ...]
     strong_weight: float
     missing_penalty: float
+    lowest_mz: int = 26  # peaks below this m/z are not scored (too unspecific)
     source: str = ""
 
     def validate(self) -> None:
@@ -89,7 +91,9 @@ class FragmentTable:
 
 def load_fragments(path: str | Path | None = None) -> FragmentTable:
     file = Path(path) if path is not None else table_path("fragments.yaml")
-    root = mapping(read_yaml_file(file), ["source", "strong_weight", "missing_penalty", "rules"], required=["rules", "strong_weight", "missing_penalty"])
+    document = read_yaml_file(file)
+    keys = ["source", "strong_weight", "missing_penalty", "lowest_mz", "rules"]
+    root = mapping(document, keys, required=keys[1:])
     rules = []
     for item in as_list(root["rules"], what="a list of rules"):
         r = mapping(
@@ -114,17 +118,10 @@ def load_fragments(path: str | Path | None = None) -> FragmentTable:
         tuple(rules),
         as_number(root["strong_weight"], minimum=0, maximum=1, what="a weight 0-1"),
         as_number(root["missing_penalty"], minimum=0, what="a penalty of 0 or more"),
+        as_int(root["lowest_mz"], minimum=1, what="a whole m/z"),
         as_str(root["source"]) if "source" in root else "",
     )
-    try:
-        table.validate()
-    except ElucidateError as exc:
-        line = None
-        if exc.key and exc.key.startswith("rules["):
-            index = int(exc.key[6 : exc.key.index("]")])
-            line = as_list(root["rules"])[index].line
-        raise exc.in_file(str(file), line) from exc
-    return table
+    return validated(table, document)
 
 
 @lru_cache(maxsize=1)
@@ -135,7 +132,7 @@ def default_fragments() -> FragmentTable:
 # ------------------------------------------------------------------ prediction
 
 
-def _atom_masses(mol: Any, table: ElementTable) -> list[int]:
+def _atom_masses(mol: Mol, table: ElementTable) -> list[int]:
     h = table["H"].nominal_mass
     out = []
     for i in range(mol.GetNumAtoms()):  # indexing is much faster than iterating GetAtoms()
@@ -144,7 +141,7 @@ def _atom_masses(mol: Any, table: ElementTable) -> list[int]:
     return out
 
 
-def _piece(mol: Any, start: int, cut: set[frozenset[int]]) -> set[int] | None:
+def _piece(mol: Mol, start: int, cut: set[frozenset[int]]) -> set[int] | None:
     """Atoms reachable from ``start`` without crossing the cut bonds; None if the cut does not
     separate the molecule."""
     seen = {start}
@@ -168,7 +165,7 @@ class PredictedIon:
     what: str
 
 
-def predict_ions(mol: Any, *, table: FragmentTable | None = None, elements: ElementTable | None = None) -> dict[int, PredictedIon]:
+def predict_ions(mol: Mol, *, table: FragmentTable | None = None, elements: ElementTable | None = None) -> dict[int, PredictedIon]:
     """Predicted fragment ions of ``mol`` (aromaticity perceived): m/z -> the strongest reason."""
     t = table or default_fragments()
     e = elements or default_elements()
@@ -232,7 +229,13 @@ def _cluster(peaks: Mapping[int, float], molecular_ion: int | None) -> set[int]:
 
 
 class Fragments:
+    """The EI fragment ions the candidate predicts against the peak list."""
+
     name = "fragments"
+    weight_key = "fragments"
+    label = "EI"
+    stage: Literal["formula", "structure"] = "structure"
+    reading_key: str | None = None
 
     def __init__(self, table: FragmentTable | None = None, elements: ElementTable | None = None) -> None:
         self.table = table or default_fragments()
@@ -249,7 +252,8 @@ class Fragments:
         peaks = case.mass_spec.peaks
         predicted = predict_ions(subject.mol, table=self.table, elements=self.elements)
         skip = _cluster(peaks, subject.molecular_ion)
-        scored = {mz: v for mz, v in peaks.items() if mz not in skip and mz >= LOWEST_MZ}
+        lowest = self.table.lowest_mz
+        scored = {mz: v for mz, v in peaks.items() if mz not in skip and mz >= lowest}
         total = sum(scored.values())
         explained = 0.0
         assignments = []
@@ -271,7 +275,7 @@ class Fragments:
         low = min(scored) if scored else 0
         missing = [
             ion for mz, ion in predicted.items()
-            if ion.weight >= self.table.strong_weight and mz >= max(low, LOWEST_MZ) and mz not in peaks
+            if ion.weight >= self.table.strong_weight and mz >= max(low, lowest) and mz not in peaks
             and (subject.molecular_ion is None or mz < subject.molecular_ion)
         ]
         cost = self.table.missing_penalty * sum(ion.weight for ion in missing)
@@ -288,3 +292,16 @@ class Fragments:
             "predicted": [{"mz": ion.mz, "weight": ion.weight, "rule": ion.rule} for ion in predicted.values()],
         }
         return Assessment(self.name, score, tuple(reasons), detail)
+
+    def detail_lines(self, assessment: Assessment) -> list[str]:
+        d = assessment.detail
+        lines = []
+        for item in d["assignments"][:8]:
+            why = item["explained_by"] or "not explained"
+            lines.append(f"    EI  m/z {item['mz']:>4} ({item['intensity']:g}%): {why}")
+        for item in d["missing"][:4]:
+            lines.append(f"    EI  m/z {item['mz']:>4} expected ({item['rule']}) but not listed")
+        return lines
+
+    def read(self, case: Case) -> Reading | None:
+        return None

@@ -1,16 +1,16 @@
-"""IR: the candidate's groups against the observed band list (bands from ``constraints/groups.yaml``).
+"""IR: the candidate's groups against the observed band list (``constraints/infrared.yaml``).
 
 Score. Every band of every group the candidate has (that applies to it, see ``when``/``unless``)
-is looked for in the band list within ``TOLERANCE`` cm-1; a missing band costs its weight
-(strong 1, medium 0.6, weak 0.3), three times less when it is not a key band. Bands below 1500 cm-1
-are only looked for when the list reports that region at all. Every strong or
-medium observed band inside a diagnostic region (``ir_regions``: O-H/N-H, triple bonds, C=O)
-that no band of the candidate's groups explains costs its weight too. Score = exp(-0.7 · cost).
+is looked for in the band list within the table's tolerance; a missing band costs its strength's
+weight, less when it is not a key band. Bands in the fingerprint region are only looked for
+when the list reports that region at all. Every strong or medium observed band inside a
+diagnostic region (``regions``: O-H/N-H, triple bonds, C=O) that no band of the candidate's
+groups explains costs its weight too. Score = exp(-scale · cost).
 
 The reading (:func:`read_bands`) is the tool's own view of the band list alone: groups whose key
 bands are all present are indicated; groups with a strong key band inside a diagnostic region
-but no observed band there are argued against (no band 1630-1870: no carbonyl), for the chemist to copy into
-``infrared.require`` / ``forbid`` after judging it.
+but no observed band there are argued against (no band 1630-1870: no carbonyl), for the chemist
+to copy into ``infrared.require`` / ``forbid`` after judging it.
 """
 
 from __future__ import annotations
@@ -18,31 +18,161 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+from typing import TYPE_CHECKING, Any, Literal
 
 from ..case import Case, IRBand
-from ..groups import Band, GroupTable, default_groups
-from .base import Assessment, Subject
+from ..errors import ElucidateError
+from ..generator.groups import GroupTable, default_groups
+from ..smarts import compiled_smarts
+from ..tables import table_path, validated
+from ..yamlnodes import Located, as_bool, as_choice, as_list, as_number, as_str, mapping, read_yaml_file
+from .base import Assessment, Reading, Subject
 
-__all__ = ["Infrared", "IRReading", "read_bands", "TOLERANCE"]
+if TYPE_CHECKING:
+    from .._rdkit import Mol
 
-#: how far outside a tabulated range an observed band still counts as that band (cm-1)
-TOLERANCE = 10.0
-_WEIGHT = {"strong": 1.0, "medium": 0.6, "weak": 0.3}
-_SCALE = 0.7
+__all__ = ["Band", "Region", "IRTable", "load_infrared", "default_infrared", "Infrared", "IRReading", "read_bands"]
+
+STRENGTHS = ("strong", "medium", "weak")
 
 
-def _found(band: Band, observed: Sequence[IRBand], *, strict_shape: bool = False) -> IRBand | None:
+@dataclass(frozen=True)
+class Band:
+    """A characteristic IR band of a group."""
+
+    low: float  # cm-1
+    high: float
+    strength: str
+    key: bool  # practically always seen: its absence argues against the group
+    mode: str
+    when: str | None = None  # SMARTS: the band applies only to molecules that match
+    unless: str | None = None  # SMARTS: ... that do not match
+    shape: str | None = None  # usual shape: broad or sharp
+
+    def applies(self, mol: Mol) -> bool:
+        if self.when is not None and not mol.HasSubstructMatch(compiled_smarts(self.when)):
+            return False
+        return self.unless is None or not mol.HasSubstructMatch(compiled_smarts(self.unless))
+
+
+@dataclass(frozen=True)
+class Region:
+    """An IR region where a strong or medium band needs an explanation."""
+
+    low: float
+    high: float
+    what: str
+
+
+@dataclass(frozen=True, eq=False)
+class IRTable:
+    """The contents of ``infrared.yaml``: bands by group name, regions, scoring constants."""
+
+    bands: Mapping[str, tuple[Band, ...]]
+    regions: tuple[Region, ...]
+    tolerance: float  # cm-1 outside a tabulated range that still counts as the band
+    weights: Mapping[str, float]  # strength -> cost of a missing or unexplained band
+    non_key_divisor: float
+    scale: float
+    fingerprint_below: float
+    source: str = ""
+    groups: GroupTable | None = None
+
+    def of(self, group: str) -> tuple[Band, ...]:
+        return self.bands.get(group, ())
+
+    def validate(self) -> None:
+        vocabulary = self.groups or default_groups()
+        for name, bands in self.bands.items():
+            if name not in vocabulary:
+                raise ElucidateError(f"{name!r} is not a group of groups.yaml", key=f"bands.{name}")
+            for i, band in enumerate(bands):
+                if not 400 <= band.low < band.high <= 4000:
+                    raise ElucidateError("a band needs 400 <= from < to <= 4000", key=f"bands.{name}[{i}]")
+                for text in (band.when, band.unless):
+                    if text is not None:
+                        try:
+                            compiled_smarts(text)
+                        except ElucidateError as exc:
+                            raise ElucidateError(exc.message, key=f"bands.{name}[{i}]") from exc
+        if set(self.weights) != set(STRENGTHS):
+            raise ElucidateError(f"weights must name exactly: {', '.join(STRENGTHS)}", key="scoring.weights")
+
+
+def _band(loc: Located) -> Band:
+    b = mapping(
+        loc, ["from", "to", "strength", "key", "mode", "when", "unless", "shape"], required=["from", "to", "strength", "mode"]
+    )
+    low = as_number(b["from"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
+    high = as_number(b["to"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
+    if high <= low:
+        raise b["to"].error(f"expected a wavenumber above from ({low:g})")
+    return Band(
+        low,
+        high,
+        as_choice(b["strength"], STRENGTHS, what="one of"),
+        as_bool(b["key"]) if "key" in b else False,
+        as_str(b["mode"]),
+        as_str(b["when"], what="a SMARTS pattern") if "when" in b else None,
+        as_str(b["unless"], what="a SMARTS pattern") if "unless" in b else None,
+        as_choice(b["shape"], ("broad", "sharp"), what="one of") if "shape" in b else None,
+    )
+
+
+def load_infrared(path: str | Path | None = None, *, groups: GroupTable | None = None) -> IRTable:
+    file = Path(path) if path is not None else table_path("infrared.yaml")
+    document = read_yaml_file(file)
+    root = mapping(document, ["source", "regions", "scoring", "bands"], required=["regions", "scoring", "bands"])
+    regions = []
+    for item in as_list(root["regions"], what="a list of regions"):
+        r = mapping(item, ["from", "to", "what"], required=["from", "to", "what"])
+        low = as_number(r["from"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
+        high = as_number(r["to"], minimum=low, maximum=4000, what=f"a wavenumber {low:g}-4000")
+        regions.append(Region(low, high, as_str(r["what"])))
+    keys = ["source", "tolerance", "weights", "non_key_divisor", "scale", "fingerprint_below"]
+    sc = mapping(root["scoring"], keys, required=keys[1:])
+    weights = mapping(sc["weights"], list(STRENGTHS), required=list(STRENGTHS))
+    body = root["bands"]
+    if not isinstance(body.value, dict):
+        raise body.error("expected a mapping of group names to band lists")
+    bands = {str(name): tuple(_band(b) for b in as_list(loc, what="a list of bands")) for name, loc in body.value.items()}
+    table = IRTable(
+        bands=bands,
+        regions=tuple(regions),
+        tolerance=as_number(sc["tolerance"], minimum=0, what="a tolerance in cm-1"),
+        weights={k: as_number(weights[k], minimum=0, what="a cost of 0 or more") for k in STRENGTHS},
+        non_key_divisor=as_number(sc["non_key_divisor"], minimum=1, what="a divisor of 1 or more"),
+        scale=as_number(sc["scale"], minimum=0, exclusive_minimum=True, what="a positive scale"),
+        fingerprint_below=as_number(sc["fingerprint_below"], minimum=400, maximum=4000, what="a wavenumber"),
+        source=as_str(root["source"]) if "source" in root else "",
+        groups=groups,
+    )
+    return validated(table, document)
+
+
+@lru_cache(maxsize=1)
+def default_infrared() -> IRTable:
+    return load_infrared()
+
+
+def _found(
+    band: Band, observed: Sequence[IRBand], table: IRTable, *, strict_shape: bool = False
+) -> IRBand | None:
     """The strongest observed band within the band's range (and not of the other shape; with
     ``strict_shape``, of the same shape when the table gives one)."""
+    tol = table.tolerance
     hits = [
         b
         for b in observed
-        if band.low - TOLERANCE <= b.at <= band.high + TOLERANCE
+        if band.low - tol <= b.at <= band.high + tol
         and (band.shape is None or b.shape == band.shape or (b.shape is None and not strict_shape))
     ]
     if not hits:
         return None
-    return max(hits, key=lambda b: (_WEIGHT.get(b.strength or "medium", 0.6), -b.at))
+    medium = table.weights["medium"]
+    return max(hits, key=lambda b: (table.weights.get(b.strength or "medium", medium), -b.at))
 
 
 @dataclass(frozen=True)
@@ -51,14 +181,18 @@ class IRReading:
     against: tuple[tuple[str, str], ...]
 
 
-def read_bands(observed: Sequence[IRBand], groups: GroupTable | None = None) -> IRReading:
-    g = groups or default_groups()
+def read_bands(
+    observed: Sequence[IRBand], table: IRTable | None = None, *, groups: GroupTable | None = None
+) -> IRReading:
+    """The groups the band list alone indicates or argues against, in vocabulary order."""
+    t = table or default_infrared()
+    vocabulary = groups or t.groups or default_groups()
     indicated, against = [], []
-    for name in g.names:
-        keys = _reading_bands(g[name].ir)
+    for name in vocabulary.names:
+        keys = _reading_bands(t.of(name))
         if not keys:
             continue
-        hits = [(b, _found(b, observed, strict_shape=True)) for b in keys]
+        hits = [(b, _found(b, observed, t, strict_shape=True)) for b in keys]
         if all(hit is not None for _, hit in hits):
             where = ", ".join(f"{hit.at:g} ({b.mode})" for b, hit in hits if hit is not None)
             indicated.append((name, where))
@@ -66,8 +200,8 @@ def read_bands(observed: Sequence[IRBand], groups: GroupTable | None = None) -> 
             b
             for b in keys
             if b.strength == "strong"
-            and _found(b, observed) is None
-            and any(r.low <= b.low and b.high <= r.high for r in g.ir_regions)
+            and _found(b, observed, t) is None
+            and any(r.low <= b.low and b.high <= r.high for r in t.regions)
         ]
         if missing:
             b = missing[0]
@@ -88,10 +222,17 @@ def _reading_bands(bands: Sequence[Band]) -> list[Band]:
 
 
 class Infrared:
-    name = "infrared"
+    """IR bands of the candidate's groups against the band list; declares the case's required
+    and forbidden groups as hard constraints."""
 
-    def __init__(self, groups: GroupTable | None = None) -> None:
-        self.groups = groups or default_groups()
+    name = "infrared"
+    weight_key = "infrared"
+    label = "IR"
+    stage: Literal["formula", "structure"] = "structure"
+    reading_key: str | None = "ir_reading"
+
+    def __init__(self, table: IRTable | None = None) -> None:
+        self.table = table or default_infrared()
 
     def applies(self, case: Case) -> bool:
         return case.infrared is not None and bool(case.infrared.bands)
@@ -103,22 +244,23 @@ class Infrared:
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.infrared is not None
+        t = self.table
         observed = case.infrared.bands
         cost = 0.0
         matched: list[dict[str, object]] = []
         missing: list[str] = []
         bands: list[tuple[str, Band]] = []
         for name in sorted(subject.groups):
-            for band in self.groups[name].ir:
+            for band in t.of(name):
                 if band.applies(subject.mol):
                     bands.append((name, band))
-        fingerprint = any(b.at < 1500 for b in observed)  # is the region below 1500 reported at all?
+        fingerprint = any(b.at < t.fingerprint_below for b in observed)  # is that region reported at all?
         for name, band in bands:
-            hit = _found(band, observed)
-            if hit is None and band.high < 1500 and not fingerprint:
+            hit = _found(band, observed, t)
+            if hit is None and band.high < t.fingerprint_below and not fingerprint:
                 continue
             if hit is None:
-                cost += _WEIGHT[band.strength] * (1.0 if band.key else 1 / 3)
+                cost += t.weights[band.strength] * (1.0 if band.key else 1 / t.non_key_divisor)
                 if band.key:
                     missing.append(f"{name} {band.low:g}-{band.high:g}")
             else:
@@ -128,11 +270,11 @@ class Infrared:
             strength = ob.strength or "medium"
             if strength == "weak":
                 continue
-            if not any(r.low <= ob.at <= r.high for r in self.groups.ir_regions):
+            if not any(r.low <= ob.at <= r.high for r in t.regions):
                 continue
-            if any(b.low - TOLERANCE <= ob.at <= b.high + TOLERANCE for _, b in bands):
+            if any(b.low - t.tolerance <= ob.at <= b.high + t.tolerance for _, b in bands):
                 continue
-            cost += _WEIGHT[strength]
+            cost += t.weights[strength]
             unexplained.append(ob.at)
         reasons = []
         if matched:
@@ -143,4 +285,27 @@ class Infrared:
         if unexplained:
             reasons.append("IR: unexplained band(s) at " + ", ".join(f"{x:g}" for x in unexplained))
         detail = {"matched": matched, "missing": missing, "unexplained": unexplained}
-        return Assessment(self.name, math.exp(-_SCALE * cost), tuple(reasons), detail)
+        return Assessment(self.name, math.exp(-t.scale * cost), tuple(reasons), detail)
+
+    def detail_lines(self, assessment: Assessment) -> list[str]:
+        d = assessment.detail
+        lines = []
+        for m in d["matched"]:
+            lines.append(f"    IR  {m['band']:g} cm-1: {m['group']} ({m['mode']}, {m['range'][0]:g}-{m['range'][1]:g})")
+        for text in d["missing"]:
+            lines.append(f"    IR  missing: {text}")
+        for x in d["unexplained"]:
+            lines.append(f"    IR  {x:g} cm-1 not explained by this structure's groups")
+        return lines
+
+    def read(self, case: Case) -> Reading | None:
+        if case.infrared is None or not case.infrared.bands:
+            return None
+        r = read_bands(case.infrared.bands, self.table)
+        lines = (
+            "IR reading (the tool's, from the band list alone; judge before copying into require/forbid)",
+            "  indicated: " + (", ".join(f"{g} [{w}]" for g, w in r.indicated) or "none"),
+            "  argued against: " + (", ".join(f"{g} [{w}]" for g, w in r.against) or "none"),
+        )
+        data: dict[str, Any] = {"indicated": [g for g, _ in r.indicated], "argued_against": [g for g, _ in r.against]}
+        return Reading("IR reading", lines, data)

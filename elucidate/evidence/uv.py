@@ -20,62 +20,189 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Literal, TypeAlias
 
 from ..case import Case
 from ..errors import ElucidateError
-from ..patterns import compiled_smarts
-from ..tables import table_path
+from ..smarts import compiled_smarts
+from ..tables import table_path, validated
 from ..yamlnodes import Located, as_list, as_number, as_str, mapping, read_yaml_file
-from .base import Assessment, Subject
+from .base import Assessment, Reading, Subject
+
+if TYPE_CHECKING:
+    from .._rdkit import Atom, Bond, Mol
 
 __all__ = ["UVTable", "UVPrediction", "load_uv", "default_uv", "predict_lambda_max", "UvVis"]
 
 _POSITIONS = ("alpha", "beta", "gamma", "delta")
+#: a number as the table gives it: whole numbers stay whole, so steps print "+30", not "+30.0"
+Number: TypeAlias = int | float
+
+
+@dataclass(frozen=True)
+class DieneRules:
+    base: Mapping[str, Number]  # acyclic, heteroannular, homoannular
+    extra_double_bond: Number
+    alkyl: Number
+    exocyclic: Number
+    substituents: Mapping[str, Number]
+
+
+@dataclass(frozen=True)
+class PolyeneRules:
+    constant: Number
+    per_alkyl: Number
+    n_linear: Number
+    n_square: Number
+    per_endocyclic_ring: Number
+    per_exocyclic_ring: Number
+
+
+@dataclass(frozen=True)
+class EnoneRules:
+    base: Mapping[str, Number]  # ketone, ketone_5_ring, aldehyde, acid_or_ester
+    extra_double_bond: Number
+    homoannular_diene: Number
+    exocyclic: Number
+    alkyl: Mapping[str, Number]  # position -> increment
+    substituents: Mapping[str, Mapping[str, Number]]  # substituent -> position -> increment
+    solvent: Mapping[str, Number]
+
+
+@dataclass(frozen=True)
+class ArylCarbonylRules:
+    base: Mapping[str, Number]  # alkyl, H, OR
+    ring: Mapping[str, tuple[Number, Number, Number]]  # substituent -> (ortho, meta, para)
+
+
+@dataclass(frozen=True)
+class BenzenoidEntry:
+    smarts: str
+    lambda_max: Number
+    what: str
+
+
+@dataclass(frozen=True)
+class UVScoring:
+    """How a predicted maximum is scored against the observed one (in tolerances)."""
+
+    unseen_width: Number  # predicted but none observed: Gaussian width beyond the tolerance
+    unseen_cutoff: Number  # ... and beyond this many tolerances above the floor:
+    unseen_score: Number
+    unexplained_near: Number  # observed but no chromophore: within this many tolerances above the floor
+    unexplained_near_score: Number
+    unexplained_score: Number
 
 
 @dataclass(frozen=True, eq=False)
 class UVTable:
-    raw: Mapping[str, Any]
+    """The contents of ``uv.yaml``."""
+
+    tolerance: float
+    benzenoid_tolerance: float
+    no_maximum_below_nm: Number
+    diene: DieneRules
+    polyene: PolyeneRules
+    enone: EnoneRules
+    aryl_carbonyl: ArylCarbonylRules
+    benzenoid: tuple[BenzenoidEntry, ...]
+    scoring: UVScoring
     source: str = ""
 
-    @property
-    def tolerance(self) -> float:
-        return float(self.raw["tolerance_nm"])
-
     def validate(self) -> None:
-        for entry in self.raw["benzenoid"]:
-            compiled_smarts(entry["smarts"])
+        for i, entry in enumerate(self.benzenoid):
+            try:
+                compiled_smarts(entry.smarts)
+            except ElucidateError as exc:
+                raise ElucidateError(exc.message, key=f"benzenoid[{i}].smarts") from exc
+        for key in ("acyclic", "heteroannular", "homoannular"):
+            if key not in self.diene.base:
+                raise ElucidateError(f"missing base value {key!r}", key="diene.base")
+        for key in ("ketone", "ketone_5_ring", "aldehyde", "acid_or_ester"):
+            if key not in self.enone.base:
+                raise ElucidateError(f"missing base value {key!r}", key="enone.base")
+        for key in ("alkyl", "H", "OR"):
+            if key not in self.aryl_carbonyl.base:
+                raise ElucidateError(f"missing base value {key!r}", key="aryl_carbonyl.base")
+        for name, positions in [("alkyl", self.enone.alkyl), *self.enone.substituents.items()]:
+            unknown = set(positions) - set(_POSITIONS)
+            if unknown:
+                raise ElucidateError(f"unknown position {sorted(unknown)[0]!r}; positions: {', '.join(_POSITIONS)}", key=f"enone.{name}")
 
 
-def _plain(loc: Located) -> Any:
-    """A located YAML tree as plain values (numbers checked), for a table read once."""
-    value = loc.value
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, list):
-        return [_plain(v) for v in value]
+def _number(loc: Located, *, minimum: float | None = None, what: str = "a number") -> Number:
+    as_number(loc, minimum=minimum, what=what)  # checks it
+    value: Number = loc.value
     return value
+
+
+def _numbers(loc: Located, *, what: str = "a mapping of names to numbers") -> dict[str, Number]:
+    if not isinstance(loc.value, dict):
+        raise loc.error(f"expected {what}")
+    return {str(k): _number(v) for k, v in loc.value.items()}
+
+
+def _fields(loc: Located, names: Sequence[str]) -> dict[str, Located]:
+    return mapping(loc, list(names), required=list(names))
 
 
 def load_uv(path: str | Path | None = None) -> UVTable:
     file = Path(path) if path is not None else table_path("uv.yaml")
+    document = read_yaml_file(file)
     keys = ["source", "tolerance_nm", "benzenoid_tolerance_nm", "no_maximum_below_nm", "diene", "polyene", "enone",
-            "aryl_carbonyl", "benzenoid"]
-    root = mapping(read_yaml_file(file), keys, required=keys[1:])
-    for key in ("tolerance_nm", "benzenoid_tolerance_nm", "no_maximum_below_nm"):
-        as_number(root[key], minimum=0, exclusive_minimum=True, what="a positive number of nm")
+            "aryl_carbonyl", "benzenoid", "scoring"]
+    root = mapping(document, keys, required=keys[1:])
+    nm = "a positive number of nm"
+    d = _fields(root["diene"], ["base", "extra_double_bond", "alkyl", "exocyclic", "substituents"])
+    diene = DieneRules(_numbers(d["base"]), _number(d["extra_double_bond"]), _number(d["alkyl"]),
+                       _number(d["exocyclic"]), _numbers(d["substituents"]))
+    p = _fields(root["polyene"], ["constant", "per_alkyl", "n_linear", "n_square", "per_endocyclic_ring", "per_exocyclic_ring"])
+    polyene = PolyeneRules(*(_number(p[k]) for k in ("constant", "per_alkyl", "n_linear", "n_square",
+                                                      "per_endocyclic_ring", "per_exocyclic_ring")))
+    e = _fields(root["enone"], ["base", "extra_double_bond", "homoannular_diene", "exocyclic", "alkyl", "substituents", "solvent"])
+    sub = e["substituents"]
+    if not isinstance(sub.value, dict):
+        raise sub.error("expected a mapping of substituents to position increments")
+    enone = EnoneRules(
+        _numbers(e["base"]), _number(e["extra_double_bond"]), _number(e["homoannular_diene"]), _number(e["exocyclic"]),
+        _numbers(e["alkyl"]), {str(k): _numbers(v) for k, v in sub.value.items()}, _numbers(e["solvent"]),
+    )
+    a = _fields(root["aryl_carbonyl"], ["base", "ring"])
+    ring_loc = a["ring"]
+    if not isinstance(ring_loc.value, dict):
+        raise ring_loc.error("expected a mapping of substituents to [ortho, meta, para] increments")
+    ring: dict[str, tuple[Number, Number, Number]] = {}
+    for k, v in ring_loc.value.items():
+        items = as_list(v, what="a list [ortho, meta, para]")
+        if len(items) != 3:
+            raise v.error("expected three increments [ortho, meta, para]")
+        ring[str(k)] = (_number(items[0]), _number(items[1]), _number(items[2]))
+    aryl = ArylCarbonylRules(_numbers(a["base"]), ring)
+    benzenoid = []
     for item in as_list(root["benzenoid"], what="a list of {smarts, lambda_max, what}"):
         entry = mapping(item, ["smarts", "lambda_max", "what"], required=["smarts", "lambda_max", "what"])
-        as_number(entry["lambda_max"], minimum=190, maximum=800, what="a wavelength 190-800 nm")
-        as_str(entry["smarts"], what="a SMARTS pattern")
-    raw = {k: _plain(v) for k, v in root.items()}
-    table = UVTable(raw, str(raw.get("source", "")))
-    try:
-        table.validate()
-    except (ElucidateError, KeyError, TypeError) as exc:
-        raise ElucidateError(f"uv table: {exc}", file=str(file)) from exc
-    return table
+        benzenoid.append(BenzenoidEntry(
+            as_str(entry["smarts"], what="a SMARTS pattern"),
+            _number(entry["lambda_max"], minimum=190, what="a wavelength 190-800 nm"),
+            as_str(entry["what"]),
+        ))
+    score_keys = ["unseen_width", "unseen_cutoff", "unseen_score", "unexplained_near", "unexplained_near_score",
+                  "unexplained_score"]
+    sc = mapping(root["scoring"], ["source", *score_keys], required=score_keys)
+    scoring = UVScoring(*(_number(sc[k], minimum=0, what="a number of 0 or more") for k in score_keys))
+    table = UVTable(
+        tolerance=as_number(root["tolerance_nm"], minimum=0, exclusive_minimum=True, what=nm),
+        benzenoid_tolerance=as_number(root["benzenoid_tolerance_nm"], minimum=0, exclusive_minimum=True, what=nm),
+        no_maximum_below_nm=_number(root["no_maximum_below_nm"], minimum=0, what=nm),
+        diene=diene,
+        polyene=polyene,
+        enone=enone,
+        aryl_carbonyl=aryl,
+        benzenoid=tuple(benzenoid),
+        scoring=scoring,
+        source=as_str(root["source"]) if "source" in root else "",
+    )
+    return validated(table, document)
 
 
 @lru_cache(maxsize=1)
@@ -93,7 +220,7 @@ class UVPrediction:
 # ------------------------------------------------------------------ perception helpers
 
 
-def _substituent(atom: Any, via: Any) -> str | None:
+def _substituent(atom: Atom, via: Atom) -> str | None:
     """Classify a substituent atom (bonded to a chromophore atom ``via``) for the increments."""
     z = atom.GetAtomicNum()
     if z == 6:
@@ -116,13 +243,13 @@ def _substituent(atom: Any, via: Any) -> str | None:
     return None
 
 
-def _is_acyl(atom: Any) -> bool:
+def _is_acyl(atom: Atom) -> bool:
     return atom.GetAtomicNum() == 6 and any(
         b.GetBondTypeAsDouble() == 2 and b.GetOtherAtom(atom).GetAtomicNum() == 8 for b in atom.GetBonds()
     )
 
 
-def _exocyclic(mol: Any, bonds: Sequence[Any]) -> tuple[int, set[int]]:
+def _exocyclic(mol: Mol, bonds: Sequence[Bond]) -> tuple[int, set[int]]:
     """(count of exocyclic C=C, rings they are exocyclic to): a C=C is exocyclic to a ring that
     holds one of its atoms but not the bond."""
     rings = mol.GetRingInfo()
@@ -136,12 +263,12 @@ def _exocyclic(mol: Any, bonds: Sequence[Any]) -> tuple[int, set[int]]:
     return count, which
 
 
-def _endocyclic_rings(mol: Any, bonds: Sequence[Any]) -> set[int]:
+def _endocyclic_rings(mol: Mol, bonds: Sequence[Bond]) -> set[int]:
     rings = mol.GetRingInfo().BondRings()
     return {i for i, ring in enumerate(rings) for bond in bonds if bond.GetIdx() in ring}
 
 
-def _homoannular(mol: Any, bonds: Sequence[Any]) -> bool:
+def _homoannular(mol: Mol, bonds: Sequence[Bond]) -> bool:
     """Two of the C=C lie in one ring (a cisoid diene in that ring)."""
     for ring in mol.GetRingInfo().BondRings():
         if sum(1 for b in bonds if b.GetIdx() in ring) >= 2:
@@ -152,7 +279,7 @@ def _homoannular(mol: Any, bonds: Sequence[Any]) -> bool:
 _DOUBLE = "[C]=[C,O]"  # non-aromatic C=C and C=O (aliphatic atoms only)
 
 
-def _double_bonds(mol: Any) -> list[Any]:
+def _double_bonds(mol: Mol) -> list[Bond]:
     seen: set[int] = set()
     out = []
     for a, b in mol.GetSubstructMatches(compiled_smarts(_DOUBLE)):
@@ -163,7 +290,7 @@ def _double_bonds(mol: Any) -> list[Any]:
     return sorted(out, key=lambda bond: bond.GetIdx())
 
 
-def _systems(mol: Any) -> list[list[Any]]:
+def _systems(mol: Mol) -> list[list[Bond]]:
     """Conjugated systems: C=C and C=O bonds joined through single bonds."""
     bonds = _double_bonds(mol)
     if len(bonds) < 2:
@@ -186,7 +313,7 @@ def _systems(mol: Any) -> list[list[Any]]:
         for i in atom_of.get(bond.GetBeginAtomIdx(), []):
             for j in atom_of.get(bond.GetEndAtomIdx(), []):
                 parent[find(i)] = find(j)
-    groups: dict[int, list[Any]] = {}
+    groups: dict[int, list[Bond]] = {}
     for i, bond in enumerate(bonds):
         groups.setdefault(find(i), []).append(bond)
     return [g for g in groups.values() if len(g) >= 2]
@@ -195,8 +322,8 @@ def _systems(mol: Any) -> list[list[Any]]:
 # ------------------------------------------------------------------ the rules
 
 
-def _enone(mol: Any, system: list[Any], table: UVTable, solvent: str) -> UVPrediction | None:
-    rules = table.raw["enone"]
+def _enone(mol: Mol, system: list[Bond], table: UVTable, solvent: str) -> UVPrediction | None:
+    rules = table.enone
     carbonyls = [b for b in system if 8 in (b.GetBeginAtom().GetAtomicNum(), b.GetEndAtom().GetAtomicNum())]
     if not carbonyls:
         return None
@@ -205,8 +332,8 @@ def _enone(mol: Any, system: list[Any], table: UVTable, solvent: str) -> UVPredi
     o = co.GetOtherAtom(c1)
     alkenes = [b for b in system if b not in carbonyls]
     # walk the chain from the carbonyl carbon: alpha=beta, then gamma=delta, ...
-    chain: list[Any] = [c1]
-    used: list[Any] = []
+    chain: list[Atom] = [c1]
+    used: list[Bond] = []
     current = c1
     while True:
         step = None
@@ -242,19 +369,19 @@ def _enone(mol: Any, system: list[Any], table: UVTable, solvent: str) -> UVPredi
         kind = "acid_or_ester"
     else:
         kind = "ketone_5_ring" if ring5 else "ketone"
-    value = float(rules["base"][kind])
+    value = float(rules.base[kind])
     steps = [f"{kind.replace('_', ' ')} parent {value:g}"]
     extra = len(used) - 1
     if extra:
-        value += extra * rules["extra_double_bond"]
-        steps.append(f"{extra} extending C=C +{extra * rules['extra_double_bond']}")
+        value += extra * rules.extra_double_bond
+        steps.append(f"{extra} extending C=C +{extra * rules.extra_double_bond}")
     if _homoannular(mol, used):
-        value += rules["homoannular_diene"]
-        steps.append(f"homoannular diene +{rules['homoannular_diene']}")
+        value += rules.homoannular_diene
+        steps.append(f"homoannular diene +{rules.homoannular_diene}")
     exo, _ = _exocyclic(mol, used)
     if exo:
-        value += exo * rules["exocyclic"]
-        steps.append(f"{exo} exocyclic C=C +{exo * rules['exocyclic']}")
+        value += exo * rules.exocyclic
+        steps.append(f"{exo} exocyclic C=C +{exo * rules.exocyclic}")
     for k, atom in enumerate(chain[1:]):
         position = _POSITIONS[min(k, 3)]
         for nb in atom.GetNeighbors():
@@ -262,22 +389,22 @@ def _enone(mol: Any, system: list[Any], table: UVTable, solvent: str) -> UVPredi
                 continue
             kind_s = _substituent(nb, atom)
             if kind_s == "alkyl":
-                inc = rules["alkyl"][position]
+                inc = rules.alkyl[position]
             elif kind_s is not None:
-                inc = rules["substituents"].get(kind_s, {}).get(position, 0)
+                inc = rules.substituents.get(kind_s, {}).get(position, 0)
             else:
                 inc = 0
             if inc:
                 value += inc
                 steps.append(f"{position} {kind_s} +{inc}")
-    correction = rules["solvent"].get(solvent, 0)
+    correction = rules.solvent.get(solvent, 0)
     if correction:
         value -= correction
         steps.append(f"solvent {solvent} {-correction:+g}")
     return UVPrediction(value, "Woodward (α,β-unsaturated carbonyl)", tuple(steps))
 
 
-def _diene(mol: Any, system: list[Any], table: UVTable) -> UVPrediction | None:
+def _diene(mol: Mol, system: list[Bond], table: UVTable) -> UVPrediction | None:
     if any(8 in (b.GetBeginAtom().GetAtomicNum(), b.GetEndAtom().GetAtomicNum()) for b in system):
         return None
     n = len(system)
@@ -295,34 +422,34 @@ def _diene(mol: Any, system: list[Any], table: UVTable) -> UVPrediction | None:
                 others.append(kind)
     exo, exo_rings = _exocyclic(mol, system)
     if n > 4:
-        rules = table.raw["polyene"]
+        rules = table.polyene
         endo = _endocyclic_rings(mol, system)
         value = (
-            rules["constant"] + rules["per_alkyl"] * alkyl + n * (rules["n_linear"] + rules["n_square"] * n)
-            + rules["per_endocyclic_ring"] * len(endo) + rules["per_exocyclic_ring"] * len(exo_rings)
+            rules.constant + rules.per_alkyl * alkyl + n * (rules.n_linear + rules.n_square * n)
+            + rules.per_endocyclic_ring * len(endo) + rules.per_exocyclic_ring * len(exo_rings)
         )
         steps = (f"Fieser-Kuhn: n={n}, M={alkyl}, endocyclic rings {len(endo)}, exocyclic rings {len(exo_rings)}",)
         return UVPrediction(round(value, 1), "Fieser-Kuhn (polyene)", steps)
-    rules = table.raw["diene"]
+    rules = table.diene
     if _homoannular(mol, system):
         base = "homoannular"
     elif _endocyclic_rings(mol, system) or exo:
         base = "heteroannular"
     else:
         base = "acyclic"
-    value = float(rules["base"][base])
+    value = float(rules.base[base])
     steps = [f"{base} diene base {value:g}"]
     if n > 2:
-        value += (n - 2) * rules["extra_double_bond"]
-        steps.append(f"{n - 2} extending C=C +{(n - 2) * rules['extra_double_bond']}")
+        value += (n - 2) * rules.extra_double_bond
+        steps.append(f"{n - 2} extending C=C +{(n - 2) * rules.extra_double_bond}")
     if alkyl:
-        value += alkyl * rules["alkyl"]
-        steps.append(f"{alkyl} alkyl/ring residues +{alkyl * rules['alkyl']}")
+        value += alkyl * rules.alkyl
+        steps.append(f"{alkyl} alkyl/ring residues +{alkyl * rules.alkyl}")
     if exo:
-        value += exo * rules["exocyclic"]
-        steps.append(f"{exo} exocyclic C=C +{exo * rules['exocyclic']}")
+        value += exo * rules.exocyclic
+        steps.append(f"{exo} exocyclic C=C +{exo * rules.exocyclic}")
     for kind in others:
-        inc = rules["substituents"].get(kind, 0)
+        inc = rules.substituents.get(kind, 0)
         if inc:
             value += inc
             steps.append(f"{kind} +{inc}")
@@ -332,8 +459,8 @@ def _diene(mol: Any, system: list[Any], table: UVTable) -> UVPrediction | None:
 _ARYL_CO = "[c;r6]-[CX3](=[OX1])"
 
 
-def _scott(mol: Any, table: UVTable) -> list[UVPrediction]:
-    rules = table.raw["aryl_carbonyl"]
+def _scott(mol: Mol, table: UVTable) -> list[UVPrediction]:
+    rules = table.aryl_carbonyl
     out = []
     rings = [r for r in mol.GetRingInfo().AtomRings() if len(r) == 6]
     for ring_atom, carbon, _ in mol.GetSubstructMatches(compiled_smarts(_ARYL_CO)):
@@ -349,7 +476,7 @@ def _scott(mol: Any, table: UVTable) -> list[UVPrediction]:
             kind = "OR"
         else:
             kind = "alkyl"
-        value = float(rules["base"][kind])
+        value = float(rules.base[kind])
         steps = [f"ArCO{'-' + kind if kind != 'OR' else 'OR/OH'} base {value:g}"]
         ring = next((r for r in rings if ring_atom in r and all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in r)), None)
         if ring is not None:
@@ -363,7 +490,7 @@ def _scott(mol: Any, table: UVTable) -> list[UVPrediction]:
                     kind_r = _ring_substituent(nb, atom)
                     if kind_r is None:
                         continue
-                    inc = rules["ring"][kind_r][pos - 1]
+                    inc = rules.ring[kind_r][pos - 1]
                     if inc:
                         value += inc
                         steps.append(f"{('ortho', 'meta', 'para')[pos - 1]} {kind_r} +{inc}")
@@ -371,7 +498,7 @@ def _scott(mol: Any, table: UVTable) -> list[UVPrediction]:
     return out
 
 
-def _ring_substituent(atom: Any, via: Any) -> str | None:
+def _ring_substituent(atom: Atom, via: Atom) -> str | None:
     z = atom.GetAtomicNum()
     if z == 6:
         return None if _is_acyl(atom) else "alkyl"
@@ -390,7 +517,7 @@ def _ring_substituent(atom: Any, via: Any) -> str | None:
     return None
 
 
-def predict_lambda_max(mol: Any, *, table: UVTable | None = None, solvent: str = "ethanol") -> UVPrediction:
+def predict_lambda_max(mol: Mol, *, table: UVTable | None = None, solvent: str = "ethanol") -> UVPrediction:
     """The predicted lambda max of ``mol`` (aromaticity perceived) with the rule and steps used."""
     t = table or default_uv()
     predictions: list[UVPrediction] = []
@@ -400,18 +527,24 @@ def predict_lambda_max(mol: Any, *, table: UVTable | None = None, solvent: str =
             predictions.append(p)
     predictions += _scott(mol, t)
     if not predictions:
-        for entry in t.raw["benzenoid"]:
-            if mol.HasSubstructMatch(compiled_smarts(entry["smarts"])):
-                predictions.append(UVPrediction(float(entry["lambda_max"]), f"benzenoid table ({entry['what']})"))
+        for entry in t.benzenoid:
+            if mol.HasSubstructMatch(compiled_smarts(entry.smarts)):
+                predictions.append(UVPrediction(float(entry.lambda_max), f"benzenoid table ({entry.what})"))
                 break
     if not predictions:
-        floor = t.raw["no_maximum_below_nm"]
+        floor = t.no_maximum_below_nm
         return UVPrediction(None, f"no conjugated chromophore: no maximum above {floor} nm")
     return max(predictions, key=lambda p: (p.lambda_max or 0.0, p.rule))
 
 
 class UvVis:
+    """The predicted lambda max of the candidate against the observed one."""
+
     name = "uv_vis"
+    weight_key = "uv_vis"
+    label = "UV"
+    stage: Literal["formula", "structure"] = "structure"
+    reading_key: str | None = None
 
     def __init__(self, table: UVTable | None = None) -> None:
         self.table = table or default_uv()
@@ -424,21 +557,27 @@ class UvVis:
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.uv_vis is not None
-        p = predict_lambda_max(subject.mol, table=self.table, solvent=case.uv_vis.solvent)
+        t = self.table
+        sc = t.scoring
+        p = predict_lambda_max(subject.mol, table=t, solvent=case.uv_vis.solvent)
         observed = case.uv_vis.lambda_max
-        floor = float(self.table.raw["no_maximum_below_nm"])
-        tol = self.table.tolerance if not p.rule.startswith("benzenoid") else float(self.table.raw["benzenoid_tolerance_nm"])
+        floor = float(t.no_maximum_below_nm)
+        tol = t.tolerance if not p.rule.startswith("benzenoid") else t.benzenoid_tolerance
         predicted = p.lambda_max
+        score: float
         if observed is None and predicted is None:
             score, text = 1.0, f"UV: no maximum above {floor:g} nm, as observed"
         elif observed is None:
             assert predicted is not None
             gap = predicted - floor
-            score = math.exp(-0.5 * max(0.0, gap - tol) ** 2 / (2 * tol) ** 2) if gap < 3 * tol else 0.05
+            if gap < sc.unseen_cutoff * tol:
+                score = math.exp(-0.5 * max(0.0, gap - tol) ** 2 / (sc.unseen_width * tol) ** 2)
+            else:
+                score = sc.unseen_score
             text = f"UV: predicts {predicted:g} nm ({p.rule}) but no maximum above {floor:g} nm was seen"
         elif predicted is None:
             gap = observed[0] - floor
-            score = 0.05 if gap > 2 * tol else 0.5
+            score = sc.unexplained_score if gap > sc.unexplained_near * tol else sc.unexplained_near_score
             text = f"UV: no chromophore to absorb above {floor:g} nm, observed {_range(observed)} nm"
         else:
             low, high = observed
@@ -447,6 +586,17 @@ class UvVis:
             text = f"UV: predicted {predicted:g} nm ({p.rule}), observed {_range(observed)} nm"
         detail = {"predicted": predicted, "rule": p.rule, "steps": list(p.steps), "observed": observed}
         return Assessment(self.name, max(score, 0.0), (text,), detail)
+
+    def detail_lines(self, assessment: Assessment) -> list[str]:
+        d = assessment.detail
+        floor = self.table.no_maximum_below_nm
+        pred = f"no maximum above {floor:g} nm" if d["predicted"] is None else f"{d['predicted']:g} nm"
+        obs = "none" if d["observed"] is None else "-".join(f"{x:g}" for x in sorted(set(d["observed"])))
+        steps = "; ".join(d["steps"])
+        return [f"    UV  predicted {pred} ({d['rule']}{': ' + steps if steps else ''}), observed {obs}"]
+
+    def read(self, case: Case) -> Reading | None:
+        return None
 
 
 def _range(r: tuple[float, float]) -> str:

@@ -1,4 +1,5 @@
-"""The functional-group vocabulary (``constraints/groups.yaml``): names, SMARTS, definitions."""
+"""The functional-group vocabulary (``constraints/groups.yaml``): names, SMARTS, definitions, and
+the necessary conditions the generator prunes on (skeleton, Kekulé form, π bonds)."""
 
 from __future__ import annotations
 
@@ -8,51 +9,23 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
-from .errors import ElucidateError
-from .patterns import compiled_smarts
-from .tables import table_path
-from .yamlnodes import as_bool, as_choice, as_int, as_list, as_number, as_str, mapping, read_yaml_file
+from ..errors import ElucidateError
+from ..smarts import compiled_smarts
+from ..tables import table_path, validated
+from ..yamlnodes import Located, as_choice, as_int, as_str, mapping, read_yaml_file
 
-__all__ = ["Band", "Region", "Group", "GroupTable", "load_groups", "default_groups", "min_pi_bonds", "PI_CLASSES"]
+if TYPE_CHECKING:
+    from .._rdkit import Mol
+
+__all__ = ["Group", "GroupTable", "load_groups", "default_groups", "min_pi_bonds", "PI_CLASSES"]
 
 _NAME = re.compile(r"^[a-z][a-z0-9_]*$")
 _ELEMENT = re.compile(r"#\d+")
 
 #: classes of π bonds (see groups.yaml and :func:`min_pi_bonds`)
 PI_CLASSES = ("aromatic", "aliphatic", "carbon", "hetero")
-
-
-STRENGTHS = ("strong", "medium", "weak")
-
-
-@dataclass(frozen=True)
-class Band:
-    """A characteristic IR band of a group (groups.yaml ``ir``)."""
-
-    low: float  # cm-1
-    high: float
-    strength: str
-    key: bool  # practically always seen: its absence argues against the group
-    mode: str
-    when: str | None = None  # SMARTS: the band applies only to molecules that match
-    unless: str | None = None  # SMARTS: ... that do not match
-    shape: str | None = None  # usual shape: broad or sharp
-
-    def applies(self, mol: Any) -> bool:
-        if self.when is not None and not mol.HasSubstructMatch(compiled_smarts(self.when)):
-            return False
-        return self.unless is None or not mol.HasSubstructMatch(compiled_smarts(self.unless))
-
-
-@dataclass(frozen=True)
-class Region:
-    """An IR region where a strong or medium band needs an explanation (groups.yaml ``ir_regions``)."""
-
-    low: float
-    high: float
-    what: str
 
 
 @dataclass(frozen=True)
@@ -64,16 +37,14 @@ class Group:
     skeleton: str | None = None  # necessary condition on the labelled skeleton (see groups.yaml)
     pi_bonds: tuple[int, str] | None = None  # (at least, class): π bonds every match implies
     kekule: str | None = None  # necessary condition on the labelled multigraph (see groups.yaml)
-    ir: tuple[Band, ...] = ()
-
 
     @property
-    def pattern(self) -> Any:
+    def pattern(self) -> Mol:
         """The compiled RDKit query (cached per group)."""
         return compiled_smarts(self.smarts)
 
     @property
-    def skeleton_pattern(self) -> Any | None:
+    def skeleton_pattern(self) -> Mol | None:
         return compiled_smarts(self.skeleton) if self.skeleton is not None else None
 
     @property
@@ -91,7 +62,7 @@ class Group:
         return need
 
     @property
-    def kekule_pattern(self) -> Any | None:
+    def kekule_pattern(self) -> Mol | None:
         return compiled_smarts(self.kekule) if self.kekule is not None else None
 
     @property
@@ -101,7 +72,7 @@ class Group:
         return _ELEMENT.sub("*", self.skeleton) if self.skeleton is not None else None
 
     @property
-    def shape_pattern(self) -> Any | None:
+    def shape_pattern(self) -> Mol | None:
         return compiled_smarts(self.shape) if self.shape is not None else None
 
 
@@ -109,8 +80,6 @@ class Group:
 class GroupTable:
     groups: Mapping[str, Group]
     source: str = ""
-    ir_source: str = ""
-    ir_regions: tuple[Region, ...] = ()
 
     def __getitem__(self, name: str) -> Group:
         try:
@@ -144,15 +113,6 @@ class GroupTable:
                 group.kekule_pattern
             except ElucidateError as exc:
                 raise ElucidateError(exc.message, key=f"groups.{name}.kekule") from exc
-            for i, band in enumerate(group.ir):
-                if not 400 <= band.low < band.high <= 4000 or band.strength not in STRENGTHS:
-                    raise ElucidateError("a band needs 400 <= from < to <= 4000 and a strength", key=f"groups.{name}.ir.{i}")
-                for text in (band.when, band.unless):
-                    if text is not None:
-                        try:
-                            compiled_smarts(text)
-                        except ElucidateError as exc:
-                            raise ElucidateError(exc.message, key=f"groups.{name}.ir.{i}") from exc
             if group.kekule is not None and group.skeleton is None:
                 raise ElucidateError("a kekule condition needs a skeleton condition too", key=f"groups.{name}.kekule")
             if group.shape is not None and re.search(r"[A-CE-Za-z]", group.shape):
@@ -165,14 +125,17 @@ class GroupTable:
 
 def load_groups(path: str | Path | None = None) -> GroupTable:
     file = Path(path) if path is not None else table_path("groups.yaml")
-    root = mapping(read_yaml_file(file), ["source", "ir_source", "ir_regions", "groups"], required=["groups"])
+    document = read_yaml_file(file)
+    root = mapping(document, ["source", "groups"], required=["groups"])
     body = root["groups"]
     if not isinstance(body.value, dict) or not body.value:
         raise body.error("expected a mapping of group names")
     groups = {}
     for name, loc in body.value.items():
         entry = mapping(
-            loc, ["smarts", "definition", "source", "skeleton", "kekule", "pi_bonds", "ir"], required=["smarts", "definition", "source"]
+            loc,
+            ["smarts", "definition", "source", "skeleton", "kekule", "pi_bonds"],
+            required=["smarts", "definition", "source"],
         )
         groups[str(name)] = Group(
             name=str(name),
@@ -182,49 +145,12 @@ def load_groups(path: str | Path | None = None) -> GroupTable:
             skeleton=as_str(entry["skeleton"], what="a SMARTS pattern") if "skeleton" in entry else None,
             pi_bonds=_pi_bonds(entry["pi_bonds"]) if "pi_bonds" in entry else None,
             kekule=as_str(entry["kekule"], what="a SMARTS pattern") if "kekule" in entry else None,
-            ir=tuple(_band(b) for b in as_list(entry["ir"], what="a list of bands")) if "ir" in entry else (),
         )
-    regions = []
-    for item in as_list(root["ir_regions"], what="a list of regions") if "ir_regions" in root else []:
-        r = mapping(item, ["from", "to", "what"], required=["from", "to", "what"])
-        low = as_number(r["from"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
-        high = as_number(r["to"], minimum=low, maximum=4000, what=f"a wavenumber {low:g}-4000")
-        regions.append(Region(low, high, as_str(r["what"])))
-    table = GroupTable(
-        groups,
-        as_str(root["source"]) if "source" in root else "",
-        as_str(root["ir_source"]) if "ir_source" in root else "",
-        tuple(regions),
-    )
-    try:
-        table.validate()
-    except ElucidateError as exc:
-        line = body.value[exc.key.split(".")[1]].line if exc.key else None
-        raise exc.in_file(str(file), line) from exc
-    return table
+    table = GroupTable(groups, as_str(root["source"]) if "source" in root else "")
+    return validated(table, document)
 
 
-def _band(loc: Any) -> Band:
-    b = mapping(
-        loc, ["from", "to", "strength", "key", "mode", "when", "unless", "shape"], required=["from", "to", "strength", "mode"]
-    )
-    low = as_number(b["from"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
-    high = as_number(b["to"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
-    if high <= low:
-        raise b["to"].error(f"expected a wavenumber above from ({low:g})")
-    return Band(
-        low,
-        high,
-        as_choice(b["strength"], STRENGTHS, what="one of"),
-        as_bool(b["key"]) if "key" in b else False,
-        as_str(b["mode"]),
-        as_str(b["when"], what="a SMARTS pattern") if "when" in b else None,
-        as_str(b["unless"], what="a SMARTS pattern") if "unless" in b else None,
-        as_choice(b["shape"], ("broad", "sharp"), what="one of") if "shape" in b else None,
-    )
-
-
-def _pi_bonds(loc: Any) -> tuple[int, str]:
+def _pi_bonds(loc: Located) -> tuple[int, str]:
     entry = mapping(loc, ["at_least", "among"], required=["at_least", "among"])
     count = as_int(entry["at_least"], what="a whole number of π bonds", minimum=1)
     kind = as_choice(entry["among"], PI_CLASSES, what="a class of π bonds:")

@@ -8,13 +8,23 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, TypeAlias
 
-from .errors import ElucidateError
+from ..errors import ElucidateError
+from ..smarts import compiled_smarts
 from .groups import GroupTable, default_groups
-from .patterns import compiled_smarts
+from .plausibility import default_profiles
 
-__all__ = ["Selection", "CompiledSelection"]
+if TYPE_CHECKING:
+    from .._rdkit import Mol
+
+__all__ = ["Selection", "CompiledSelection", "SkeletonPatterns", "MolTest"]
+
+#: (shape, labelled, kekule) conditions of required groups on a skeleton: on the bare graph,
+#: with element labels, and (or None) on the labelled multigraph in Kekulé form
+SkeletonPatterns: TypeAlias = "tuple[tuple[Mol, Mol, Mol | None], ...]"
+#: a yes/no test on a finished molecule
+MolTest: TypeAlias = "Callable[[Mol], bool]"
 
 
 @dataclass(frozen=True)
@@ -40,7 +50,7 @@ class Selection:
         g = groups or default_groups()
         return tuple(name for name in self.require if g[name].skeleton is not None or g[name].pi_bonds is not None)
 
-    def skeleton_patterns(self, groups: GroupTable | None = None) -> tuple[tuple[Any, Any, Any], ...]:
+    def skeleton_patterns(self, groups: GroupTable | None = None) -> SkeletonPatterns:
         """(shape, labelled, kekule) patterns of the pushed groups: conditions on the bare
         skeleton, on the skeleton with element labels, and (or None) on the labelled multigraph
         in its Kekulé form."""
@@ -56,7 +66,7 @@ class Selection:
         both = sorted(set(self.require) & set(self.forbid))
         if both:
             raise ElucidateError(f"group {both[0]!r} is both required and forbidden")
-        tests: list[tuple[str, Callable[[Any], bool]]] = []  # (label, passes)
+        tests: list[tuple[str, MolTest]] = []  # (label, passes)
         for name in self.require:
             tests.append((f"require {name}", _has(g[name].pattern)))
         for name in self.forbid:
@@ -73,34 +83,32 @@ class Selection:
                 (f"largest ring {limit}", lambda mol: all(len(r) <= limit for r in mol.GetRingInfo().AtomRings()))
             )
         if self.profile is not None:
-            from .plausibility import default_profiles
-
             for rule in default_profiles()[self.profile]:
                 tests.append((f"implausible {rule.name}", _not(rule.matches)))
         return CompiledSelection(tuple(tests))
 
 
-def _has(pattern: Any) -> Callable[[Any], bool]:
+def _has(pattern: Mol) -> MolTest:
     return lambda mol: bool(mol.HasSubstructMatch(pattern))
 
 
-def _lacks(pattern: Any) -> Callable[[Any], bool]:
+def _lacks(pattern: Mol) -> MolTest:
     return lambda mol: not mol.HasSubstructMatch(pattern)
 
 
-def _not(test: Callable[[Any], bool]) -> Callable[[Any], bool]:
+def _not(test: MolTest) -> MolTest:
     return lambda mol: not test(mol)
 
 
 @dataclass(frozen=True)
 class CompiledSelection:
-    tests: tuple[tuple[str, Callable[[Any], bool]], ...]
+    tests: tuple[tuple[str, MolTest], ...]
 
     @property
     def labels(self) -> tuple[str, ...]:
         return tuple(label for label, _ in self.tests)
 
-    def first_failure(self, mol: Any) -> str | None:
+    def first_failure(self, mol: Mol) -> str | None:
         """The label of the first constraint ``mol`` (aromaticity perceived) breaks, or None."""
         for label, passes in self.tests:
             if not passes(mol):

@@ -16,76 +16,33 @@ import itertools
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from fractions import Fraction
-from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .elements import ElementTable, default_elements
-from .errors import ElucidateError
-from .formula import Formula, ppm_error
-from .isotopes import ClusterFit, ClusterReading, ObservedCluster, _power, chi2_matrix, fit_cluster, read_cluster
-from .rules import (
-    RATIO_LEVELS,
-    FormulaRules,
-    RuleOf13,
-    default_rules,
-    kind_fiehn,
-    nitrogen_rule,
-    rule_of_13,
-    senior_rules,
-)
-
-if TYPE_CHECKING:
-    from .case import Case
+from ..elements import ElementTable, default_elements
+from ..errors import ElucidateError
+from ..formula import Formula, ppm_error
+from .isotopes import ClusterFit, ClusterReading, chi2_matrix, cluster_matrix, fit_cluster, read_cluster
+from .query import FormulaQuery
+from .rules import FormulaRules, RuleOf13, default_rules, kind_fiehn, nitrogen_rule, rule_of_13, senior_rules
 
 __all__ = [
     "RULES",
-    "EXACT_MASS_OF",
-    "FormulaQuery",
     "Candidate",
     "FormulaResult",
     "composition_array",
     "enumerate_compositions",
     "check_formula",
     "derive_formulas",
-    "case_query",
+    "first_failure_codes",
+    "search_symbols",
 ]
 
 #: filter names in the order they are applied
 RULES = ("dbe_negative", "nitrogen_rule", "senior", "dbe_range", "element_ratios", "exact_mass")
-EXACT_MASS_OF = ("ion", "neutral")
 METHODS = ("direct", "constraint")
 #: isotope-fit scores closer than this rank as equal (then parsimony decides)
 SCORE_STEP = 0.01
-
-
-@dataclass(frozen=True)
-class FormulaQuery:
-    """What the chemist asks: a nominal M, limits, optional exact mass and isotope cluster."""
-
-    nominal_mass: int
-    elements: Mapping[str, tuple[int, int]]
-    dbe: tuple[int, int] = (0, 20)
-    element_ratios: str = "common"
-    exact_mass: float | None = None
-    exact_mass_of: str = "ion"
-    mass_tolerance_ppm: float = 5.0
-    cluster: ObservedCluster | None = None
-
-    def __post_init__(self) -> None:
-        if self.nominal_mass < 1:
-            raise ElucidateError(f"nominal mass must be a positive whole number, got {self.nominal_mass}")
-        if self.element_ratios not in RATIO_LEVELS:
-            raise ElucidateError(
-                f"element ratios {self.element_ratios!r}; choose one of {', '.join(RATIO_LEVELS)}"
-            )
-        if self.exact_mass_of not in EXACT_MASS_OF:
-            raise ElucidateError(f"exact_mass_of {self.exact_mass_of!r}; choose one of {', '.join(EXACT_MASS_OF)}")
-        for sym, (low, high) in self.elements.items():
-            if low < 0 or low > high:
-                raise ElucidateError(f"element range {sym}: {low}-{high} is not a valid range")
-        if self.dbe[0] > self.dbe[1]:
-            raise ElucidateError(f"DBE range {self.dbe[0]}-{self.dbe[1]}: low end exceeds high end")
 
 
 @dataclass(frozen=True)
@@ -146,7 +103,9 @@ class FormulaResult:
 MAX_GRID = 50_000_000
 
 
-def _ordered(limits: Mapping[str, tuple[int, int]], table: ElementTable) -> list[str]:
+def search_symbols(limits: Mapping[str, tuple[int, int]], table: ElementTable) -> list[str]:
+    """The limited elements in element-table order (the columns of a composition array); refuses
+    limits whose search grid exceeds :data:`MAX_GRID`."""
     for sym in limits:
         table[sym]  # raises with the list of known elements
     symbols = [s for s in table.symbols if s in limits]
@@ -163,7 +122,7 @@ def _ordered(limits: Mapping[str, tuple[int, int]], table: ElementTable) -> list
 
 
 def _direct(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> np.ndarray:
-    symbols = _ordered(limits, table)
+    symbols = search_symbols(limits, table)
     if "H" not in symbols or "C" not in symbols:
         return _brute(mass, limits, table, symbols)
     others = [s for s in symbols if s not in ("C", "H")]
@@ -207,7 +166,7 @@ def _brute(
 def _constraint(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> np.ndarray:
     import constraint  # python-constraint2
 
-    symbols = _ordered(limits, table)
+    symbols = search_symbols(limits, table)
     problem = constraint.Problem()
     for s in symbols:
         problem.addVariable(s, list(range(limits[s][0], limits[s][1] + 1)))
@@ -230,7 +189,7 @@ def composition_array(
     t = table or default_elements()
     if method not in METHODS:
         raise ElucidateError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
-    symbols = _ordered(limits, t)
+    symbols = search_symbols(limits, t)
     arr = (_direct if method == "direct" else _constraint)(mass, limits, t)
     return symbols, _sort_rows(arr)
 
@@ -304,7 +263,7 @@ def check_formula(
     return None
 
 
-def _first_failure(
+def first_failure_codes(
     arr: np.ndarray,
     symbols: list[str],
     query: FormulaQuery,
@@ -365,27 +324,6 @@ def _first_failure(
     return out
 
 
-def _patterns(arr: np.ndarray, symbols: list[str], table: ElementTable, max_offset: int) -> np.ndarray:
-    """Isotope clusters (M = 100) for every row at once; same numbers as isotope_pattern."""
-    length = max_offset + 1
-    total = np.zeros((arr.shape[0], length))
-    total[:, 0] = 1.0
-    for j, sym in enumerate(symbols):
-        top = int(arr[:, j].max()) if arr.shape[0] else 0
-        if top == 0:
-            continue
-        lut = np.zeros((top + 1, length))
-        for n in range(top + 1):
-            p = _power(table, sym, n, length)
-            lut[n, : p.shape[0]] = p
-        factor = lut[arr[:, j]]
-        new = np.zeros_like(total)
-        for i in range(length):
-            new[:, i:] += total[:, i : i + 1] * factor[:, : length - i]
-        total = new
-    return total / total[:, :1] * 100.0
-
-
 def derive_formulas(
     query: FormulaQuery,
     *,
@@ -409,7 +347,7 @@ def derive_formulas(
     if top is not None and top < 0:
         raise ElucidateError(f"top must be 0 or more, got {top}")
     symbols, arr = composition_array(query.nominal_mass, query.elements, t, method=method)
-    failed = _first_failure(arr, symbols, query, t, r)
+    failed = first_failure_codes(arr, symbols, query, t, r)
     counts = {rule: int(np.count_nonzero(failed == i)) for i, rule in enumerate(RULES)}
     rejected: list[Candidate] = []
     if keep_rejected:
@@ -424,7 +362,7 @@ def derive_formulas(
     score = np.zeros(n_good)
     patterns = None
     if query.cluster is not None and n_good:
-        patterns = _patterns(good, symbols, t, r.isotope_max_offset)
+        patterns = cluster_matrix(good, symbols, t, r.isotope_max_offset)
         chi2, _, _ = chi2_matrix(patterns, query.cluster, r.isotope_tolerance)
         score = np.exp(-0.5 * chi2)
     ppm = np.zeros(n_good)
@@ -452,7 +390,7 @@ def derive_formulas(
     notes: list[str] = []
     reading = None
     if query.cluster is not None:
-        reading = read_cluster(query.cluster, t, r.isotope_tolerance, allowed=query.elements)
+        reading = read_cluster(query.cluster, t, r.isotope_tolerance, allowed=query.elements, heavy_sets=r.heavy_sets)
         notes.extend(reading.notes)
         best_kept = float(score.max()) if n_good else 0.0
         warning = _heuristic_warning(arr[failed == 4], symbols, query, t, r, best_kept)
@@ -493,7 +431,7 @@ def _heuristic_warning(
     """
     if query.cluster is None or rows.shape[0] == 0:
         return None
-    chi2, _, _ = chi2_matrix(_patterns(rows, symbols, table, rules.isotope_max_offset), query.cluster, rules.isotope_tolerance)
+    chi2, _, _ = chi2_matrix(cluster_matrix(rows, symbols, table, rules.isotope_max_offset), query.cluster, rules.isotope_tolerance)
     scores = np.exp(-0.5 * chi2)
     best = int(np.lexsort((np.arange(rows.shape[0]), -np.round(scores, 12)))[0])
     if scores[best] < 0.5 or scores[best] < 2 * best_kept:
@@ -527,40 +465,4 @@ def _candidate(
         fit=fit,
         rejected_by=rejected[0] if rejected else None,
         reason=rejected[1] if rejected else None,
-    )
-
-
-def limits_for(
-    elements: Mapping[str, tuple[int, int]] | None, rules: FormulaRules | None = None
-) -> dict[str, tuple[int, int]]:
-    """The element limits to use: the given ones, else the table's defaults."""
-    r = rules or default_rules()
-    return dict(elements) if elements is not None else dict(r.default_elements)
-
-
-def case_query(case: "Case", molecular_ion: int) -> FormulaQuery:
-    """The formula question a case asks for one molecular-ion hypothesis: its element limits
-    (a known formula fixes them and switches the element-ratio heuristic off), DBE range, exact
-    mass when it belongs to this M, and the isotope cluster at M."""
-    rules = default_rules()
-    ms = case.mass_spec
-    spec = case.formula
-    if spec.known is not None:
-        elements = {s: (n, n) for s, n in spec.known.counts}
-        ratios = "off"
-    else:
-        elements = dict(spec.elements) if spec.elements is not None else dict(rules.default_elements)
-        ratios = spec.element_ratios
-    peaks = dict(ms.peaks) if ms else {}
-    exact = ms.exact_mass if ms and ms.exact_mass is not None and abs(ms.exact_mass - molecular_ion) < 1 else None
-    cluster = ObservedCluster.from_peaks(molecular_ion, peaks, max_offset=rules.isotope_max_offset) if peaks else None
-    return FormulaQuery(
-        nominal_mass=molecular_ion,
-        elements=elements,
-        dbe=spec.dbe if spec.dbe is not None else rules.default_dbe,
-        element_ratios=ratios,
-        exact_mass=exact,
-        exact_mass_of=ms.exact_mass_of if ms else "ion",
-        mass_tolerance_ppm=ms.mass_tolerance_ppm if ms else 5.0,
-        cluster=cluster,
     )

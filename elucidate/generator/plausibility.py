@@ -7,12 +7,15 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
-from .errors import ElucidateError
-from .patterns import compiled_smarts
-from .tables import table_path
-from .yamlnodes import as_list, as_str, mapping, read_yaml_file
+from ..errors import ElucidateError
+from ..smarts import compiled_smarts
+from ..tables import table_path, validated
+from ..yamlnodes import as_list, as_str, mapping, read_yaml_file
+
+if TYPE_CHECKING:
+    from .._rdkit import Mol
 
 __all__ = [
     "Rule",
@@ -25,7 +28,7 @@ __all__ = [
 ]
 
 
-def bridgehead_double_bond(mol: Any) -> bool:
+def bridgehead_double_bond(mol: Mol) -> bool:
     """Bredt's rule with Fawcett's S-number: a double or aromatic bond at a bridgehead of a
     bridged ring pair whose bridges hold fewer than seven atoms in all (S = atoms of the bicyclic
     system minus the two bridgeheads; S >= 7, as in bicyclo[3.3.1]non-1-ene, is isolable)."""
@@ -53,7 +56,7 @@ def bridgehead_double_bond(mol: Any) -> bool:
     return False
 
 
-def aromatic_atom_only_in_small_rings(mol: Any) -> bool:
+def aromatic_atom_only_in_small_rings(mol: Mol) -> bool:
     """An aromatic atom all of whose rings (smallest set) have fewer than five atoms: a benzene
     ring drawn with a chord across it (Dewar-benzene valence tautomers) that RDKit still
     perceives as aromatic. Fused small rings (benzocyclobutene) keep their six-membered ring."""
@@ -68,7 +71,7 @@ def aromatic_atom_only_in_small_rings(mol: Any) -> bool:
 
 
 #: named tests for rules SMARTS cannot express
-TESTS: Mapping[str, Callable[[Any], bool]] = {
+TESTS: Mapping[str, Callable[[Mol], bool]] = {
     "bridgehead_double_bond": bridgehead_double_bond,
     "aromatic_atom_only_in_small_rings": aromatic_atom_only_in_small_rings,
 }
@@ -117,7 +120,8 @@ class Profiles:
 
 def load_profiles(path: str | Path | None = None) -> Profiles:
     file = Path(path) if path is not None else table_path("plausibility.yaml")
-    root = mapping(read_yaml_file(file), ["source", "profiles"], required=["profiles"])
+    document = read_yaml_file(file)
+    root = mapping(document, ["source", "profiles"], required=["profiles"])
     body = root["profiles"]
     if not isinstance(body.value, dict) or not body.value:
         raise body.error("expected a mapping of profile names to rule lists")
@@ -135,12 +139,7 @@ def load_profiles(path: str | Path | None = None) -> Profiles:
                 )
             )
         profiles[str(name)] = tuple(rules)
-    table = Profiles(profiles)
-    try:
-        table.validate()
-    except ElucidateError as exc:
-        raise exc.in_file(str(file)) from exc
-    return table
+    return validated(Profiles(profiles), document)
 
 
 @lru_cache(maxsize=1)

@@ -9,17 +9,19 @@ Intensities are reported relative to the M peak (M = 100), the way a chemist rea
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
 
-from .elements import ElementTable, default_elements
-from .formula import Formula
+from ..elements import ElementTable, default_elements
+from ..formula import Formula
 
 __all__ = [
+    "atom_count_distribution",
     "isotope_pattern",
+    "cluster_matrix",
     "IsotopeTolerance",
     "ObservedCluster",
     "ClusterFit",
@@ -44,7 +46,9 @@ def _atom_distribution(table: ElementTable, symbol: str) -> np.ndarray:
 
 
 @lru_cache(maxsize=4096)
-def _power(table: ElementTable, symbol: str, count: int, length: int) -> np.ndarray:
+def atom_count_distribution(table: ElementTable, symbol: str, count: int, length: int) -> np.ndarray:
+    """The extra-neutron distribution of ``count`` atoms of one element (offsets 0 to
+    ``length`` - 1 above the lightest isotopes), by repeated squaring of the one-atom one."""
     base = _atom_distribution(table, symbol)
     result = np.ones(1)
     square = base
@@ -69,10 +73,32 @@ def isotope_pattern(
     length = max_offset + 1
     total = np.ones(1)
     for symbol, n in formula.counts:
-        total = _truncate(np.convolve(total, _power(t, symbol, n, length)), length)
+        total = _truncate(np.convolve(total, atom_count_distribution(t, symbol, n, length)), length)
     out = np.zeros(length)
     out[: total.shape[0]] = total
     return out / out[0] * 100.0
+
+
+def cluster_matrix(arr: np.ndarray, symbols: list[str], table: ElementTable, max_offset: int) -> np.ndarray:
+    """Isotope clusters (M = 100) of many compositions at once (one row each, columns in the
+    order of ``symbols``); the same numbers as :func:`isotope_pattern` row by row."""
+    length = max_offset + 1
+    total = np.zeros((arr.shape[0], length))
+    total[:, 0] = 1.0
+    for j, sym in enumerate(symbols):
+        top = int(arr[:, j].max()) if arr.shape[0] else 0
+        if top == 0:
+            continue
+        lut = np.zeros((top + 1, length))
+        for n in range(top + 1):
+            p = atom_count_distribution(table, sym, n, length)
+            lut[n, : p.shape[0]] = p
+        factor = lut[arr[:, j]]
+        new = np.zeros_like(total)
+        for i in range(length):
+            new[:, i:] += total[:, i : i + 1] * factor[:, : length - i]
+        total = new
+    return total / total[:, :1] * 100.0
 
 
 @dataclass(frozen=True)
@@ -207,22 +233,6 @@ class ClusterReading:
     notes: tuple[str, ...]
 
 
-_HEAVY_SETS: tuple[dict[str, int], ...] = (
-    {},
-    {"S": 1},
-    {"S": 2},
-    {"Si": 1},
-    {"Cl": 1},
-    {"Cl": 2},
-    {"Cl": 3},
-    {"Br": 1},
-    {"Br": 2},
-    {"Cl": 1, "Br": 1},
-    {"Cl": 2, "Br": 1},
-    {"Cl": 1, "Br": 2},
-)
-
-
 def _label(counts: Mapping[str, int]) -> str:
     return " ".join(f"{s}{n}" for s, n in counts.items()) or "none"
 
@@ -233,20 +243,26 @@ def read_cluster(
     tolerance: IsotopeTolerance = IsotopeTolerance(),
     *,
     allowed: Mapping[str, tuple[int, int]] | None = None,
+    heavy_sets: Sequence[Mapping[str, int]] | None = None,
 ) -> ClusterReading:
     """Read the M+2/M+4 pattern for Cl, Br, S and Si, and M+1 for the carbon count.
 
     The M+2 pattern is compared with the even-offset clusters of each heavy-atom set on a
     nominal C6 skeleton; the carbon estimate is M+1 (after removing the heavy atoms'
     contributions) divided by the per-carbon 13C contribution, 1.0816 % with the table's
-    abundances, with the range given by the M+1 tolerance.
+    abundances, with the range given by the M+1 tolerance. ``heavy_sets``: the heavy-atom sets
+    compared (default: ``isotope_reading`` in formula_rules.yaml).
     """
     t = table or default_elements()
+    if heavy_sets is None:
+        from .rules import default_rules  # the rules table reads this module's tolerance type
+
+        heavy_sets = default_rules().heavy_sets
     notes: list[str] = []
     best: tuple[float, str] = (-1.0, "none")
     scores: list[tuple[float, str, dict[str, int]]] = []
     even = {k: v for k, v in observed.ratios.items() if k % 2 == 0}
-    for heavy in _HEAVY_SETS:
+    for heavy in heavy_sets:
         if allowed is not None and any(allowed.get(s, (0, 0))[1] < n for s, n in heavy.items()):
             continue
         pattern = isotope_pattern(Formula.of({"C": 6, **heavy}), t, max_offset=8)
@@ -264,7 +280,7 @@ def read_cluster(
             chi2 += ((obs - pred) / sigma) ** 2
             used += 1
         if used:
-            scores.append((float(np.exp(-0.5 * chi2)), _label(heavy), heavy))
+            scores.append((float(np.exp(-0.5 * chi2)), _label(heavy), dict(heavy)))
     heavy_counts: dict[str, int] = {}
     if scores:
         scores.sort(key=lambda s: (-s[0], s[1]))

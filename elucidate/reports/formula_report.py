@@ -1,19 +1,12 @@
-"""Plain-text and JSON renderings of results (pure functions returning strings / objects)."""
+"""Plain-text and JSON renderings of the formula stage (pure functions returning strings / objects)."""
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from ..formula import hill_order
+from ..formula_search import RULES, Candidate, FormulaResult
+from .layout import CAUTION, text_table
 
-from .formula import hill_order
-from .formulas import RULES, Candidate, FormulaResult
-
-__all__ = ["CAUTION", "RULE_LABELS", "formulas_text", "formulas_json"]
-
-CAUTION = (
-    "Caution: an unknown may be toxic or reactive; handle it under your lab's safety rules. "
-    "These candidates are hypotheses to confirm against a reference standard under the lab's own "
-    "procedures, not an identification."
-)
+__all__ = ["RULE_LABELS", "formulas_text", "formulas_json"]
 
 RULE_LABELS = {
     "dbe_negative": "DBE < 0",
@@ -27,15 +20,6 @@ RULE_LABELS = {
 
 def _dbe(c: Candidate) -> str:
     return str(int(c.dbe)) if c.dbe.denominator == 1 else f"{float(c.dbe):.1f}"
-
-
-def _table(rows: Sequence[Sequence[str]], right: Sequence[bool]) -> list[str]:
-    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
-    out = []
-    for r in rows:
-        cells = [cell.rjust(w) if ra else cell.ljust(w) for cell, w, ra in zip(r, widths, right)]
-        out.append("  ".join(cells).rstrip())
-    return out
 
 
 def formulas_text(result: FormulaResult, *, title: str | None = None, explain: bool = False) -> str:
@@ -84,7 +68,7 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
             for k in offsets:
                 row.append(f"{compared[k][0]:.1f}/{compared[k][1]:.1f}" if k in compared else "")
             rows.append(row)
-        lines += _table(rows, [True, False, True, True, True, True] + [True] * (len(header) - 6))
+        lines += text_table(rows, [True, False, True, True, True, True] + [True] * (len(header) - 6))
         if len(result.kept) < result.kept_count:
             lines.append(f"(showing {len(result.kept)} of {result.kept_count}; --top 0 shows all)")
         if cluster is not None:

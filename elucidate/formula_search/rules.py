@@ -12,12 +12,12 @@ from fractions import Fraction
 from functools import lru_cache
 from pathlib import Path
 
-from .elements import ElementTable, default_elements
-from .errors import ElucidateError
-from .formula import Formula
-from .isotopes import IsotopeTolerance
-from .tables import table_path
-from .yamlnodes import (
+from ..defaults import ELEMENT_RATIOS, RATIO_LEVELS
+from ..elements import ElementTable, default_elements
+from ..errors import ElucidateError
+from ..formula import Formula
+from ..tables import table_path, validated
+from ..yamlnodes import (
     Located,
     as_int,
     as_list,
@@ -27,9 +27,9 @@ from .yamlnodes import (
     mapping,
     read_yaml_file,
 )
+from .isotopes import IsotopeTolerance
 
 __all__ = [
-    "RATIO_LEVELS",
     "FormulaRules",
     "load_formula_rules",
     "default_rules",
@@ -41,7 +41,6 @@ __all__ = [
     "rule_of_13_formulas",
 ]
 
-RATIO_LEVELS = ("common", "extended", "off")
 
 
 @dataclass(frozen=True)
@@ -63,6 +62,8 @@ class FormulaRules:
     rule13_removals: Mapping[str, Mapping[str, int]]
     isotope_tolerance: IsotopeTolerance = field(default_factory=IsotopeTolerance)
     isotope_max_offset: int = 8
+    #: element sets whose M+2 / M+4 pattern the by-eye reading of a cluster compares
+    heavy_sets: tuple[Mapping[str, int], ...] = ({},)
 
     def validate(self, table: ElementTable | None = None) -> None:
         t = table or default_elements()
@@ -84,6 +85,10 @@ class FormulaRules:
                             f"extended range for {sym} must contain the common one",
                             key="kind_fiehn.ratios.extended",
                         )
+        for i, heavy in enumerate(self.heavy_sets):
+            for sym in heavy:
+                if sym not in t:
+                    raise ElucidateError(f"unknown element {sym!r}", key=f"isotope_reading.heavy_sets[{i}]")
         masses = [m for m, _ in self.max_counts]
         if masses != sorted(masses):
             raise ElucidateError("max_counts must be in increasing mass", key="kind_fiehn.max_counts")
@@ -119,11 +124,9 @@ def _ratio(loc: Located) -> tuple[float, float]:
 
 def load_formula_rules(path: str | Path | None = None, table: ElementTable | None = None) -> FormulaRules:
     file = Path(path) if path is not None else table_path("formula_rules.yaml")
-    root = mapping(
-        read_yaml_file(file),
-        ["default_limits", "kind_fiehn", "rule_of_13", "isotope_fit"],
-        required=["default_limits", "kind_fiehn", "rule_of_13", "isotope_fit"],
-    )
+    document = read_yaml_file(file)
+    sections = ["default_limits", "kind_fiehn", "rule_of_13", "isotope_fit", "isotope_reading"]
+    root = mapping(document, sections, required=sections)
     dl = mapping(root["default_limits"], ["source", "elements", "dbe"], required=["source", "elements", "dbe"])
     elements_loc = dl["elements"]
     if not isinstance(elements_loc.value, dict):
@@ -169,6 +172,8 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
         ["source", "relative", "absolute", "reading", "unlisted_factor", "max_offset"],
         required=["relative", "absolute", "reading", "unlisted_factor", "max_offset"],
     )
+    reading = mapping(root["isotope_reading"], ["source", "heavy_sets"], required=["heavy_sets"])
+    heavy_sets = tuple(_counts(item) for item in as_list(reading["heavy_sets"], what="a list of element counts"))
     rules = FormulaRules(
         default_elements=default_limits,
         default_dbe=as_range(dl["dbe"]),
@@ -183,12 +188,9 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
             unlisted_factor=as_number(fit["unlisted_factor"], minimum=1),
         ),
         isotope_max_offset=as_int(fit["max_offset"], minimum=2, maximum=20),
+        heavy_sets=heavy_sets,
     )
-    try:
-        rules.validate(table)
-    except ElucidateError as exc:
-        raise exc.in_file(str(file)) from exc
-    return rules
+    return validated(rules, document, check=lambda: rules.validate(table))
 
 
 @lru_cache(maxsize=1)
@@ -229,7 +231,7 @@ def senior_rules(formula: Formula, table: ElementTable | None = None) -> str | N
     return None
 
 
-def kind_fiehn(formula: Formula, rules: FormulaRules, level: str = "common") -> str | None:
+def kind_fiehn(formula: Formula, rules: FormulaRules, level: str = ELEMENT_RATIOS) -> str | None:
     """Kind & Fiehn (2007) rules 1, 4, 5 and 6 (element counts and ratios to carbon)."""
     if level == "off":
         return None

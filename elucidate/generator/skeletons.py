@@ -19,12 +19,31 @@ from __future__ import annotations
 
 from collections.abc import Iterator, Sequence
 from itertools import combinations
+from typing import NamedTuple
 
 import pynauty
 
-__all__ = ["Skeleton", "Partial", "skeletons", "frontier", "grow", "children", "automorphisms"]
+__all__ = ["Skeleton", "PartialGraph", "root_graph", "skeletons", "frontier", "grow", "children", "automorphisms"]
 
-Skeleton = tuple[int, tuple[tuple[int, int], ...]]  # (vertex count, sorted edge list)
+
+class Skeleton(NamedTuple):
+    """A finished skeleton: its vertex count and sorted edge list."""
+
+    size: int
+    edges: tuple[tuple[int, int], ...]
+
+
+class PartialGraph(NamedTuple):
+    """A node of the generation tree: the vertices so far, their adjacency, the ring count."""
+
+    size: int
+    adjacency: tuple[tuple[int, ...], ...]
+    rings: int
+
+
+def root_graph() -> PartialGraph:
+    """The root of the generation tree: one vertex."""
+    return PartialGraph(1, ((),), 0)
 
 
 def _adjacency(n: int, edges: Sequence[tuple[int, int]]) -> list[list[int]]:
@@ -41,9 +60,6 @@ def _nauty(n: int, adj: list[list[int]]) -> pynauty.Graph:
 
 def _dominated(degrees: list[int], bounds: Sequence[int]) -> bool:
     return all(d <= b for d, b in zip(sorted(degrees, reverse=True), bounds))
-
-
-Partial = tuple[int, tuple[tuple[int, ...], ...], int]  # (vertices so far, adjacency, rings)
 
 
 def _checked(n: int, bounds: Sequence[int]) -> list[int]:
@@ -63,7 +79,7 @@ def skeletons(n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleto
         yield from grow(part, n, bounds, max_rings)
 
 
-def frontier(n: int, bounds: Sequence[int], max_rings: int, *, depth: int) -> Iterator[Partial]:
+def frontier(n: int, bounds: Sequence[int], max_rings: int, *, depth: int) -> Iterator[PartialGraph]:
     """The partial graphs with ``min(depth, n)`` vertices on the generation tree, in the order
     the tree visits them. Growing each with :func:`grow` and chaining the results in this order
     gives exactly :func:`skeletons` — this is how work is split across processes."""
@@ -72,10 +88,10 @@ def frontier(n: int, bounds: Sequence[int], max_rings: int, *, depth: int) -> It
         return
     if n > 1 and bounds[1] < 1:
         return
-    yield from _descend((1, ((),), 0), n, bounds, max_rings, min(depth, n))
+    yield from _descend(root_graph(), n, bounds, max_rings, min(depth, n))
 
 
-def _descend(part: Partial, n: int, bounds: Sequence[int], max_rings: int, depth: int) -> Iterator[Partial]:
+def _descend(part: PartialGraph, n: int, bounds: Sequence[int], max_rings: int, depth: int) -> Iterator[PartialGraph]:
     if part[0] == depth:
         yield part
         return
@@ -83,21 +99,21 @@ def _descend(part: Partial, n: int, bounds: Sequence[int], max_rings: int, depth
         yield from _descend(child, n, bounds, max_rings, depth)
 
 
-def grow(part: Partial, n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
+def grow(part: PartialGraph, n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
     """Every finished n-vertex skeleton below the partial graph ``part``."""
     yield from _grow(part, n, _checked(n, bounds), max_rings)
 
 
-def _grow(part: Partial, n: int, bounds: list[int], max_rings: int) -> Iterator[Skeleton]:
+def _grow(part: PartialGraph, n: int, bounds: list[int], max_rings: int) -> Iterator[Skeleton]:
     k, adj, _ = part
     if k == n:
-        yield (n, tuple(sorted((a, b) for a in range(n) for b in adj[a] if a < b)))
+        yield Skeleton(n, tuple(sorted((a, b) for a in range(n) for b in adj[a] if a < b)))
         return
     for child in children(part, bounds, max_rings):
         yield from _grow(child, n, bounds, max_rings)
 
 
-def children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[Partial]:
+def children(part: PartialGraph, bounds: Sequence[int], max_rings: int) -> Iterator[PartialGraph]:
     """The accepted children of a partial graph, one per isomorphism class."""
     k, adj_t, rings = part
     adj = [list(nb) for nb in adj_t]
@@ -134,7 +150,7 @@ def children(part: Partial, bounds: Sequence[int], max_rings: int) -> Iterator[P
             if cert in seen:
                 continue
             seen.add(cert)
-            yield (k + 1, tuple(tuple(nb) for nb in child), rings + size - 1)
+            yield PartialGraph(k + 1, tuple(tuple(nb) for nb in child), rings + size - 1)
 
 
 def _cut_vertices(adj: list[list[int]]) -> set[int]:

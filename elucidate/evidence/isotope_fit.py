@@ -1,0 +1,40 @@
+"""The isotope-cluster fit of a candidate's formula, from the formula stage, as a component."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Literal
+
+from ..case import Case
+from .base import Assessment, Reading, Subject
+
+__all__ = ["IsotopeFit"]
+
+
+class IsotopeFit:
+    """exp(-chi2/2) of the formula's simulated isotope cluster against the observed one
+    (:mod:`elucidate.formula_search.isotopes`); no component for a molecular-ion hypothesis
+    without an observed cluster."""
+
+    name = "formula"
+    weight_key = "formula"
+    label = "iso"
+    stage: Literal["formula", "structure"] = "formula"
+    reading_key: str | None = None
+
+    def applies(self, case: Case) -> bool:
+        return case.mass_spec is not None and bool(case.mass_spec.peaks)
+
+    def hard_constraints(self, case: Case) -> Mapping[str, tuple[str, ...]]:
+        return {}
+
+    def assess(self, subject: Subject, case: Case) -> Assessment | None:
+        if subject.isotope_score is None:
+            return None
+        return Assessment(self.name, subject.isotope_score)
+
+    def detail_lines(self, assessment: Assessment) -> list[str]:
+        return []
+
+    def read(self, case: Case) -> Reading | None:
+        return None

@@ -1,0 +1,97 @@
+"""Exhaustive constitutional-isomer generation for a molecular formula: the entry points.
+
+Route (from the graph-enumeration literature): connected simple skeletons with degree bounds
+first (:mod:`.skeletons`, canonical augmentation), then element labels on the skeleton's
+vertices, then edge multiplicities (bond orders 1-3), with hydrogens implied by each atom's free
+valence (:mod:`.labelling`). Two molecules built on non-isomorphic skeletons are different; two
+built on one skeleton are the same molecule exactly when an automorphism of the skeleton maps
+one labelling onto the other, so each constitutional isomer comes out exactly once, as a
+multigraph.
+
+Counting conventions:
+* ``kekule=True``: every multigraph once (as the enumeration literature counts; the Kekulé
+  forms of o-xylene are two graphs). SMILES are written in Kekulé form.
+* default: Kekulé forms of one aromatic compound are merged (what a chemist calls one compound):
+  after RDKit aromaticity perception, duplicates within a skeleton are dropped — Kekulé forms
+  differ only in bond orders, never in the skeleton.
+
+Valence states (``constraints/elements.yaml``, ``constraints/valence_states.yaml``): C, Si 4;
+N 3, or 5 for the charge-separated groups (nitro, N-oxides: written [N+]-[O-]); P 3 or 5 (P=O,
+P=S); O 2; S 2, 4 (sulfoxides, sulfinic groups) or 6 (sulfones, sulfonic groups), written
+hypervalent, with no H on S; H and halogens 1. ``lowest_valence`` keeps only the lowest state of
+each element (plain graph counting). Constitution only: no stereochemistry.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+from ..errors import ElucidateError
+from ..formula import Formula
+from .labelling import Structure
+from .options import GeneratorOptions
+from .tasks import WorkerJob, compiled_selection, generation_tasks, run_job, selection_plans, task_smiles, task_structures
+
+__all__ = ["structures", "isomer_smiles", "count_isomers"]
+
+_DEFAULT = GeneratorOptions()
+
+
+def structures(formula: Formula, options: GeneratorOptions = _DEFAULT) -> Iterator[Structure]:
+    """Every constitutional isomer of ``formula`` once, as a multigraph (Kekulé forms apart).
+
+    Reads the valence, ring and bond-order options; the selection, ``kekule`` and ``workers``
+    apply to :func:`isomer_smiles`. A higher state stands for the usual oxo groups and needs a
+    double bond to a terminal O (see ``constraints/valence_states.yaml``).
+    """
+    plans, _ = selection_plans(formula, GeneratorOptions(
+        max_rings=options.max_rings,
+        max_bond_order=options.max_bond_order,
+        lowest_valence=options.lowest_valence,
+        table=options.table,
+    ))
+    for task in generation_tasks(plans):
+        yield from task_structures(task)
+
+
+def isomer_smiles(
+    formula: Formula, options: GeneratorOptions = _DEFAULT, *, removed: dict[str, int] | None = None
+) -> Iterator[str]:
+    """Canonical SMILES of every constitutional isomer of ``formula`` that passes the options'
+    selection, each once. ``removed``, when given, is filled with how many generated structures
+    each constraint removed (the first constraint a structure breaks is the one counted).
+    Required groups with a skeleton condition (:meth:`~.selection.Selection.pushed`) also prune
+    labelled skeletons during generation; what they prune is not generated and so not counted.
+
+    With ``options.workers`` > 1 the generation tree is cut into subtrees (:mod:`.tasks`) that
+    worker processes grow independently; results are returned in task order, so the output,
+    and its order, is the same for any number of workers.
+    """
+    if not formula.counts:
+        raise ElucidateError("empty formula")
+    plans, prefilter = selection_plans(formula, options)
+    compiled = compiled_selection(options.selection)
+    counts: dict[str, int] = removed if removed is not None else {}
+    if compiled is not None:
+        for label in compiled.labels:
+            counts.setdefault(label, 0)
+    if options.workers == 1:
+        for task in generation_tasks(plans):
+            yield from task_smiles(task, options.kekule, compiled, counts, prefilter)
+        return
+    import multiprocessing
+
+    jobs = (WorkerJob(task, options.kekule, options.selection) for task in generation_tasks(plans))
+    with multiprocessing.Pool(options.workers) as pool:
+        for smiles, rem in pool.imap(run_job, jobs, chunksize=1):
+            for label, n in rem.items():
+                counts[label] = counts.get(label, 0) + n
+            yield from smiles
+
+
+def count_isomers(formula: Formula, options: GeneratorOptions = _DEFAULT) -> int:
+    """How many isomers :func:`isomer_smiles` yields (graph counting needs no SMILES)."""
+    selection = options.selection
+    if options.kekule and (selection is None or selection.empty):
+        return sum(1 for _ in structures(formula, options))
+    return sum(1 for _ in isomer_smiles(formula, options))

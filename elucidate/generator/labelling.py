@@ -1,0 +1,281 @@
+"""Labelling one skeleton: element labels on its vertices, then bond orders on its edges, each
+structure once up to the skeleton's automorphisms.
+
+Two molecules on one skeleton are the same exactly when an automorphism of the skeleton maps
+one labelling onto the other, so only the lexicographically smallest labelling of each orbit is
+kept (element labels first; bond orders under the stabilizer of the labels). Skeletons with
+huge automorphism groups fall back to canonical certificates. Hydrogens fill each atom's free
+valence; a higher valence state needs its oxo bond (:class:`~.plans.ValenceStates`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from .plans import ValenceStates, default_valence_states
+from .selection import SkeletonPatterns
+from .skeletons import automorphisms
+
+if TYPE_CHECKING:
+    from .._rdkit import BondType, RWMol
+
+__all__ = ["Structure", "SkeletonPatterns", "SkeletonTest", "structures_on_skeleton", "allowed_alone"]
+
+
+@dataclass(frozen=True)
+class Structure:
+    """A molecule as a heavy-atom multigraph with implicit hydrogens."""
+
+    elements: tuple[str, ...]
+    bonds: tuple[tuple[int, int, int], ...]  # (atom, atom, order)
+    hydrogens: tuple[int, ...]
+    valences: tuple[int, ...]  # valence state of each atom (bond orders + hydrogens)
+
+
+def allowed_alone(symbol: str, valence: int, states: ValenceStates | None = None) -> bool:
+    """Whether a one-atom molecule may have this valence state (a higher state needs its oxo bond)."""
+    return (symbol, valence) not in (states or default_valence_states())
+
+
+def structures_on_skeleton(
+    n: int,
+    edges: tuple[tuple[int, int], ...],
+    labels: Sequence[tuple[str, int]],
+    counts: Sequence[int],
+    bond_sum: int,
+    max_extra: int,
+    test: SkeletonTest | None = None,
+    states: ValenceStates | None = None,
+) -> Iterator[Structure]:
+    """Structures on one skeleton. ``test``: the necessary conditions of required groups that
+    the bare skeleton, the labelled skeleton and the labelled multigraph must meet (groups.yaml
+    ``skeleton`` and ``kekule``)."""
+    oxo_states = states or default_valence_states()
+    valence = [v for _, v in labels]
+    special = [label in oxo_states for label in labels]
+    m = len(edges)
+    extra_total = bond_sum - m
+    if extra_total < 0 or extra_total > max_extra * m:
+        return
+    if test is not None and not test.bare_ok(n, edges):
+        return
+    degree = [0] * n
+    for a, b in edges:
+        degree[a] += 1
+        degree[b] += 1
+    group = automorphisms(n, edges)
+    edge_index = {e: i for i, e in enumerate(edges)}
+    perms: list[tuple[tuple[int, ...], tuple[int, ...]]] = []  # (vertex inverse, edge inverse)
+    if group is not None:
+        for p in group:
+            if p == tuple(range(n)):
+                continue
+            inv = [0] * n
+            for i, j in enumerate(p):
+                inv[j] = i
+            einv = [0] * m
+            for i, (a, b) in enumerate(edges):
+                j = edge_index[(min(p[a], p[b]), max(p[a], p[b]))]
+                einv[j] = i
+            perms.append((tuple(inv), tuple(einv)))
+    seen: set[tuple[tuple[int, ...], tuple[int, ...]]] | None = set() if group is None else None
+    for colouring in _colourings(n, degree, valence, list(counts)):
+        capacity = [valence[colouring[i]] - degree[i] for i in range(n)]
+        if sum(capacity) < 2 * extra_total:
+            continue
+        stabilizer: list[tuple[int, ...]] = []
+        if perms:
+            canonical = True
+            for inv, einv in perms:
+                image = tuple(colouring[inv[j]] for j in range(n))
+                if image < colouring:
+                    canonical = False
+                    break
+                if image == colouring:
+                    stabilizer.append(einv)
+            if not canonical:
+                continue
+        if test is not None and not test.labelled_ok(colouring):
+            continue
+        for orders in _multiplicities(edges, capacity, extra_total, max_extra):
+            if stabilizer and any(tuple(orders[e] for e in einv) < orders for einv in stabilizer):
+                continue
+            used = [0] * n
+            for (a, b), o in zip(edges, orders, strict=True):
+                used[a] += o
+                used[b] += o
+            if any(special[c] for c in colouring) and not _oxo_ok(
+                n, edges, orders, colouring, labels, degree, used, oxo_states
+            ):
+                continue
+            if test is not None and test.kekule and not test.kekule_ok(orders):
+                continue
+            if seen is not None:
+                key = _certificate(n, edges, colouring, orders)
+                if key in seen:
+                    continue
+                seen.add(key)
+            yield Structure(
+                tuple(labels[c][0] for c in colouring),
+                tuple((a, b, o) for (a, b), o in zip(edges, orders, strict=True)),
+                tuple(valence[colouring[i]] - used[i] for i in range(n)),
+                tuple(valence[c] for c in colouring),
+            )
+
+
+def _oxo_ok(
+    n: int,
+    edges: Sequence[tuple[int, int]],
+    orders: Sequence[int],
+    colouring: Sequence[int],
+    labels: Sequence[tuple[str, int]],
+    degree: Sequence[int],
+    used: Sequence[int],
+    states: ValenceStates,
+) -> bool:
+    """Each higher-valence atom carries a double bond to a terminal partner (valence_states.yaml)
+    and, where the state allows none, no hydrogen."""
+    for i in range(n):
+        state = states.get(labels[colouring[i]])
+        if state is None:
+            continue
+        if not state.hydrogen and labels[colouring[i]][1] - used[i] > 0:
+            return False
+        if not any(
+            o == 2
+            and i in (a, b)
+            and degree[b if a == i else a] == 1
+            and labels[colouring[b if a == i else a]][0] in state.partners
+            for (a, b), o in zip(edges, orders, strict=True)
+        ):
+            return False
+    return True
+
+
+_BOND_TYPES: dict[int, BondType] = {}
+
+
+class SkeletonTest:
+    """Necessary conditions of required groups on a skeleton (``skeleton`` in groups.yaml): the
+    bare-graph form once per skeleton, the labelled form once per element labelling, on one
+    RDKit molecule per skeleton whose atomic numbers are rewritten."""
+
+    def __init__(self, patterns: SkeletonPatterns, labels: Sequence[tuple[str, int]]) -> None:
+        from .._rdkit import Chem
+
+        self.patterns = patterns
+        self.kekule = any(kekule is not None for _, _, kekule in patterns)
+        if self.kekule and not _BOND_TYPES:
+            _BOND_TYPES.update({1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE})
+        table = Chem.GetPeriodicTable()
+        self.numbers = [table.GetAtomicNumber(sym) for sym, _ in labels]
+        self.mol: RWMol | None = None
+
+    def bare_ok(self, n: int, edges: Sequence[tuple[int, int]]) -> bool:
+        from .._rdkit import Chem
+
+        mol = Chem.RWMol()
+        for _ in range(n):
+            atom = Chem.Atom(6)
+            atom.SetNoImplicit(True)
+            mol.AddAtom(atom)
+        for a, b in edges:
+            mol.AddBond(a, b, Chem.BondType.SINGLE)
+        mol.UpdatePropertyCache(strict=False)
+        self.mol = mol
+        return all(mol.HasSubstructMatch(shape) for shape, _, _ in self.patterns)
+
+    def labelled_ok(self, colouring: Sequence[int]) -> bool:
+        """The skeleton of the last :meth:`bare_ok` with these element labels matches every
+        labelled condition."""
+        mol = self.mol
+        assert mol is not None, "bare_ok first"
+        for i, c in enumerate(colouring):
+            mol.GetAtomWithIdx(i).SetAtomicNum(self.numbers[c])
+        return all(mol.HasSubstructMatch(labelled) for _, labelled, _ in self.patterns)
+
+    def kekule_ok(self, orders: Sequence[int]) -> bool:
+        """The labelled skeleton with these bond orders (Kekulé form, before aromaticity) matches
+        every ``kekule`` condition; call after :meth:`labelled_ok` for the same labelling."""
+        mol = self.mol
+        assert mol is not None, "bare_ok first"
+        for i, o in enumerate(orders):
+            mol.GetBondWithIdx(i).SetBondType(_BOND_TYPES[o])
+        return all(mol.HasSubstructMatch(kekule) for _, _, kekule in self.patterns if kekule is not None)
+
+
+def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> Iterator[tuple[int, ...]]:
+    current = [0] * n
+    remaining = counts[:]
+
+    def place(i: int) -> Iterator[tuple[int, ...]]:
+        if i == n:
+            yield tuple(current)
+            return
+        for c, left in enumerate(remaining):
+            if left and valence[c] >= degree[i]:
+                remaining[c] -= 1
+                current[i] = c
+                yield from place(i + 1)
+                remaining[c] += 1
+
+    yield from place(0)
+
+
+def _multiplicities(
+    edges: Sequence[tuple[int, int]], capacity: list[int], extra: int, max_extra: int
+) -> Iterator[tuple[int, ...]]:
+    """Bond orders (1 to 1 + max_extra) per edge using exactly ``extra`` orders above single."""
+    m = len(edges)
+    free = capacity[:]
+    orders = [1] * m
+    def place(i: int, left: int) -> Iterator[tuple[int, ...]]:
+        if left == 0:
+            yield tuple(orders)
+            return
+        if i == m:
+            return
+        if max_extra * (m - i) < left:
+            return
+        a, b = edges[i]
+        top = min(max_extra, free[a], free[b], left)
+        for x in range(top, -1, -1):
+            if x:
+                free[a] -= x
+                free[b] -= x
+                orders[i] = 1 + x
+            yield from place(i + 1, left - x)
+            if x:
+                free[a] += x
+                free[b] += x
+                orders[i] = 1
+    yield from place(0, extra)
+
+
+def _certificate(
+    n: int, edges: Sequence[tuple[int, int]], colouring: Sequence[int], orders: Sequence[int]
+) -> tuple[tuple[int, ...], tuple[int, ...]]:
+    """Canonical form of a labelled multigraph (fallback for skeletons with huge groups)."""
+    import pynauty
+
+    # layered encoding: bond order o in {1,2,3} as bits over two layers; colours by (label, layer)
+    adjacency: dict[int, list[int]] = {i: [] for i in range(2 * n)}
+    for i in range(n):
+        adjacency[i].append(n + i)
+    for (a, b), o in zip(edges, orders, strict=True):
+        if o & 1:
+            adjacency[a].append(b)
+        if o & 2:
+            adjacency[n + a].append(n + b)
+    classes: dict[tuple[int, int], set[int]] = {}
+    for i in range(n):
+        classes.setdefault((0, colouring[i]), set()).add(i)
+        classes.setdefault((1, colouring[i]), set()).add(n + i)
+    graph = pynauty.Graph(2 * n, directed=False, adjacency_dict=adjacency,
+                          vertex_coloring=[classes[k] for k in sorted(classes)])
+    cert = pynauty.certificate(graph)
+    return (tuple(sorted(colouring)), tuple(cert))
+
+

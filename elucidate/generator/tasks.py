@@ -1,0 +1,139 @@
+"""The generation tree cut into ordered tasks, and the work of one task.
+
+A task is one partial skeleton at :data:`TASK_DEPTH` vertices of one valence plan; growing the
+tasks in order and chaining their results gives exactly the serial enumeration, so worker
+processes can grow them independently and the output (and its order) does not depend on how
+many there are.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass
+
+from ..elements import default_elements
+from ..formula import Formula
+from .labelling import SkeletonPatterns, SkeletonTest, Structure, allowed_alone, structures_on_skeleton
+from .options import GeneratorOptions
+from .plans import Plan, valence_plans
+from .selection import CompiledSelection, Selection
+from .skeletons import PartialGraph, frontier, grow
+from .smiles import sanitized
+
+__all__ = [
+    "TASK_DEPTH",
+    "GenerationTask",
+    "WorkerJob",
+    "selection_plans",
+    "generation_tasks",
+    "task_structures",
+    "task_smiles",
+    "run_job",
+    "compiled_selection",
+]
+
+#: partial-graph size at which the generation tree is cut into independent tasks
+TASK_DEPTH = 6
+
+
+@dataclass(frozen=True)
+class GenerationTask:
+    """One subtree of the generation tree: a partial skeleton of one plan."""
+
+    plan: Plan
+    part: PartialGraph
+
+
+@dataclass(frozen=True)
+class WorkerJob:
+    """What a worker process needs to run one task."""
+
+    task: GenerationTask
+    kekule: bool
+    selection: Selection | None
+
+
+def selection_plans(formula: Formula, options: GeneratorOptions) -> tuple[list[Plan], SkeletonPatterns]:
+    """The plans for ``formula`` with the required groups' bounds, and the groups' skeleton
+    patterns: what generation walks and what the size estimate estimates."""
+    selection = options.selection
+    plans = valence_plans(
+        formula,
+        options.table or default_elements(),
+        max_rings=options.max_rings,
+        max_bond_order=options.max_bond_order,
+        lowest_valence=options.lowest_valence,
+        required=selection.require if selection is not None else (),
+    )
+    return plans, (selection.skeleton_patterns() if selection is not None else ())
+
+
+def generation_tasks(plans: list[Plan]) -> Iterator[GenerationTask]:
+    """The generation tree cut at TASK_DEPTH, in tree order."""
+    for plan in plans:
+        for part in frontier(plan.n, plan.bounds, plan.rings_max, depth=TASK_DEPTH):
+            yield GenerationTask(plan, part)
+
+
+def task_structures(task: GenerationTask, prefilter: SkeletonPatterns = ()) -> Iterator[Structure]:
+    """Every structure below one task (multigraphs, Kekulé forms apart)."""
+    plan = task.plan
+    if plan.n == 1:
+        ((sym, v),) = plan.labels
+        if plan.hydrogens == v and allowed_alone(sym, v):
+            yield Structure((sym,), (), (plan.hydrogens,), (v,))
+        return
+    test = SkeletonTest(prefilter, plan.labels) if prefilter else None  # once per task, reused per skeleton
+    for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max):
+        yield from structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test)
+
+
+def task_smiles(
+    task: GenerationTask,
+    kekule: bool,
+    compiled: CompiledSelection | None,
+    removed: dict[str, int],
+    prefilter: SkeletonPatterns = (),
+) -> Iterator[str]:
+    """SMILES of one task, Kekulé forms merged (unless ``kekule``) and filtered by ``compiled``;
+    ``removed`` counts what each constraint removed."""
+    from .._rdkit import Chem, quiet_rdkit
+
+    current: tuple[tuple[int, int], ...] | None = None
+    seen: set[str] = set()
+    with quiet_rdkit():
+        for s in task_structures(task, prefilter):
+            mol = sanitized(s, kekule=kekule)
+            smiles: str = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
+            if not kekule:
+                # Kekulé forms of one compound share the skeleton: merge them within it
+                skeleton = tuple((a, b) for a, b, _ in s.bonds)
+                if skeleton != current:
+                    current, seen = skeleton, set()
+                if smiles in seen:
+                    continue
+                seen.add(smiles)
+            if compiled is not None:
+                probe = mol
+                if kekule:
+                    probe = Chem.Mol(mol)
+                    Chem.SetAromaticity(probe)
+                failed = compiled.first_failure(probe)
+                if failed is not None:
+                    removed[failed] = removed.get(failed, 0) + 1
+                    continue
+            yield smiles
+
+
+def compiled_selection(selection: Selection | None) -> CompiledSelection | None:
+    if selection is None or selection.empty:
+        return None
+    return selection.compile()
+
+
+def run_job(job: WorkerJob) -> tuple[list[str], dict[str, int]]:
+    """A worker process's work: the SMILES of one task and what each constraint removed."""
+    removed: dict[str, int] = {}
+    prefilter = job.selection.skeleton_patterns() if job.selection is not None else ()
+    smiles = list(task_smiles(job.task, job.kekule, compiled_selection(job.selection), removed, prefilter))
+    return smiles, removed

@@ -1,0 +1,123 @@
+"""Plain-text and JSON renderings of a :class:`~elucidate.solver.Solution`.
+
+Columns, detail lines and readings come from the techniques themselves
+(:data:`~elucidate.evidence.TECHNIQUES`): a new technique needs no change here.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from ..evidence import TECHNIQUES, Technique
+from ..solver import Ranked, Solution
+from ..solver.hypotheses import FIRST_LOSSES
+from .layout import CAUTION, text_table
+
+__all__ = ["solve_text", "solve_json"]
+
+
+def _techniques() -> list[Technique]:
+    return [cls() for cls in TECHNIQUES]
+
+
+def _detail(c: Ranked, by_name: dict[str, Technique]) -> list[str]:
+    lines = [f"#{c.rank}  {c.smiles}  {c.formula}  InChIKey {c.inchikey}  score {c.score:.3f}"]
+    for a in c.assessments:
+        lines += by_name[a.technique].detail_lines(a)
+    return lines
+
+
+def _losses() -> str:
+    return ", ".join(["highest peak", *(f"+ {name} {mass}" for mass, name in FIRST_LOSSES.items())])
+
+
+def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
+    techniques = _techniques()
+    by_name = {t.name: t for t in techniques}
+    case = solution.case
+    lines = [f"case {case.id}: {case.title} ({case.path})", CAUTION, ""]
+    ms = case.mass_spec
+    if ms is not None and ms.molecular_ion is None and case.formula.known is None:
+        lines.append(
+            "molecular ion not seen: hypotheses M = " + ", ".join(map(str, solution.hypotheses)) + f" ({_losses()})"
+        )
+    else:
+        lines.append(f"molecular ion: m/z {solution.hypotheses[0]}")
+    lines.append("evidence used: " + (", ".join(solution.techniques) or "none besides the formula"))
+    lines.append("")
+    lines.append("formulas kept")
+    rows = [["formula", "M", "isotope fit", "structures", "note"]]
+    for k in solution.formulas:
+        fit = "-" if k.isotope_score is None else f"{k.isotope_score:.3f}"
+        rows.append([str(k.formula), str(k.molecular_ion), fit, str(k.structures), k.skipped or ""])
+    if solution.formulas:
+        lines += ["  " + r for r in text_table(rows, [False, True, True, True, False])]
+    else:
+        lines += ["  none"]
+    for reading in solution.readings.values():
+        if reading is not None:
+            lines.append("")
+            lines += list(reading.lines)
+    lines.append("")
+    lines.append(f"structures generated: {solution.generated} (plausibility profile {solution.profile!r})")
+    for label, n in solution.eliminated.items():
+        lines.append(f"  removed by {label}: {n}")
+    lines.append("")
+    if not solution.candidates:
+        lines.append("no candidate survives the hard constraints:")
+        lines += ["  " + text for text in solution.empty_reason]
+    else:
+        shown = [t for t in techniques if any(t.name in c.components for c in solution.candidates)]
+        count = len(solution.candidates)
+        lines.append(f"shortlist ({min(top, count) if top else count} of {count})")
+        rows = [["rank", "score", "formula", "SMILES", *[t.label for t in shown], "reasons"]]
+        for c in solution.candidates[: top or None]:
+            cells = [f"{c.components[t.name]:.2f}" if t.name in c.components else "-" for t in shown]
+            rows.append([str(c.rank), f"{c.score:.3f}", c.formula, c.smiles, *cells, "; ".join(c.reasons[:2])])
+        lines += ["  " + r for r in text_table(rows, [True, True, False, False] + [True] * len(shown) + [False])]
+        lines.append("")
+        for c in solution.candidates[:details]:
+            lines += _detail(c, by_name)
+    if solution.suspects:
+        lines.append("")
+        lines.append("suspects")
+        rows = [["given", "formula", "rank", "score", "verdict"]]
+        for s in solution.suspects:
+            if s.rank is not None:
+                verdict = "ranked"
+            elif s.eliminated_by:
+                verdict = f"eliminated by {s.eliminated_by}: {s.why}"
+            else:
+                verdict = s.why or ""
+            score = "-" if s.score is None else f"{s.score:.3f}"
+            rows.append([s.given, s.formula or "-", str(s.rank) if s.rank else "-", score, verdict])
+        lines += ["  " + r for r in text_table(rows, [False, False, True, True, False])]
+    for note in solution.notes:
+        lines.append(f"note: {note}")
+    return "\n".join(lines) + "\n"
+
+
+def solve_json(solution: Solution, *, top: int = 0) -> dict[str, Any]:
+    cands = solution.candidates[: top or None]
+    out: dict[str, Any] = {
+        "case_id": solution.case.id,
+        "caution": CAUTION,
+        "molecular_ion_hypotheses": list(solution.hypotheses),
+        "formulas": [k.as_dict() for k in solution.formulas],
+        "generated": solution.generated,
+        "eliminated": dict(solution.eliminated),
+        "profile": solution.profile,
+        "evidence": list(solution.techniques),
+    }
+    for key, reading in solution.readings.items():
+        out[key] = None if reading is None else dict(reading.data)
+    out.update(
+        {
+            "candidates": [c.as_dict() for c in cands],
+            "candidate_count": len(solution.candidates),
+            "suspects": [s.as_dict() for s in solution.suspects],
+            "empty_reason": list(solution.empty_reason),
+            "notes": list(solution.notes),
+        }
+    )
+    return out

@@ -1,0 +1,30 @@
+"""The solver: formulas -> generated structures -> evidence -> one ranked shortlist.
+
+:mod:`.hypotheses` chooses the molecular ions to try, :mod:`.ranking` runs the pipeline and
+ranks, :mod:`.scoring` combines the techniques' components, :mod:`.suspects` places the
+chemist's named suspects, :mod:`.diagnosis` explains an empty result, :mod:`.records` holds
+what is returned.
+"""
+
+from __future__ import annotations
+
+from .hypotheses import LOSSES_FOR_M, molecular_ion_hypotheses
+from .ranking import PROFILE, hard_selection, solve
+from .records import FoundCandidate, KeptFormula, Ranked, Solution, SuspectResult
+from .scoring import ScoringTable, default_scoring, load_scoring
+
+__all__ = [
+    "LOSSES_FOR_M",
+    "PROFILE",
+    "FoundCandidate",
+    "KeptFormula",
+    "Ranked",
+    "ScoringTable",
+    "Solution",
+    "SuspectResult",
+    "default_scoring",
+    "hard_selection",
+    "load_scoring",
+    "molecular_ion_hypotheses",
+    "solve",
+]

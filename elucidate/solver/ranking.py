@@ -1,0 +1,197 @@
+"""The solver: case -> formulas -> generate -> evidence -> rank.
+
+Hard constraints (the only things that eliminate): the formula stage (nominal mass, element
+limits, DBE, nitrogen/Senior rules, element ratios), the constraints the techniques declare
+from the case (``infrared.require`` / ``forbid``), the declared SMARTS
+(``structure.require_smarts`` / ``forbid_smarts``) and the ``stable`` plausibility profile.
+Everything else — IR bands, UV lambda max, EI fragments, 13C counts, isotope fit — only ranks
+(see :mod:`elucidate.evidence` and ``constraints/scoring.yaml``).
+
+Results are hypotheses to confirm against a reference standard under the lab's own procedures.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from ..case import Case
+from ..defaults import FORMULAS_PER_ION, SOLVER_LIMIT, WORKERS
+from ..evidence import TECHNIQUES, Assessment, Technique, make_subject
+from ..formula_search import case_query, derive_formulas
+from ..generator.groups import GroupTable, default_groups
+from ..generator.selection import Selection
+from .diagnosis import why_empty
+from .hypotheses import molecular_ion_hypotheses
+from .records import FoundCandidate, KeptFormula, Ranked, Solution
+from .scoring import ScoringTable, combine, default_scoring
+from .suspects import assess_suspect
+
+if TYPE_CHECKING:
+    from .._rdkit import Mol
+
+__all__ = ["PROFILE", "CHUNK", "Evaluator", "hard_selection", "solve"]
+
+#: the plausibility profile the solver applies
+PROFILE = "stable"
+#: candidates scored per task when scoring runs in worker processes
+CHUNK = 500
+
+
+def hard_selection(case: Case, techniques: Sequence[Technique]) -> Selection:
+    """The hard constraints the case declares: each technique's, the SMARTS and the profile."""
+    require: list[str] = []
+    forbid: list[str] = []
+    for technique in techniques:
+        hard = technique.hard_constraints(case)
+        require += hard.get("require", ())
+        forbid += hard.get("forbid", ())
+    s = case.structure
+    return Selection(
+        require=tuple(dict.fromkeys(require)),
+        forbid=tuple(dict.fromkeys(forbid)),
+        require_smarts=s.require_smarts if s else (),
+        forbid_smarts=s.forbid_smarts if s else (),
+        profile=PROFILE,
+    )
+
+
+@dataclass(frozen=True)
+class Evaluator:
+    """Scores candidates of one case on every technique that applies (picklable, so worker
+    processes can build their own techniques from it)."""
+
+    case: Case
+    groups: GroupTable
+    scoring: ScoringTable
+
+    def techniques(self) -> list[Technique]:
+        """The techniques that apply to the case, built afresh (one set per process)."""
+        return [t for t in (cls() for cls in TECHNIQUES) if t.applies(self.case)]
+
+    def evaluate(
+        self, candidate: FoundCandidate, mol: Mol, techniques: Sequence[Technique]
+    ) -> tuple[float, dict[str, float], tuple[Assessment, ...]]:
+        """The combined score, the components and the assessments of one candidate."""
+        subject = make_subject(
+            candidate.smiles, mol, candidate.formula, self.groups, candidate.molecular_ion, candidate.isotope_score
+        )
+        found = (t.assess(subject, self.case) for t in techniques)
+        assessments = tuple(a for a in found if a is not None)
+        score, components = combine(assessments, {t.name: t.weight_key for t in techniques}, self.scoring)
+        return score, components, assessments
+
+
+@dataclass(frozen=True)
+class _ScoringJob:
+    evaluator: Evaluator
+    items: tuple[FoundCandidate, ...]
+
+
+_Scored = tuple[float, dict[str, float], tuple[Assessment, ...]]
+
+
+def _score_chunk(job: _ScoringJob) -> list[_Scored]:
+    """Score candidates on every technique that applies."""
+    from .._rdkit import Chem, quiet_rdkit
+
+    techniques = job.evaluator.techniques()
+    with quiet_rdkit():
+        return [job.evaluator.evaluate(item, Chem.MolFromSmiles(item.smiles), techniques) for item in job.items]
+
+
+def solve(
+    case: Case,
+    *,
+    limit: int = SOLVER_LIMIT,
+    max_formulas: int = FORMULAS_PER_ION,
+    workers: int = WORKERS,
+    groups: GroupTable | None = None,
+    scoring: ScoringTable | None = None,
+) -> Solution:
+    """Solve one case. ``limit``: largest estimated structure space per formula that is
+    enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
+    isotope fit, and only those within the scoring table's ``formula_cut`` of the best fit);
+    ``workers``: processes for generation and scoring (the result does not depend on it)."""
+    from ..generator import GeneratorOptions, estimate_structures, isomer_smiles
+
+    g = groups or default_groups()
+    sc = scoring or default_scoring()
+    every = [cls() for cls in TECHNIQUES]
+    applied = [t for t in every if t.applies(case)]
+    selection = hard_selection(case, every)
+    compiled = selection.compile(g)
+    hypotheses = molecular_ion_hypotheses(case)
+    kept: list[KeptFormula] = []
+    notes: list[str] = []
+    removed: dict[str, int] = {label: 0 for label in compiled.labels}
+    generated = 0
+    found: list[FoundCandidate] = []
+    estimate_options = GeneratorOptions(selection=selection)
+    options = GeneratorOptions(selection=selection, workers=workers)
+    for m in hypotheses:
+        result = derive_formulas(case_query(case, m), top=max_formulas)
+        best = max((c.score or 0.0 for c in result.kept), default=0.0)
+        for cand in result.kept:
+            if cand.score is not None and best > 0 and cand.score < best / sc.formula_cut:
+                continue
+            estimate = estimate_structures(cand.formula, estimate_options)
+            if estimate > limit:
+                why = (
+                    f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: declare groups "
+                    "(infrared.require / forbid) or raise --limit"
+                )
+                kept.append(KeptFormula(cand.formula, m, cand.score, 0, why))
+                notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
+                continue
+            local: dict[str, int] = {}
+            before = len(found)
+            for smiles in isomer_smiles(cand.formula, options, removed=local):
+                found.append(FoundCandidate(smiles, cand.formula, m, cand.score))
+            count = len(found) - before
+            for label, n in local.items():
+                removed[label] = removed.get(label, 0) + n
+            generated += count + sum(local.values())
+            kept.append(KeptFormula(cand.formula, m, cand.score, count))
+    evaluator = Evaluator(case, g, sc)
+    chunks = [_ScoringJob(evaluator, tuple(found[i : i + CHUNK])) for i in range(0, len(found), CHUNK)]
+    if workers > 1 and len(chunks) > 1:
+        import multiprocessing
+
+        with multiprocessing.Pool(workers) as pool:
+            scored = [r for part in pool.imap(_score_chunk, chunks) for r in part]
+    else:
+        scored = [r for job in chunks for r in _score_chunk(job)]
+    order = sorted(
+        range(len(found)),
+        key=lambda i: (-round(scored[i][0], 6), -round(found[i].isotope_score or 0.0, 6), found[i].smiles),
+    )
+    candidates = []
+    for rank, i in enumerate(order, start=1):
+        item = found[i]
+        score, components, assessments = scored[i]
+        reasons = tuple(r for a in assessments for r in a.reasons[:2])
+        candidates.append(
+            Ranked(rank, item.smiles, str(item.formula), item.molecular_ion, score, components, reasons, assessments)
+        )
+    suspects = tuple(
+        assess_suspect(text, case, candidates, kept, hypotheses, compiled, evaluator, applied)
+        for text in (case.structure.suspects if case.structure else ())
+    )
+    readings = {t.reading_key: t.read(case) for t in every if t.reading_key is not None}
+    empty = why_empty(kept, removed, selection, generated, hypotheses) if not candidates else ()
+    return Solution(
+        case,
+        hypotheses,
+        tuple(kept),
+        generated,
+        removed,
+        tuple(candidates),
+        suspects,
+        readings,
+        tuple(t.name for t in applied if t.stage == "structure"),
+        PROFILE,
+        empty,
+        tuple(notes),
+    )

@@ -1,0 +1,120 @@
+"""What the solver finds and returns: typed records, JSON-ready through ``as_dict``."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from functools import lru_cache
+from typing import Any
+
+from ..case import Case
+from ..evidence import Assessment, Reading
+from ..formula import Formula
+
+__all__ = ["FoundCandidate", "KeptFormula", "Ranked", "SuspectResult", "Solution"]
+
+
+@dataclass(frozen=True)
+class FoundCandidate:
+    """A generated structure that passed the hard constraints, before it is scored."""
+
+    smiles: str
+    formula: Formula
+    molecular_ion: int
+    isotope_score: float | None  # its formula's isotope-cluster fit; None without a cluster
+
+
+@dataclass(frozen=True)
+class KeptFormula:
+    formula: Formula
+    molecular_ion: int
+    isotope_score: float | None  # exp(-chi2/2) of the isotope-cluster fit; None without a cluster
+    structures: int = 0  # candidates that passed the hard constraints
+    skipped: str | None = None  # why it was not enumerated (space above the limit)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "formula": str(self.formula),
+            "molecular_ion": self.molecular_ion,
+            "isotope_score": None if self.isotope_score is None else round(self.isotope_score, 6),
+            "structures": self.structures,
+            "skipped": self.skipped,
+        }
+
+
+@dataclass(frozen=True)
+class Ranked:
+    rank: int
+    smiles: str
+    formula: str
+    molecular_ion: int | None
+    score: float
+    components: Mapping[str, float]
+    reasons: tuple[str, ...]
+    assessments: tuple[Assessment, ...] = ()
+
+    @property
+    def inchikey(self) -> str:
+        """Standard InChIKey (RDKit), computed when first asked for."""
+        return _inchikey(self.smiles)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "rank": self.rank,
+            "smiles": self.smiles,
+            "inchikey": self.inchikey,
+            "formula": self.formula,
+            "molecular_ion": self.molecular_ion,
+            "score": round(self.score, 6),
+            "components": {k: round(v, 6) for k, v in self.components.items()},
+            "reasons": list(self.reasons),
+        }
+
+
+@dataclass(frozen=True)
+class SuspectResult:
+    given: str
+    smiles: str | None  # canonical
+    formula: str | None
+    rank: int | None
+    eliminated_by: str | None
+    why: str | None
+    score: float | None
+    components: Mapping[str, float] = field(default_factory=dict)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "given": self.given,
+            "smiles": self.smiles,
+            "formula": self.formula,
+            "rank": self.rank,
+            "eliminated_by": self.eliminated_by,
+            "why": self.why,
+            "score": None if self.score is None else round(self.score, 6),
+            "components": {k: round(v, 6) for k, v in self.components.items()},
+        }
+
+
+@dataclass(frozen=True)
+class Solution:
+    case: Case
+    hypotheses: tuple[int, ...]
+    formulas: tuple[KeptFormula, ...]
+    generated: int
+    eliminated: Mapping[str, int]
+    candidates: tuple[Ranked, ...]
+    suspects: tuple[SuspectResult, ...]
+    readings: Mapping[str, Reading | None]  # technique reading key -> its reading of the case
+    techniques: tuple[str, ...]  # the structure-evidence techniques that applied
+    profile: str
+    empty_reason: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+@lru_cache(maxsize=4096)
+def _inchikey(smiles: str) -> str:
+    from .._rdkit import Chem, quiet_rdkit
+
+    with quiet_rdkit():
+        key: str = Chem.MolToInchiKey(Chem.MolFromSmiles(smiles)) or ""
+    return key
