@@ -18,7 +18,6 @@ from elucidate._rdkit import Chem
 from elucidate.generator import GeneratorOptions, isomer_smiles, structures
 from elucidate.generator.smiles import to_mol
 
-
 CONSTRAINED = [
     ("C10H12O", ("aromatic_ring", "ketone")),
     ("C9H10O2", ("aromatic_ring", "ester")),
@@ -33,7 +32,10 @@ def constrained(verify: bool) -> None:
     from elucidate.generator.groups import default_groups
     from elucidate.generator.selection import Selection
 
-    print(f"{'formula':>8} {'required':>24} {'isomers':>8} {'seconds':>8}" + ("  exhaustive  filtered  equal" if verify else ""))
+    print(
+        f"{'formula':>8} {'required':>24} {'isomers':>8} {'seconds':>8}"
+        + ("  exhaustive  filtered  equal" if verify else "")
+    )
     for text, required in CONSTRAINED:
         t0 = time.perf_counter()
         found = list(isomer_smiles(parse_formula(text), GeneratorOptions(selection=Selection(require=required))))

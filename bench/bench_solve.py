@@ -58,16 +58,18 @@ def scoring_rate() -> None:
     with quiet_rdkit():
         mols = [Chem.MolFromSmiles(s) for s in smiles]
         t0 = time.perf_counter()
-        for s, mol in zip(smiles, mols):
+        for s, mol in zip(smiles, mols, strict=True):
             subject = make_subject(s, mol, formula, groups, 108)
             for t in techniques:
                 t.assess(subject, case)
         dt = time.perf_counter() - t0
-    print(f"scoring: {len(smiles)} candidates in {dt:.2f} s = {len(smiles) / dt:,.0f} per second per core (goal >= 2,000)")
+    print(
+        f"scoring: {len(smiles)} candidates in {dt:.2f} s = {len(smiles) / dt:,.0f} per second per core (goal >= 2,000)"
+    )
     for t in techniques:
         with quiet_rdkit():
             t0 = time.perf_counter()
-            for s, mol in zip(smiles, mols):
+            for s, mol in zip(smiles, mols, strict=True):
                 t.assess(make_subject(s, mol, formula, groups, 108), case)
             dt = time.perf_counter() - t0
         print(f"  {t.name:>10}: {len(smiles) / dt:,.0f} per second (group perception included)")
@@ -80,7 +82,8 @@ def big_case() -> None:
         solution = solve(case, workers=workers)
         dt = time.perf_counter() - t0
         print(
-            f"M 122 alcohol case: {solution.generated:,} structures generated, {len(solution.candidates):,} candidates, "
+            f"M 122 alcohol case: {solution.generated:,} structures generated, "
+            f"{len(solution.candidates):,} candidates, "
             f"{workers} worker(s): {dt:.1f} s (goal < 10 s with 2)"
         )
 

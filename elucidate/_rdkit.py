@@ -17,17 +17,17 @@ from rdkit import Chem, RDLogger
 from rdkit.Chem import Descriptors, rdMolDescriptors
 
 __all__ = [
-    "Chem",
-    "Descriptors",
-    "rdMolDescriptors",
-    "Mol",
-    "RWMol",
     "Atom",
     "Bond",
     "BondType",
-    "quiet_rdkit",
-    "mol_from_smiles",
+    "Chem",
+    "Descriptors",
+    "Mol",
+    "RWMol",
     "mol_from_smarts",
+    "mol_from_smiles",
+    "quiet_rdkit",
+    "rdMolDescriptors",
 ]
 
 #: a molecule (aromaticity perceived unless said otherwise, hydrogens implicit)

@@ -34,23 +34,23 @@ from .yamlnodes import (
 )
 
 __all__ = [
-    "SCHEMA_VERSION",
     "IONIZATIONS",
+    "SCHEMA_VERSION",
     "SOLVENTS",
-    "MassSpec",
+    "Case",
     "FormulaSpec",
     "IRBand",
     "Infrared",
-    "UvVis",
+    "MassSpec",
     "Nmr",
     "StructureSpec",
-    "Case",
-    "load_case",
-    "parse_case",
-    "isotope_span",
-    "mz_problem",
-    "intensity_problem",
+    "UvVis",
     "base_peak_problem",
+    "intensity_problem",
+    "isotope_span",
+    "load_case",
+    "mz_problem",
+    "parse_case",
 ]
 
 SCHEMA_VERSION = 1
@@ -184,9 +184,7 @@ def base_peak_problem(intensities: Iterable[float]) -> str | None:
     """Intensities are % of the base peak, so the largest must be 100; None when it is."""
     values = list(intensities)
     if values and max(values) != 100:
-        return (
-            f"intensities are % of the base peak, so the largest must be 100; the largest is {max(values):g}"
-        )
+        return f"intensities are % of the base peak, so the largest must be 100; the largest is {max(values):g}"
     return None
 
 
@@ -217,15 +215,19 @@ def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
     if "mass_tolerance_ppm" in body:
         if exact is None:
             raise body["mass_tolerance_ppm"].error("given without exact_mass; add exact_mass or remove it")
-        ppm = as_number(body["mass_tolerance_ppm"], minimum=0, exclusive_minimum=True, maximum=1000, what="a tolerance in ppm (above 0, at most 1000)")
+        ppm = as_number(
+            body["mass_tolerance_ppm"],
+            minimum=0,
+            exclusive_minimum=True,
+            maximum=1000,
+            what="a tolerance in ppm (above 0, at most 1000)",
+        )
     if exact is not None:
         where = body["exact_mass"]
         if molecular_ion is None:
             raise where.error("exact_mass needs the nominal molecular_ion as well")
         if abs(exact - molecular_ion) >= 1.0:
-            raise where.error(
-                f"exact mass {exact} cannot belong to a molecular ion at nominal m/z {molecular_ion}"
-            )
+            raise where.error(f"exact mass {exact} cannot belong to a molecular ion at nominal m/z {molecular_ion}")
     peaks: dict[int, float] = {}
     if "peaks" in body:
         ploc = body["peaks"]
@@ -281,9 +283,7 @@ def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[
         for sym, n in known.counts:
             low, high = elements.get(sym, (0, 0))
             if not low <= n <= high:
-                raise body["known"].error(
-                    f"{known} has {n} {sym}, outside formula.elements ({sym}: {low}-{high})"
-                )
+                raise body["known"].error(f"{known} has {n} {sym}, outside formula.elements ({sym}: {low}-{high})")
     if known is not None and dbe_range is not None:
         dbe = known.dbe(table)
         if not dbe_range[0] <= dbe <= dbe_range[1]:
@@ -325,7 +325,7 @@ def _infrared(loc: Located) -> Infrared:
         for key, names in (("require", require), ("forbid", forbid)):
             if key not in body:
                 continue
-            for item, name in zip(as_list(body[key]), names):
+            for item, name in zip(as_list(body[key]), names, strict=False):
                 if name not in vocabulary:
                     close = difflib.get_close_matches(name, list(vocabulary.names), n=1)
                     hint = f" (did you mean {close[0]!r}?)" if close else ""
@@ -363,16 +363,18 @@ def _uv_vis(loc: Located) -> UvVis:
 
 def _nmr(loc: Located) -> Nmr:
     body = mapping(loc, ["c13_signals", "c13_multiplicity"])
-    signals = as_int(body["c13_signals"], minimum=1, maximum=200, what="a number of 13C signals (1-200)") if "c13_signals" in body else None
+    signals = (
+        as_int(body["c13_signals"], minimum=1, maximum=200, what="a number of 13C signals (1-200)")
+        if "c13_signals" in body
+        else None
+    )
     mult = None
     if "c13_multiplicity" in body:
         mloc = body["c13_multiplicity"]
         m = mapping(mloc, list(MULTIPLICITIES), what="a mapping of CH3, CH2, CH, C to signal counts")
         mult = {k: as_int(v, minimum=0, maximum=200, what="a signal count") for k, v in m.items()}
         if signals is not None and sum(mult.values()) != signals:
-            raise mloc.error(
-                f"the multiplicities add up to {sum(mult.values())} signals but c13_signals is {signals}"
-            )
+            raise mloc.error(f"the multiplicities add up to {sum(mult.values())} signals but c13_signals is {signals}")
     return Nmr(signals, mult)
 
 

@@ -14,7 +14,7 @@ import sys
 from collections.abc import Sequence
 from dataclasses import replace
 from pathlib import Path
-from typing import TextIO
+from typing import TYPE_CHECKING, TextIO
 
 from . import __version__
 from .case import Case, FormulaSpec, base_peak_problem, intensity_problem, load_case, mz_problem
@@ -26,7 +26,10 @@ from .formula_search import FormulaQuery, ObservedCluster, check_formula, defaul
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
 from .yamlnodes import parse_range_text
 
-__all__ = ["main", "build_parser"]
+if TYPE_CHECKING:
+    from tqdm import tqdm
+
+__all__ = ["build_parser", "main"]
 
 _DESCRIPTION = """\
 Structure elucidation from routine evidence (EI mass spectrum, IR, UV-Vis, 13C counts).
@@ -52,13 +55,19 @@ def build_parser() -> argparse.ArgumentParser:
         ),
     )
     f.add_argument("target", metavar="M|CASE", help="nominal mass of M+. or the path of a case file")
-    f.add_argument("--molecular-ion", type=int, metavar="M", help="test this nominal M (overrides the case's molecular_ion)")
+    f.add_argument(
+        "--molecular-ion", type=int, metavar="M", help="test this nominal M (overrides the case's molecular_ion)"
+    )
     f.add_argument(
         "--peaks",
         metavar="LIST",
         help="peak list 'mz:intensity' (%% of base peak), separated by commas or spaces, e.g. '112:100 113:6.6 114:32'",
     )
-    f.add_argument("--elements", metavar="LIMITS", help="element limits, e.g. 'C:0-20,H:0-40,O:0-4,Cl:0-2' (unlisted elements: none)")
+    f.add_argument(
+        "--elements",
+        metavar="LIMITS",
+        help="element limits, e.g. 'C:0-20,H:0-40,O:0-4,Cl:0-2' (unlisted elements: none)",
+    )
     f.add_argument("--dbe", metavar="RANGE", help="allowed DBE, e.g. 0-20")
     f.add_argument("--exact-mass", type=float, metavar="MZ", help="measured exact m/z (HRMS)")
     f.add_argument(
@@ -71,10 +80,17 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument(
         "--element-ratios",
         choices=RATIO_LEVELS,
-        help="Kind & Fiehn (2007) element-ratio filter: common (default, 99.7%% of known formulas), extended (99.99%%) or off",
+        help=(
+            "Kind & Fiehn (2007) element-ratio filter: "
+            "common (default, 99.7%% of known formulas), extended (99.99%%) or off"
+        ),
     )
-    f.add_argument("--top", type=int, metavar="N", help="show the best N (default 20 in the table, all in --json); 0 = all")
-    f.add_argument("--explain", action="store_true", help="also list every rejected composition with the rule that rejected it")
+    f.add_argument(
+        "--top", type=int, metavar="N", help="show the best N (default 20 in the table, all in --json); 0 = all"
+    )
+    f.add_argument(
+        "--explain", action="store_true", help="also list every rejected composition with the rule that rejected it"
+    )
     f.add_argument("--why", metavar="FORMULA", help="say whether FORMULA is kept and, if not, which rule rejects it")
     f.add_argument("--json", action="store_true", help="print a JSON list, best first")
     g = sub.add_parser(
@@ -100,12 +116,36 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--kekule", action="store_true", help="count and write every Kekule multigraph separately")
     g.add_argument("--no-rings", action="store_true", help="acyclic isomers only")
     g.add_argument("--max-rings", type=int, metavar="N", help="at most N rings (cyclomatic number)")
-    g.add_argument("--max-bond-order", type=int, choices=(1, 2, 3), default=3, help="1: single bonds only; 2: no triple bonds")
-    g.add_argument("--require", action="append", default=[], metavar="GROUP", help="keep only isomers with this group (repeatable; see --list-groups)")
-    g.add_argument("--forbid", action="append", default=[], metavar="GROUP", help="drop isomers with this group (repeatable)")
-    g.add_argument("--require-smarts", action="append", default=[], metavar="SMARTS", help="keep only isomers matching this SMARTS (repeatable)")
-    g.add_argument("--forbid-smarts", action="append", default=[], metavar="SMARTS", help="drop isomers matching this SMARTS (repeatable)")
-    g.add_argument("--max-ring-size", type=int, metavar="N", help="no ring (smallest set of smallest rings) larger than N atoms")
+    g.add_argument(
+        "--max-bond-order", type=int, choices=(1, 2, 3), default=3, help="1: single bonds only; 2: no triple bonds"
+    )
+    g.add_argument(
+        "--require",
+        action="append",
+        default=[],
+        metavar="GROUP",
+        help="keep only isomers with this group (repeatable; see --list-groups)",
+    )
+    g.add_argument(
+        "--forbid", action="append", default=[], metavar="GROUP", help="drop isomers with this group (repeatable)"
+    )
+    g.add_argument(
+        "--require-smarts",
+        action="append",
+        default=[],
+        metavar="SMARTS",
+        help="keep only isomers matching this SMARTS (repeatable)",
+    )
+    g.add_argument(
+        "--forbid-smarts",
+        action="append",
+        default=[],
+        metavar="SMARTS",
+        help="drop isomers matching this SMARTS (repeatable)",
+    )
+    g.add_argument(
+        "--max-ring-size", type=int, metavar="N", help="no ring (smallest set of smallest rings) larger than N atoms"
+    )
     g.add_argument(
         "--profile",
         metavar="NAME",
@@ -114,8 +154,16 @@ def build_parser() -> argparse.ArgumentParser:
         "Default: none, every isomer",
     )
     g.add_argument("--list-groups", action="store_true", help="list the group names with their definitions and exit")
-    g.add_argument("--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)")
-    g.add_argument("--workers", type=int, default=WORKERS, metavar="N", help="worker processes (default 1); the output and its order do not depend on N")
+    g.add_argument(
+        "--lowest-valence", action="store_true", help="every element at its lowest valence only (N 3, P 3, S 2)"
+    )
+    g.add_argument(
+        "--workers",
+        type=int,
+        default=WORKERS,
+        metavar="N",
+        help="worker processes (default 1); the output and its order do not depend on N",
+    )
     g.add_argument(
         "--limit",
         type=float,
@@ -302,7 +350,9 @@ def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
             failures += 1
             continue
         if case.id in seen:
-            err.write(f"error: {path}: id: {case.id!r} is already used by {seen[case.id]} (ids are unique per unknown)\n")
+            err.write(
+                f"error: {path}: id: {case.id!r} is already used by {seen[case.id]} (ids are unique per unknown)\n"
+            )
             failures += 1
             continue
         seen[case.id] = path
@@ -331,7 +381,7 @@ def _cmd_formulas(args: argparse.Namespace, out: TextIO) -> int:
     return 0
 
 
-def _progress(err: TextIO, estimate: float):  # type: ignore[no-untyped-def]
+def _progress(err: TextIO, estimate: float) -> tqdm:
     """A progress bar on stderr for long runs; silent when stderr is not a terminal."""
     from tqdm import tqdm
 
@@ -340,7 +390,14 @@ def _progress(err: TextIO, estimate: float):  # type: ignore[no-untyped-def]
 
 
 def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
-    from .generator import GeneratorOptions, Selection, default_groups, default_profiles, estimate_structures, isomer_smiles
+    from .generator import (
+        GeneratorOptions,
+        Selection,
+        default_groups,
+        default_profiles,
+        estimate_structures,
+        isomer_smiles,
+    )
 
     if args.list_groups:
         groups = default_groups()
@@ -386,14 +443,14 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if args.sort or args.json:
         stream = iter(sorted(stream))
     if args.json:
-        smiles = list(stream)
+        listed = list(stream)
         data = {
             "formula": str(formula),
             "kekule": args.kekule,
-            "count": len(smiles),
+            "count": len(listed),
             "removed": removed,
             "pruned_during_generation": [f"require {name}" for name in selection.pushed()],
-            "smiles": smiles,
+            "smiles": listed,
         }
         json.dump(data, out, indent=1)
         out.write("\n")
@@ -472,5 +529,3 @@ def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: Te
         return 1
     parser.error(f"unknown command {args.command}")  # pragma: no cover
     return 2  # pragma: no cover
-
-

@@ -7,14 +7,14 @@ default cannot differ between a case file and the command line.
 from __future__ import annotations
 
 __all__ = [
+    "ELEMENT_RATIOS",
     "EXACT_MASS_KINDS",
     "EXACT_MASS_OF",
+    "FORMULAS_PER_ION",
+    "ISOMERS_LIMIT",
     "PPM_TOLERANCE",
     "RATIO_LEVELS",
-    "ELEMENT_RATIOS",
-    "ISOMERS_LIMIT",
     "SOLVER_LIMIT",
-    "FORMULAS_PER_ION",
     "WORKERS",
 ]
 

@@ -11,7 +11,7 @@ from .errors import ElucidateError
 from .tables import table_path, validated
 from .yamlnodes import Located, as_int, as_list, as_number, as_str, mapping, read_yaml_file
 
-__all__ = ["Isotope", "Element", "ElementTable", "load_elements", "default_elements"]
+__all__ = ["Element", "ElementTable", "Isotope", "default_elements", "load_elements"]
 
 
 @dataclass(frozen=True)
@@ -69,9 +69,7 @@ class ElementTable:
         try:
             return self.elements[symbol]
         except KeyError as exc:
-            raise ElucidateError(
-                f"unknown element {symbol!r}; known: {', '.join(self.symbols)}"
-            ) from exc
+            raise ElucidateError(f"unknown element {symbol!r}; known: {', '.join(self.symbols)}") from exc
 
     def __contains__(self, symbol: object) -> bool:
         return symbol in self.elements
@@ -144,7 +142,9 @@ def load_elements(path: str | Path | None = None) -> ElementTable:
     source = ""
     if "source" in top:
         src = top["source"]
-        source = "; ".join(f"{k}: {v.value}" for k, v in src.value.items()) if isinstance(src.value, dict) else as_str(src)
+        source = (
+            "; ".join(f"{k}: {v.value}" for k, v in src.value.items()) if isinstance(src.value, dict) else as_str(src)
+        )
     body = top["elements"]
     if not isinstance(body.value, dict) or not body.value:
         raise body.error("expected a mapping of element symbols")

@@ -27,7 +27,7 @@ class ElucidateError(ValueError):
         self.line = line
         self.key = key
 
-    def in_file(self, file: str, line: int | None = None) -> "ElucidateError":
+    def in_file(self, file: str, line: int | None = None) -> ElucidateError:
         """The same error, placed in ``file`` (for checks that run after a table is loaded)."""
         return ElucidateError(self.message, file=file, line=line if line is not None else self.line, key=self.key)
 

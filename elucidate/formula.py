@@ -6,12 +6,18 @@ import re
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Any
+from typing import TYPE_CHECKING, TypeVar
 
 from .elements import ElementTable, default_elements
 from .errors import ElucidateError
 
-__all__ = ["Formula", "parse_formula", "hill_order", "ppm_error"]
+if TYPE_CHECKING:
+    import numpy as np
+    from numpy.typing import NDArray
+
+Masses = TypeVar("Masses", float, "NDArray[np.float64]")
+
+__all__ = ["Formula", "hill_order", "parse_formula", "ppm_error"]
 
 _TOKEN = re.compile(r"([A-Z][a-z]?)(\d*)")
 
@@ -32,7 +38,7 @@ class Formula(Mapping[str, int]):
     counts: tuple[tuple[str, int], ...]
 
     @classmethod
-    def of(cls, counts: Mapping[str, int]) -> "Formula":
+    def of(cls, counts: Mapping[str, int]) -> Formula:
         clean = {s: int(n) for s, n in counts.items() if n}
         if any(n < 0 for n in clean.values()):
             raise ElucidateError(f"negative element count in {dict(counts)}")
@@ -44,6 +50,7 @@ class Formula(Mapping[str, int]):
                 return n
         raise KeyError(symbol)
 
+    # An absent element counts 0, never None: this narrows Mapping.get's signature on purpose.
     def get(self, symbol: str, default: int = 0) -> int:  # type: ignore[override]
         for s, n in self.counts:
             if s == symbol:
@@ -97,7 +104,7 @@ class Formula(Mapping[str, int]):
         return 1 + Fraction(sum(n * (t[s].valence - 2) for s, n in self.counts), 2)
 
 
-def ppm_error(measured: Any, monoisotopic: Any, *, electron_mass: float, of: str = "ion") -> Any:
+def ppm_error(measured: float, monoisotopic: Masses, *, electron_mass: float, of: str = "ion") -> Masses:
     """ppm error of a measured exact mass against neutral monoisotopic mass(es).
 
     ``of="ion"``: ``measured`` is the m/z of M+., so one electron mass is subtracted from the
@@ -120,9 +127,7 @@ def parse_formula(text: str, table: ElementTable | None = None) -> Formula:
             break
         symbol, digits = match.group(1), match.group(2)
         if symbol not in t:
-            raise ElucidateError(
-                f"formula {src!r}: unknown element {symbol!r}; known elements: {', '.join(t.symbols)}"
-            )
+            raise ElucidateError(f"formula {src!r}: unknown element {symbol!r}; known elements: {', '.join(t.symbols)}")
         n = int(digits) if digits else 1
         if digits and n == 0:
             raise ElucidateError(f"formula {src!r}: a count of 0 for {symbol}; leave the element out")

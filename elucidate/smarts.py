@@ -2,16 +2,19 @@
 
 from __future__ import annotations
 
-from functools import lru_cache
-from typing import Any
+from functools import cache
+from typing import TYPE_CHECKING
 
 from .errors import ElucidateError
+
+if TYPE_CHECKING:
+    from ._rdkit import Mol
 
 __all__ = ["compiled_smarts"]
 
 
-@lru_cache(maxsize=None)
-def compiled_smarts(smarts: str) -> Any:
+@cache
+def compiled_smarts(smarts: str) -> Mol:
     """The RDKit query for ``smarts``; :class:`ElucidateError` if RDKit cannot read it."""
     from ._rdkit import mol_from_smarts
 

@@ -8,15 +8,15 @@ ships the same files as the package data ``elucidate/_constraints`` (see ``pypro
 from __future__ import annotations
 
 import os
+from collections.abc import Callable
 from importlib import resources
 from pathlib import Path
-from collections.abc import Callable
 from typing import Protocol, TypeVar
 
 from .errors import ElucidateError
 from .yamlnodes import Located
 
-__all__ = ["tables_dir", "table_path", "Validating", "validated"]
+__all__ = ["Validating", "table_path", "tables_dir", "validated"]
 
 _ENV = "ELUCIDATE_TABLES"
 

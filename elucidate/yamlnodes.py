@@ -22,18 +22,18 @@ from .errors import ElucidateError
 
 __all__ = [
     "Located",
-    "read_yaml_file",
-    "parse_yaml",
-    "mapping",
     "as_bool",
-    "as_str",
+    "as_choice",
     "as_int",
+    "as_list",
     "as_number",
     "as_range",
-    "as_list",
-    "as_choice",
+    "as_str",
     "check_gap",
+    "mapping",
     "parse_range_text",
+    "parse_yaml",
+    "read_yaml_file",
 ]
 
 _MAX_NODES = 200_000
@@ -116,9 +116,10 @@ def parse_yaml(text: str, *, file: str = "<text>") -> Located:
             root = loader.get_single_node()
         except yaml.MarkedYAMLError as exc:
             mark = exc.problem_mark or exc.context_mark
-            line = mark.line + 1 if mark is not None else None
             problem = exc.problem or exc.context or "invalid YAML"
-            raise ElucidateError(f"not valid YAML: {problem}", file=file, line=line) from exc
+            raise ElucidateError(
+                f"not valid YAML: {problem}", file=file, line=mark.line + 1 if mark is not None else None
+            ) from exc
         except yaml.reader.ReaderError as exc:
             line = text[: exc.position].count("\n") + 1
             raise ElucidateError(
@@ -160,10 +161,7 @@ class _Converter:
         self.active.add(id(node))
         try:
             if isinstance(node, yaml.SequenceNode):
-                items = [
-                    self.convert(child, f"{key}[{i}]", depth + 1)
-                    for i, child in enumerate(node.value)
-                ]
+                items = [self.convert(child, f"{key}[{i}]", depth + 1) for i, child in enumerate(node.value)]
                 return Located(items, self.file, line, key)
             if isinstance(node, yaml.MappingNode):
                 return Located(self._mapping(node, key, depth), self.file, line, key)
@@ -315,9 +313,7 @@ def as_number(
     number = float(value)
     if not math.isfinite(number):
         raise loc.error(f"expected {what}; got {value!r}")
-    too_low = minimum is not None and (
-        number <= minimum if exclusive_minimum else number < minimum
-    )
+    too_low = minimum is not None and (number <= minimum if exclusive_minimum else number < minimum)
     if too_low or (maximum is not None and number > maximum):
         raise loc.error(f"expected {what}; got {value!r}")
     return number

@@ -7,18 +7,16 @@ import shutil
 
 import pytest
 
-from conftest import CASES, ROOT
 
-
-def test_check_all_demo_cases(cli):
-    res = cli("check", *sorted(str(p) for p in CASES.glob("*.yaml")))
+def test_check_all_demo_cases(cli, cases_dir):
+    res = cli("check", *sorted(str(p) for p in cases_dir.glob("*.yaml")))
     assert res.code == 0, res.err
-    assert res.out.count("ok: ") == len(list(CASES.glob("*.yaml")))
+    assert res.out.count("ok: ") == len(list(cases_dir.glob("*.yaml")))
 
 
-def test_check_reports_each_bad_file_and_fails(cli, tmp_path):
+def test_check_reports_each_bad_file_and_fails(cli, tmp_path, cases_dir):
     good = tmp_path / "good.yaml"
-    shutil.copy(CASES / "cr-0417-a.yaml", good)
+    shutil.copy(cases_dir / "cr-0417-a.yaml", good)
     bad = tmp_path / "bad.yaml"
     bad.write_text("schema: 1\nid: b1\nmass_spec:\n  molecular_ion: 112\n  peaks: {112: 100, 113: 6,6}\n")
     res = cli("check", str(good), str(bad))
@@ -29,26 +27,26 @@ def test_check_reports_each_bad_file_and_fails(cli, tmp_path):
     assert "Traceback" not in res.err
 
 
-def test_check_duplicate_ids(cli, tmp_path):
+def test_check_duplicate_ids(cli, tmp_path, cases_dir):
     a, b = tmp_path / "a.yaml", tmp_path / "b.yaml"
-    shutil.copy(CASES / "cr-0417-a.yaml", a)
-    shutil.copy(CASES / "cr-0417-a.yaml", b)
+    shutil.copy(cases_dir / "cr-0417-a.yaml", a)
+    shutil.copy(cases_dir / "cr-0417-a.yaml", b)
     res = cli("check", str(a), str(b))
     assert res.code == 1 and "already used" in res.err
 
 
-def test_formulas_text_table_and_caution(cli):
-    res = cli("formulas", str(CASES / "cr-0417-a.yaml"))
+def test_formulas_text_table_and_caution(cli, cases_dir):
+    res = cli("formulas", str(cases_dir / "cr-0417-a.yaml"))
     assert res.code == 0
     assert re.search(r"^\s+1\s+C6H5Cl\s+4\s+112\s+112\.007978", res.out, re.M)
     assert "best read as Cl1" in res.out
     assert "reference standard" in res.out and "toxic" in res.out
 
 
-def test_formulas_without_molecular_ion_says_what_to_do(cli):
-    res = cli("formulas", str(CASES / "cr-0421-g.yaml"))
+def test_formulas_without_molecular_ion_says_what_to_do(cli, cases_dir):
+    res = cli("formulas", str(cases_dir / "cr-0421-g.yaml"))
     assert res.code == 1 and "--molecular-ion" in res.err
-    res = cli("formulas", str(CASES / "cr-0421-g.yaml"), "--molecular-ion", "74", "--json")
+    res = cli("formulas", str(cases_dir / "cr-0421-g.yaml"), "--molecular-ion", "74", "--json")
     assert res.code == 0
     assert "C4H10O" in [c["formula"] for c in res.json()]
 
@@ -79,8 +77,8 @@ def test_usage_errors_exit_2(cli):
     assert cli().code == 2
 
 
-def test_json_lists_best_first_with_required_keys(cli):
-    res = cli("formulas", str(CASES / "cr-0502-h.yaml"), "--json")
+def test_json_lists_best_first_with_required_keys(cli, cases_dir):
+    res = cli("formulas", str(cases_dir / "cr-0502-h.yaml"), "--json")
     data = res.json()
     assert isinstance(data, list) and data[0]["formula"] == "C8H8O"
     scores = [d["score"] for d in data]
@@ -95,43 +93,46 @@ def test_explain_in_json_marks_rejected(cli):
     assert all(d["reason"] for d in data if d["status"] == "rejected")
 
 
-def test_same_input_same_output(cli):
-    a = cli("formulas", str(CASES / "cr-0417-b.yaml"), "--top", "0").out
-    b = cli("formulas", str(CASES / "cr-0417-b.yaml"), "--top", "0").out
+def test_same_input_same_output(cli, cases_dir):
+    a = cli("formulas", str(cases_dir / "cr-0417-b.yaml"), "--top", "0").out
+    b = cli("formulas", str(cases_dir / "cr-0417-b.yaml"), "--top", "0").out
     assert a == b
 
 
-def test_python_dash_m_entry_point():
+def test_python_dash_m_entry_point(project_root):
     import subprocess
     import sys
 
     proc = subprocess.run(
         [sys.executable, "-m", "elucidate", "formulas", "78", "--json", "--top", "1"],
-        capture_output=True, text=True, cwd=ROOT, check=False,
+        capture_output=True,
+        text=True,
+        cwd=project_root,
+        check=False,
     )
     assert proc.returncode == 0, proc.stderr
     assert '"C6H6"' in proc.stdout
 
 
-def _readme_commands():
-    text = (ROOT / "README.md").read_text()
+def _readme_commands(project_root):
+    text = (project_root / "README.md").read_text()
     block = re.search(r"```(?:sh|bash)\n(.*?)```", text, re.S)
     assert block, "README has no shell block with the set-up commands"
     return [line for line in block.group(1).splitlines() if line.strip() and not line.startswith("#")]
 
 
-def test_readme_has_exactly_two_setup_commands_and_ci_runs_the_test_one():
-    commands = _readme_commands()
+def test_readme_has_exactly_two_setup_commands_and_ci_runs_the_test_one(project_root):
+    commands = _readme_commands(project_root)
     assert len(commands) == 2
     assert "pytest" in commands[1]
-    ci = (ROOT / ".ci" / "run").read_text()
+    ci = (project_root / ".ci" / "run").read_text()
     assert commands[1] in ci
 
 
-def test_readme_demo_command_targets_an_existing_case():
-    demo = _readme_commands()[0]
+def test_readme_demo_command_targets_an_existing_case(project_root):
+    demo = _readme_commands(project_root)[0]
     paths = re.findall(r"cases/[\w.-]+\.yaml", demo)
-    assert paths and all((ROOT / p).is_file() for p in paths)
+    assert paths and all((project_root / p).is_file() for p in paths)
 
 
 def test_known_formula_without_molecular_ion(cli, tmp_path):
@@ -170,7 +171,10 @@ def test_isomers_json_and_sort(cli):
     assert cli("isomers", "C3H6O", "--sort").out.splitlines() == data["smiles"]
 
 
-@pytest.mark.parametrize("argv,message", [(["isomers", "C6H6Q"], "unknown element"), (["isomers", "C6H6", "--max-rings", "-1"], "--max-rings")])
+@pytest.mark.parametrize(
+    "argv,message",
+    [(["isomers", "C6H6Q"], "unknown element"), (["isomers", "C6H6", "--max-rings", "-1"], "--max-rings")],
+)
 def test_isomers_bad_input(cli, argv, message):
     res = cli(*argv)
     assert res.code == 1 and message in res.err

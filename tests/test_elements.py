@@ -45,8 +45,19 @@ def test_isotope_mass_and_abundance_match_molmass(symbol, isotope):
     "symbol,weight",
     # IUPAC/CIAAW conventional atomic weights (abridged, 2013 onwards): the abundance-weighted
     # mean mass must land on them within natural variation.
-    [("H", 1.008), ("C", 12.011), ("N", 14.007), ("O", 15.999), ("F", 18.998), ("Si", 28.085),
-     ("P", 30.974), ("S", 32.06), ("Cl", 35.45), ("Br", 79.904), ("I", 126.90)],
+    [
+        ("H", 1.008),
+        ("C", 12.011),
+        ("N", 14.007),
+        ("O", 15.999),
+        ("F", 18.998),
+        ("Si", 28.085),
+        ("P", 30.974),
+        ("S", 32.06),
+        ("Cl", 35.45),
+        ("Br", 79.904),
+        ("I", 126.90),
+    ],
 )
 def test_average_mass_matches_conventional_atomic_weight(symbol, weight):
     assert TABLE[symbol].average_mass == pytest.approx(weight, abs=0.005)
@@ -55,8 +66,19 @@ def test_average_mass_matches_conventional_atomic_weight(symbol, weight):
 @pytest.mark.parametrize(
     "symbol,valence,nominal",
     # usual lowest valences (common practice); nominal = most abundant isotope
-    [("H", 1, 1), ("C", 4, 12), ("N", 3, 14), ("O", 2, 16), ("S", 2, 32), ("P", 3, 31),
-     ("Si", 4, 28), ("F", 1, 19), ("Cl", 1, 35), ("Br", 1, 79), ("I", 1, 127)],
+    [
+        ("H", 1, 1),
+        ("C", 4, 12),
+        ("N", 3, 14),
+        ("O", 2, 16),
+        ("S", 2, 32),
+        ("P", 3, 31),
+        ("Si", 4, 28),
+        ("F", 1, 19),
+        ("Cl", 1, 35),
+        ("Br", 1, 79),
+        ("I", 1, 127),
+    ],
 )
 def test_valence_and_nominal_mass(symbol, valence, nominal):
     assert TABLE[symbol].valence == valence

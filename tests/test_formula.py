@@ -73,8 +73,17 @@ def test_average_mass_matches_molmass(formula):
 @pytest.mark.parametrize(
     "formula,dbe",
     # DBE = C + 1 + N/2 - (H + X)/2 (common practice)
-    [("C6H6", 4), ("C8H8O", 5), ("C3H7NO", 1), ("CH2Cl2", 0), ("C5H5N", 4), ("C6H5NO2", 5),
-     ("C2H6", 0), ("C9H13", Fraction(7, 2)), ("CH3O", Fraction(1, 2))],
+    [
+        ("C6H6", 4),
+        ("C8H8O", 5),
+        ("C3H7NO", 1),
+        ("CH2Cl2", 0),
+        ("C5H5N", 4),
+        ("C6H5NO2", 5),
+        ("C2H6", 0),
+        ("C9H13", Fraction(7, 2)),
+        ("CH3O", Fraction(1, 2)),
+    ],
 )
 def test_dbe(formula, dbe):
     assert parse_formula(formula).dbe() == dbe

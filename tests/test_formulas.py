@@ -9,8 +9,8 @@ import pytest
 
 from elucidate import FormulaQuery, ObservedCluster, check_formula, default_elements, derive_formulas, parse_formula
 from elucidate.formula import Formula
-from elucidate.formula_search.search import RULES, enumerate_compositions, first_failure_codes, search_symbols
 from elucidate.formula_search.rules import default_rules
+from elucidate.formula_search.search import RULES, enumerate_compositions, first_failure_codes, search_symbols
 
 TABLE = default_elements()
 DEFAULTS = dict(default_rules().default_elements)
@@ -89,13 +89,17 @@ def test_ranking_examples(cli, argv, first, lower):
 
 @pytest.mark.parametrize(
     "case,first",
-    [("cr-0417-a", "C6H5Cl"), ("cr-0417-b", "C6H5Br"), ("cr-0417-c", "CH2Cl2"), ("cr-0417-d", "C4H4S"),
-     ("cr-0421-e", "C3H7NO"), ("cr-0502-h", "C8H8O")],
+    [
+        ("cr-0417-a", "C6H5Cl"),
+        ("cr-0417-b", "C6H5Br"),
+        ("cr-0417-c", "CH2Cl2"),
+        ("cr-0417-d", "C4H4S"),
+        ("cr-0421-e", "C3H7NO"),
+        ("cr-0502-h", "C8H8O"),
+    ],
 )
-def test_demo_cases_rank_their_compound_first(cli, case, first):
-    from conftest import CASES
-
-    res = cli("formulas", str(CASES / f"{case}.yaml"), "--json")
+def test_demo_cases_rank_their_compound_first(cli, case, first, cases_dir):
+    res = cli("formulas", str(cases_dir / f"{case}.yaml"), "--json")
     assert res.code == 0, res.err
     assert res.json()[0]["formula"] == first
 
@@ -150,8 +154,13 @@ def test_known_formula_and_explain_reasons(cli):
 
 @pytest.mark.parametrize(
     "formula,expected",
-    [("C6H5Cl", "kept, rank 1"), ("C7H7Cl", "nominal mass 126"), ("C9H4", "kept"),
-     ("C5H8N2O", "kept"), ("C2Cl2H2", "nominal mass 96")],
+    [
+        ("C6H5Cl", "kept, rank 1"),
+        ("C7H7Cl", "nominal mass 126"),
+        ("C9H4", "kept"),
+        ("C5H8N2O", "kept"),
+        ("C2Cl2H2", "nominal mass 96"),
+    ],
 )
 def test_why(cli, formula, expected):
     res = cli("formulas", "112", "--peaks", "112:100 113:6.6 114:32", "--why", formula)

@@ -5,8 +5,8 @@ from __future__ import annotations
 import pytest
 from rdkit import Chem
 
-from elucidate.evidence.fragments import default_fragments, load_fragments, predict_ions
 from elucidate import ElucidateError
+from elucidate.evidence.fragments import default_fragments, load_fragments, predict_ions
 
 DIAGNOSTIC = [
     ("Cc1ccccc1", 91, "toluene: tropylium"),
@@ -46,8 +46,10 @@ def test_mclafferty_needs_a_gamma_hydrogen():
 def test_table_validates_and_bad_rule_is_located(tmp_path):
     default_fragments().validate()
     bad = tmp_path / "fragments.yaml"
-    bad.write_text("strong_weight: 0.7\nmissing_penalty: 0.5\nlowest_mz: 26\nrules:\n"
-                   "  - {name: x, kind: cleave, smarts: 'CC', weight: 0.5, what: w}\n")
+    bad.write_text(
+        "strong_weight: 0.7\nmissing_penalty: 0.5\nlowest_mz: 26\nrules:\n"
+        "  - {name: x, kind: cleave, smarts: 'CC', weight: 0.5, what: w}\n"
+    )
     with pytest.raises(ElucidateError) as info:
         load_fragments(bad)
     assert info.value.line == 5 and "mapped atoms" in info.value.message

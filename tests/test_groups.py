@@ -7,8 +7,6 @@ phenol is not an enol, ...) are common practice.
 
 from __future__ import annotations
 
-import functools
-
 import pytest
 from rdkit import Chem
 
@@ -27,7 +25,10 @@ CASES = {
     "aldehyde": (["CC=O", "C=O", "O=Cc1ccccc1"], ["CC(C)=O", "OC=O", "NC=O", "COC=O"]),
     "ketone": (["CC(C)=O", "O=C1CCCCC1", "CC(=O)c1ccccc1"], ["CC=O", "CC(=O)OC", "CC(N)=O", "CC(=O)O"]),
     "carboxylic_acid": (["CC(=O)O", "OC(=O)c1ccccc1", "OC=O"], ["CC(=O)OC", "CCO", "CC(=O)OC(C)=O"]),
-    "ester": (["CC(=O)OC", "COC=O", "O=C1CCCO1", "COC(=O)c1ccccc1"], ["CC(=O)O", "CC(=O)OC(C)=O", "COC(=O)OC", "CC(C)=O", "COCC(C)=O"]),
+    "ester": (
+        ["CC(=O)OC", "COC=O", "O=C1CCCO1", "COC(=O)c1ccccc1"],
+        ["CC(=O)O", "CC(=O)OC(C)=O", "COC(=O)OC", "CC(C)=O", "COCC(C)=O"],
+    ),
     "lactone": (["O=C1CCCO1", "O=C1CCO1"], ["CC(=O)OC", "O=C1CCCC1"]),
     "amide": (["CC(N)=O", "CN(C)C=O", "O=C1CCCN1", "NC(N)=O"], ["CC(C)=O", "CCN", "CC(=N)C"]),
     "acid_chloride": (["CC(=O)Cl"], ["CCCl", "ClC1=CC=CC1"]),
@@ -77,8 +78,10 @@ def test_unknown_group_suggests_the_near_name():
 
 def test_broken_smarts_names_file_line_and_key(tmp_path):
     bad = tmp_path / "groups.yaml"
-    bad.write_text("groups:\n  ok_group:\n    smarts: 'C=O'\n    definition: d\n    source: s\n"
-                   "  broken:\n    smarts: '[C;=O'\n    definition: d\n    source: s\n")
+    bad.write_text(
+        "groups:\n  ok_group:\n    smarts: 'C=O'\n    definition: d\n    source: s\n"
+        "  broken:\n    smarts: '[C;=O'\n    definition: d\n    source: s\n"
+    )
     with pytest.raises(ElucidateError) as info:
         load_groups(bad)
     assert info.value.file == str(bad) and info.value.key == "groups.broken.smarts" and info.value.line == 7
@@ -101,8 +104,8 @@ def _labelled_skeleton(mol):
 SKELETAL = [name for name in GROUPS.names if GROUPS[name].skeleton is not None]
 
 
-@functools.lru_cache(maxsize=1)
-def _isomer_corpus():
+@pytest.fixture(scope="session")
+def isomer_corpus():
     from elucidate import parse_formula
     from elucidate.generator import isomer_smiles
 
@@ -113,10 +116,10 @@ def _isomer_corpus():
 
 
 @pytest.mark.parametrize("group", SKELETAL)
-def test_skeleton_condition_is_implied_by_the_group(group):
+def test_skeleton_condition_is_implied_by_the_group(group, isomer_corpus):
     # every molecule with the group must pass the group's skeleton condition: reference
     # positives plus every isomer of a few formulas that carries the group
-    molecules = [Chem.MolFromSmiles(s) for s in CASES.get(group, ([], []))[0] + list(_isomer_corpus())]
+    molecules = [Chem.MolFromSmiles(s) for s in CASES.get(group, ([], []))[0] + list(isomer_corpus)]
     hits = [m for m in molecules if m.HasSubstructMatch(GROUPS[group].pattern)]
     assert hits
     for mol in hits:
@@ -126,8 +129,8 @@ def test_skeleton_condition_is_implied_by_the_group(group):
 # ------------------------------------------------ conditions on the generator's multigraph
 
 
-@functools.lru_cache(maxsize=1)
-def _structure_corpus():
+@pytest.fixture(scope="session")
+def structure_corpus():
     """Every multigraph (Kekulé forms apart, all valence states) of formulas that reach each
     conditioned group — including N(V) and S(IV)/S(VI) states, fused and exocyclic π systems —
     with its sanitized molecule (atom order kept, so aromaticity flags index the multigraph)."""
@@ -136,8 +139,23 @@ def _structure_corpus():
     from elucidate.generator.smiles import sanitized
 
     out = []
-    for formula in ("C7H6O", "C8H8", "C7H8", "C6H4O2", "C4H7NO", "C4H6O2", "C3H5NO", "C4H4O2", "C4H4O3",
-                    "C3H3N", "C3H3ClO", "C2H3NO2", "C3H5NO2", "C2H6O2S", "C3H6OS"):
+    for formula in (
+        "C7H6O",
+        "C8H8",
+        "C7H8",
+        "C6H4O2",
+        "C4H7NO",
+        "C4H6O2",
+        "C3H5NO",
+        "C4H4O2",
+        "C4H4O3",
+        "C3H3N",
+        "C3H3ClO",
+        "C2H3NO2",
+        "C3H5NO2",
+        "C2H6O2S",
+        "C3H6OS",
+    ):
         for s in structures(parse_formula(formula)):
             out.append((s, sanitized(s, kekule=False)))
     return tuple(out)
@@ -180,10 +198,10 @@ PI = [name for name in GROUPS.names if GROUPS[name].pi_bonds is not None]
 
 @pytest.mark.slow
 @pytest.mark.parametrize("group", KEKULE)
-def test_kekule_condition_is_implied_by_the_group(group):
+def test_kekule_condition_is_implied_by_the_group(group, structure_corpus):
     # the condition is tested on the generator's own multigraphs, so what it skips is exactly
     # what would have failed the group's SMARTS afterwards
-    hits = [(s, m) for s, m in _structure_corpus() if m.HasSubstructMatch(GROUPS[group].pattern)]
+    hits = [(s, m) for s, m in structure_corpus if m.HasSubstructMatch(GROUPS[group].pattern)]
     assert len(hits) >= 3
     for s, _ in hits:
         graph = _multigraph(s)
@@ -193,9 +211,9 @@ def test_kekule_condition_is_implied_by_the_group(group):
 
 @pytest.mark.slow
 @pytest.mark.parametrize("group", PI)
-def test_pi_bond_bound_is_implied_by_the_group(group):
+def test_pi_bond_bound_is_implied_by_the_group(group, structure_corpus):
     at_least, among = GROUPS[group].pi_bonds
-    hits = [(s, m) for s, m in _structure_corpus() if m.HasSubstructMatch(GROUPS[group].pattern)]
+    hits = [(s, m) for s, m in structure_corpus if m.HasSubstructMatch(GROUPS[group].pattern)]
     assert hits
     for s, m in hits:
         assert _pi_by_class(s, m)[among] >= at_least, s
@@ -223,7 +241,13 @@ def test_min_pi_bonds_combines_classes(required, oxo, bound):
 
 @pytest.mark.parametrize(
     "group,needs",
-    [("ketone", {6: 3, 8: 1}), ("ester", {6: 2, 8: 2}), ("amide", {6: 1, 7: 1, 8: 1}), ("aromatic_ring", {6: 6}), ("hydroxyl", {8: 1})],
+    [
+        ("ketone", {6: 3, 8: 1}),
+        ("ester", {6: 2, 8: 2}),
+        ("amide", {6: 1, 7: 1, 8: 1}),
+        ("aromatic_ring", {6: 6}),
+        ("hydroxyl", {8: 1}),
+    ],
 )
 def test_elements_a_group_needs(group, needs):
     # read from the skeleton condition: one atom per single-element bracket atom

@@ -12,8 +12,7 @@ import numpy as np
 import pytest
 
 from elucidate import ObservedCluster, isotope_pattern, parse_formula, read_cluster
-from elucidate.formula_search.isotopes import cluster_matrix
-from elucidate.formula_search.isotopes import IsotopeTolerance, chi2_matrix, fit_cluster
+from elucidate.formula_search.isotopes import IsotopeTolerance, chi2_matrix, cluster_matrix, fit_cluster
 
 
 def _relative_to_max(pattern):
@@ -50,8 +49,19 @@ def test_m_plus_1_about_1_1_percent_per_carbon(n):
 
 @pytest.mark.parametrize(
     "formula",
-    ["C6H5Cl", "C6H4Cl2", "C6H5Br", "C6H4Br2", "C4H4S", "C8H8O", "C2H3Cl3", "C3H9OSi", "CHBrCl2",
-     "C10H12N2O3S", "C6Cl6"],
+    [
+        "C6H5Cl",
+        "C6H4Cl2",
+        "C6H5Br",
+        "C6H4Br2",
+        "C4H4S",
+        "C8H8O",
+        "C2H3Cl3",
+        "C3H9OSi",
+        "CHBrCl2",
+        "C10H12N2O3S",
+        "C6Cl6",
+    ],
 )
 def test_pattern_matches_molmass(formula):
     import molmass

@@ -28,11 +28,21 @@ CASES = {
     # norborn-2-ene and fused-ring double bonds kept
     "bredt": (
         ["C1=C2CCC1C2", "C1CC2=CCC1C2", "C1=C2CCC(C1)CC2", "CC(=O)c1cc2ccc1o2", "c1cc2ccc1C2"],
-        ["C1=CC2CCC1C2", "C1=C2CCCCC2CCC1", "C1CC2CCCC(=C1)C2", "c1ccc2ccccc2c1", "c1ccc2c(c1)CC2", "c1cc2ccc1CCCCCCCC2"],
+        [
+            "C1=CC2CCC1C2",
+            "C1=C2CCCCC2CCC1",
+            "C1CC2CCCC(=C1)C2",
+            "c1ccc2ccccc2c1",
+            "c1ccc2c(c1)CC2",
+            "c1cc2ccc1CCCCCCCC2",
+        ],
     ),
     "fused_three_ring_alkene": (["C1=C2CC12", "O=CC1=C2CC12", "C1CC2=CC2C1"], ["C1=CC1", "C1CC2CC2C1", "C1=CC2CC2C1"]),
     "antiaromatic_three_ring": (["C1=CN1", "C1=CO1", "CC1=CS1"], ["C1CN1", "C1CO1", "C1=CC1"]),
-    "hetero_three_ring_on_arene": (["CC(=O)c1cccc2c1O2", "c1ccc2c(c1)N2"], ["c1ccc2c(c1)C2", "C1=CC2OC2C=C1", "c1ccc(C2CO2)cc1"]),
+    "hetero_three_ring_on_arene": (
+        ["CC(=O)c1cccc2c1O2", "c1ccc2c(c1)N2"],
+        ["c1ccc2c(c1)C2", "C1=CC2OC2C=C1", "c1ccc(C2CO2)cc1"],
+    ),
     "chorded_aromatic_ring": (["CC(=O)c1c(O)c2ccc1=2"], ["c1ccc2c(c1)CC2", "c1ccc2c(c1)C2", "c1ccccc1"]),
     "monosubstituted_diazene": (["CN=N", "N=NCC1CC1=O"], ["CN=NC", "C=NN"]),
 }
@@ -44,7 +54,9 @@ def test_profile_table_validates():
     assert all(rule.reason for rule in STABLE.values())
 
 
-PAIRS = [(r, s, True) for r, (pos, _) in CASES.items() for s in pos] + [(r, s, False) for r, (_, neg) in CASES.items() for s in neg]
+PAIRS = [(r, s, True) for r, (pos, _) in CASES.items() for s in pos] + [
+    (r, s, False) for r, (_, neg) in CASES.items() for s in neg
+]
 
 
 @pytest.mark.parametrize("rule,smiles,expected", PAIRS, ids=[f"{r}-{s}-{e}" for r, s, e in PAIRS])
@@ -59,7 +71,9 @@ def test_bredt_keeps_fused_ring_double_bonds():
 
 def test_profile_filter_counts_each_rule():
     removed: dict[str, int] = {}
-    kept = list(isomer_smiles(parse_formula("C3H6O"), GeneratorOptions(selection=Selection(profile="stable")), removed=removed))
+    kept = list(
+        isomer_smiles(parse_formula("C3H6O"), GeneratorOptions(selection=Selection(profile="stable")), removed=removed)
+    )
     assert "CC=CO" not in kept and "C=C(C)O" not in kept  # enols
     assert "CC(C)=O" in kept
     assert removed["implausible enol"] == 2  # C=C(C)O and CC=CO; allyl alcohol is no enol

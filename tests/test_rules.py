@@ -20,8 +20,16 @@ def test_shipped_rules_validate():
 @pytest.mark.parametrize(
     "formula,passes",
     # nitrogen rule (common practice): odd nominal mass <=> odd number of N
-    [("C5H5N", True), ("C3H7NO", True), ("C4H8N2", True), ("C6H6", True), ("C5H4N", False),
-     ("C2H4N2", True), ("C6H7N", True), ("C6H6N", False)],
+    [
+        ("C5H5N", True),
+        ("C3H7NO", True),
+        ("C4H8N2", True),
+        ("C6H6", True),
+        ("C5H4N", False),
+        ("C2H4N2", True),
+        ("C6H7N", True),
+        ("C6H6N", False),
+    ],
 )
 def test_nitrogen_rule(formula, passes):
     assert (nitrogen_rule(parse_formula(formula)) is None) == passes
@@ -43,10 +51,21 @@ def test_senior_rules(formula, rule):
 @pytest.mark.parametrize(
     "formula,level,passes",
     # Kind & Fiehn (2007) table 2 ratio ranges
-    [("C8H8O", "common", True), ("CH2Cl2", "common", False), ("CH2Cl2", "extended", True),
-     ("CHCl3", "extended", False), ("CHCl3", "off", True), ("C2H8N2", "common", False), ("C2H8N2", "extended", True),
-     ("CH6N2", "common", False), ("CH6N2", "extended", True), ("H2O", "common", False),
-     ("C2F6", "common", False), ("C6H6", "common", True), ("C20H2", "common", False)],
+    [
+        ("C8H8O", "common", True),
+        ("CH2Cl2", "common", False),
+        ("CH2Cl2", "extended", True),
+        ("CHCl3", "extended", False),
+        ("CHCl3", "off", True),
+        ("C2H8N2", "common", False),
+        ("C2H8N2", "extended", True),
+        ("CH6N2", "common", False),
+        ("CH6N2", "extended", True),
+        ("H2O", "common", False),
+        ("C2F6", "common", False),
+        ("C6H6", "common", True),
+        ("C20H2", "common", False),
+    ],
 )
 def test_kind_fiehn_ratios(formula, level, passes):
     assert (kind_fiehn(parse_formula(formula), RULES, level) is None) == passes
@@ -62,8 +81,7 @@ def test_kind_fiehn_rule_6_combined_counts():
     "mass,n,r,base,u",
     # Bright & Chen, J. Chem. Educ. 60, 557 (1983): M = 78 -> C6H6, U = 4 (the paper's example);
     # M = 121 -> C9H13 (U = 7/2; adding N gives an integer U)
-    [(78, 6, 0, "C6H6", 4), (121, 9, 4, "C9H13", Fraction(7, 2)), (94, 7, 3, "C7H10", 3),
-     (120, 9, 3, "C9H12", 4)],
+    [(78, 6, 0, "C6H6", 4), (121, 9, 4, "C9H13", Fraction(7, 2)), (94, 7, 3, "C7H10", 3), (120, 9, 3, "C9H12", 4)],
 )
 def test_rule_of_13_base(mass, n, r, base, u):
     rule = rule_of_13(mass)
@@ -81,7 +99,16 @@ def test_rule_of_13_worked_substitution():
 @pytest.mark.parametrize("mass", [44, 78, 112, 120, 121, 156, 200])
 def test_rule_of_13_route_equals_engine(mass):
     # the rule-of-13 substitution route and the engine's enumeration must reach the same set
-    limits = {"C": (0, 20), "H": (0, 40), "N": (0, 3), "O": (0, 4), "S": (0, 1), "Cl": (0, 2), "Br": (0, 1), "F": (0, 2)}
+    limits = {
+        "C": (0, 20),
+        "H": (0, 40),
+        "N": (0, 3),
+        "O": (0, 4),
+        "S": (0, 1),
+        "Cl": (0, 2),
+        "Br": (0, 1),
+        "F": (0, 2),
+    }
     assert rule_of_13_formulas(mass, limits, RULES) == set(enumerate_compositions(mass, limits))
 
 

@@ -127,7 +127,11 @@ def test_constrained_equals_filtered(formula, spec):
 
 def test_contradictory_constraints_are_refused():
     with pytest.raises(ElucidateError, match="both required and forbidden"):
-        list(isomer_smiles(parse_formula("C4H8O"), GeneratorOptions(selection=Selection(require=("ketone",), forbid=("ketone",)))))
+        list(
+            isomer_smiles(
+                parse_formula("C4H8O"), GeneratorOptions(selection=Selection(require=("ketone",), forbid=("ketone",)))
+            )
+        )
 
 
 def test_cli_require_and_removed_counts(cli):

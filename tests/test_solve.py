@@ -3,21 +3,19 @@ explanation when nothing survives, and molecular-ion hypotheses."""
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pytest
 
 from elucidate import parse_case
 from elucidate.solver import LOSSES_FOR_M, molecular_ion_hypotheses, solve
 
-from conftest import CASES
-
-DEMO = str(CASES / "cr-0509-i.yaml")
+DEMO = str(Path(__file__).resolve().parents[1] / "cases" / "cr-0509-i.yaml")
 
 
 @pytest.fixture(scope="module")
-def demo_json():
-    from conftest import run_cli
-
-    res = run_cli("solve", DEMO, "--json", "--top", "5")
+def demo_json(cli):
+    res = cli("solve", DEMO, "--json", "--top", "5")
     assert res.code == 0, res.err
     return res.json()
 

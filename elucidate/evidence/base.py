@@ -22,7 +22,7 @@ from ..generator.groups import GroupTable
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Subject", "Assessment", "Reading", "Technique", "make_subject"]
+__all__ = ["Assessment", "Reading", "Subject", "Technique", "make_subject"]
 
 
 @dataclass(frozen=True)

@@ -32,7 +32,7 @@ from .base import Assessment, Reading, Subject
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Carbon13Table", "load_carbon13", "default_carbon13", "carbon_classes", "Carbon13"]
+__all__ = ["Carbon13", "Carbon13Table", "carbon_classes", "default_carbon13", "load_carbon13"]
 
 _PENALTIES = ("missing_signal", "extra_signal", "missing_multiplicity", "extra_multiplicity")
 
@@ -59,14 +59,15 @@ def load_carbon13(path: str | Path | None = None) -> Carbon13Table:
     file = Path(path) if path is not None else table_path("carbon13.yaml")
     document = read_yaml_file(file)
     root = mapping(document, ["source", *_PENALTIES], required=list(_PENALTIES))
-    values = [as_number(root[k], minimum=0, what="a penalty of 0 or more") for k in _PENALTIES]
+    values = {k: as_number(root[k], minimum=0, what="a penalty of 0 or more") for k in _PENALTIES}
     source = as_str(root["source"]) if "source" in root else ""
-    return validated(Carbon13Table(*values, source=source), document)
+    return validated(Carbon13Table(**values, source=source), document)
 
 
 @lru_cache(maxsize=1)
 def default_carbon13() -> Carbon13Table:
     return load_carbon13()
+
 
 _KINDS = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
 
@@ -82,7 +83,9 @@ def _split_geminal(mol: Mol) -> Mol:
     unsymmetric carries an isotope label, so ranking tells the pair apart."""
     from .._rdkit import Chem
 
-    if not mol.HasSubstructMatch(compiled_smarts("[CX3;H0](-[#6,#7,#8,#9,#15,#16,#17,#35,#53])(-[#6,#7,#8,#9,#15,#16,#17,#35,#53])=[C]")):
+    if not mol.HasSubstructMatch(
+        compiled_smarts("[CX3;H0](-[#6,#7,#8,#9,#15,#16,#17,#35,#53])(-[#6,#7,#8,#9,#15,#16,#17,#35,#53])=[C]")
+    ):
         return mol  # no C=C end with two substituents: nothing to split
     work = Chem.RWMol(mol)
     changed = True

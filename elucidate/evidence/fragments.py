@@ -17,7 +17,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache, lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
@@ -32,7 +32,7 @@ from .base import Assessment, Reading, Subject
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["FragmentRule", "FragmentTable", "load_fragments", "default_fragments", "predict_ions", "Fragments"]
+__all__ = ["FragmentRule", "FragmentTable", "Fragments", "default_fragments", "load_fragments", "predict_ions"]
 
 KINDS = ("cleave", "rearrange", "retro_diels_alder", "loss", "ion")
 
@@ -59,7 +59,7 @@ class FragmentRule:
         return _mapped(self.smarts)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _mapped(smarts: str) -> dict[int, int]:
     return {a.GetAtomMapNum(): a.GetIdx() for a in compiled_smarts(smarts).GetAtoms() if a.GetAtomMapNum()}
 
@@ -80,7 +80,9 @@ class FragmentTable:
             except ElucidateError as exc:
                 raise ElucidateError(exc.message, key=f"{where}.smarts") from exc
             maps = {a.GetAtomMapNum() for a in pattern.GetAtoms()} - {0}
-            need = {"cleave": {1, 2}, "rearrange": {1, 2}, "retro_diels_alder": {1, 2, 3, 4, 5, 6}}.get(rule.kind, set())
+            need = {"cleave": {1, 2}, "rearrange": {1, 2}, "retro_diels_alder": {1, 2, 3, 4, 5, 6}}.get(
+                rule.kind, set()
+            )
             if not need <= maps:
                 raise ElucidateError(f"a {rule.kind} rule needs mapped atoms {sorted(need)}", key=f"{where}.smarts")
             if rule.kind == "loss" and rule.neutral is None:
@@ -165,7 +167,9 @@ class PredictedIon:
     what: str
 
 
-def predict_ions(mol: Mol, *, table: FragmentTable | None = None, elements: ElementTable | None = None) -> dict[int, PredictedIon]:
+def predict_ions(
+    mol: Mol, *, table: FragmentTable | None = None, elements: ElementTable | None = None
+) -> dict[int, PredictedIon]:
     """Predicted fragment ions of ``mol`` (aromaticity perceived): m/z -> the strongest reason."""
     t = table or default_fragments()
     e = elements or default_elements()
@@ -187,7 +191,12 @@ def predict_ions(mol: Mol, *, table: FragmentTable | None = None, elements: Elem
                 assert rule.neutral is not None
                 add(total - rule.neutral, rule.weight, rule, f"M-{rule.neutral}: {rule.what}")
                 if rule.then_loss:
-                    add(total - rule.neutral - rule.then_loss, rule.weight * 0.6, rule, f"{rule.what}, then -{rule.then_loss}")
+                    add(
+                        total - rule.neutral - rule.then_loss,
+                        rule.weight * 0.6,
+                        rule,
+                        f"{rule.what}, then -{rule.then_loss}",
+                    )
             continue
         if rule.kind == "ion":
             if mol.HasSubstructMatch(rule.pattern):
@@ -197,7 +206,7 @@ def predict_ions(mol: Mol, *, table: FragmentTable | None = None, elements: Elem
                     add(rule.mz - rule.then_loss, rule.weight * 0.5, rule, f"{rule.what}, then -{rule.then_loss}")
             continue
         maps = rule.mapped
-        done: set[tuple[int, ...]] = set()
+        done: set[tuple[tuple[int, int], ...]] = set()
         for match in mol.GetSubstructMatches(rule.pattern, uniquify=False, maxMatches=200):
             at = {k: match[i] for k, i in maps.items()}
             key = tuple(sorted(at.items()))
@@ -274,8 +283,11 @@ class Fragments:
         share = explained / total if total else 1.0
         low = min(scored) if scored else 0
         missing = [
-            ion for mz, ion in predicted.items()
-            if ion.weight >= self.table.strong_weight and mz >= max(low, lowest) and mz not in peaks
+            ion
+            for mz, ion in predicted.items()
+            if ion.weight >= self.table.strong_weight
+            and mz >= max(low, lowest)
+            and mz not in peaks
             and (subject.molecular_ion is None or mz < subject.molecular_ion)
         ]
         cost = self.table.missing_penalty * sum(ion.weight for ion in missing)

@@ -33,7 +33,7 @@ from .base import Assessment, Reading, Subject
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Band", "Region", "IRTable", "load_infrared", "default_infrared", "Infrared", "IRReading", "read_bands"]
+__all__ = ["Band", "IRReading", "IRTable", "Infrared", "Region", "default_infrared", "load_infrared", "read_bands"]
 
 STRENGTHS = ("strong", "medium", "weak")
 
@@ -103,7 +103,9 @@ class IRTable:
 
 def _band(loc: Located) -> Band:
     b = mapping(
-        loc, ["from", "to", "strength", "key", "mode", "when", "unless", "shape"], required=["from", "to", "strength", "mode"]
+        loc,
+        ["from", "to", "strength", "key", "mode", "when", "unless", "shape"],
+        required=["from", "to", "strength", "mode"],
     )
     low = as_number(b["from"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
     high = as_number(b["to"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
@@ -137,7 +139,9 @@ def load_infrared(path: str | Path | None = None, *, groups: GroupTable | None =
     body = root["bands"]
     if not isinstance(body.value, dict):
         raise body.error("expected a mapping of group names to band lists")
-    bands = {str(name): tuple(_band(b) for b in as_list(loc, what="a list of bands")) for name, loc in body.value.items()}
+    bands = {
+        str(name): tuple(_band(b) for b in as_list(loc, what="a list of bands")) for name, loc in body.value.items()
+    }
     table = IRTable(
         bands=bands,
         regions=tuple(regions),
@@ -157,9 +161,7 @@ def default_infrared() -> IRTable:
     return load_infrared()
 
 
-def _found(
-    band: Band, observed: Sequence[IRBand], table: IRTable, *, strict_shape: bool = False
-) -> IRBand | None:
+def _found(band: Band, observed: Sequence[IRBand], table: IRTable, *, strict_shape: bool = False) -> IRBand | None:
     """The strongest observed band within the band's range (and not of the other shape; with
     ``strict_shape``, of the same shape when the table gives one)."""
     tol = table.tolerance

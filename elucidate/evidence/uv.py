@@ -32,7 +32,7 @@ from .base import Assessment, Reading, Subject
 if TYPE_CHECKING:
     from .._rdkit import Atom, Bond, Mol
 
-__all__ = ["UVTable", "UVPrediction", "load_uv", "default_uv", "predict_lambda_max", "UvVis"]
+__all__ = ["UVPrediction", "UVTable", "UvVis", "default_uv", "load_uv", "predict_lambda_max"]
 
 _POSITIONS = ("alpha", "beta", "gamma", "delta")
 #: a number as the table gives it: whole numbers stay whole, so steps print "+30", not "+30.0"
@@ -127,7 +127,9 @@ class UVTable:
         for name, positions in [("alkyl", self.enone.alkyl), *self.enone.substituents.items()]:
             unknown = set(positions) - set(_POSITIONS)
             if unknown:
-                raise ElucidateError(f"unknown position {sorted(unknown)[0]!r}; positions: {', '.join(_POSITIONS)}", key=f"enone.{name}")
+                raise ElucidateError(
+                    f"unknown position {sorted(unknown)[0]!r}; positions: {', '.join(_POSITIONS)}", key=f"enone.{name}"
+                )
 
 
 def _number(loc: Located, *, minimum: float | None = None, what: str = "a number") -> Number:
@@ -149,23 +151,52 @@ def _fields(loc: Located, names: Sequence[str]) -> dict[str, Located]:
 def load_uv(path: str | Path | None = None) -> UVTable:
     file = Path(path) if path is not None else table_path("uv.yaml")
     document = read_yaml_file(file)
-    keys = ["source", "tolerance_nm", "benzenoid_tolerance_nm", "no_maximum_below_nm", "diene", "polyene", "enone",
-            "aryl_carbonyl", "benzenoid", "scoring"]
+    keys = [
+        "source",
+        "tolerance_nm",
+        "benzenoid_tolerance_nm",
+        "no_maximum_below_nm",
+        "diene",
+        "polyene",
+        "enone",
+        "aryl_carbonyl",
+        "benzenoid",
+        "scoring",
+    ]
     root = mapping(document, keys, required=keys[1:])
     nm = "a positive number of nm"
     d = _fields(root["diene"], ["base", "extra_double_bond", "alkyl", "exocyclic", "substituents"])
-    diene = DieneRules(_numbers(d["base"]), _number(d["extra_double_bond"]), _number(d["alkyl"]),
-                       _number(d["exocyclic"]), _numbers(d["substituents"]))
-    p = _fields(root["polyene"], ["constant", "per_alkyl", "n_linear", "n_square", "per_endocyclic_ring", "per_exocyclic_ring"])
-    polyene = PolyeneRules(*(_number(p[k]) for k in ("constant", "per_alkyl", "n_linear", "n_square",
-                                                      "per_endocyclic_ring", "per_exocyclic_ring")))
-    e = _fields(root["enone"], ["base", "extra_double_bond", "homoannular_diene", "exocyclic", "alkyl", "substituents", "solvent"])
+    diene = DieneRules(
+        _numbers(d["base"]),
+        _number(d["extra_double_bond"]),
+        _number(d["alkyl"]),
+        _number(d["exocyclic"]),
+        _numbers(d["substituents"]),
+    )
+    p = _fields(
+        root["polyene"], ["constant", "per_alkyl", "n_linear", "n_square", "per_endocyclic_ring", "per_exocyclic_ring"]
+    )
+    polyene = PolyeneRules(
+        *(
+            _number(p[k])
+            for k in ("constant", "per_alkyl", "n_linear", "n_square", "per_endocyclic_ring", "per_exocyclic_ring")
+        )
+    )
+    e = _fields(
+        root["enone"],
+        ["base", "extra_double_bond", "homoannular_diene", "exocyclic", "alkyl", "substituents", "solvent"],
+    )
     sub = e["substituents"]
     if not isinstance(sub.value, dict):
         raise sub.error("expected a mapping of substituents to position increments")
     enone = EnoneRules(
-        _numbers(e["base"]), _number(e["extra_double_bond"]), _number(e["homoannular_diene"]), _number(e["exocyclic"]),
-        _numbers(e["alkyl"]), {str(k): _numbers(v) for k, v in sub.value.items()}, _numbers(e["solvent"]),
+        _numbers(e["base"]),
+        _number(e["extra_double_bond"]),
+        _number(e["homoannular_diene"]),
+        _number(e["exocyclic"]),
+        _numbers(e["alkyl"]),
+        {str(k): _numbers(v) for k, v in sub.value.items()},
+        _numbers(e["solvent"]),
     )
     a = _fields(root["aryl_carbonyl"], ["base", "ring"])
     ring_loc = a["ring"]
@@ -181,13 +212,21 @@ def load_uv(path: str | Path | None = None) -> UVTable:
     benzenoid = []
     for item in as_list(root["benzenoid"], what="a list of {smarts, lambda_max, what}"):
         entry = mapping(item, ["smarts", "lambda_max", "what"], required=["smarts", "lambda_max", "what"])
-        benzenoid.append(BenzenoidEntry(
-            as_str(entry["smarts"], what="a SMARTS pattern"),
-            _number(entry["lambda_max"], minimum=190, what="a wavelength 190-800 nm"),
-            as_str(entry["what"]),
-        ))
-    score_keys = ["unseen_width", "unseen_cutoff", "unseen_score", "unexplained_near", "unexplained_near_score",
-                  "unexplained_score"]
+        benzenoid.append(
+            BenzenoidEntry(
+                as_str(entry["smarts"], what="a SMARTS pattern"),
+                _number(entry["lambda_max"], minimum=190, what="a wavelength 190-800 nm"),
+                as_str(entry["what"]),
+            )
+        )
+    score_keys = [
+        "unseen_width",
+        "unseen_cutoff",
+        "unseen_score",
+        "unexplained_near",
+        "unexplained_near_score",
+        "unexplained_score",
+    ]
     sc = mapping(root["scoring"], ["source", *score_keys], required=score_keys)
     scoring = UVScoring(*(_number(sc[k], minimum=0, what="a number of 0 or more") for k in score_keys))
     table = UVTable(
@@ -270,10 +309,7 @@ def _endocyclic_rings(mol: Mol, bonds: Sequence[Bond]) -> set[int]:
 
 def _homoannular(mol: Mol, bonds: Sequence[Bond]) -> bool:
     """Two of the C=C lie in one ring (a cisoid diene in that ring)."""
-    for ring in mol.GetRingInfo().BondRings():
-        if sum(1 for b in bonds if b.GetIdx() in ring) >= 2:
-            return True
-    return False
+    return any(sum(1 for b in bonds if b.GetIdx() in ring) >= 2 for ring in mol.GetRingInfo().BondRings())
 
 
 _DOUBLE = "[C]=[C,O]"  # non-aromatic C=C and C=O (aliphatic atoms only)
@@ -422,34 +458,37 @@ def _diene(mol: Mol, system: list[Bond], table: UVTable) -> UVPrediction | None:
                 others.append(kind)
     exo, exo_rings = _exocyclic(mol, system)
     if n > 4:
-        rules = table.polyene
+        polyene = table.polyene
         endo = _endocyclic_rings(mol, system)
         value = (
-            rules.constant + rules.per_alkyl * alkyl + n * (rules.n_linear + rules.n_square * n)
-            + rules.per_endocyclic_ring * len(endo) + rules.per_exocyclic_ring * len(exo_rings)
+            polyene.constant
+            + polyene.per_alkyl * alkyl
+            + n * (polyene.n_linear + polyene.n_square * n)
+            + polyene.per_endocyclic_ring * len(endo)
+            + polyene.per_exocyclic_ring * len(exo_rings)
         )
-        steps = (f"Fieser-Kuhn: n={n}, M={alkyl}, endocyclic rings {len(endo)}, exocyclic rings {len(exo_rings)}",)
-        return UVPrediction(round(value, 1), "Fieser-Kuhn (polyene)", steps)
-    rules = table.diene
+        step = f"Fieser-Kuhn: n={n}, M={alkyl}, endocyclic rings {len(endo)}, exocyclic rings {len(exo_rings)}"
+        return UVPrediction(round(value, 1), "Fieser-Kuhn (polyene)", (step,))
+    diene = table.diene
     if _homoannular(mol, system):
         base = "homoannular"
     elif _endocyclic_rings(mol, system) or exo:
         base = "heteroannular"
     else:
         base = "acyclic"
-    value = float(rules.base[base])
-    steps = [f"{base} diene base {value:g}"]
+    value = float(diene.base[base])
+    steps: list[str] = [f"{base} diene base {value:g}"]
     if n > 2:
-        value += (n - 2) * rules.extra_double_bond
-        steps.append(f"{n - 2} extending C=C +{(n - 2) * rules.extra_double_bond}")
+        value += (n - 2) * diene.extra_double_bond
+        steps.append(f"{n - 2} extending C=C +{(n - 2) * diene.extra_double_bond}")
     if alkyl:
-        value += alkyl * rules.alkyl
-        steps.append(f"{alkyl} alkyl/ring residues +{alkyl * rules.alkyl}")
+        value += alkyl * diene.alkyl
+        steps.append(f"{alkyl} alkyl/ring residues +{alkyl * diene.alkyl}")
     if exo:
-        value += exo * rules.exocyclic
-        steps.append(f"{exo} exocyclic C=C +{exo * rules.exocyclic}")
+        value += exo * diene.exocyclic
+        steps.append(f"{exo} exocyclic C=C +{exo * diene.exocyclic}")
     for kind in others:
-        inc = rules.substituents.get(kind, 0)
+        inc = diene.substituents.get(kind, 0)
         if inc:
             value += inc
             steps.append(f"{kind} +{inc}")
@@ -478,7 +517,9 @@ def _scott(mol: Mol, table: UVTable) -> list[UVPrediction]:
             kind = "alkyl"
         value = float(rules.base[kind])
         steps = [f"ArCO{'-' + kind if kind != 'OR' else 'OR/OH'} base {value:g}"]
-        ring = next((r for r in rings if ring_atom in r and all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in r)), None)
+        ring = next(
+            (r for r in rings if ring_atom in r and all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in r)), None
+        )
         if ring is not None:
             k = ring.index(ring_atom)
             for step in range(1, 6):

@@ -19,15 +19,15 @@ from ..elements import ElementTable, default_elements
 from ..formula import Formula
 
 __all__ = [
-    "atom_count_distribution",
-    "isotope_pattern",
-    "cluster_matrix",
+    "ClusterFit",
+    "ClusterReading",
     "IsotopeTolerance",
     "ObservedCluster",
-    "ClusterFit",
-    "fit_cluster",
+    "atom_count_distribution",
     "chi2_matrix",
-    "ClusterReading",
+    "cluster_matrix",
+    "fit_cluster",
+    "isotope_pattern",
     "read_cluster",
 ]
 
@@ -141,16 +141,12 @@ class ObservedCluster:
     @classmethod
     def from_peaks(
         cls, nominal_mass: int, peaks: Mapping[int, float], *, max_offset: int = 8
-    ) -> "ObservedCluster | None":
+    ) -> ObservedCluster | None:
         """Build the cluster, or ``None`` when M itself is not in the peak list."""
         m = peaks.get(nominal_mass)
         if not m:
             return None
-        ratios = {
-            k: peaks[nominal_mass + k] / m * 100.0
-            for k in range(1, max_offset + 1)
-            if nominal_mass + k in peaks
-        }
+        ratios = {k: peaks[nominal_mass + k] / m * 100.0 for k in range(1, max_offset + 1) if nominal_mass + k in peaks}
         threshold = min(peaks.values()) if peaks else 0.0
         return cls(nominal_mass, float(m), ratios, float(threshold))
 
@@ -289,9 +285,7 @@ def read_cluster(
         if len(scores) > 1 and scores[1][0] > 0.5 * scores[0][0] and scores[1][0] > 0.05:
             best = (best[0], f"{scores[0][1]} (or {scores[1][1]})")
         if 2 in observed.ratios:
-            notes.append(
-                f"M+2 = {observed.ratios[2]:.1f} % of M+: best read as {best[1]}"
-            )
+            notes.append(f"M+2 = {observed.ratios[2]:.1f} % of M+: best read as {best[1]}")
     else:
         notes.append("no M+2 peak listed: halogens and sulfur cannot be read from the cluster")
 

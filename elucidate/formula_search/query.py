@@ -12,7 +12,7 @@ from ..errors import ElucidateError
 from .isotopes import ObservedCluster
 from .rules import FormulaRules, default_rules
 
-__all__ = ["FormulaQuery", "formula_query", "case_query", "limits_for"]
+__all__ = ["FormulaQuery", "case_query", "formula_query", "limits_for"]
 
 
 @dataclass(frozen=True)
@@ -34,9 +34,7 @@ class FormulaQuery:
         if self.element_ratios not in RATIO_LEVELS:
             raise ElucidateError(f"element ratios {self.element_ratios!r}; choose one of {', '.join(RATIO_LEVELS)}")
         if self.exact_mass_of not in EXACT_MASS_KINDS:
-            raise ElucidateError(
-                f"exact_mass_of {self.exact_mass_of!r}; choose one of {', '.join(EXACT_MASS_KINDS)}"
-            )
+            raise ElucidateError(f"exact_mass_of {self.exact_mass_of!r}; choose one of {', '.join(EXACT_MASS_KINDS)}")
         for sym, (low, high) in self.elements.items():
             if low < 0 or low > high:
                 raise ElucidateError(f"element range {sym}: {low}-{high} is not a valid range")

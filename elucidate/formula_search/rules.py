@@ -31,16 +31,15 @@ from .isotopes import IsotopeTolerance
 
 __all__ = [
     "FormulaRules",
-    "load_formula_rules",
-    "default_rules",
-    "nitrogen_rule",
-    "senior_rules",
-    "kind_fiehn",
     "RuleOf13",
+    "default_rules",
+    "kind_fiehn",
+    "load_formula_rules",
+    "nitrogen_rule",
     "rule_of_13",
     "rule_of_13_formulas",
+    "senior_rules",
 ]
-
 
 
 @dataclass(frozen=True)
@@ -164,8 +163,7 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
     if not isinstance(subs_loc.value, dict):
         raise subs_loc.error("expected a mapping of element to removal")
     removals = {
-        str(sym): _counts(mapping(v, ["remove"], required=["remove"])["remove"])
-        for sym, v in subs_loc.value.items()
+        str(sym): _counts(mapping(v, ["remove"], required=["remove"])["remove"]) for sym, v in subs_loc.value.items()
     }
     fit = mapping(
         root["isotope_fit"],
@@ -243,7 +241,8 @@ def kind_fiehn(formula: Formula, rules: FormulaRules, level: str = ELEMENT_RATIO
     for sym, (low, high) in rules.ratios[level].items():
         ratio = formula.get(sym) / c
         if ratio < low - 1e-12 or ratio > high + 1e-12:
-            return f"Kind & Fiehn rule {'4' if sym == 'H' else '5'} ({level}): {sym}/C = {ratio:.2f} outside {low:g}-{high:g}"
+            number = "4" if sym == "H" else "5"
+            return f"Kind & Fiehn rule {number} ({level}): {sym}/C = {ratio:.2f} outside {low:g}-{high:g}"
     mass = formula.nominal_mass()
     for below_mass, counts in rules.max_counts:
         if mass < below_mass:
@@ -275,7 +274,6 @@ class RuleOf13:
 
     def describe(self) -> str:
         return f"rule of 13: {self.mass} = 13 x {self.n} + {self.r} -> {self.base}, U = {self.u}"
-
 
 
 def rule_of_13(mass: int) -> RuleOf13:

@@ -30,10 +30,10 @@ __all__ = [
     "RULES",
     "Candidate",
     "FormulaResult",
-    "composition_array",
-    "enumerate_compositions",
     "check_formula",
+    "composition_array",
     "derive_formulas",
+    "enumerate_compositions",
     "first_failure_codes",
     "search_symbols",
 ]
@@ -152,13 +152,11 @@ def _direct(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTabl
     return out
 
 
-def _brute(
-    mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable, symbols: list[str]
-) -> np.ndarray:
+def _brute(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable, symbols: list[str]) -> np.ndarray:
     masses = [table[s].nominal_mass for s in symbols]
     found = []
     for combo in itertools.product(*(range(limits[s][0], limits[s][1] + 1) for s in symbols)):
-        if sum(n * m for n, m in zip(combo, masses)) == mass:
+        if sum(n * m for n, m in zip(combo, masses, strict=True)) == mass:
             found.append(combo)
     return np.array(found, dtype=np.int64).reshape(-1, len(symbols))
 
@@ -170,9 +168,7 @@ def _constraint(mass: int, limits: Mapping[str, tuple[int, int]], table: Element
     problem = constraint.Problem()
     for s in symbols:
         problem.addVariable(s, list(range(limits[s][0], limits[s][1] + 1)))
-    problem.addConstraint(
-        constraint.ExactSumConstraint(mass, [table[s].nominal_mass for s in symbols]), symbols
-    )
+    problem.addConstraint(constraint.ExactSumConstraint(mass, [table[s].nominal_mass for s in symbols]), symbols)
     rows = [tuple(sol[s] for s in symbols) for sol in problem.getSolutionIter()]
     return np.array(rows, dtype=np.int64).reshape(-1, len(symbols))
 
@@ -203,7 +199,7 @@ def enumerate_compositions(
 ) -> list[Formula]:
     """Every composition within ``limits`` whose nominal mass is ``mass``, in a fixed order."""
     symbols, arr = composition_array(mass, limits, table, method=method)
-    return [Formula.of(dict(zip(symbols, map(int, row)))) for row in arr]
+    return [Formula.of(dict(zip(symbols, map(int, row), strict=True))) for row in arr]
 
 
 def _sort_rows(arr: np.ndarray) -> np.ndarray:
@@ -219,7 +215,12 @@ def _sort_rows(arr: np.ndarray) -> np.ndarray:
 def _ppm(formula: Formula, query: FormulaQuery, table: ElementTable) -> float:
     assert query.exact_mass is not None
     return float(
-        ppm_error(query.exact_mass, formula.monoisotopic_mass(table), electron_mass=table.electron_mass, of=query.exact_mass_of)
+        ppm_error(
+            query.exact_mass,
+            formula.monoisotopic_mass(table),
+            electron_mass=table.electron_mass,
+            of=query.exact_mass_of,
+        )
     )
 
 
@@ -255,11 +256,11 @@ def check_formula(
         ppm = _ppm(formula, query, t)
         if abs(ppm) > query.mass_tolerance_ppm:
             expected = formula.mz(t) if query.exact_mass_of == "ion" else formula.monoisotopic_mass(t)
-            return (
-                "exact_mass",
+            message = (
                 f"exact mass {query.exact_mass:.5f} is {ppm:+.1f} ppm from {expected:.5f} "
-                f"(tolerance {query.mass_tolerance_ppm:g} ppm)",
+                f"(tolerance {query.mass_tolerance_ppm:g} ppm)"
             )
+            return ("exact_mass", message)
     return None
 
 
@@ -352,7 +353,7 @@ def derive_formulas(
     rejected: list[Candidate] = []
     if keep_rejected:
         for row in arr[failed >= 0]:
-            formula = Formula.of(dict(zip(symbols, map(int, row))))
+            formula = Formula.of(dict(zip(symbols, map(int, row), strict=True)))
             verdict = check_formula(formula, query, table=t, rules=r)
             if verdict is None:  # pragma: no cover - vectorized filter and reference disagree
                 raise AssertionError(f"filter mismatch for {formula}")
@@ -382,7 +383,7 @@ def derive_formulas(
         order = order[:top]
     kept = []
     for i in order:
-        formula = Formula.of(dict(zip(symbols, map(int, good[i]))))
+        formula = Formula.of(dict(zip(symbols, map(int, good[i]), strict=True)))
         fit = None
         if patterns is not None and query.cluster is not None:
             fit = fit_cluster(patterns[i], query.cluster, r.isotope_tolerance)
@@ -431,12 +432,14 @@ def _heuristic_warning(
     """
     if query.cluster is None or rows.shape[0] == 0:
         return None
-    chi2, _, _ = chi2_matrix(cluster_matrix(rows, symbols, table, rules.isotope_max_offset), query.cluster, rules.isotope_tolerance)
+    chi2, _, _ = chi2_matrix(
+        cluster_matrix(rows, symbols, table, rules.isotope_max_offset), query.cluster, rules.isotope_tolerance
+    )
     scores = np.exp(-0.5 * chi2)
     best = int(np.lexsort((np.arange(rows.shape[0]), -np.round(scores, 12)))[0])
     if scores[best] < 0.5 or scores[best] < 2 * best_kept:
         return None
-    formula = Formula.of(dict(zip(symbols, map(int, rows[best]))))
+    formula = Formula.of(dict(zip(symbols, map(int, rows[best]), strict=True)))
     reason = kind_fiehn(formula, rules, query.element_ratios)
     return (
         f"warning: {formula} fits the isotope cluster better (fit {scores[best]:.3f}) than any kept "

@@ -19,7 +19,7 @@ from ..yamlnodes import Located, as_choice, as_int, as_str, mapping, read_yaml_f
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Group", "GroupTable", "load_groups", "default_groups", "min_pi_bonds", "PI_CLASSES"]
+__all__ = ["PI_CLASSES", "Group", "GroupTable", "default_groups", "load_groups", "min_pi_bonds"]
 
 _NAME = re.compile(r"^[a-z][a-z0-9_]*$")
 _ELEMENT = re.compile(r"#\d+")
@@ -101,16 +101,16 @@ class GroupTable:
             if not _NAME.match(name) or group.name != name:
                 raise ElucidateError(f"bad group name {name!r}", key=f"groups.{name}")
             try:
-                group.pattern
+                _ = group.pattern
             except ElucidateError as exc:
                 raise ElucidateError(exc.message, key=f"groups.{name}.smarts") from exc
             try:
-                group.skeleton_pattern
-                group.shape_pattern
+                _ = group.skeleton_pattern
+                _ = group.shape_pattern
             except ElucidateError as exc:
                 raise ElucidateError(exc.message, key=f"groups.{name}.skeleton") from exc
             try:
-                group.kekule_pattern
+                _ = group.kekule_pattern
             except ElucidateError as exc:
                 raise ElucidateError(exc.message, key=f"groups.{name}.kekule") from exc
             if group.kekule is not None and group.skeleton is None:

@@ -30,9 +30,17 @@ from ..errors import ElucidateError
 from ..formula import Formula
 from .labelling import Structure
 from .options import GeneratorOptions
-from .tasks import WorkerJob, compiled_selection, generation_tasks, run_job, selection_plans, task_smiles, task_structures
+from .tasks import (
+    WorkerJob,
+    compiled_selection,
+    generation_tasks,
+    run_job,
+    selection_plans,
+    task_smiles,
+    task_structures,
+)
 
-__all__ = ["structures", "isomer_smiles", "count_isomers"]
+__all__ = ["count_isomers", "isomer_smiles", "structures"]
 
 _DEFAULT = GeneratorOptions()
 
@@ -44,12 +52,15 @@ def structures(formula: Formula, options: GeneratorOptions = _DEFAULT) -> Iterat
     apply to :func:`isomer_smiles`. A higher state stands for the usual oxo groups and needs a
     double bond to a terminal O (see ``constraints/valence_states.yaml``).
     """
-    plans, _ = selection_plans(formula, GeneratorOptions(
-        max_rings=options.max_rings,
-        max_bond_order=options.max_bond_order,
-        lowest_valence=options.lowest_valence,
-        table=options.table,
-    ))
+    plans, _ = selection_plans(
+        formula,
+        GeneratorOptions(
+            max_rings=options.max_rings,
+            max_bond_order=options.max_bond_order,
+            lowest_valence=options.lowest_valence,
+            table=options.table,
+        ),
+    )
     for task in generation_tasks(plans):
         yield from task_structures(task)
 

@@ -21,7 +21,7 @@ from .skeletons import automorphisms
 if TYPE_CHECKING:
     from .._rdkit import BondType, RWMol
 
-__all__ = ["Structure", "SkeletonPatterns", "SkeletonTest", "structures_on_skeleton", "allowed_alone"]
+__all__ = ["SkeletonPatterns", "SkeletonTest", "Structure", "allowed_alone", "structures_on_skeleton"]
 
 
 @dataclass(frozen=True)
@@ -88,13 +88,13 @@ def structures_on_skeleton(
         stabilizer: list[tuple[int, ...]] = []
         if perms:
             canonical = True
-            for inv, einv in perms:
-                image = tuple(colouring[inv[j]] for j in range(n))
+            for vertex_inverse, edge_inverse in perms:
+                image = tuple(colouring[vertex_inverse[j]] for j in range(n))
                 if image < colouring:
                     canonical = False
                     break
                 if image == colouring:
-                    stabilizer.append(einv)
+                    stabilizer.append(edge_inverse)
             if not canonical:
                 continue
         if test is not None and not test.labelled_ok(colouring):
@@ -231,6 +231,7 @@ def _multiplicities(
     m = len(edges)
     free = capacity[:]
     orders = [1] * m
+
     def place(i: int, left: int) -> Iterator[tuple[int, ...]]:
         if left == 0:
             yield tuple(orders)
@@ -251,6 +252,7 @@ def _multiplicities(
                 free[a] += x
                 free[b] += x
                 orders[i] = 1
+
     yield from place(0, extra)
 
 
@@ -273,9 +275,8 @@ def _certificate(
     for i in range(n):
         classes.setdefault((0, colouring[i]), set()).add(i)
         classes.setdefault((1, colouring[i]), set()).add(n + i)
-    graph = pynauty.Graph(2 * n, directed=False, adjacency_dict=adjacency,
-                          vertex_coloring=[classes[k] for k in sorted(classes)])
+    graph = pynauty.Graph(
+        2 * n, directed=False, adjacency_dict=adjacency, vertex_coloring=[classes[k] for k in sorted(classes)]
+    )
     cert = pynauty.certificate(graph)
     return (tuple(sorted(colouring)), tuple(cert))
-
-

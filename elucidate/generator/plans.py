@@ -22,12 +22,12 @@ from .groups import default_groups, min_pi_bonds
 
 __all__ = [
     "OxoState",
-    "ValenceStates",
-    "load_valence_states",
-    "default_valence_states",
     "Plan",
-    "valence_plans",
+    "ValenceStates",
+    "default_valence_states",
     "has_group_elements",
+    "load_valence_states",
+    "valence_plans",
 ]
 
 

@@ -18,13 +18,13 @@ if TYPE_CHECKING:
     from .._rdkit import Mol
 
 __all__ = [
-    "Rule",
-    "Profiles",
-    "load_profiles",
-    "default_profiles",
-    "bridgehead_double_bond",
-    "aromatic_atom_only_in_small_rings",
     "TESTS",
+    "Profiles",
+    "Rule",
+    "aromatic_atom_only_in_small_rings",
+    "bridgehead_double_bond",
+    "default_profiles",
+    "load_profiles",
 ]
 
 
@@ -43,7 +43,8 @@ def bridgehead_double_bond(mol: Mol) -> bool:
             if len(system) - 2 >= 7:
                 continue
             ends = {
-                a for a in shared
+                a
+                for a in shared
                 if any(n.GetIdx() in r1 - shared for n in mol.GetAtomWithIdx(a).GetNeighbors())
                 and any(n.GetIdx() in r2 - shared for n in mol.GetAtomWithIdx(a).GetNeighbors())
             }
@@ -84,7 +85,7 @@ class Rule:
     smarts: str | None = None
     test: str | None = None
 
-    def matches(self, mol: Any) -> bool:
+    def matches(self, mol: Mol) -> bool:
         if self.smarts is not None:
             return bool(mol.HasSubstructMatch(compiled_smarts(self.smarts)))
         assert self.test is not None
@@ -99,7 +100,9 @@ class Profiles:
         try:
             return self.profiles[name]
         except KeyError as exc:
-            raise ElucidateError(f"unknown plausibility profile {name!r}; profiles: {', '.join(self.profiles)}") from exc
+            raise ElucidateError(
+                f"unknown plausibility profile {name!r}; profiles: {', '.join(self.profiles)}"
+            ) from exc
 
     def validate(self) -> None:
         for profile, rules in self.profiles.items():
@@ -110,7 +113,9 @@ class Profiles:
                 if (r.smarts is None) == (r.test is None):
                     raise ElucidateError("give exactly one of smarts or test", key=f"profiles.{profile}.{r.name}")
                 if r.test is not None and r.test not in TESTS:
-                    raise ElucidateError(f"unknown test {r.test!r}; tests: {', '.join(TESTS)}", key=f"profiles.{profile}.{r.name}")
+                    raise ElucidateError(
+                        f"unknown test {r.test!r}; tests: {', '.join(TESTS)}", key=f"profiles.{profile}.{r.name}"
+                    )
                 if r.smarts is not None:
                     try:
                         compiled_smarts(r.smarts)

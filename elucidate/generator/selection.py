@@ -18,7 +18,7 @@ from .plausibility import default_profiles
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Selection", "CompiledSelection", "SkeletonPatterns", "MolTest"]
+__all__ = ["CompiledSelection", "MolTest", "Selection", "SkeletonPatterns"]
 
 #: (shape, labelled, kekule) conditions of required groups on a skeleton: on the bare graph,
 #: with element labels, and (or None) on the labelled multigraph in Kekulé form
@@ -55,13 +55,17 @@ class Selection:
         skeleton, on the skeleton with element labels, and (or None) on the labelled multigraph
         in its Kekulé form."""
         g = groups or default_groups()
-        return tuple(
-            (g[name].shape_pattern, g[name].skeleton_pattern, g[name].kekule_pattern)
-            for name in self.pushed(g)
-            if g[name].skeleton is not None
-        )
+        patterns = []
+        for name in self.pushed(g):
+            group = g[name]
+            if group.skeleton is None:
+                continue
+            shape, labelled = group.shape_pattern, group.skeleton_pattern
+            assert shape is not None and labelled is not None  # a group with a skeleton has both
+            patterns.append((shape, labelled, group.kekule_pattern))
+        return tuple(patterns)
 
-    def compile(self, groups: GroupTable | None = None) -> "CompiledSelection":
+    def compile(self, groups: GroupTable | None = None) -> CompiledSelection:
         g = groups or default_groups()
         both = sorted(set(self.require) & set(self.forbid))
         if both:

@@ -9,9 +9,10 @@ The canonical parent of H is H - m(H), where m(H) is the non-cut vertex of H of 
 ties broken by the largest position in nauty's canonical labelling (an isomorphism invariant
 choice, up to automorphism). A child is accepted only if the added vertex lies in the same
 automorphism orbit of H as m(H); accepted children of the same parent that are isomorphic
-(their sets S lie in one orbit of Aut(G)) are merged by their nauty certificate, after the test. McKay's theorem gives exactly one acceptance per isomorphism class. The
-constraints are hereditary (deleting a vertex never raises a degree, never raises the cyclomatic
-number, keeps a dominated degree sequence dominated, and a non-cut vertex keeps the parent
+(their sets S lie in one orbit of Aut(G)) are merged by their nauty certificate, after the test.
+McKay's theorem gives exactly one acceptance per isomorphism class. The constraints are
+hereditary (deleting a vertex never raises a degree, never raises the cyclomatic number, keeps a
+dominated degree sequence dominated, and a non-cut vertex keeps the parent
 connected), so pruning children that break them loses nothing.
 """
 
@@ -23,7 +24,7 @@ from typing import NamedTuple
 
 import pynauty
 
-__all__ = ["Skeleton", "PartialGraph", "root_graph", "skeletons", "frontier", "grow", "children", "automorphisms"]
+__all__ = ["PartialGraph", "Skeleton", "automorphisms", "children", "frontier", "grow", "root_graph", "skeletons"]
 
 
 class Skeleton(NamedTuple):
@@ -59,7 +60,7 @@ def _nauty(n: int, adj: list[list[int]]) -> pynauty.Graph:
 
 
 def _dominated(degrees: list[int], bounds: Sequence[int]) -> bool:
-    return all(d <= b for d, b in zip(sorted(degrees, reverse=True), bounds))
+    return all(d <= b for d, b in zip(sorted(degrees, reverse=True), bounds, strict=False))
 
 
 def _checked(n: int, bounds: Sequence[int]) -> list[int]:

@@ -14,7 +14,7 @@ from .plans import default_valence_states
 if TYPE_CHECKING:
     from .._rdkit import RWMol
 
-__all__ = ["to_mol", "sanitized", "to_smiles"]
+__all__ = ["sanitized", "to_mol", "to_smiles"]
 
 
 def to_mol(structure: Structure) -> RWMol:

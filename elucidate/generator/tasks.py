@@ -24,12 +24,12 @@ __all__ = [
     "TASK_DEPTH",
     "GenerationTask",
     "WorkerJob",
-    "selection_plans",
-    "generation_tasks",
-    "task_structures",
-    "task_smiles",
-    "run_job",
     "compiled_selection",
+    "generation_tasks",
+    "run_job",
+    "selection_plans",
+    "task_smiles",
+    "task_structures",
 ]
 
 #: partial-graph size at which the generation tree is cut into independent tasks

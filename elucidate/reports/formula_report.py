@@ -6,7 +6,7 @@ from ..formula import hill_order
 from ..formula_search import RULES, Candidate, FormulaResult
 from .layout import CAUTION, text_table
 
-__all__ = ["RULE_LABELS", "formulas_text", "formulas_json"]
+__all__ = ["RULE_LABELS", "formulas_json", "formulas_text"]
 
 RULE_LABELS = {
     "dbe_negative": "DBE < 0",
@@ -30,7 +30,8 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
     cluster = q.cluster
     head = f"M+ = {q.nominal_mass} (nominal m/z)"
     if q.exact_mass is not None:
-        head += f"; exact {'m/z of M+.' if q.exact_mass_of == 'ion' else 'neutral mass'} {q.exact_mass:.5f} ± {q.mass_tolerance_ppm:g} ppm"
+        kind = "m/z of M+." if q.exact_mass_of == "ion" else "neutral mass"
+        head += f"; exact {kind} {q.exact_mass:.5f} ± {q.mass_tolerance_ppm:g} ppm"
     lines.append(head)
     if cluster is not None:
         lines.append(f"isotope cluster: {cluster.describe()}; M+ is {cluster.m_intensity:g} % of base peak")
@@ -39,7 +40,9 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
     if result.rule13 is not None:
         lines.append(result.rule13.describe())
     limits = ", ".join(
-        f"{s} {q.elements[s][0]}-{q.elements[s][1]}" if q.elements[s][0] != q.elements[s][1] else f"{s} {q.elements[s][0]}"
+        f"{s} {q.elements[s][0]}-{q.elements[s][1]}"
+        if q.elements[s][0] != q.elements[s][1]
+        else f"{s} {q.elements[s][0]}"
         for s in hill_order(list(q.elements))
     )
     lines.append(f"element limits: {limits}; DBE {q.dbe[0]}-{q.dbe[1]}; element ratios: {q.element_ratios}")
@@ -50,7 +53,10 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
     )
     lines.append("")
     if not result.kept:
-        lines.append("No formula survives the filters." + ("" if explain else " Run with --explain to see why each was rejected."))
+        lines.append(
+            "No formula survives the filters."
+            + ("" if explain else " Run with --explain to see why each was rejected.")
+        )
     else:
         offsets = sorted({k for c in result.kept if c.fit for k, *_ in c.fit.compared})[:6]
         header = ["rank", "formula", "DBE", "nominal", "monoisotopic", "m/z M+."]
@@ -72,8 +78,12 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
         if len(result.kept) < result.kept_count:
             lines.append(f"(showing {len(result.kept)} of {result.kept_count}; --top 0 shows all)")
         if cluster is not None:
-            lines.append("fit = exp(-chi2/2) over the isotope peaks compared (1 = perfect); an unlisted peak predicted above")
-            lines.append("twice the peak list's smallest intensity counts as observed 0. Fits within 0.01 rank as equal;")
+            lines.append(
+                "fit = exp(-chi2/2) over the isotope peaks compared (1 = perfect); an unlisted peak predicted above"
+            )
+            lines.append(
+                "twice the peak list's smallest intensity counts as observed 0. Fits within 0.01 rank as equal;"
+            )
             lines.append("ties go to fewer atoms beyond C, H, N, O, then fewer heteroatoms, then more carbons.")
     if explain:
         lines.append("")

@@ -13,7 +13,7 @@ from ..solver import Ranked, Solution
 from ..solver.hypotheses import FIRST_LOSSES
 from .layout import CAUTION, text_table
 
-__all__ = ["solve_text", "solve_json"]
+__all__ = ["solve_json", "solve_text"]
 
 
 def _techniques() -> list[Technique]:

@@ -44,7 +44,13 @@ def why_empty(
         spec: dict[str, tuple[str, ...]] = {"require": (), "forbid": (), "require_smarts": (), "forbid_smarts": ()}
         for key, value in parts:
             spec[key] = spec[key] + (value,)
-        sel = replace(bare, **spec)
+        sel = replace(
+            bare,
+            require=spec["require"],
+            forbid=spec["forbid"],
+            require_smarts=spec["require_smarts"],
+            forbid_smarts=spec["forbid_smarts"],
+        )
         return sum(count_isomers(f, GeneratorOptions(selection=sel)) for f in formulas)
 
     alone = {d: survivors([d]) for d in declared}
@@ -54,7 +60,11 @@ def why_empty(
     for i, a in enumerate(declared):
         for b in declared[i + 1 :]:
             if alone[a] and alone[b] and survivors([a, b]) == 0:
-                lines.append(f"{a[0]} {a[1]} and {b[0]} {b[1]} contradict each other for {', '.join(map(str, formulas))}")
+                lines.append(
+                    f"{a[0]} {a[1]} and {b[0]} {b[1]} contradict each other for {', '.join(map(str, formulas))}"
+                )
     if not lines:
-        lines.append(f"all {generated} generated structures were removed by the plausibility profile {selection.profile!r}")
+        lines.append(
+            f"all {generated} generated structures were removed by the plausibility profile {selection.profile!r}"
+        )
     return tuple(lines)

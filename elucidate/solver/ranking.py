@@ -31,7 +31,7 @@ from .suspects import assess_suspect
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["PROFILE", "CHUNK", "Evaluator", "hard_selection", "solve"]
+__all__ = ["CHUNK", "PROFILE", "Evaluator", "hard_selection", "solve"]
 
 #: the plausibility profile the solver applies
 PROFILE = "stable"
@@ -125,7 +125,7 @@ def solve(
     hypotheses = molecular_ion_hypotheses(case)
     kept: list[KeptFormula] = []
     notes: list[str] = []
-    removed: dict[str, int] = {label: 0 for label in compiled.labels}
+    removed: dict[str, int] = dict.fromkeys(compiled.labels, 0)
     generated = 0
     found: list[FoundCandidate] = []
     estimate_options = GeneratorOptions(selection=selection)

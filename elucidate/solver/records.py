@@ -11,7 +11,7 @@ from ..case import Case
 from ..evidence import Assessment, Reading
 from ..formula import Formula
 
-__all__ = ["FoundCandidate", "KeptFormula", "Ranked", "SuspectResult", "Solution"]
+__all__ = ["FoundCandidate", "KeptFormula", "Ranked", "Solution", "SuspectResult"]
 
 
 @dataclass(frozen=True)

@@ -17,7 +17,7 @@ from ..evidence import TECHNIQUES, Assessment
 from ..tables import table_path, validated
 from ..yamlnodes import as_number, as_str, mapping, read_yaml_file
 
-__all__ = ["ScoringTable", "load_scoring", "default_scoring", "component_keys", "combine"]
+__all__ = ["ScoringTable", "combine", "component_keys", "default_scoring", "load_scoring"]
 
 
 def component_keys() -> tuple[str, ...]:
@@ -45,12 +45,16 @@ class ScoringTable:
 def load_scoring(path: str | Path | None = None) -> ScoringTable:
     file = Path(path) if path is not None else table_path("scoring.yaml")
     document = read_yaml_file(file)
-    root = mapping(document, ["source", "weights", "floor", "formula_cut"], required=["weights", "floor", "formula_cut"])
+    root = mapping(
+        document, ["source", "weights", "floor", "formula_cut"], required=["weights", "floor", "formula_cut"]
+    )
     keys = component_keys()
     weights = mapping(root["weights"], list(keys), required=list(keys))
     table = ScoringTable(
         weights={k: as_number(weights[k], minimum=0, what="a weight of 0 or more") for k in keys},
-        floor=as_number(root["floor"], minimum=0, exclusive_minimum=True, maximum=0.5, what="a floor between 0 and 0.5"),
+        floor=as_number(
+            root["floor"], minimum=0, exclusive_minimum=True, maximum=0.5, what="a floor between 0 and 0.5"
+        ),
         formula_cut=as_number(root["formula_cut"], minimum=1, what="a factor of 1 or more"),
         source=as_str(root["source"]) if "source" in root else "",
     )

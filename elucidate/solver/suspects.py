@@ -47,7 +47,9 @@ def assess_suspect(
     isotope = match.isotope_score if match is not None else None
     score, components, _ = evaluator.evaluate(FoundCandidate(smiles, formula, m, isotope), mol, techniques)
     if Chem.GetFormalCharge(mol) != 0 or any(a.GetNumRadicalElectrons() for a in mol.GetAtoms()):
-        return SuspectResult(text, smiles, fstr, None, "structure", "not a neutral closed-shell molecule", score, components)
+        return SuspectResult(
+            text, smiles, fstr, None, "structure", "not a neutral closed-shell molecule", score, components
+        )
     if match is None:
         nominal = formula.nominal_mass()
         if nominal not in hypotheses:
@@ -62,9 +64,20 @@ def assess_suspect(
         return SuspectResult(text, smiles, fstr, None, "formula", why, score, components)
     failed = compiled.first_failure(mol)
     if failed is not None:
-        return SuspectResult(text, smiles, fstr, None, failed, f"breaks the declared constraint: {failed}", score, components)
+        return SuspectResult(
+            text, smiles, fstr, None, failed, f"breaks the declared constraint: {failed}", score, components
+        )
     if match.skipped:
-        return SuspectResult(text, smiles, fstr, None, None, f"{fstr} was not enumerated ({match.skipped})", score, components)
+        return SuspectResult(
+            text, smiles, fstr, None, None, f"{fstr} was not enumerated ({match.skipped})", score, components
+        )
     return SuspectResult(
-        text, smiles, fstr, None, "generator", "passes every constraint but was not generated (please report)", score, components
+        text,
+        smiles,
+        fstr,
+        None,
+        "generator",
+        "passes every constraint but was not generated (please report)",
+        score,
+        components,
     )

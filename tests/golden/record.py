@@ -20,8 +20,22 @@ from elucidate.cli import main
 HERE = Path(__file__).resolve().parent
 ROOT = HERE.parents[1]
 
-FORMULAS = ["C7H8O", "C6H6", "C8H10", "C5H10O", "C4H11N", "C6H5Cl", "C3H6O2", "C6H12", "C2H4Br2",
-            "C4H9NO2", "C5H5N", "C3H7NO2", "C4H4S", "CH3NO2"]
+FORMULAS = [
+    "C7H8O",
+    "C6H6",
+    "C8H10",
+    "C5H10O",
+    "C4H11N",
+    "C6H5Cl",
+    "C3H6O2",
+    "C6H12",
+    "C2H4Br2",
+    "C4H9NO2",
+    "C5H5N",
+    "C3H7NO2",
+    "C4H4S",
+    "CH3NO2",
+]
 #: demo cases whose default solve takes minutes: the suite solves them under a lower --limit
 HEAVY = {"cases/cr-0502-h.yaml": "15000", "cases/cr-0421-f.yaml": "1000"}
 
@@ -34,7 +48,9 @@ def suite_commands() -> list[list[str]]:
     out: list[list[str]] = [["formulas", case, "--json"] for case in _cases()]
     out += [["formulas", mass, "--json", "--top", "15"] for mass in ("94", "120", "156")]
     out += [["isomers", formula, "--count"] for formula in FORMULAS]
-    out.append(["isomers", "C8H8O", "--require", "aromatic_ring", "--require", "carbonyl", "--profile", "stable", "--json"])
+    out.append(
+        ["isomers", "C8H8O", "--require", "aromatic_ring", "--require", "carbonyl", "--profile", "stable", "--json"]
+    )
     for case in _cases():
         out.append(["solve", case, "--json"] + (["--limit", HEAVY[case]] if case in HEAVY else []))
     return out
