@@ -21,6 +21,7 @@ from .errors import ElucidateError
 from .formula import Formula, parse_formula, ppm_error
 from .yamlnodes import (
     Located,
+    as_bool,
     as_choice,
     as_int,
     as_list,
@@ -81,6 +82,8 @@ class MassSpec:
     exact_mass_of: str = EXACT_MASS_OF  # "ion": m/z of M+. (electron removed); "neutral": neutral mass
     mass_tolerance_ppm: float = PPM_TOLERANCE
     peaks: Mapping[int, float] = field(default_factory=dict)  # m/z -> % of base peak
+    #: the list holds every peak at or above this intensity (% of base peak); None: not claimed
+    complete_above: float | None = None
 
     @property
     def base_peak(self) -> int | None:
@@ -95,6 +98,7 @@ class FormulaSpec:
     elements: Mapping[str, tuple[int, int]] | None = None  # None = the table's defaults
     dbe: tuple[int, int] | None = None
     element_ratios: str = ELEMENT_RATIOS
+    enforce_ratios: bool = False  # the element-ratio rules eliminate instead of demoting
 
 
 @dataclass(frozen=True)
@@ -191,7 +195,7 @@ def base_peak_problem(intensities: Iterable[float]) -> str | None:
 def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
     body = mapping(
         loc,
-        ["ionization", "molecular_ion", "exact_mass", "exact_mass_of", "mass_tolerance_ppm", "peaks"],
+        ["ionization", "molecular_ion", "exact_mass", "exact_mass_of", "mass_tolerance_ppm", "peaks", "complete_above"],
     )
     ionization = "EI"
     if "ionization" in body:
@@ -241,11 +245,17 @@ def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
         problem = base_peak_problem(peaks.values())
         if problem is not None:
             raise ploc.error(problem)
-    return MassSpec(ionization, molecular_ion, exact, exact_of, ppm, dict(sorted(peaks.items()))), body
+    complete = None
+    if "complete_above" in body:
+        complete = as_number(body["complete_above"], minimum=0, maximum=100, what=INTENSITY)
+        if "peaks" not in body:
+            raise body["complete_above"].error("given without peaks; add the peak list or remove it")
+    ms = MassSpec(ionization, molecular_ion, exact, exact_of, ppm, dict(sorted(peaks.items())), complete)
+    return ms, body
 
 
 def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[str, Located]]:
-    body = mapping(loc, ["known", "elements", "dbe", "element_ratios"])
+    body = mapping(loc, ["known", "elements", "dbe", "element_ratios", "enforce_element_ratios"])
     known = None
     if "known" in body:
         text = as_str(body["known"], what="a molecular formula such as C8H8O")
@@ -279,6 +289,7 @@ def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[
     ratios = ELEMENT_RATIOS
     if "element_ratios" in body:
         ratios = as_choice(body["element_ratios"], RATIO_LEVELS, what="one of")
+    enforce = as_bool(body["enforce_element_ratios"]) if "enforce_element_ratios" in body else False
     if known is not None and elements is not None:
         for sym, n in known.counts:
             low, high = elements.get(sym, (0, 0))
@@ -288,7 +299,7 @@ def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[
         dbe = known.dbe(table)
         if not dbe_range[0] <= dbe <= dbe_range[1]:
             raise body["known"].error(f"{known} has DBE {dbe}, outside formula.dbe {dbe_range[0]}-{dbe_range[1]}")
-    return FormulaSpec(known, elements, dbe_range, ratios), body
+    return FormulaSpec(known, elements, dbe_range, ratios, enforce), body
 
 
 def _names(loc: Located, what: str) -> tuple[str, ...]:

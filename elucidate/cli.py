@@ -29,7 +29,10 @@ from .yamlnodes import parse_range_text
 if TYPE_CHECKING:
     from tqdm import tqdm
 
-__all__ = ["build_parser", "main"]
+__all__ = ["EXIT_NOTHING_SURVIVES", "build_parser", "main"]
+
+#: exit code of ``solve`` when no candidate survives (the report still says why)
+EXIT_NOTHING_SURVIVES = 3
 
 _DESCRIPTION = """\
 Structure elucidation from routine evidence (EI mass spectrum, IR, UV-Vis, 13C counts).
@@ -81,9 +84,14 @@ def build_parser() -> argparse.ArgumentParser:
         "--element-ratios",
         choices=RATIO_LEVELS,
         help=(
-            "Kind & Fiehn (2007) element-ratio filter: "
-            "common (default, 99.7%% of known formulas), extended (99.99%%) or off"
+            "Kind & Fiehn (2007) element-ratio heuristic: "
+            "common (default, 99.7%% of known formulas), extended (99.99%%) or off; it demotes unless enforced"
         ),
+    )
+    f.add_argument(
+        "--enforce-element-ratios",
+        action="store_true",
+        help="let the element-ratio heuristic eliminate formulas instead of only demoting them",
     )
     f.add_argument(
         "--top", type=int, metavar="N", help="show the best N (default 20 in the table, all in --json); 0 = all"
@@ -303,6 +311,8 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
         query = replace(query, dbe=_parse_range(args.dbe, "--dbe"))
     if args.element_ratios is not None:
         query = replace(query, element_ratios=args.element_ratios)
+    if args.enforce_element_ratios:
+        query = replace(query, enforce_ratios=True)
     if args.exact_mass is not None:
         if abs(args.exact_mass - mass) >= 1:
             raise ElucidateError(f"--exact-mass {args.exact_mass} cannot belong to nominal M {mass}")
@@ -487,7 +497,7 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
         out.write("\n")
     else:
         out.write(solve_text(solution, top=args.top, details=args.details))
-    return 0
+    return 0 if solution.candidates else EXIT_NOTHING_SURVIVES
 
 
 def main(argv: Sequence[str] | None = None, *, stdout: TextIO | None = None, stderr: TextIO | None = None) -> int:

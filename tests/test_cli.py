@@ -81,8 +81,10 @@ def test_json_lists_best_first_with_required_keys(cli, cases_dir):
     res = cli("formulas", str(cases_dir / "cr-0502-h.yaml"), "--json")
     data = res.json()
     assert isinstance(data, list) and data[0]["formula"] == "C8H8O"
-    scores = [d["score"] for d in data]
-    assert scores == sorted(scores, reverse=True)
+    # ranked by the isotope fit after any element-ratio demotion, in classes of 0.01
+    classes = [round(d["ranking_score"] / 0.01) for d in data]
+    assert classes == sorted(classes, reverse=True)
+    assert all(d["ranking_score"] <= d["score"] for d in data)
     assert [d["rank"] for d in data] == list(range(1, len(data) + 1))
 
 

@@ -118,7 +118,7 @@ def test_exact_mass_filter_uses_the_ion_mass():
 
 def test_heuristic_warning_when_ratios_hide_the_best_fit():
     cluster = ObservedCluster.from_peaks(84, {84: 62, 85: 0.7, 86: 40, 87: 0.45, 88: 6.3, 49: 100})
-    result = derive_formulas(FormulaQuery(84, DEFAULTS, (0, 20), cluster=cluster))
+    result = derive_formulas(FormulaQuery(84, DEFAULTS, (0, 20), cluster=cluster, enforce_ratios=True))
     assert any("warning: CH2Cl2" in n for n in result.notes)
     relaxed = derive_formulas(FormulaQuery(84, DEFAULTS, (0, 20), element_ratios="off", cluster=cluster))
     assert str(relaxed.kept[0].formula) == "CH2Cl2"
@@ -177,3 +177,44 @@ def test_why_reports_the_rejecting_rule(cli):
 def test_formula_nominal_masses_agree_with_query():
     for c in derive_formulas(FormulaQuery(233, DEFAULTS, (0, 20))).kept:
         assert c.nominal_mass == 233 == parse_formula(str(c.formula)).nominal_mass()
+
+
+# ------------------------------------------------ element-ratio heuristic: demotes, never hides
+
+
+def _molmass_peaks(formula: str) -> dict[int, float]:
+    """The formula's nominal-mass isotope cluster from molmass (a general-purpose reference
+    library), as a peak list in % of M+."""
+    import molmass
+
+    spectrum = molmass.Formula(formula).spectrum()
+    nominal = parse_formula(formula).nominal_mass()
+    m = spectrum[nominal].fraction
+    return {k: round(v.fraction / m * 100, 1) for k, v in spectrum.items() if k >= nominal and v.fraction / m >= 0.002}
+
+
+# Common laboratory compounds that break Kind & Fiehn's 'common' ratios (Cl/C, Br/C, N/C, O/C or
+# no carbon at all): each must still rank its own formula first from its cluster alone.
+@pytest.mark.parametrize(
+    "formula",
+    ["CH4O", "CH2Cl2", "CHCl3", "CCl4", "CHBr3", "C2H8N2", "CH2O"],
+)
+def test_heuristic_breakers_rank_their_own_formula_first(formula):
+    peaks = _molmass_peaks(formula)  # every isotope peak of at least 0.2 % of M+ is listed
+    mass = parse_formula(formula).nominal_mass()
+    cluster = ObservedCluster.from_peaks(mass, peaks, complete_above=0.2)
+    limits = {**DEFAULTS, "Cl": (0, 4), "Br": (0, 3)}  # CCl4 and CHBr3 exceed the default limits
+    query = FormulaQuery(mass, limits, (0, 12), cluster=cluster)
+    result = derive_formulas(query, top=5)
+    assert str(result.kept[0].formula) == formula, [str(c.formula) for c in result.kept]
+
+
+def test_enforced_ratios_eliminate_and_demoted_ones_say_why():
+    peaks = _molmass_peaks("CH2Cl2")
+    cluster = ObservedCluster.from_peaks(84, peaks)
+    soft = derive_formulas(FormulaQuery(84, DEFAULTS, (0, 12), cluster=cluster), top=3)
+    assert soft.kept[0].demoted_by and "Kind & Fiehn" in soft.kept[0].demoted_by
+    assert soft.rejected_counts["element_ratios"] == 0
+    hard = derive_formulas(FormulaQuery(84, DEFAULTS, (0, 12), cluster=cluster, enforce_ratios=True), top=3)
+    assert "CH2Cl2" not in [str(c.formula) for c in hard.kept]
+    assert hard.rejected_counts["element_ratios"] > 0

@@ -47,9 +47,93 @@ def test_table_validates_and_bad_rule_is_located(tmp_path):
     default_fragments().validate()
     bad = tmp_path / "fragments.yaml"
     bad.write_text(
-        "strong_weight: 0.7\nmissing_penalty: 0.5\nlowest_mz: 26\nrules:\n"
+        "strong_weight: 0.7\nmissing_penalty: 0.5\nlowest_mz: 26\ngeneric_credit: 0.5\nloss_credit: 0.75\n"
+        "max_h_transfer: 2\nunexplained_scale: 2\nrules:\n"
         "  - {name: x, kind: cleave, smarts: 'CC', weight: 0.5, what: w}\n"
     )
     with pytest.raises(ElucidateError) as info:
         load_fragments(bad)
-    assert info.value.line == 5 and "mapped atoms" in info.value.message
+    assert info.value.line == 9 and "mapped atoms" in info.value.message
+
+
+# ------------------------------------------------ pieces of the candidate's own graph
+
+
+def _rdkit_piece_masses(smiles: str) -> set[int]:
+    """Independent twin of graph_pieces: RDKit's FragmentOnBonds on every one- and two-bond
+    cut, nominal masses of the connected pieces (dummy atoms dropped) from RDKit's own
+    periodic table (a general-purpose reference library)."""
+    import itertools
+
+    mol = Chem.MolFromSmiles(smiles)
+    table = Chem.GetPeriodicTable()
+    # each atom with the hydrogens it carries in the intact molecule
+    atom_mass = [table.GetMostCommonIsotope(a.GetAtomicNum()) + a.GetTotalNumHs() for a in mol.GetAtoms()]
+    out = set()
+    bonds = range(mol.GetNumBonds())
+    for cut in itertools.chain(itertools.combinations(bonds, 1), itertools.combinations(bonds, 2)):
+        broken = Chem.FragmentOnBonds(mol, list(cut), addDummies=False)  # atom indices are kept
+        pieces = Chem.GetMolFrags(broken, asMols=False, sanitizeFrags=False)
+        if len(pieces) > 1:
+            out.update(sum(atom_mass[i] for i in piece) for piece in pieces)
+    return out
+
+
+def _our_piece_masses(smiles: str) -> set[int]:
+    from elucidate.evidence.fragments import graph_pieces
+
+    return set(graph_pieces(Chem.MolFromSmiles(smiles)))
+
+
+@pytest.mark.parametrize("smiles", ["CCC(C)=O", "CC(C)(C)O", "c1ccccc1C", "C1CCCC1C(=O)OC", "ClCCBr", "CN(C)C=O"])
+def test_graph_pieces_equal_rdkits_fragmentation(smiles):
+    assert _our_piece_masses(smiles) == _rdkit_piece_masses(smiles)
+
+
+def _assess(smiles, peaks, molecular_ion):
+    from rdkit.Chem.rdMolDescriptors import CalcMolFormula
+
+    from elucidate.case import parse_case
+    from elucidate.evidence import Fragments, make_subject
+    from elucidate.formula import parse_formula
+    from elucidate.generator.groups import default_groups
+
+    listed = ", ".join(f"{mz}: {v}" for mz, v in peaks.items())
+    case = parse_case(f"schema: 1\nid: t\nmass_spec:\n  molecular_ion: {molecular_ion}\n  peaks: {{{listed}}}\n")
+    mol = Chem.MolFromSmiles(smiles)
+    subject = make_subject(smiles, mol, parse_formula(CalcMolFormula(mol)), default_groups(), molecular_ion)
+    return Fragments().assess(subject, case)
+
+
+def test_a_peak_no_rule_predicts_is_unexplained_not_against():
+    # 2,3-dimethylbuta-1,3-diene (M 82): base peak M-15 (CH3 loss; common practice for
+    # methyl-branched dienes); whatever the named rules say, the loss of a CH3 the graph has
+    # is credited, and no peak costs "against"
+    a = _assess("C=C(C)C(C)=C", {82: 60, 83: 4, 67: 100, 41: 40, 39: 35}, 82)
+    by_mz = {x["mz"]: x["explained_by"] for x in a.detail["assignments"]}
+    assert by_mz[67] is not None
+    assert a.unexplained < 2.0
+
+
+def test_halogen_isotope_partner_of_a_fragment_is_explained():
+    # 1-chloropropane (M 78): C-Cl-bearing CH2Cl+ at 49 and its 37Cl partner at 51 (about a
+    # third: the 35Cl/37Cl ratio, common practice)
+    a = _assess("CCCCl", {78: 20, 80: 6.5, 49: 30, 51: 10, 42: 100, 43: 60}, 78)
+    by_mz = {x["mz"]: x["explained_by"] for x in a.detail["assignments"]}
+    assert by_mz[51] is not None and "isotope" in by_mz[51]
+
+
+def test_neutral_loss_table_validates_and_a_repeated_loss_is_located(tmp_path):
+    from elucidate.evidence.fragments import default_neutral_losses, load_neutral_losses
+
+    table = default_neutral_losses()
+    table.validate()
+    # Lange's Handbook 15th ed. 7.8.2.4: CH3 15, H2O 18, CO / C2H4 28, HBr 80 among the usual losses
+    assert {15, 18, 28, 80} <= set(table.by_mass())
+    bad = tmp_path / "neutral_losses.yaml"
+    bad.write_text(
+        "losses:\n  - {loss: 15, neutral: CH3, first: true}\n  - {loss: 15, neutral: again, first: false}\n"
+    )
+    with pytest.raises(ElucidateError, match="listed twice") as info:
+        load_neutral_losses(bad)
+    assert info.value.line == 3

@@ -1,8 +1,9 @@
-"""The outputs recorded before the package was reorganised stay byte-identical.
+"""The recorded outputs of formulas, isomers and solve stay byte-identical.
 
 The reference is the program's own earlier output (``tests/golden/outputs.json``, recorded by
-``tests/golden/record.py`` before the change): this is a regression check, not a check of
-correctness, which the other test files make against outside sources.
+``tests/golden/record.py``; a change that means to alter output records it again and says so):
+this is a regression check, not a check of correctness, which the other test files make against
+outside sources.
 """
 
 from __future__ import annotations

@@ -252,3 +252,17 @@ def test_min_pi_bonds_combines_classes(required, oxo, bound):
 def test_elements_a_group_needs(group, needs):
     # read from the skeleton condition: one atom per single-element bracket atom
     assert GROUPS[group].elements == needs
+
+
+@pytest.mark.parametrize("group", GROUPS.names)
+def test_element_needs_are_met_by_every_molecule_with_the_group(group, isomer_corpus):
+    # the element counts a group is said to need (used to skip formulas that cannot hold it)
+    # are a lower bound on every molecule that matches its SMARTS: reference positives and the
+    # isomer corpus, counted by RDKit
+    need = GROUPS[group].elements
+    molecules = [Chem.MolFromSmiles(s) for s in CASES.get(group, ([], []))[0] + list(isomer_corpus)]
+    for mol in (m for m in molecules if m.HasSubstructMatch(GROUPS[group].pattern)):
+        have = {}
+        for atom in mol.GetAtoms():
+            have[atom.GetAtomicNum()] = have.get(atom.GetAtomicNum(), 0) + 1
+        assert all(have.get(z, 0) >= n for z, n in need.items()), Chem.MolToSmiles(mol)

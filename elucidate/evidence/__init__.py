@@ -10,10 +10,11 @@ from .carbon13 import Carbon13, carbon_classes
 from .fragments import Fragments, predict_ions
 from .infrared import Infrared, read_bands
 from .isotope_fit import IsotopeFit
+from .strain import Strain, strain_energy
 from .uv import UvVis, predict_lambda_max
 
 #: the techniques the solver runs, in report order; each is built with no arguments
-TECHNIQUES: tuple[type[Technique], ...] = (IsotopeFit, Infrared, UvVis, Fragments, Carbon13)
+TECHNIQUES: tuple[type[Technique], ...] = (IsotopeFit, Infrared, UvVis, Fragments, Carbon13, Strain)
 
 __all__ = [
     "TECHNIQUES",
@@ -23,6 +24,7 @@ __all__ = [
     "Infrared",
     "IsotopeFit",
     "Reading",
+    "Strain",
     "Subject",
     "Technique",
     "UvVis",
@@ -31,4 +33,5 @@ __all__ = [
     "predict_ions",
     "predict_lambda_max",
     "read_bands",
+    "strain_energy",
 ]

@@ -11,6 +11,7 @@ one, its own reading of the case's data for the chemist.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Literal, Protocol
@@ -35,6 +36,8 @@ class Subject:
     groups: frozenset[str]  # names from the group vocabulary that the structure has
     molecular_ion: int | None  # the nominal M it is scored under (None: not known)
     isotope_score: float | None = None  # its formula's isotope-cluster fit (None: no cluster)
+    formula_demotion: float = 0.0  # nats: its formula breaks the element-ratio heuristic
+    demoted_by: str | None = None  # the rule it breaks
 
 
 def make_subject(
@@ -44,19 +47,40 @@ def make_subject(
     groups: GroupTable,
     molecular_ion: int | None,
     isotope_score: float | None = None,
+    *,
+    formula_demotion: float = 0.0,
+    demoted_by: str | None = None,
 ) -> Subject:
     present = frozenset(name for name in groups.names if mol.HasSubstructMatch(groups[name].pattern))
-    return Subject(smiles, mol, formula, present, molecular_ion, isotope_score)
+    return Subject(smiles, mol, formula, present, molecular_ion, isotope_score, formula_demotion, demoted_by)
 
 
 @dataclass(frozen=True)
 class Assessment:
-    """What one technique says about one candidate."""
+    """What one technique says about one candidate, in two parts kept apart (natural-log units,
+    "nats", of likelihood lost; 0 is a perfect fit):
+
+    ``against``: evidence against the candidate, data it cannot give (a strong band of a group it
+    lacks, a strong predicted ion that is absent, more 13C signals than it has carbon classes);
+    ``unexplained``: data the technique's rules do not account for (a peak no rule predicts, a
+    chromophore the rules do not cover). Rule tables are incomplete, so this part is mild and
+    the solver bounds it per technique (``constraints/scoring.yaml``).
+    """
 
     technique: str
-    score: float  # 0..1
+    against: float = 0.0
+    unexplained: float = 0.0
     reasons: tuple[str, ...] = ()
     detail: Mapping[str, Any] = field(default_factory=dict)  # JSON-ready
+
+    def __post_init__(self) -> None:
+        if not (self.against >= 0 and self.unexplained >= 0):  # also refuses NaN
+            raise ValueError(f"{self.technique}: against and unexplained must be 0 or more")
+
+    @property
+    def score(self) -> float:
+        """exp(-(against + unexplained)): 1 fits, towards 0 contradicts (before the caps)."""
+        return math.exp(-(self.against + self.unexplained))
 
 
 @dataclass(frozen=True)

@@ -14,7 +14,6 @@ an elimination. The penalties live in ``constraints/carbon13.yaml``.
 
 from __future__ import annotations
 
-import math
 from collections import Counter
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -156,15 +155,15 @@ class Carbon13:
         predicted = len(classes)
         kinds = Counter(kind for _, kind, _ in classes)
         p = self.table
-        log = 0.0
+        against = unexplained = 0.0  # more signals than classes: impossible; fewer: overlap
         reasons = []
         observed = case.nmr.c13_signals
         if observed is not None:
             if observed < predicted:
-                log -= p.missing_signal * (predicted - observed)
+                unexplained += p.missing_signal * (predicted - observed)
                 reasons.append(f"13C: {observed} signals observed, {predicted} expected (overlap possible)")
             elif observed > predicted:
-                log -= p.extra_signal * (observed - predicted)
+                against += p.extra_signal * (observed - predicted)
                 reasons.append(f"13C: {observed} signals observed but at most {predicted} possible")
             else:
                 reasons.append(f"13C: {predicted} signals expected, as observed")
@@ -173,9 +172,9 @@ class Carbon13:
                 obs = case.nmr.c13_multiplicity.get(kind, 0)
                 pred = kinds.get(kind, 0)
                 if obs < pred:
-                    log -= p.missing_multiplicity * (pred - obs)
+                    unexplained += p.missing_multiplicity * (pred - obs)
                 elif obs > pred:
-                    log -= p.extra_multiplicity * (obs - pred)
+                    against += p.extra_multiplicity * (obs - pred)
             mult = " ".join(f"{k} {kinds.get(k, 0)}" for k in _KINDS.values())
             reasons.append(f"13C multiplicities expected: {mult}")
         detail = {
@@ -183,7 +182,7 @@ class Carbon13:
             "observed_signals": observed,
             "predicted_multiplicity": {k: kinds.get(k, 0) for k in _KINDS.values()},
         }
-        return Assessment(self.name, math.exp(log), tuple(reasons), detail)
+        return Assessment(self.name, against, unexplained, tuple(reasons), detail)
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
         d = assessment.detail

@@ -5,16 +5,21 @@ allylic, at branch points, C-X), McLafferty rearrangements, retro-Diels-Alder, c
 losses and fixed ions, each with a weight for how abundant its ion usually is. A rule's ion may
 go on to lose a neutral (ArCO+ -> Ar+ + CO). Predicted ions at one m/z keep the largest weight.
 
-Score. Peaks of the molecular-ion cluster (M and above) are left out. Of the remaining observed
-intensity (m/z >= 26), the share that a predicted ion explains — the ion itself, or its 13C / 37Cl
-/ 81Br isotope peak one or two above — is the base; each strong predicted ion (weight >=
-``strong_weight``) inside the observed m/z range but absent costs ``missing_penalty`` x its
-weight: score = share x exp(-cost). Every observed peak gets the cleavage that explains it.
+Besides the named rules, every peak is looked for among the pieces of the candidate's own graph
+that breaking one or two bonds gives (with hydrogen transfers), and among the usual neutral
+losses from M (``constraints/neutral_losses.yaml``) that the graph can give.
+
+Assessment. Peaks of the molecular-ion cluster (M and above) are left out. Of the remaining
+observed intensity (m/z >= ``lowest_mz``), a peak a named rule predicts is explained in full; one
+only a generic cleavage explains earns ``generic_credit``, a usual loss ``loss_credit``; an
+isotope partner (13C, 37Cl, 81Br) earns what its parent earned. Against the candidate: each strong
+predicted ion (weight >= ``strong_weight``) inside the observed m/z range but absent costs
+``missing_penalty`` x its weight. Unexplained: ``unexplained_scale`` x the share of intensity not
+explained — mild, because no rule table is complete. Every observed peak gets its explanation.
 """
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import cache, lru_cache
@@ -24,15 +29,29 @@ from typing import TYPE_CHECKING, Literal
 from ..case import Case
 from ..elements import ElementTable, default_elements
 from ..errors import ElucidateError
+from ..formula import Formula
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
-from ..yamlnodes import as_choice, as_int, as_list, as_number, as_str, mapping, read_yaml_file
+from ..yamlnodes import as_bool, as_choice, as_int, as_list, as_number, as_str, mapping, read_yaml_file
 from .base import Assessment, Reading, Subject
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["FragmentRule", "FragmentTable", "Fragments", "default_fragments", "load_fragments", "predict_ions"]
+__all__ = [
+    "FragmentRule",
+    "FragmentTable",
+    "Fragments",
+    "NeutralLoss",
+    "NeutralLossTable",
+    "Piece",
+    "default_fragments",
+    "default_neutral_losses",
+    "graph_pieces",
+    "load_fragments",
+    "load_neutral_losses",
+    "predict_ions",
+]
 
 KINDS = ("cleave", "rearrange", "retro_diels_alder", "loss", "ion")
 
@@ -70,6 +89,10 @@ class FragmentTable:
     strong_weight: float
     missing_penalty: float
     lowest_mz: int = 26  # peaks below this m/z are not scored (too unspecific)
+    generic_credit: float = 0.5  # share of a peak's intensity credited to a generic cleavage
+    loss_credit: float = 0.75  # ... to a usual neutral loss the candidate's graph can give
+    max_h_transfer: int = 2  # hydrogens a generic piece may gain or lose
+    unexplained_scale: float = 2.0  # nats when no fragment intensity at all is explained
     source: str = ""
 
     def validate(self) -> None:
@@ -94,7 +117,17 @@ class FragmentTable:
 def load_fragments(path: str | Path | None = None) -> FragmentTable:
     file = Path(path) if path is not None else table_path("fragments.yaml")
     document = read_yaml_file(file)
-    keys = ["source", "strong_weight", "missing_penalty", "lowest_mz", "rules"]
+    keys = [
+        "source",
+        "strong_weight",
+        "missing_penalty",
+        "lowest_mz",
+        "generic_credit",
+        "loss_credit",
+        "max_h_transfer",
+        "unexplained_scale",
+        "rules",
+    ]
     root = mapping(document, keys, required=keys[1:])
     rules = []
     for item in as_list(root["rules"], what="a list of rules"):
@@ -121,6 +154,10 @@ def load_fragments(path: str | Path | None = None) -> FragmentTable:
         as_number(root["strong_weight"], minimum=0, maximum=1, what="a weight 0-1"),
         as_number(root["missing_penalty"], minimum=0, what="a penalty of 0 or more"),
         as_int(root["lowest_mz"], minimum=1, what="a whole m/z"),
+        as_number(root["generic_credit"], minimum=0, maximum=1, what="a credit 0-1"),
+        as_number(root["loss_credit"], minimum=0, maximum=1, what="a credit 0-1"),
+        as_int(root["max_h_transfer"], minimum=0, maximum=3, what="0-3 hydrogens"),
+        as_number(root["unexplained_scale"], minimum=0, what="nats of 0 or more"),
         as_str(root["source"]) if "source" in root else "",
     )
     return validated(table, document)
@@ -231,10 +268,179 @@ def predict_ions(
     return dict(sorted(out.items()))
 
 
+@dataclass(frozen=True)
+class NeutralLoss:
+    loss: int  # nominal mass lost from M
+    neutral: str
+    first: bool  # a usual first loss, tried for M when the molecular ion is not seen
+
+
+@dataclass(frozen=True, eq=False)
+class NeutralLossTable:
+    losses: tuple[NeutralLoss, ...]
+    source: str = ""
+
+    def validate(self) -> None:
+        seen: set[int] = set()
+        for i, item in enumerate(self.losses):
+            if item.loss in seen:
+                raise ElucidateError(f"loss {item.loss} is listed twice", key=f"losses[{i}].loss")
+            seen.add(item.loss)
+
+    def by_mass(self) -> dict[int, NeutralLoss]:
+        return {item.loss: item for item in self.losses}
+
+
+def load_neutral_losses(path: str | Path | None = None) -> NeutralLossTable:
+    file = Path(path) if path is not None else table_path("neutral_losses.yaml")
+    document = read_yaml_file(file)
+    root = mapping(document, ["source", "losses"], required=["losses"])
+    losses = []
+    for item in as_list(root["losses"], what="a list of losses"):
+        r = mapping(item, ["loss", "neutral", "first"], required=["loss", "neutral", "first"])
+        losses.append(
+            NeutralLoss(as_int(r["loss"], minimum=1, what="a nominal mass"), as_str(r["neutral"]), as_bool(r["first"]))
+        )
+    table = NeutralLossTable(tuple(losses), as_str(root["source"]) if "source" in root else "")
+    return validated(table, document)
+
+
+@lru_cache(maxsize=1)
+def default_neutral_losses() -> NeutralLossTable:
+    return load_neutral_losses()
+
+
+@dataclass(frozen=True)
+class Piece:
+    """A connected piece of the candidate reachable by breaking one or two bonds."""
+
+    mass: int  # nominal mass: heavy atoms with their hydrogens
+    atoms: int  # bit mask of its atoms
+    bonds_broken: int  # 1 or 2
+
+
+def graph_pieces(mol: Mol, *, elements: ElementTable | None = None) -> dict[int, Piece]:
+    """Every connected piece of ``mol`` (not the whole molecule) that breaking one or two bonds
+    gives, by mass; of pieces of equal mass the one from fewer broken bonds, then the lowest
+    atom mask, is kept (so the result is deterministic)."""
+    masses = _atom_masses(mol, elements or default_elements())
+    n = mol.GetNumAtoms()
+    whole = (1 << n) - 1
+    bonds = [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in mol.GetBonds()]
+    adjacency = [0] * n
+    for a, b in bonds:
+        adjacency[a] |= 1 << b
+        adjacency[b] |= 1 << a
+
+    def component(start: int, adj: list[int]) -> int:
+        seen = frontier = 1 << start
+        while frontier:
+            reach = 0
+            rest = frontier
+            while rest:
+                low = rest & -rest
+                reach |= adj[low.bit_length() - 1]
+                rest ^= low
+            frontier = reach & ~seen
+            seen |= frontier
+        return seen
+
+    masks: dict[int, int] = {}  # atom mask -> bonds broken (the fewest)
+
+    def cut(pairs: tuple[tuple[int, int], ...]) -> None:
+        adj = adjacency[:]
+        for a, b in pairs:
+            adj[a] &= ~(1 << b)
+            adj[b] &= ~(1 << a)
+        for a, b in pairs:
+            for start in (a, b):
+                mask = component(start, adj)
+                if mask != whole and masks.get(mask, 3) > len(pairs):
+                    masks[mask] = len(pairs)
+
+    for i, first in enumerate(bonds):
+        cut((first,))
+        for second in bonds[i + 1 :]:
+            cut((first, second))
+    out: dict[int, Piece] = {}
+    for mask in sorted(masks):
+        mass = sum(masses[i] for i in range(n) if mask >> i & 1)
+        piece = Piece(mass, mask, masks[mask])
+        if mass not in out or out[mass].bonds_broken > piece.bonds_broken:
+            out[mass] = piece
+    return out
+
+
+def _piece_formula(mol: Mol, mask: int) -> str:
+    counts: dict[str, int] = {}
+    for i in range(mol.GetNumAtoms()):
+        if mask >> i & 1:
+            atom = mol.GetAtomWithIdx(i)
+            counts[atom.GetSymbol()] = counts.get(atom.GetSymbol(), 0) + 1
+            counts["H"] = counts.get("H", 0) + atom.GetTotalNumHs()
+    return str(Formula.of(counts))
+
+
+def _halogens(mol: Mol, mask: int) -> int:
+    return sum(
+        1 for i in range(mol.GetNumAtoms()) if mask >> i & 1 and mol.GetAtomWithIdx(i).GetSymbol() in ("Cl", "Br")
+    )
+
+
 def _cluster(peaks: Mapping[int, float], molecular_ion: int | None) -> set[int]:
     if molecular_ion is None:
         return set()
     return {mz for mz in peaks if mz >= molecular_ion}
+
+
+def _isotope_partner(
+    mz: int, intensity: float, peaks: Mapping[int, float], found: Mapping[int, tuple[str, float, int]]
+) -> tuple[str, float, int] | None:
+    """The 13C partner one above an explained ion (and weaker), or the 37Cl / 81Br partner two
+    or four above an explained ion that holds Cl or Br (at most about twice as strong for two
+    halogens): it earns what its parent earned."""
+    below = found.get(mz - 1)
+    if below is not None and peaks.get(mz - 1, 0.0) > intensity:
+        return (f"13C isotope peak of m/z {mz - 1}", below[1], below[2])
+    for step, need in ((2, 1), (4, 2)):
+        parent = found.get(mz - step)
+        if parent is not None and parent[2] >= need and intensity <= 2.1 * peaks.get(mz - step, 0.0):
+            return (f"37Cl/81Br isotope peak of m/z {mz - step}", parent[1], parent[2])
+    return None
+
+
+def _generic(
+    mz: int,
+    molecular_ion: int | None,
+    pieces: Mapping[int, Piece],
+    usual: Mapping[int, NeutralLoss],
+    table: FragmentTable,
+    mol: Mol,
+) -> tuple[str, float, int] | None:
+    """A piece of the candidate's graph that gives ``mz``: a usual neutral loss from M first,
+    then any piece with the fewest hydrogens moved."""
+    if molecular_ion is not None:
+        loss = molecular_ion - mz
+        if loss in usual:
+            for dh in _h_steps(table.max_h_transfer):
+                lost = pieces.get(loss + dh)  # the lost piece; the ion keeps the rest
+                if lost is not None and loss + dh < molecular_ion:
+                    whole = (1 << mol.GetNumAtoms()) - 1
+                    kept = whole & ~lost.atoms
+                    text = f"M-{loss}: loss of {usual[loss].neutral} (from the graph)"
+                    return (text, table.loss_credit, _halogens(mol, kept))
+    for dh in _h_steps(table.max_h_transfer):
+        piece = pieces.get(mz - dh)
+        if piece is not None:
+            moved = "" if dh == 0 else f" {'+' if dh > 0 else '-'}{abs(dh)}H"
+            text = f"{_piece_formula(mol, piece.atoms)}{moved} ({piece.bonds_broken}-bond cleavage)"
+            return (text, table.generic_credit, _halogens(mol, piece.atoms))
+    return None
+
+
+def _h_steps(most: int) -> list[int]:
+    """0, +1, -1, +2, -2, ... up to ``most`` hydrogens moved."""
+    return [0, *(s for k in range(1, most + 1) for s in (k, -k))]
 
 
 class Fragments:
@@ -246,9 +452,15 @@ class Fragments:
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
 
-    def __init__(self, table: FragmentTable | None = None, elements: ElementTable | None = None) -> None:
+    def __init__(
+        self,
+        table: FragmentTable | None = None,
+        elements: ElementTable | None = None,
+        losses: NeutralLossTable | None = None,
+    ) -> None:
         self.table = table or default_fragments()
         self.elements = elements or default_elements()
+        self.losses = losses or default_neutral_losses()
 
     def applies(self, case: Case) -> bool:
         return case.mass_spec is not None and len(case.mass_spec.peaks) > 1
@@ -258,56 +470,77 @@ class Fragments:
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.mass_spec is not None
+        t = self.table
         peaks = case.mass_spec.peaks
-        predicted = predict_ions(subject.mol, table=self.table, elements=self.elements)
+        mol = subject.mol
+        predicted = predict_ions(mol, table=t, elements=self.elements)
         skip = _cluster(peaks, subject.molecular_ion)
-        lowest = self.table.lowest_mz
-        scored = {mz: v for mz, v in peaks.items() if mz not in skip and mz >= lowest}
+        scored = {mz: v for mz, v in peaks.items() if mz not in skip and mz >= t.lowest_mz}
         total = sum(scored.values())
-        explained = 0.0
-        assignments = []
-        for mz, intensity in sorted(scored.items(), key=lambda kv: (-kv[1], kv[0])):
+        pieces: dict[int, Piece] | None = None  # built when a peak needs them
+        m = subject.molecular_ion
+        usual = self.losses.by_mass()
+        halogens = _halogens(mol, (1 << mol.GetNumAtoms()) - 1)
+        found: dict[int, tuple[str, float, int]] = {}  # m/z -> (explanation, credit, halogens)
+        for mz in sorted(scored):  # ascending, so an isotope partner's parent is settled first
+            intensity = scored[mz]
             ion = predicted.get(mz)
-            label = None
             if ion is not None:
-                label = f"{ion.what} [{ion.rule}]"
-                explained += intensity
-            else:
-                for step in (1, 2):
-                    parent = predicted.get(mz - step)
-                    if parent is not None and peaks.get(mz - step, 0) > intensity:
-                        label = f"isotope peak of m/z {mz - step}"
-                        explained += intensity
-                        break
-            assignments.append({"mz": mz, "intensity": intensity, "explained_by": label})
+                found[mz] = (f"{ion.what} [{ion.rule}]", 1.0, halogens)
+                continue
+            partner = _isotope_partner(mz, intensity, peaks, found)
+            if partner is not None:
+                found[mz] = partner
+                continue
+            if pieces is None:
+                pieces = graph_pieces(mol, elements=self.elements)
+            generic = _generic(mz, m, pieces, usual, t, mol)
+            if generic is not None:
+                found[mz] = generic
+        explained = sum(scored[mz] * credit for mz, (_, credit, _) in found.items())
         share = explained / total if total else 1.0
+        assignments = [
+            {"mz": mz, "intensity": v, "explained_by": found[mz][0] if mz in found else None}
+            for mz, v in sorted(scored.items(), key=lambda kv: (-kv[1], kv[0]))
+        ]
         low = min(scored) if scored else 0
         missing = [
             ion
             for mz, ion in predicted.items()
-            if ion.weight >= self.table.strong_weight
-            and mz >= max(low, lowest)
+            if ion.weight >= t.strong_weight
+            and mz >= max(low, t.lowest_mz)
             and mz not in peaks
-            and (subject.molecular_ion is None or mz < subject.molecular_ion)
+            and (m is None or mz < m)
         ]
-        cost = self.table.missing_penalty * sum(ion.weight for ion in missing)
-        score = share * math.exp(-cost)
-        reasons = [f"EI: predicted ions explain {100 * share:.0f}% of the fragment intensity"]
+        against = t.missing_penalty * sum(ion.weight for ion in missing)
+        unexplained = t.unexplained_scale * (1.0 - share)
+        reasons = [
+            (
+                f"EI: {100 * share:.0f}% of the fragment intensity explained; "
+                f"absent expected ions cost {against:.2f}, unexplained peaks {unexplained:.2f}"
+            )
+        ]
         top = [a for a in assignments if a["explained_by"]][:3]
         if top:
             reasons.append("EI: " + "; ".join(f"{a['mz']} {a['explained_by']}" for a in top))
         if missing:
             reasons.append("EI: expected but absent: " + ", ".join(f"{ion.mz} ({ion.rule})" for ion in missing[:4]))
         detail = {
+            "explained_share": round(share, 6),
             "assignments": assignments,
             "missing": [{"mz": ion.mz, "rule": ion.rule, "weight": ion.weight} for ion in missing],
             "predicted": [{"mz": ion.mz, "weight": ion.weight, "rule": ion.rule} for ion in predicted.values()],
         }
-        return Assessment(self.name, score, tuple(reasons), detail)
+        return Assessment(self.name, against, unexplained, tuple(reasons), detail)
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
         d = assessment.detail
-        lines = []
+        lines = [
+            (
+                f"    EI  {100 * d['explained_share']:.0f}% of the fragment intensity explained; "
+                f"against {assessment.against:.2f}, unexplained {assessment.unexplained:.2f} (nats, before caps)"
+            )
+        ]
         for item in d["assignments"][:8]:
             why = item["explained_by"] or "not explained"
             lines.append(f"    EI  m/z {item['mz']:>4} ({item['intensity']:g}%): {why}")

@@ -15,7 +15,6 @@ to copy into ``infrared.require`` / ``forbid`` after judging it.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
@@ -248,7 +247,7 @@ class Infrared:
         assert case.infrared is not None
         t = self.table
         observed = case.infrared.bands
-        cost = 0.0
+        against = unexplained = 0.0  # costs before the table's scale
         matched: list[dict[str, object]] = []
         missing: list[str] = []
         bands: list[tuple[str, Band]] = []
@@ -261,13 +260,14 @@ class Infrared:
             hit = _found(band, observed, t)
             if hit is None and band.high < t.fingerprint_below and not fingerprint:
                 continue
-            if hit is None:
-                cost += t.weights[band.strength] * (1.0 if band.key else 1 / t.non_key_divisor)
-                if band.key:
-                    missing.append(f"{name} {band.low:g}-{band.high:g}")
+            if hit is None and band.key:  # a key band of a group the candidate has: against
+                against += t.weights[band.strength]
+                missing.append(f"{name} {band.low:g}-{band.high:g}")
+            elif hit is None:  # a non-key band: often weak, overlapped or not listed
+                unexplained += t.weights[band.strength] / t.non_key_divisor
             else:
                 matched.append({"group": name, "band": hit.at, "range": [band.low, band.high], "mode": band.mode})
-        unexplained = []
+        unexplained_bands: list[float] = []
         for ob in observed:
             strength = ob.strength or "medium"
             if strength == "weak":
@@ -276,18 +276,23 @@ class Infrared:
                 continue
             if any(b.low - t.tolerance <= ob.at <= b.high + t.tolerance for _, b in bands):
                 continue
-            cost += t.weights[strength]
-            unexplained.append(ob.at)
+            # a strong band in a diagnostic region the candidate cannot give is against it; a
+            # medium one may be an impurity, water or an overtone
+            if strength == "strong":
+                against += t.weights[strength]
+            else:
+                unexplained += t.weights[strength]
+            unexplained_bands.append(ob.at)
         reasons = []
         if matched:
             names = sorted({str(m["group"]) for m in matched})
             reasons.append("IR bands fit " + ", ".join(names))
         if missing:
             reasons.append("IR: expected band missing: " + "; ".join(missing))
-        if unexplained:
-            reasons.append("IR: unexplained band(s) at " + ", ".join(f"{x:g}" for x in unexplained))
-        detail = {"matched": matched, "missing": missing, "unexplained": unexplained}
-        return Assessment(self.name, math.exp(-t.scale * cost), tuple(reasons), detail)
+        if unexplained_bands:
+            reasons.append("IR: unexplained band(s) at " + ", ".join(f"{x:g}" for x in unexplained_bands))
+        detail = {"matched": matched, "missing": missing, "unexplained": unexplained_bands}
+        return Assessment(self.name, t.scale * against, t.scale * unexplained, tuple(reasons), detail)
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
         d = assessment.detail

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from typing import Literal
 
@@ -29,9 +30,14 @@ class IsotopeFit:
         return {}
 
     def assess(self, subject: Subject, case: Case) -> Assessment | None:
-        if subject.isotope_score is None:
+        score = subject.isotope_score
+        if score is None and not subject.formula_demotion:
             return None
-        return Assessment(self.name, subject.isotope_score)
+        # the fit is exp(-chi2/2): its evidence against is chi2/2 nats (the table caps it); a
+        # formula that breaks the element-ratio heuristic adds its demotion
+        against = 0.0 if score is None else (-math.log(score) if score > 0 else math.inf)
+        reasons = (f"formula demoted: {subject.demoted_by}",) if subject.demoted_by else ()
+        return Assessment(self.name, against=against + subject.formula_demotion, reasons=reasons)
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
         return []

@@ -605,28 +605,34 @@ class UvVis:
         floor = float(t.no_maximum_below_nm)
         tol = t.tolerance if not p.rule.startswith("benzenoid") else t.benzenoid_tolerance
         predicted = p.lambda_max
-        score: float
+        against = unexplained = 0.0
         if observed is None and predicted is None:
-            score, text = 1.0, f"UV: no maximum above {floor:g} nm, as observed"
+            text = f"UV: no maximum above {floor:g} nm, as observed"
         elif observed is None:
             assert predicted is not None
+            # a maximum the rules predict was not seen: against the candidate
             gap = predicted - floor
             if gap < sc.unseen_cutoff * tol:
-                score = math.exp(-0.5 * max(0.0, gap - tol) ** 2 / (sc.unseen_width * tol) ** 2)
+                against = 0.5 * max(0.0, gap - tol) ** 2 / (sc.unseen_width * tol) ** 2
             else:
-                score = sc.unseen_score
+                against = -math.log(sc.unseen_score)
             text = f"UV: predicts {predicted:g} nm ({p.rule}) but no maximum above {floor:g} nm was seen"
         elif predicted is None:
             gap = observed[0] - floor
-            score = sc.unexplained_score if gap > sc.unexplained_near * tol else sc.unexplained_near_score
-            text = f"UV: no chromophore to absorb above {floor:g} nm, observed {_range(observed)} nm"
+            cost = -math.log(sc.unexplained_score if gap > sc.unexplained_near * tol else sc.unexplained_near_score)
+            if _may_absorb(subject.mol):  # a π system the rules do not cover: unexplained only
+                unexplained = cost
+                text = f"UV: observed {_range(observed)} nm; no rule covers this candidate's chromophore"
+            else:
+                against = cost
+                text = f"UV: no chromophore to absorb above {floor:g} nm, observed {_range(observed)} nm"
         else:
             low, high = observed
             d = max(low - predicted, predicted - high, 0.0)
-            score = 1.0 if d <= tol else math.exp(-0.5 * ((d - tol) / tol) ** 2)
+            against = 0.0 if d <= tol else 0.5 * ((d - tol) / tol) ** 2
             text = f"UV: predicted {predicted:g} nm ({p.rule}), observed {_range(observed)} nm"
         detail = {"predicted": predicted, "rule": p.rule, "steps": list(p.steps), "observed": observed}
-        return Assessment(self.name, max(score, 0.0), (text,), detail)
+        return Assessment(self.name, against, unexplained, (text,), detail)
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
         d = assessment.detail
@@ -638,6 +644,25 @@ class UvVis:
 
     def read(self, case: Case) -> Reading | None:
         return None
+
+
+def _may_absorb(mol: Mol) -> bool:
+    """Whether the candidate has a π system that could absorb above 210 nm outside the rules: an
+    aromatic ring, a multiple bond to a heteroatom (C=O n→π*, C=S, N=O, N=N) or two conjugated
+    multiple bonds. An isolated C=C or C≡C (below 200 nm) and a saturated molecule cannot."""
+    multiple = [b for b in mol.GetBonds() if b.GetBondTypeAsDouble() != 1.0]
+    for bond in multiple:
+        if bond.GetIsAromatic():
+            return True
+        ends = (bond.GetBeginAtom().GetAtomicNum(), bond.GetEndAtom().GetAtomicNum())
+        if ends != (6, 6):
+            return True
+    atoms = [a for b in multiple for a in (b.GetBeginAtomIdx(), b.GetEndAtomIdx())]
+    for bond in mol.GetBonds():  # a single bond between two multiply bonded atoms: conjugation
+        single = bond.GetBondTypeAsDouble() == 1.0
+        if single and bond.GetBeginAtomIdx() in atoms and bond.GetEndAtomIdx() in atoms:
+            return True
+    return False
 
 
 def _range(r: tuple[float, float]) -> str:

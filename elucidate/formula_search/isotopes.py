@@ -117,7 +117,13 @@ class IsotopeTolerance:
     #: smallest intensity in the peak list (clearly above what the list reports)
     unlisted_factor: float = 2.0
 
-    def unlisted_counts(self, predicted_in_spectrum: float, threshold: float) -> bool:
+    def unlisted_counts(
+        self, predicted_in_spectrum: float, threshold: float, complete_above: float | None = None
+    ) -> bool:
+        """Whether an unlisted peak predicted at this intensity (% of base) counts as observed 0:
+        above the level the list claims to be complete to, or clearly above its smallest peak."""
+        if complete_above is not None and predicted_in_spectrum > complete_above:
+            return True
         return predicted_in_spectrum > self.unlisted_factor * threshold
 
     def sigma(self, predicted: float, m_intensity: float) -> float:
@@ -131,16 +137,24 @@ class ObservedCluster:
     ``ratios`` maps offset k (1, 2, …) to I(M+k)/I(M) in percent for the peaks listed.
     ``threshold`` is the smallest intensity in the peak list (% of base peak): an unlisted
     M+k peak predicted clearly above it (see :class:`IsotopeTolerance`) is taken as observed 0.
+    ``complete_above`` (% of base peak), when the list claims to hold every peak at or above
+    that intensity: an unlisted M+k predicted above it is taken as observed 0.
     """
 
     nominal_mass: int
     m_intensity: float
     ratios: Mapping[int, float]
     threshold: float = 0.0
+    complete_above: float | None = None
 
     @classmethod
     def from_peaks(
-        cls, nominal_mass: int, peaks: Mapping[int, float], *, max_offset: int = 8
+        cls,
+        nominal_mass: int,
+        peaks: Mapping[int, float],
+        *,
+        max_offset: int = 8,
+        complete_above: float | None = None,
     ) -> ObservedCluster | None:
         """Build the cluster, or ``None`` when M itself is not in the peak list."""
         m = peaks.get(nominal_mass)
@@ -148,7 +162,7 @@ class ObservedCluster:
             return None
         ratios = {k: peaks[nominal_mass + k] / m * 100.0 for k in range(1, max_offset + 1) if nominal_mass + k in peaks}
         threshold = min(peaks.values()) if peaks else 0.0
-        return cls(nominal_mass, float(m), ratios, float(threshold))
+        return cls(nominal_mass, float(m), ratios, float(threshold), complete_above)
 
     def describe(self) -> str:
         parts = ["M 100"] + [f"M+{k} {v:.1f}" for k, v in sorted(self.ratios.items())]
@@ -186,9 +200,11 @@ def chi2_matrix(
     offsets = np.arange(1, pred.shape[1] + 1)
     listed = np.array([k in observed.ratios for k in offsets])
     obs = np.array([observed.ratios.get(int(k), 0.0) for k in offsets])
-    unlisted_used = (pred * observed.m_intensity / 100.0 > tolerance.unlisted_factor * observed.threshold) & bool(
-        observed.ratios
-    )
+    in_spectrum = pred * observed.m_intensity / 100.0
+    unlisted_used = in_spectrum > tolerance.unlisted_factor * observed.threshold
+    if observed.complete_above is not None:
+        unlisted_used |= in_spectrum > observed.complete_above
+    unlisted_used &= bool(observed.ratios) or observed.complete_above is not None
     used = listed[None, :] | unlisted_used
     sigma = tolerance.relative * pred + tolerance.absolute + tolerance.reading * 100.0 / observed.m_intensity
     z = np.where(used, (obs[None, :] - pred) / sigma, 0.0)
@@ -268,7 +284,9 @@ def read_cluster(
             pred = float(pattern[k])
             if k in even:
                 obs = even[k]
-            elif observed.ratios and tolerance.unlisted_counts(pred * observed.m_intensity / 100.0, observed.threshold):
+            elif (observed.ratios or observed.complete_above is not None) and tolerance.unlisted_counts(
+                pred * observed.m_intensity / 100.0, observed.threshold, observed.complete_above
+            ):
                 obs = 0.0
             else:
                 continue

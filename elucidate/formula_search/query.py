@@ -23,6 +23,7 @@ class FormulaQuery:
     elements: Mapping[str, tuple[int, int]]
     dbe: tuple[int, int]
     element_ratios: str = ELEMENT_RATIOS
+    enforce_ratios: bool = False  # True: the element-ratio rules eliminate; False: they demote
     exact_mass: float | None = None
     exact_mass_of: str = EXACT_MASS_OF
     mass_tolerance_ppm: float = PPM_TOLERANCE
@@ -67,15 +68,23 @@ def formula_query(
     else:
         elements = limits_for(formula.elements, r)
         ratios = formula.element_ratios
+    enforce = formula.enforce_ratios and formula.known is None
     ms = mass_spec if mass_spec is not None else MassSpec()
     exact = ms.exact_mass if ms.exact_mass is not None and abs(ms.exact_mass - molecular_ion) < 1 else None
     peaks = dict(ms.peaks)
-    cluster = ObservedCluster.from_peaks(molecular_ion, peaks, max_offset=r.isotope_max_offset) if peaks else None
+    cluster = (
+        ObservedCluster.from_peaks(
+            molecular_ion, peaks, max_offset=r.isotope_max_offset, complete_above=ms.complete_above
+        )
+        if peaks
+        else None
+    )
     return FormulaQuery(
         nominal_mass=molecular_ion,
         elements=elements,
         dbe=formula.dbe if formula.dbe is not None else r.default_dbe,
         element_ratios=ratios,
+        enforce_ratios=enforce,
         exact_mass=exact,
         exact_mass_of=ms.exact_mass_of,
         mass_tolerance_ppm=ms.mass_tolerance_ppm,

@@ -61,6 +61,9 @@ class FormulaRules:
     rule13_removals: Mapping[str, Mapping[str, int]]
     isotope_tolerance: IsotopeTolerance = field(default_factory=IsotopeTolerance)
     isotope_max_offset: int = 8
+    #: nats a formula that breaks the Kind & Fiehn rules at a level is demoted by, when they are
+    #: not enforced ("extended" also for the count rules)
+    ratio_demotion: Mapping[str, float] = field(default_factory=lambda: {"common": 0.1, "extended": 2.3})
     #: element sets whose M+2 / M+4 pattern the by-eye reading of a cluster compares
     heavy_sets: tuple[Mapping[str, int], ...] = ({},)
 
@@ -133,8 +136,8 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
     default_limits = {str(k): as_range(v) for k, v in elements_loc.value.items()}
     kf = mapping(
         root["kind_fiehn"],
-        ["source", "ratios", "max_counts", "combined_counts"],
-        required=["source", "ratios", "max_counts", "combined_counts"],
+        ["source", "ratios", "max_counts", "combined_counts", "demotion"],
+        required=["source", "ratios", "max_counts", "combined_counts", "demotion"],
     )
     ratios_loc = kf["ratios"]
     if not isinstance(ratios_loc.value, dict):
@@ -186,6 +189,10 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
             unlisted_factor=as_number(fit["unlisted_factor"], minimum=1),
         ),
         isotope_max_offset=as_int(fit["max_offset"], minimum=2, maximum=20),
+        ratio_demotion={
+            level: float(as_number(v, minimum=0, what="nats of 0 or more"))
+            for level, v in mapping(kf["demotion"], ["common", "extended"], required=["common", "extended"]).items()
+        },
         heavy_sets=heavy_sets,
     )
     return validated(rules, document, check=lambda: rules.validate(table))

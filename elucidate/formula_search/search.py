@@ -13,8 +13,9 @@ prints both timings side by side; the direct method is kept as default because i
 from __future__ import annotations
 
 import itertools
+import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from fractions import Fraction
 
 import numpy as np
@@ -56,10 +57,18 @@ class Candidate:
     fit: ClusterFit | None = None
     rejected_by: str | None = None
     reason: str | None = None
+    demoted_by: str | None = None  # the element-ratio rule it breaks, when they only demote
+    demotion: float = 0.0  # nats
 
     @property
     def score(self) -> float | None:
+        """The isotope-cluster fit, exp(-chi2/2); None without a cluster."""
         return self.fit.score if self.fit is not None else None
+
+    @property
+    def ranking_score(self) -> float | None:
+        """The fit the formulas are ranked by: the isotope fit times exp(-demotion)."""
+        return None if self.score is None else self.score * math.exp(-self.demotion)
 
     def as_dict(self) -> dict[str, object]:
         d: dict[str, object] = {
@@ -69,6 +78,7 @@ class Candidate:
             "monoisotopic_mass": round(self.monoisotopic_mass, 6),
             "mz": round(self.mz, 6),
             "score": None if self.score is None else round(self.score, 6),
+            "ranking_score": None if self.ranking_score is None else round(self.ranking_score, 6),
         }
         if self.ppm_error is not None:
             d["ppm_error"] = round(self.ppm_error, 2)
@@ -80,6 +90,8 @@ class Candidate:
         if self.rejected_by is not None:
             d["rejected_by"] = self.rejected_by
             d["reason"] = self.reason
+        if self.demoted_by is not None:
+            d["demoted_by"] = self.demoted_by
         return d
 
 
@@ -249,7 +261,7 @@ def check_formula(
     low, high = query.dbe
     if not low <= dbe <= high:
         return "dbe_range", f"DBE = {dbe} outside the allowed {low}-{high}"
-    reason = kind_fiehn(formula, r, query.element_ratios)
+    reason = kind_fiehn(formula, r, query.element_ratios) if query.enforce_ratios else None
     if reason:
         return "element_ratios", reason
     if query.exact_mass is not None:
@@ -262,6 +274,58 @@ def check_formula(
             )
             return ("exact_mass", message)
     return None
+
+
+def ratio_violations(
+    arr: np.ndarray,
+    symbols: list[str],
+    query: FormulaQuery,
+    table: ElementTable,
+    rules: FormulaRules,
+) -> np.ndarray:
+    """Which rows break the Kind & Fiehn rules at the query's level (vectorized kind_fiehn)."""
+    rows = arr.shape[0]
+    if query.element_ratios == "off" or rows == 0:
+        return np.zeros(rows, dtype=bool)
+
+    def col(sym: str) -> np.ndarray:
+        return arr[:, symbols.index(sym)] if sym in symbols else np.zeros(rows, dtype=np.int64)
+
+    nominal = arr @ np.array([table[s].nominal_mass for s in symbols], dtype=np.int64)
+    c = col("C")
+    bad = c == 0
+    safe_c = np.where(c == 0, 1, c)
+    for sym, (lo, hi) in rules.ratios[query.element_ratios].items():
+        ratio = col(sym) / safe_c
+        bad |= (ratio < lo - 1e-12) | (ratio > hi + 1e-12)
+    picked = np.zeros(rows, dtype=bool)
+    for below_mass, counts in rules.max_counts:
+        here = (~picked) & (nominal < below_mass)
+        for sym, limit in counts.items():
+            bad |= here & (col(sym) > limit)
+        picked |= here
+    for rule in rules.combined_counts:
+        applies = np.ones(rows, dtype=bool)
+        for sym in rule.elements:
+            applies &= col(sym) > rule.when_all_above
+        for sym, limit in rule.below.items():
+            bad |= applies & (col(sym) >= limit)
+    return bad
+
+
+def _demotions(
+    arr: np.ndarray, symbols: list[str], query: FormulaQuery, table: ElementTable, rules: FormulaRules
+) -> tuple[np.ndarray, np.ndarray]:
+    """Which rows break the element-ratio heuristic at the level asked for (when it is not
+    enforced), and the nats each is demoted by: the 'extended' demotion when it breaks that
+    level, else the 'common' one."""
+    rows = arr.shape[0]
+    if query.enforce_ratios or query.element_ratios == "off":
+        return np.zeros(rows, dtype=bool), np.zeros(rows)
+    extended = ratio_violations(arr, symbols, replace(query, element_ratios="extended"), table, rules)
+    asked = ratio_violations(arr, symbols, query, table, rules)
+    nats = np.where(extended, rules.ratio_demotion["extended"], np.where(asked, rules.ratio_demotion["common"], 0.0))
+    return asked | extended, nats
 
 
 def first_failure_codes(
@@ -297,26 +361,8 @@ def first_failure_codes(
     mark(2, (total % 2 == 1) | (total < 2 * present_max) | (total < 2 * (atoms - 1)))
     low, high = query.dbe
     mark(3, (twice_dbe < 2 * low) | (twice_dbe > 2 * high))
-    if query.element_ratios != "off":
-        c = col("C")
-        bad = c == 0
-        safe_c = np.where(c == 0, 1, c)
-        for sym, (lo, hi) in rules.ratios[query.element_ratios].items():
-            ratio = col(sym) / safe_c
-            bad |= (ratio < lo - 1e-12) | (ratio > hi + 1e-12)
-        picked = np.zeros(rows, dtype=bool)
-        for below_mass, counts in rules.max_counts:
-            here = (~picked) & (nominal < below_mass)
-            for sym, limit in counts.items():
-                bad |= here & (col(sym) > limit)
-            picked |= here
-        for rule in rules.combined_counts:
-            applies = np.ones(rows, dtype=bool)
-            for sym in rule.elements:
-                applies &= col(sym) > rule.when_all_above
-            for sym, limit in rule.below.items():
-                bad |= applies & (col(sym) >= limit)
-        mark(4, bad)
+    if query.enforce_ratios:
+        mark(4, ratio_violations(arr, symbols, query, table, rules))
     if query.exact_mass is not None:
         mono = arr @ np.array([table[s].monoisotopic_mass for s in symbols])
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -366,6 +412,10 @@ def derive_formulas(
         patterns = cluster_matrix(good, symbols, t, r.isotope_max_offset)
         chi2, _, _ = chi2_matrix(patterns, query.cluster, r.isotope_tolerance)
         score = np.exp(-0.5 * chi2)
+    # the element-ratio heuristic, when not enforced, demotes: the ranking uses the isotope fit
+    # times exp(-demotion), and without a cluster a demoted formula comes after the others
+    demoted, demotion = _demotions(good, symbols, query, t, r)
+    ranked = score * np.exp(-demotion)
     ppm = np.zeros(n_good)
     if query.exact_mass is not None and n_good:
         mono = good @ np.array([t[s].monoisotopic_mass for s in symbols])
@@ -377,8 +427,8 @@ def derive_formulas(
     hetero = good[:, [j for j, s in enumerate(symbols) if s not in ("C", "H")]].sum(axis=1)
     rare = good[:, [j for j, s in enumerate(symbols) if s not in ("C", "H", "N", "O")]].sum(axis=1)
     carbons = good[:, symbols.index("C")] if "C" in symbols else np.zeros(n_good, dtype=np.int64)
-    score_class = np.floor(score / SCORE_STEP + 0.5 + 1e-9)
-    order = np.lexsort((np.arange(n_good), -carbons, hetero, rare, np.round(ppm, 9), -score_class))
+    score_class = np.floor(ranked / SCORE_STEP + 0.5 + 1e-9)
+    order = np.lexsort((np.arange(n_good), -carbons, hetero, rare, np.round(ppm, 9), demoted, -score_class))
     if top is not None and top > 0:
         order = order[:top]
     kept = []
@@ -387,14 +437,19 @@ def derive_formulas(
         fit = None
         if patterns is not None and query.cluster is not None:
             fit = fit_cluster(patterns[i], query.cluster, r.isotope_tolerance)
-        kept.append(_candidate(formula, query, t, fit=fit))
+        why = None
+        if demoted[i]:
+            why = kind_fiehn(formula, r, "extended") or kind_fiehn(formula, r, query.element_ratios)
+        kept.append(_candidate(formula, query, t, fit=fit, demoted_by=why, demotion=float(demotion[i])))
     notes: list[str] = []
     reading = None
     if query.cluster is not None:
         reading = read_cluster(query.cluster, t, r.isotope_tolerance, allowed=query.elements, heavy_sets=r.heavy_sets)
         notes.extend(reading.notes)
         best_kept = float(score.max()) if n_good else 0.0
-        warning = _heuristic_warning(arr[failed == 4], symbols, query, t, r, best_kept)
+        warning = (
+            _heuristic_warning(arr[failed == 4], symbols, query, t, r, best_kept) if query.enforce_ratios else None
+        )
         if warning:
             notes.append(warning)
     else:
@@ -455,6 +510,8 @@ def _candidate(
     *,
     fit: ClusterFit | None = None,
     rejected: tuple[str, str] | None = None,
+    demoted_by: str | None = None,
+    demotion: float = 0.0,
 ) -> Candidate:
     mono = formula.monoisotopic_mass(table)
     ppm = _ppm(formula, query, table) if query.exact_mass is not None else None
@@ -468,4 +525,6 @@ def _candidate(
         fit=fit,
         rejected_by=rejected[0] if rejected else None,
         reason=rejected[1] if rejected else None,
+        demoted_by=demoted_by,
+        demotion=demotion,
     )

@@ -50,16 +50,21 @@ class Group:
     @property
     def elements(self) -> dict[int, int]:
         """Atomic number -> how many atoms of it any molecule with the group has at least: the
-        bracket atoms of the skeleton condition that name exactly one element (``[#8;D1]``)."""
-        if self.skeleton is None:
-            return {}
+        bracket atoms of the skeleton condition that name exactly one element (``[#8;D1]``), or
+        the atoms of the group's SMARTS that must be one element (a match maps query atoms to
+        distinct atoms), whichever asks more."""
         need: dict[int, int] = {}
-        for atom in re.findall(r"\[([^\]]*)\]", self.skeleton):
+        for atom in re.findall(r"\[([^\]]*)\]", self.skeleton or ""):
             numbers = _ELEMENT.findall(atom)
             if len(numbers) == 1 and "," not in atom.split(";")[0]:
                 z = int(numbers[0][1:])
                 need[z] = need.get(z, 0) + 1
-        return need
+        from_smarts: dict[int, int] = {}
+        for query_atom in self.pattern.GetAtoms():
+            z = query_atom.GetAtomicNum()  # 0 unless the query atom must be this one element
+            if z:
+                from_smarts[z] = from_smarts.get(z, 0) + 1
+        return {z: max(need.get(z, 0), from_smarts.get(z, 0)) for z in sorted(set(need) | set(from_smarts))}
 
     @property
     def kekule_pattern(self) -> Mol | None:

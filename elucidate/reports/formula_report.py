@@ -45,7 +45,8 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
         else f"{s} {q.elements[s][0]}"
         for s in hill_order(list(q.elements))
     )
-    lines.append(f"element limits: {limits}; DBE {q.dbe[0]}-{q.dbe[1]}; element ratios: {q.element_ratios}")
+    mode = "" if q.element_ratios == "off" else (" (enforced)" if q.enforce_ratios else " (demote only)")
+    lines.append(f"element limits: {limits}; DBE {q.dbe[0]}-{q.dbe[1]}; element ratios: {q.element_ratios}{mode}")
     rejected = ", ".join(f"{RULE_LABELS[r]} {n}" for r, n in result.rejected_counts.items() if n)
     lines.append(
         f"compositions at nominal mass {q.nominal_mass}: {result.total}; kept {result.kept_count}"
@@ -64,6 +65,9 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
             header.append("ppm")
         header.append("fit")
         header += [f"M+{k} obs/pred" for k in offsets]
+        demoted = any(c.demoted_by for c in result.kept)
+        if demoted:
+            header.append("note")
         rows = [header]
         for i, c in enumerate(result.kept, 1):
             row = [str(i), str(c.formula), _dbe(c), str(c.nominal_mass), f"{c.monoisotopic_mass:.6f}", f"{c.mz:.6f}"]
@@ -73,8 +77,11 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
             compared = {k: (o, p) for k, o, p, _ in c.fit.compared} if c.fit else {}
             for k in offsets:
                 row.append(f"{compared[k][0]:.1f}/{compared[k][1]:.1f}" if k in compared else "")
+            if demoted:
+                row.append(f"demoted: {c.demoted_by}" if c.demoted_by else "")
             rows.append(row)
-        lines += text_table(rows, [True, False, True, True, True, True] + [True] * (len(header) - 6))
+        right = [True, False, True, True, True, True] + [True] * (len(header) - 6 - demoted) + [False] * demoted
+        lines += text_table(rows, right)
         if len(result.kept) < result.kept_count:
             lines.append(f"(showing {len(result.kept)} of {result.kept_count}; --top 0 shows all)")
         if cluster is not None:

@@ -10,7 +10,7 @@ from typing import Any
 
 from ..evidence import TECHNIQUES, Technique
 from ..solver import Ranked, Solution
-from ..solver.hypotheses import FIRST_LOSSES
+from ..solver.hypotheses import first_losses
 from .layout import CAUTION, text_table
 
 __all__ = ["solve_json", "solve_text"]
@@ -21,14 +21,22 @@ def _techniques() -> list[Technique]:
 
 
 def _detail(c: Ranked, by_name: dict[str, Technique]) -> list[str]:
-    lines = [f"#{c.rank}  {c.smiles}  {c.formula}  InChIKey {c.inchikey}  score {c.score:.3f}"]
+    head = f"#{c.rank_label}  {c.smiles}  {c.formula}  InChIKey {c.inchikey}  "
+    lines = [head + f"score {c.score:.3f}  log-likelihood {c.log_likelihood:.2f}"]
+    parts = [
+        f"{name} {part.against:.2f}/{part.unexplained:.2f}"
+        for name, part in c.components.items()
+        if part.against or part.unexplained
+    ]
+    if parts:
+        lines.append("    against/unexplained (nats, capped): " + ", ".join(parts))
     for a in c.assessments:
         lines += by_name[a.technique].detail_lines(a)
     return lines
 
 
 def _losses() -> str:
-    return ", ".join(["highest peak", *(f"+ {name} {mass}" for mass, name in FIRST_LOSSES.items())])
+    return ", ".join(["highest peak", *(f"+ {name} {mass}" for mass, name in first_losses().items())])
 
 
 def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
@@ -49,7 +57,8 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
     rows = [["formula", "M", "isotope fit", "structures", "note"]]
     for k in solution.formulas:
         fit = "-" if k.isotope_score is None else f"{k.isotope_score:.3f}"
-        rows.append([str(k.formula), str(k.molecular_ion), fit, str(k.structures), k.skipped or ""])
+        note = k.skipped or (f"demoted: {k.demoted_by}" if k.demoted_by else "")
+        rows.append([str(k.formula), str(k.molecular_ion), fit, str(k.structures), note])
     if solution.formulas:
         lines += ["  " + r for r in text_table(rows, [False, True, True, True, False])]
     else:
@@ -61,7 +70,8 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
     lines.append("")
     lines.append(f"structures generated: {solution.generated} (plausibility profile {solution.profile!r})")
     for label, n in solution.eliminated.items():
-        lines.append(f"  removed by {label}: {n}")
+        if n:
+            lines.append(f"  removed by {label}: {n}")
     lines.append("")
     if not solution.candidates:
         lines.append("no candidate survives the hard constraints:")
@@ -72,8 +82,8 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
         lines.append(f"shortlist ({min(top, count) if top else count} of {count})")
         rows = [["rank", "score", "formula", "SMILES", *[t.label for t in shown], "reasons"]]
         for c in solution.candidates[: top or None]:
-            cells = [f"{c.components[t.name]:.2f}" if t.name in c.components else "-" for t in shown]
-            rows.append([str(c.rank), f"{c.score:.3f}", c.formula, c.smiles, *cells, "; ".join(c.reasons[:2])])
+            cells = [f"{c.components[t.name].score:.2f}" if t.name in c.components else "-" for t in shown]
+            rows.append([c.rank_label, f"{c.score:.3f}", c.formula, c.smiles, *cells, "; ".join(c.reasons[:2])])
         lines += ["  " + r for r in text_table(rows, [True, True, False, False] + [True] * len(shown) + [False])]
         lines.append("")
         for c in solution.candidates[:details]:

@@ -8,13 +8,12 @@ what is returned.
 
 from __future__ import annotations
 
-from .hypotheses import LOSSES_FOR_M, molecular_ion_hypotheses
+from .hypotheses import first_losses, losses_for_m, molecular_ion_hypotheses
 from .ranking import PROFILE, hard_selection, solve
 from .records import FoundCandidate, KeptFormula, Ranked, Solution, SuspectResult
 from .scoring import ScoringTable, default_scoring, load_scoring
 
 __all__ = [
-    "LOSSES_FOR_M",
     "PROFILE",
     "FoundCandidate",
     "KeptFormula",
@@ -23,8 +22,10 @@ __all__ = [
     "Solution",
     "SuspectResult",
     "default_scoring",
+    "first_losses",
     "hard_selection",
     "load_scoring",
+    "losses_for_m",
     "molecular_ion_hypotheses",
     "solve",
 ]

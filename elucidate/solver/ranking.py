@@ -12,6 +12,7 @@ Results are hypotheses to confirm against a reference standard under the lab's o
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -19,13 +20,13 @@ from typing import TYPE_CHECKING
 from ..case import Case
 from ..defaults import FORMULAS_PER_ION, SOLVER_LIMIT, WORKERS
 from ..evidence import TECHNIQUES, Assessment, Technique, make_subject
-from ..formula_search import case_query, derive_formulas
+from ..formula_search import Candidate, case_query, derive_formulas
 from ..generator.groups import GroupTable, default_groups
 from ..generator.selection import Selection
 from .diagnosis import why_empty
 from .hypotheses import molecular_ion_hypotheses
 from .records import FoundCandidate, KeptFormula, Ranked, Solution
-from .scoring import ScoringTable, combine, default_scoring
+from .scoring import Combined, ScoringTable, combine, default_scoring
 from .suspects import assess_suspect
 
 if TYPE_CHECKING:
@@ -72,15 +73,21 @@ class Evaluator:
 
     def evaluate(
         self, candidate: FoundCandidate, mol: Mol, techniques: Sequence[Technique]
-    ) -> tuple[float, dict[str, float], tuple[Assessment, ...]]:
-        """The combined score, the components and the assessments of one candidate."""
+    ) -> tuple[Combined, tuple[Assessment, ...]]:
+        """The combined log-likelihood (with its components) and the assessments of one candidate."""
         subject = make_subject(
-            candidate.smiles, mol, candidate.formula, self.groups, candidate.molecular_ion, candidate.isotope_score
+            candidate.smiles,
+            mol,
+            candidate.formula,
+            self.groups,
+            candidate.molecular_ion,
+            candidate.isotope_score,
+            formula_demotion=candidate.formula_demotion,
+            demoted_by=candidate.demoted_by,
         )
         found = (t.assess(subject, self.case) for t in techniques)
         assessments = tuple(a for a in found if a is not None)
-        score, components = combine(assessments, {t.name: t.weight_key for t in techniques}, self.scoring)
-        return score, components, assessments
+        return combine(assessments, {t.name: t.weight_key for t in techniques}, self.scoring), assessments
 
 
 @dataclass(frozen=True)
@@ -89,7 +96,7 @@ class _ScoringJob:
     items: tuple[FoundCandidate, ...]
 
 
-_Scored = tuple[float, dict[str, float], tuple[Assessment, ...]]
+_Scored = tuple[Combined, tuple[Assessment, ...]]
 
 
 def _score_chunk(job: _ScoringJob) -> list[_Scored]:
@@ -99,6 +106,20 @@ def _score_chunk(job: _ScoringJob) -> list[_Scored]:
     techniques = job.evaluator.techniques()
     with quiet_rdkit():
         return [job.evaluator.evaluate(item, Chem.MolFromSmiles(item.smiles), techniques) for item in job.items]
+
+
+def formulas_to_enumerate(ranked: Sequence[Candidate], count: int) -> list[Candidate]:
+    """The best ``count`` formulas in the formula stage's order, plus every formula the
+    element-ratio heuristic demoted that ranks above the last of them: a heuristic may move a
+    formula down, but never costs another formula its place."""
+    chosen: list[Candidate] = []
+    plain = 0
+    for cand in ranked:
+        if plain >= count:
+            break
+        chosen.append(cand)
+        plain += cand.demoted_by is None
+    return chosen
 
 
 def solve(
@@ -131,10 +152,12 @@ def solve(
     estimate_options = GeneratorOptions(selection=selection)
     options = GeneratorOptions(selection=selection, workers=workers)
     for m in hypotheses:
-        result = derive_formulas(case_query(case, m), top=max_formulas)
-        best = max((c.score or 0.0 for c in result.kept), default=0.0)
-        for cand in result.kept:
-            if cand.score is not None and best > 0 and cand.score < best / sc.formula_cut:
+        result = derive_formulas(case_query(case, m), top=4 * max_formulas)
+        chosen = formulas_to_enumerate(result.kept, max_formulas)
+        best = max((c.ranking_score or 0.0 for c in chosen), default=0.0)
+        for cand in chosen:
+            fit = cand.ranking_score
+            if fit is not None and best > 0 and fit < best / sc.formula_cut:
                 continue
             estimate = estimate_structures(cand.formula, estimate_options)
             if estimate > limit:
@@ -142,18 +165,18 @@ def solve(
                     f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: declare groups "
                     "(infrared.require / forbid) or raise --limit"
                 )
-                kept.append(KeptFormula(cand.formula, m, cand.score, 0, why))
+                kept.append(KeptFormula(cand.formula, m, cand.score, 0, why, cand.demoted_by, cand.demotion))
                 notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
                 continue
             local: dict[str, int] = {}
             before = len(found)
             for smiles in isomer_smiles(cand.formula, options, removed=local):
-                found.append(FoundCandidate(smiles, cand.formula, m, cand.score))
+                found.append(FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by))
             count = len(found) - before
             for label, n in local.items():
                 removed[label] = removed.get(label, 0) + n
             generated += count + sum(local.values())
-            kept.append(KeptFormula(cand.formula, m, cand.score, count))
+            kept.append(KeptFormula(cand.formula, m, cand.score, count, None, cand.demoted_by, cand.demotion))
     evaluator = Evaluator(case, g, sc)
     chunks = [_ScoringJob(evaluator, tuple(found[i : i + CHUNK])) for i in range(0, len(found), CHUNK)]
     if workers > 1 and len(chunks) > 1:
@@ -163,17 +186,33 @@ def solve(
             scored = [r for part in pool.imap(_score_chunk, chunks) for r in part]
     else:
         scored = [r for job in chunks for r in _score_chunk(job)]
+    level = [round(combined.log_likelihood, 6) for combined, _ in scored]
     order = sorted(
         range(len(found)),
-        key=lambda i: (-round(scored[i][0], 6), -round(found[i].isotope_score or 0.0, 6), found[i].smiles),
+        key=lambda i: (-level[i], -round(found[i].isotope_score or 0.0, 6), found[i].smiles),
     )
+    shared = Counter(level)
     candidates = []
-    for rank, i in enumerate(order, start=1):
+    rank = 0
+    for position, i in enumerate(order, start=1):
         item = found[i]
-        score, components, assessments = scored[i]
+        combined, assessments = scored[i]
+        if position == 1 or level[i] != level[order[position - 2]]:
+            rank = position
         reasons = tuple(r for a in assessments for r in a.reasons[:2])
         candidates.append(
-            Ranked(rank, item.smiles, str(item.formula), item.molecular_ion, score, components, reasons, assessments)
+            Ranked(
+                rank,
+                item.smiles,
+                str(item.formula),
+                item.molecular_ion,
+                combined.score,
+                combined.log_likelihood,
+                combined.components,
+                reasons,
+                assessments,
+                tied=shared[level[i]] > 1,
+            )
         )
     suspects = tuple(
         assess_suspect(text, case, candidates, kept, hypotheses, compiled, evaluator, applied)

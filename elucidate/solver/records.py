@@ -10,8 +10,9 @@ from typing import Any
 from ..case import Case
 from ..evidence import Assessment, Reading
 from ..formula import Formula
+from .scoring import Component
 
-__all__ = ["FoundCandidate", "KeptFormula", "Ranked", "Solution", "SuspectResult"]
+__all__ = ["FoundCandidate", "KeptFormula", "Ranked", "Solution", "SuspectResult", "components_json"]
 
 
 @dataclass(frozen=True)
@@ -22,6 +23,8 @@ class FoundCandidate:
     formula: Formula
     molecular_ion: int
     isotope_score: float | None  # its formula's isotope-cluster fit; None without a cluster
+    formula_demotion: float = 0.0  # nats: its formula breaks the element-ratio heuristic
+    demoted_by: str | None = None
 
 
 @dataclass(frozen=True)
@@ -31,6 +34,8 @@ class KeptFormula:
     isotope_score: float | None  # exp(-chi2/2) of the isotope-cluster fit; None without a cluster
     structures: int = 0  # candidates that passed the hard constraints
     skipped: str | None = None  # why it was not enumerated (space above the limit)
+    demoted_by: str | None = None  # the element-ratio rule it breaks (ranked down, kept)
+    demotion: float = 0.0  # nats
 
     def as_dict(self) -> dict[str, Any]:
         return {
@@ -39,19 +44,41 @@ class KeptFormula:
             "isotope_score": None if self.isotope_score is None else round(self.isotope_score, 6),
             "structures": self.structures,
             "skipped": self.skipped,
+            "demoted_by": self.demoted_by,
         }
+
+
+def components_json(components: Mapping[str, Component]) -> dict[str, dict[str, float]]:
+    """Each technique's part, both halves kept apart: capped nats against and unexplained, and
+    the component score exp(-(against + unexplained))."""
+    return {
+        name: {
+            "score": round(c.score, 6),
+            "against": round(c.against, 6),
+            "unexplained": round(c.unexplained, 6),
+            "weight": c.weight,
+        }
+        for name, c in components.items()
+    }
 
 
 @dataclass(frozen=True)
 class Ranked:
-    rank: int
+    rank: int  # competition ranking: equal log-likelihoods share the rank (1, 2, 2, 4)
     smiles: str
     formula: str
     molecular_ion: int | None
-    score: float
-    components: Mapping[str, float]
+    score: float  # exp(log_likelihood / Σ weight), 0..1
+    log_likelihood: float
+    components: Mapping[str, Component]
     reasons: tuple[str, ...]
     assessments: tuple[Assessment, ...] = ()
+    tied: bool = False  # shares its rank with another candidate
+
+    @property
+    def rank_label(self) -> str:
+        """The rank as printed: "2=" when shared."""
+        return f"{self.rank}=" if self.tied else str(self.rank)
 
     @property
     def inchikey(self) -> str:
@@ -61,12 +88,14 @@ class Ranked:
     def as_dict(self) -> dict[str, Any]:
         return {
             "rank": self.rank,
+            "rank_label": self.rank_label,
             "smiles": self.smiles,
             "inchikey": self.inchikey,
             "formula": self.formula,
             "molecular_ion": self.molecular_ion,
             "score": round(self.score, 6),
-            "components": {k: round(v, 6) for k, v in self.components.items()},
+            "log_likelihood": round(self.log_likelihood, 6),
+            "components": components_json(self.components),
             "reasons": list(self.reasons),
         }
 
@@ -80,7 +109,7 @@ class SuspectResult:
     eliminated_by: str | None
     why: str | None
     score: float | None
-    components: Mapping[str, float] = field(default_factory=dict)
+    components: Mapping[str, Component] = field(default_factory=dict)
 
     def as_dict(self) -> dict[str, Any]:
         return {
@@ -91,7 +120,7 @@ class SuspectResult:
             "eliminated_by": self.eliminated_by,
             "why": self.why,
             "score": None if self.score is None else round(self.score, 6),
-            "components": {k: round(v, 6) for k, v in self.components.items()},
+            "components": components_json(self.components),
         }
 
 

@@ -45,7 +45,16 @@ def assess_suspect(
     match = next((k for k in kept if k.formula == formula), None)
     m = match.molecular_ion if match is not None else formula.nominal_mass()
     isotope = match.isotope_score if match is not None else None
-    score, components, _ = evaluator.evaluate(FoundCandidate(smiles, formula, m, isotope), mol, techniques)
+    found = FoundCandidate(
+        smiles,
+        formula,
+        m,
+        isotope,
+        match.demotion if match is not None else 0.0,
+        match.demoted_by if match is not None else None,
+    )
+    combined, _ = evaluator.evaluate(found, mol, techniques)
+    score, components = combined.score, dict(combined.components)
     if Chem.GetFormalCharge(mol) != 0 or any(a.GetNumRadicalElectrons() for a in mol.GetAtoms()):
         return SuspectResult(
             text, smiles, fstr, None, "structure", "not a neutral closed-shell molecule", score, components

@@ -3,8 +3,9 @@
 ``python3 tests/golden/record.py`` (run from a checkout with the package installed) records
 ``outputs.json``, the commands ``tests/test_golden.py`` reruns in every test run, and
 ``outputs-full.json``, the demo cases solved with default options (about four minutes, so it
-is compared on demand: ``python3 tests/golden/record.py --check-full``). Record only with the
-code as it was before the change.
+is compared on demand: ``python3 tests/golden/record.py --check-full``). Before a change that
+must keep behaviour, the recorded files are the reference; a change that means to alter output
+records them again and says so in its commit.
 """
 
 from __future__ import annotations
