@@ -131,9 +131,7 @@ def test_neutral_loss_table_validates_and_a_repeated_loss_is_located(tmp_path):
     # Lange's Handbook 15th ed. 7.8.2.4: CH3 15, H2O 18, CO / C2H4 28, HBr 80 among the usual losses
     assert {15, 18, 28, 80} <= set(table.by_mass())
     bad = tmp_path / "neutral_losses.yaml"
-    bad.write_text(
-        "losses:\n  - {loss: 15, neutral: CH3, first: true}\n  - {loss: 15, neutral: again, first: false}\n"
-    )
+    bad.write_text("losses:\n  - {loss: 15, neutral: CH3, first: true}\n  - {loss: 15, neutral: again, first: false}\n")
     with pytest.raises(ElucidateError, match="listed twice") as info:
         load_neutral_losses(bad)
     assert info.value.line == 3

@@ -140,3 +140,19 @@ def test_read_cluster_carbon_estimate():
     reading = read_cluster(ObservedCluster.from_peaks(120, {120: 30, 121: 2.64, 122: 0.16, 105: 100}))
     assert reading.carbon_estimate == pytest.approx(8.1, abs=0.2)
     assert reading.carbon_range is not None and reading.carbon_range[0] <= 8 <= reading.carbon_range[1]
+
+
+@pytest.mark.parametrize(
+    "mass,peaks",
+    [
+        (120, {120: 100, 121: 0.3, 105: 50}),  # M+1 below what one carbon gives (1.08 %, common practice)
+        (112, {112: 100, 113: 0.0, 114: 32}),  # the same beside a chlorine's M+2
+    ],
+)
+def test_m1_too_low_is_said_and_never_read_as_a_negative_carbon_count(mass, peaks):
+    from elucidate import default_elements
+
+    reading = read_cluster(ObservedCluster.from_peaks(mass, peaks), default_elements())
+    assert reading.carbon_estimate is None and reading.carbon_range is None
+    assert any("too low to read" in n for n in reading.notes), reading.notes
+    assert not any("about -" in n for n in reading.notes)

@@ -313,13 +313,20 @@ def read_cluster(
         heavy_m1 = float(isotope_pattern(Formula.of(heavy_counts), t, max_offset=1)[1]) if heavy_counts else 0.0
         per_c = float(isotope_pattern(Formula.of({"C": 1}), t, max_offset=1)[1])
         m1 = observed.ratios[1] - heavy_m1
-        carbon = m1 / per_c
         sigma = tolerance.sigma(max(m1, 0.0), observed.m_intensity)
-        low = max(0, int(np.floor((m1 - sigma) / per_c)))
-        high = max(low, int(np.ceil((m1 + sigma) / per_c)))
-        c_range = (low, high)
-        notes.append(
-            f"M+1 = {observed.ratios[1]:.1f} % of M+: about {carbon:.1f} C at {per_c:.2f} % per C "
-            f"(range {low}-{high}; H, N and O add a little)"
-        )
+        if m1 + sigma < per_c:  # below what even one carbon gives, after the heavy atoms' share
+            besides = f" above the {heavy_m1:.2f} % of {best[1]}" if heavy_m1 else ""
+            notes.append(
+                f"M+1 = {observed.ratios[1]:.1f} % of M+: too low to read a carbon count "
+                f"(one C alone gives {per_c:.2f} %{besides})"
+            )
+        else:
+            carbon = max(m1, 0.0) / per_c
+            low = max(0, int(np.floor((m1 - sigma) / per_c)))
+            high = max(low, int(np.ceil((m1 + sigma) / per_c)))
+            c_range = (low, high)
+            notes.append(
+                f"M+1 = {observed.ratios[1]:.1f} % of M+: about {carbon:.1f} C at {per_c:.2f} % per C "
+                f"(range {low}-{high}; H, N and O add a little)"
+            )
     return ClusterReading(best[1], best[0], carbon, c_range, tuple(notes))
