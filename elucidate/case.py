@@ -135,6 +135,14 @@ class StructureSpec:
 
 
 @dataclass(frozen=True)
+class SolveOptions:
+    """The case's own choices for ``solve`` (the command line overrides them); None: the default."""
+
+    formulas: int | None = None  # formulas kept per molecular ion
+    limit: int | None = None  # largest estimated structure space enumerated per formula
+
+
+@dataclass(frozen=True)
 class Case:
     path: str
     id: str
@@ -147,11 +155,12 @@ class Case:
     uv_vis: UvVis | None = None
     nmr: Nmr | None = None
     structure: StructureSpec | None = None
+    solve: SolveOptions = field(default_factory=lambda: SolveOptions())
 
 
 # ------------------------------------------------------------------ sections
 
-_TOP = ("schema", "id", "title", "notes", "mass_spec", "formula", "infrared", "uv_vis", "nmr", "structure")
+_TOP = ("schema", "id", "title", "notes", "mass_spec", "formula", "infrared", "uv_vis", "nmr", "structure", "solve")
 
 
 def isotope_span(limits: Mapping[str, tuple[int, int]]) -> int:
@@ -389,6 +398,17 @@ def _nmr(loc: Located) -> Nmr:
     return Nmr(signals, mult)
 
 
+def _solve_options(loc: Located) -> SolveOptions:
+    body = mapping(loc, ["formulas", "limit"])
+    formulas = (
+        as_int(body["formulas"], minimum=1, maximum=1000, what="formulas per molecular ion, 1-1000")
+        if "formulas" in body
+        else None
+    )
+    limit = as_int(body["limit"], minimum=1, what="a structure count of 1 or more") if "limit" in body else None
+    return SolveOptions(formulas, limit)
+
+
 def _structure(loc: Located) -> StructureSpec:
     body = mapping(loc, ["require_smarts", "forbid_smarts", "suspects"])
     out: dict[str, tuple[str, ...]] = {}
@@ -438,6 +458,7 @@ def _case(root: Located, table: ElementTable) -> Case:
     uv_vis = _uv_vis(body["uv_vis"]) if "uv_vis" in body else None
     nmr = _nmr(body["nmr"]) if "nmr" in body else None
     structure = _structure(body["structure"]) if "structure" in body else None
+    solve_options = _solve_options(body["solve"]) if "solve" in body else SolveOptions()
 
     # ---- cross-checks between sections
     if ms is not None and ms_body is not None:
@@ -497,6 +518,7 @@ def _case(root: Located, table: ElementTable) -> Case:
         uv_vis=uv_vis,
         nmr=nmr,
         structure=structure,
+        solve=solve_options,
     )
 
 

@@ -203,9 +203,9 @@ def build_parser() -> argparse.ArgumentParser:
     v.add_argument(
         "--formulas",
         type=int,
-        default=FORMULAS_PER_ION,
+        default=None,
         metavar="N",
-        help=f"formulas kept per molecular ion (default {FORMULAS_PER_ION})",
+        help=f"formulas kept per molecular ion (default: the case's solve.formulas, else {FORMULAS_PER_ION})",
     )
     v.add_argument(
         "--workers", type=int, default=WORKERS, metavar="N", help=f"worker processes for generation (default {WORKERS})"
@@ -213,9 +213,12 @@ def build_parser() -> argparse.ArgumentParser:
     v.add_argument(
         "--limit",
         type=float,
-        default=SOLVER_LIMIT,
+        default=None,
         metavar="N",
-        help=f"skip a formula whose estimated structure space exceeds N (default {SOLVER_LIMIT:,.0f}); say so",
+        help=(
+            "skip a formula whose estimated structure space exceeds N and say so "
+            f"(default: the case's solve.limit, else {SOLVER_LIMIT:,.0f})"
+        ),
     )
     return parser
 
@@ -485,13 +488,20 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
     from .reports.solution_report import solve_json, solve_text
     from .solver import solve
 
-    for option in ("top", "details", "formulas"):
+    for option in ("top", "details"):
         if getattr(args, option) < 0:
             raise ElucidateError(f"--{option} must be 0 or more")
+    if args.formulas is not None and args.formulas < 1:
+        raise ElucidateError("--formulas must be 1 or more")
+    if args.limit is not None and args.limit < 1:
+        raise ElucidateError("--limit must be 1 or more")
     if args.workers < 1:
         raise ElucidateError("--workers must be 1 or more")
     case = load_case(args.case)
-    solution = solve(case, limit=int(args.limit), max_formulas=args.formulas or FORMULAS_PER_ION, workers=args.workers)
+    # the command line overrides the case's own solve section, which overrides the defaults
+    formulas = args.formulas or case.solve.formulas or FORMULAS_PER_ION
+    limit = int(args.limit) if args.limit is not None else (case.solve.limit or SOLVER_LIMIT)
+    solution = solve(case, limit=limit, max_formulas=formulas, workers=args.workers)
     if args.json:
         json.dump(solve_json(solution, top=args.top), out, indent=1)
         out.write("\n")

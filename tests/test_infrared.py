@@ -62,6 +62,33 @@ def test_reading_indicates_an_acid_from_broad_oh_and_co():
     assert "carboxylic_acid" in {g for g, _ in read_bands(case.infrared.bands).indicated}
 
 
+def test_reading_does_not_take_ch_bends_for_a_nitro_group():
+    # an alkane's bands: C-H stretch 2960, CH2 scissoring 1465, CH3 umbrella 1375 (common
+    # practice); nitroarene NO2 is 1550-1475 / 1360-1290 (CU Boulder nitro tutorial)
+    case = _case(
+        "    - {at: 2960, strength: strong}\n    - {at: 1465, strength: strong}\n    - {at: 1375, strength: strong}\n"
+    )
+    assert "nitro" not in {g for g, _ in read_bands(case.infrared.bands).indicated}
+
+
+def test_reading_never_indicates_a_group_the_element_limits_exclude():
+    bands = (
+        "    - {at: 1530, strength: strong}\n    - {at: 1350, strength: strong}\n"
+        "    - {at: 2250, strength: medium, shape: sharp}\n"
+    )
+    case = _case(bands)
+    assert {"nitro", "nitrile"} <= {g for g, _ in read_bands(case.infrared.bands).indicated}
+    no_nitrogen = {"C": (0, 20), "H": (0, 40), "O": (0, 4)}
+    indicated = {g for g, _ in read_bands(case.infrared.bands, allowed=no_nitrogen).indicated}
+    assert not indicated & {"nitro", "nitrile", "amide", "imine", "primary_amine"}
+
+
+def test_provenance_tags_stay_in_the_table_not_in_what_users_read():
+    for name in default_groups().names:
+        for band in default_infrared().of(name):
+            assert "from memory" not in band.mode
+
+
 @pytest.mark.parametrize(
     "smiles,better,worse",
     [

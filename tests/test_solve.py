@@ -106,3 +106,23 @@ def test_unknown_molecular_ion_candidates_say_which_m(tmp_path):
 def test_bad_options_are_errors(cli):
     assert cli("solve", DEMO, "--top", "-1").code == 1
     assert cli("solve", "missing.yaml").code == 1
+
+
+def test_the_case_can_store_its_solve_options_and_the_command_line_overrides_them(tmp_path, cli):
+    text = Path(DEMO).read_text().replace("structure:\n", "solve: {formulas: 1, limit: 5}\nstructure:\n")
+    case = tmp_path / "c.yaml"
+    case.write_text(text.replace("  require: [ketone, aromatic_ring]\n", ""))
+    stored = cli("solve", str(case), "--json").json()
+    assert len(stored["formulas"]) == 1 and "above the limit 5" in stored["formulas"][0]["skipped"]
+    overridden = cli("solve", str(case), "--json", "--formulas", "2").json()
+    assert len(overridden["formulas"]) == 2
+    assert all("above the limit 5" in f["skipped"] for f in overridden["formulas"])
+
+
+def test_bad_solve_options_are_refused(tmp_path, cli):
+    text = Path(DEMO).read_text().replace("structure:\n", "solve: {formulaz: 2}\nstructure:\n")
+    case = tmp_path / "c.yaml"
+    case.write_text(text)
+    res = cli("check", str(case))
+    assert res.code == 1 and "formulaz" in res.err
+    assert cli("solve", DEMO, "--limit", "0").code == 1

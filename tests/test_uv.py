@@ -21,6 +21,11 @@ OBSERVED = [
         "Fieser-Kuhn",
         "beta-carotene, hexane (from memory)",
     ),
+    # aryl-conjugated enones: the aryl increment is fitted on cinnamaldehyde and benzalacetone
+    # (so those two check the fit only); cinnamic acid was not used to fit it
+    ("O=C/C=C/c1ccccc1", 285, "Woodward (α", "cinnamaldehyde, EtOH (from memory; fitted)"),
+    ("CC(=O)/C=C/c1ccccc1", 286, "Woodward (α", "benzalacetone, EtOH (from memory; fitted)"),
+    ("OC(=O)/C=C/c1ccccc1", 273, "Woodward (α", "trans-cinnamic acid, EtOH (from memory; not fitted)"),
 ]
 
 

@@ -23,6 +23,7 @@ from typing import TYPE_CHECKING, Any, Literal
 
 from ..case import Case, IRBand
 from ..errors import ElucidateError
+from ..formula_search.query import limits_for
 from ..generator.groups import GroupTable, default_groups
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
@@ -49,6 +50,7 @@ class Band:
     when: str | None = None  # SMARTS: the band applies only to molecules that match
     unless: str | None = None  # SMARTS: ... that do not match
     shape: str | None = None  # usual shape: broad or sharp
+    source: str = ""  # provenance for reviewers ("from memory"); never printed to users
 
     def applies(self, mol: Mol) -> bool:
         if self.when is not None and not mol.HasSubstructMatch(compiled_smarts(self.when)):
@@ -103,7 +105,7 @@ class IRTable:
 def _band(loc: Located) -> Band:
     b = mapping(
         loc,
-        ["from", "to", "strength", "key", "mode", "when", "unless", "shape"],
+        ["from", "to", "strength", "key", "mode", "when", "unless", "shape", "source"],
         required=["from", "to", "strength", "mode"],
     )
     low = as_number(b["from"], minimum=400, maximum=4000, what="a wavenumber 400-4000")
@@ -119,6 +121,7 @@ def _band(loc: Located) -> Band:
         as_str(b["when"], what="a SMARTS pattern") if "when" in b else None,
         as_str(b["unless"], what="a SMARTS pattern") if "unless" in b else None,
         as_choice(b["shape"], ("broad", "sharp"), what="one of") if "shape" in b else None,
+        as_str(b["source"]) if "source" in b else "",
     )
 
 
@@ -162,8 +165,10 @@ def default_infrared() -> IRTable:
 
 def _found(band: Band, observed: Sequence[IRBand], table: IRTable, *, strict_shape: bool = False) -> IRBand | None:
     """The strongest observed band within the band's range (and not of the other shape; with
-    ``strict_shape``, of the same shape when the table gives one)."""
-    tol = table.tolerance
+    ``strict_shape``, of the same shape when the table gives one, and inside the range itself:
+    the reading does not stretch a range by the scoring tolerance, so C-H bends at 1465 / 1375
+    are not read as a nitro group)."""
+    tol = 0.0 if strict_shape else table.tolerance
     hits = [
         b
         for b in observed
@@ -183,15 +188,23 @@ class IRReading:
 
 
 def read_bands(
-    observed: Sequence[IRBand], table: IRTable | None = None, *, groups: GroupTable | None = None
+    observed: Sequence[IRBand],
+    table: IRTable | None = None,
+    *,
+    groups: GroupTable | None = None,
+    allowed: Mapping[str, tuple[int, int]] | None = None,
 ) -> IRReading:
-    """The groups the band list alone indicates or argues against, in vocabulary order."""
+    """The groups the band list alone indicates or argues against, in vocabulary order.
+    ``allowed``: the case's element limits; a group needing an element (or more atoms of it)
+    than they allow is never indicated."""
     t = table or default_infrared()
     vocabulary = groups or t.groups or default_groups()
     indicated, against = [], []
     for name in vocabulary.names:
         keys = _reading_bands(t.of(name))
         if not keys:
+            continue
+        if allowed is not None and not _possible(vocabulary[name].elements, allowed):
             continue
         hits = [(b, _found(b, observed, t, strict_shape=True)) for b in keys]
         if all(hit is not None for _, hit in hits):
@@ -208,6 +221,13 @@ def read_bands(
             b = missing[0]
             against.append((name, f"no band {b.low:g}-{b.high:g} ({b.mode})"))
     return IRReading(tuple(indicated), tuple(against))
+
+
+def _possible(need: Mapping[int, int], allowed: Mapping[str, tuple[int, int]]) -> bool:
+    from .._rdkit import Chem
+
+    table = Chem.GetPeriodicTable()
+    return all(allowed.get(table.GetElementSymbol(z), (0, 0))[1] >= n for z, n in need.items())
 
 
 def _reading_bands(bands: Sequence[Band]) -> list[Band]:
@@ -308,7 +328,11 @@ class Infrared:
     def read(self, case: Case) -> Reading | None:
         if case.infrared is None or not case.infrared.bands:
             return None
-        r = read_bands(case.infrared.bands, self.table)
+        if case.formula.known is not None:
+            allowed = {s: (n, n) for s, n in case.formula.known.counts}
+        else:
+            allowed = limits_for(case.formula.elements)
+        r = read_bands(case.infrared.bands, self.table, allowed=allowed)
         lines = (
             "IR reading (the tool's, from the band list alone; judge before copying into require/forbid)",
             "  indicated: " + (", ".join(f"{g} [{w}]" for g, w in r.indicated) or "none"),

@@ -62,6 +62,7 @@ class PolyeneRules:
 class EnoneRules:
     base: Mapping[str, Number]  # ketone, ketone_5_ring, aldehyde, acid_or_ester
     extra_double_bond: Number
+    aryl_extension: Number  # an aryl ring on the far end of the chain, extending the conjugation
     homoannular_diene: Number
     exocyclic: Number
     alkyl: Mapping[str, Number]  # position -> increment
@@ -184,7 +185,16 @@ def load_uv(path: str | Path | None = None) -> UVTable:
     )
     e = _fields(
         root["enone"],
-        ["base", "extra_double_bond", "homoannular_diene", "exocyclic", "alkyl", "substituents", "solvent"],
+        [
+            "base",
+            "extra_double_bond",
+            "aryl_extension",
+            "homoannular_diene",
+            "exocyclic",
+            "alkyl",
+            "substituents",
+            "solvent",
+        ],
     )
     sub = e["substituents"]
     if not isinstance(sub.value, dict):
@@ -192,6 +202,7 @@ def load_uv(path: str | Path | None = None) -> UVTable:
     enone = EnoneRules(
         _numbers(e["base"]),
         _number(e["extra_double_bond"]),
+        _number(e["aryl_extension"]),
         _number(e["homoannular_diene"]),
         _number(e["exocyclic"]),
         _numbers(e["alkyl"]),
@@ -418,10 +429,15 @@ def _enone(mol: Mol, system: list[Bond], table: UVTable, solvent: str) -> UVPred
     if exo:
         value += exo * rules.exocyclic
         steps.append(f"{exo} exocyclic C=C +{exo * rules.exocyclic}")
+    last = len(chain) - 2
     for k, atom in enumerate(chain[1:]):
         position = _POSITIONS[min(k, 3)]
         for nb in atom.GetNeighbors():
             if nb.GetIdx() in in_chain:
+                continue
+            if k == last and k >= 1 and nb.GetIsAromatic():  # Ar-C=C-C=O: the ring extends it
+                value += rules.aryl_extension
+                steps.append(f"{position} aryl extending the conjugation +{rules.aryl_extension}")
                 continue
             kind_s = _substituent(nb, atom)
             if kind_s == "alkyl":
