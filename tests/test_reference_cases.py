@@ -67,6 +67,8 @@ def test_every_reference_case_has_a_truth_and_classes_vary():
     assert len(TRUTH) >= 20
 
 
+# one test process solves every reference case once: the aggregate test reuses its cache
+@pytest.mark.xdist_group("reference_cases")
 @pytest.mark.slow
 @pytest.mark.parametrize("name", [n for n, _ in TRUTH])
 def test_true_structure_is_never_eliminated(name, rank_of):
@@ -74,6 +76,7 @@ def test_true_structure_is_never_eliminated(name, rank_of):
     assert rank is not None, f"{name}: the true structure is not among the {total} candidates"
 
 
+@pytest.mark.xdist_group("reference_cases")
 @pytest.mark.slow
 def test_true_structure_in_top_three_for_ninety_percent(rank_of):
     ranks = {name: rank_of(name)[0] for name, _ in TRUTH}
