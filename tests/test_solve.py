@@ -117,6 +117,9 @@ def test_the_case_can_store_its_solve_options_and_the_command_line_overrides_the
     overridden = cli("solve", str(case), "--json", "--formulas", "2").json()
     assert len(overridden["formulas"]) == 2
     assert all("above the limit 5" in f["skipped"] for f in overridden["formulas"])
+    # a formula left out is said first, before the tables, since the answer may be in it
+    text = cli("solve", str(case)).out
+    assert text.index("note: C9H10O (M 134) not enumerated") < text.index("formulas kept")
 
 
 def test_bad_solve_options_are_refused(tmp_path, cli):

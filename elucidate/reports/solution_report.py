@@ -52,6 +52,9 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
     else:
         lines.append(f"molecular ion: m/z {solution.hypotheses[0]}")
     lines.append("evidence used: " + (", ".join(solution.techniques) or "none besides the formula"))
+    # what the run could not do comes first: a formula left out cannot be in the shortlist
+    for note in solution.notes:
+        lines.append(f"note: {note}")
     lines.append("")
     lines.append("formulas kept")
     rows = [["formula", "M", "isotope fit", "structures", "note"]]
@@ -102,8 +105,6 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
             score = "-" if s.score is None else f"{s.score:.3f}"
             rows.append([s.given, s.formula or "-", str(s.rank) if s.rank else "-", score, verdict])
         lines += ["  " + r for r in text_table(rows, [False, False, True, True, False])]
-    for note in solution.notes:
-        lines.append(f"note: {note}")
     return "\n".join(lines) + "\n"
 
 
