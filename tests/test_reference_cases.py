@@ -44,6 +44,14 @@ TRUTH = [
     ("2-methylbutan-2-ol", "CCC(C)(C)O"),
     ("propylbenzene", "CCCc1ccccc1"),
     ("cyclohexadiene", "C1=CCCC=C1"),
+    # conjugated diene, aryl-conjugated enal, alkyl bromide, small solvent, aliphatic amine, a
+    # tertiary alcohol with no M+
+    ("isoprene", "C=CC(C)=C"),
+    ("cinnamaldehyde", "O=CC=Cc1ccccc1"),
+    ("1-bromobutane", "CCCCBr"),
+    ("dichloromethane", "ClCCl"),
+    ("diethylamine", "CCNCC"),
+    ("2-methylpropan-2-ol", "CC(C)(C)O"),
 ]
 
 
