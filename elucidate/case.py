@@ -30,6 +30,7 @@ from .yamlnodes import (
     as_str,
     check_gap,
     mapping,
+    parse_range_text,
     parse_yaml,
     read_yaml_file,
 )
@@ -117,8 +118,9 @@ class Infrared:
 
 @dataclass(frozen=True)
 class UvVis:
-    lambda_max: tuple[float, float] | None = None  # (low, high) nm; None = no maximum > 210 nm
+    lambda_max: tuple[float, float] | None = None  # the main maximum (low, high) nm; None = none > 210 nm
     solvent: str = "ethanol"
+    others: tuple[tuple[float, float], ...] = ()  # further maxima, weaker first listed last
 
 
 @dataclass(frozen=True)
@@ -358,27 +360,60 @@ def _infrared(loc: Located) -> Infrared:
     return Infrared(tuple(bands), require, forbid)
 
 
+_UV_WHAT = "a wavelength 190-800 nm, a range such as 235-250, or none (no maximum above 210 nm)"
+_UV_STRENGTHS = ("strong", "weak")
+
+
+def _wavelength(loc: Located) -> tuple[float, float]:
+    """One maximum: a number, or an explicit range "low-high" (nm)."""
+    if isinstance(loc.value, str):
+        parsed = parse_range_text(loc.value)
+        if parsed is None or not 190 <= parsed[0] <= parsed[1] <= 800:
+            low_first = parsed is not None and parsed[0] > parsed[1]
+            raise loc.error(
+                f"range {loc.value!r}: the low end exceeds the high end" if low_first else f"expected {_UV_WHAT}"
+            )
+        return (float(parsed[0]), float(parsed[1]))
+    x = as_number(loc, minimum=190, maximum=800, what=_UV_WHAT)
+    return (x, x)
+
+
 def _uv_vis(loc: Located) -> UvVis:
-    body = mapping(loc, ["lambda_max", "solvent"], required=["lambda_max"])
-    lm = body["lambda_max"]
-    what = "a wavelength 190-800 nm, a range [low, high], or none (no maximum above 210 nm)"
+    body = mapping(loc, ["lambda_max", "maxima", "solvent"])
+    if ("lambda_max" in body) == ("maxima" in body):
+        raise loc.error("give either lambda_max (one maximum, or none) or maxima (a list of several)")
     value: tuple[float, float] | None
-    if lm.value in ("none", None):
-        value = None
-    elif isinstance(lm.value, list):
-        items = as_list(lm)
-        if len(items) != 2:
-            raise lm.error(f"expected {what}; a range has exactly two numbers")
-        low = as_number(items[0], minimum=190, maximum=800, what=what)
-        high = as_number(items[1], minimum=190, maximum=800, what=what)
-        if low > high:
-            raise lm.error(f"range [{low:g}, {high:g}]: the low end exceeds the high end")
-        value = (low, high)
+    others: list[tuple[float, float]] = []
+    if "lambda_max" in body:
+        lm = body["lambda_max"]
+        if lm.value in ("none", None):
+            value = None
+        elif isinstance(lm.value, list):
+            raise lm.error(
+                "a list is ambiguous here: write one range as 235-250, or several maxima as uv_vis.maxima: [229, 273]"
+            )
+        else:
+            value = _wavelength(lm)
     else:
-        x = as_number(lm, minimum=190, maximum=800, what=what)
-        value = (x, x)
+        ranked = []
+        for i, item in enumerate(as_list(body["maxima"], what="a list of maxima")):
+            if isinstance(item.value, dict):
+                m = mapping(item, ["nm", "strength", "log_eps"], required=["nm"])
+                band = _wavelength(m["nm"])
+                strength = as_choice(m["strength"], _UV_STRENGTHS, what="one of") if "strength" in m else None
+                log_eps = as_number(m["log_eps"], minimum=0, maximum=6, what="log ε 0-6") if "log_eps" in m else None
+            else:
+                band, strength, log_eps = _wavelength(item), None, None
+            # the main maximum: the largest log ε, else a strong one, else the first listed
+            order = (-(log_eps if log_eps is not None else -1.0), {"strong": 0, None: 1, "weak": 2}[strength], i)
+            ranked.append((order, band))
+        if not ranked:
+            raise body["maxima"].error("expected at least one maximum; write lambda_max: none for none")
+        ranked.sort()
+        value = ranked[0][1]
+        others = [band for _, band in ranked[1:]]
     solvent = as_choice(body["solvent"], SOLVENTS) if "solvent" in body else "ethanol"
-    return UvVis(value, solvent)
+    return UvVis(value, solvent, tuple(others))
 
 
 def _nmr(loc: Located) -> Nmr:

@@ -178,7 +178,9 @@ def test_known_formula_outside_limits_message():
             "infrared.forbid",
             ["both required and forbidden"],
         ),
-        ("uv_vis:\n  lambda_max: [250, 235]\n", 12, "uv_vis.lambda_max", ["exceeds"]),
+        ("uv_vis:\n  lambda_max: 250-235\n", 12, "uv_vis.lambda_max", ["exceeds"]),
+        ("uv_vis:\n  lambda_max: [235, 250]\n", 12, "uv_vis.lambda_max", ["ambiguous", "235-250", "maxima"]),
+        ("uv_vis:\n  maxima: [229, {nm: 273, strength: weakish}]\n", 12, "uv_vis.maxima[1].strength", ["weak"]),
         ("uv_vis:\n  lambda_max: 241\n  solvent: benzine\n", 13, "uv_vis.solvent", ["ethanol"]),
         (
             "nmr:\n  c13_signals: 6\n  c13_multiplicity: {CH3: 1, CH: 3, C: 1}\n",

@@ -66,3 +66,33 @@ def test_enone_solvent_correction_hexane():
 
 def test_table_validates():
     default_uv().validate()
+
+
+def _uv_assessment(smiles, uv_section):
+    from rdkit.Chem.rdMolDescriptors import CalcMolFormula
+
+    from elucidate import parse_case, parse_formula
+    from elucidate.evidence import UvVis, make_subject
+    from elucidate.generator.groups import default_groups
+
+    case = parse_case(f"schema: 1\nid: t\nuv_vis:\n{uv_section}")
+    mol = Chem.MolFromSmiles(smiles)
+    subject = make_subject(smiles, mol, parse_formula(CalcMolFormula(mol)), default_groups(), None)
+    return case, UvVis().assess(subject, case)
+
+
+def test_several_maxima_main_band_is_the_strongest():
+    case, _ = _uv_assessment("Cc1ccccc1", "  maxima: [{nm: 261, strength: weak}, {nm: 206, log_eps: 3.9}]\n")
+    assert case.uv_vis.lambda_max == (206.0, 206.0) and case.uv_vis.others == ((261.0, 261.0),)
+
+
+def test_a_benzenoid_strong_band_does_not_count_against_it():
+    # toluene, ethanol: E2 band about 206 nm (log ε 3.9) and B band about 261 nm (log ε 2.4)
+    # (common practice, from memory); the rules predict the B band only
+    _, a = _uv_assessment("Cc1ccccc1", "  maxima: [{nm: 206, log_eps: 3.9}, {nm: 261, log_eps: 2.4}]\n")
+    assert a.against == 0.0 and 0 < a.unexplained < 1.0
+
+
+def test_an_explicit_range_is_read_as_one_maximum():
+    case, a = _uv_assessment("CC(C)=CC(C)=O", "  lambda_max: 235-240\n")
+    assert case.uv_vis.lambda_max == (235.0, 240.0) and a.against == 0.0

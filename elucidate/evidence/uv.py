@@ -93,6 +93,7 @@ class UVScoring:
     unexplained_near: Number  # observed but no chromophore: within this many tolerances above the floor
     unexplained_near_score: Number
     unexplained_score: Number
+    extra_maximum: Number  # nats (unexplained) per further observed maximum no prediction explains
 
 
 @dataclass(frozen=True, eq=False)
@@ -237,6 +238,7 @@ def load_uv(path: str | Path | None = None) -> UVTable:
         "unexplained_near",
         "unexplained_near_score",
         "unexplained_score",
+        "extra_maximum",
     ]
     sc = mapping(root["scoring"], ["source", *score_keys], required=score_keys)
     scoring = UVScoring(*(_number(sc[k], minimum=0, what="a number of 0 or more") for k in score_keys))
@@ -643,11 +645,23 @@ class UvVis:
                 against = cost
                 text = f"UV: no chromophore to absorb above {floor:g} nm, observed {_range(observed)} nm"
         else:
-            low, high = observed
-            d = max(low - predicted, predicted - high, 0.0)
+            # the rules predict one band; it is matched with the nearest observed maximum, and
+            # every other maximum is data the rules do not cover (a benzenoid's strong band
+            # below its predicted B band, an n-π* band, a second chromophore)
+            bands = [observed, *case.uv_vis.others]
+            gaps = [max(low - predicted, predicted - high, 0.0) for low, high in bands]
+            d = min(gaps)
             against = 0.0 if d <= tol else 0.5 * ((d - tol) / tol) ** 2
-            text = f"UV: predicted {predicted:g} nm ({p.rule}), observed {_range(observed)} nm"
-        detail = {"predicted": predicted, "rule": p.rule, "steps": list(p.steps), "observed": observed}
+            unexplained = float(sc.extra_maximum) * (len(bands) - 1)
+            matched = bands[gaps.index(d)]
+            text = f"UV: predicted {predicted:g} nm ({p.rule}), observed {_range(matched)} nm"
+        detail = {
+            "predicted": predicted,
+            "rule": p.rule,
+            "steps": list(p.steps),
+            "observed": observed,
+            "others": [list(b) for b in case.uv_vis.others],
+        }
         return Assessment(self.name, against, unexplained, (text,), detail)
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
