@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
 
@@ -276,6 +276,15 @@ def check_formula(
     return None
 
 
+def _columns(arr: np.ndarray, symbols: list[str]) -> Callable[[str], np.ndarray]:
+    """The count column of an element (zeros for an element not searched)."""
+
+    def col(sym: str) -> np.ndarray:
+        return arr[:, symbols.index(sym)] if sym in symbols else np.zeros(arr.shape[0], dtype=np.int64)
+
+    return col
+
+
 def ratio_violations(
     arr: np.ndarray,
     symbols: list[str],
@@ -288,8 +297,7 @@ def ratio_violations(
     if query.element_ratios == "off" or rows == 0:
         return np.zeros(rows, dtype=bool)
 
-    def col(sym: str) -> np.ndarray:
-        return arr[:, symbols.index(sym)] if sym in symbols else np.zeros(rows, dtype=np.int64)
+    col = _columns(arr, symbols)
 
     nominal = arr @ np.array([table[s].nominal_mass for s in symbols], dtype=np.int64)
     c = col("C")
@@ -344,8 +352,7 @@ def first_failure_codes(
     if rows == 0:
         return out
 
-    def col(sym: str) -> np.ndarray:
-        return arr[:, symbols.index(sym)] if sym in symbols else np.zeros(rows, dtype=np.int64)
+    col = _columns(arr, symbols)
 
     def mark(code: int, failed: np.ndarray) -> None:
         out[(out < 0) & failed] = code
