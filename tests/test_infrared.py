@@ -106,3 +106,26 @@ def test_scores_prefer_the_group_that_explains_the_band(smiles, better, worse):
         return ir.assess(make_subject(s, mol, parse_formula("C4H8O"), GROUPS, None), case).score
 
     assert score(better) > score(worse)
+
+
+@pytest.mark.parametrize(
+    "bands,group,present",
+    [
+        # 1-hexene: C=C 1642 with the vinyl bends 993 / 910 (UMass OWL table; common practice)
+        ("    - {at: 1642, strength: medium}\n    - {at: 910, strength: strong}\n", "alkene", True),
+        ("    - {at: 1642, strength: medium}\n", "alkene", False),
+        # toluene: Ar-H 3030, ring stretches 1605 / 1495 (UCLA WebSpectra; common practice)
+        (
+            (
+                "    - {at: 3030, strength: weak}\n    - {at: 1605, strength: medium}\n"
+                "    - {at: 1495, strength: medium}\n"
+            ),
+            "aromatic_ring",
+            True,
+        ),
+        ("    - {at: 3030, strength: weak}\n", "aromatic_ring", False),
+    ],
+)
+def test_reading_recognises_band_patterns(bands, group, present):
+    indicated = {g for g, _ in read_bands(_case(bands).infrared.bands).indicated}
+    assert (group in indicated) == present

@@ -16,7 +16,7 @@ to copy into ``infrared.require`` / ``forbid`` after judging it.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Literal
@@ -80,12 +80,17 @@ class IRTable:
     fingerprint_below: float
     source: str = ""
     groups: GroupTable | None = None
+    #: groups the reading indicates from a combination of bands (all present)
+    patterns: Mapping[str, tuple[Band, ...]] = field(default_factory=dict)
 
     def of(self, group: str) -> tuple[Band, ...]:
         return self.bands.get(group, ())
 
     def validate(self) -> None:
         vocabulary = self.groups or default_groups()
+        for name in self.patterns:
+            if name not in vocabulary:
+                raise ElucidateError(f"{name!r} is not a group of groups.yaml", key=f"reading_patterns.{name}")
         for name, bands in self.bands.items():
             if name not in vocabulary:
                 raise ElucidateError(f"{name!r} is not a group of groups.yaml", key=f"bands.{name}")
@@ -128,7 +133,11 @@ def _band(loc: Located) -> Band:
 def load_infrared(path: str | Path | None = None, *, groups: GroupTable | None = None) -> IRTable:
     file = Path(path) if path is not None else table_path("infrared.yaml")
     document = read_yaml_file(file)
-    root = mapping(document, ["source", "regions", "scoring", "bands"], required=["regions", "scoring", "bands"])
+    root = mapping(
+        document,
+        ["source", "regions", "reading_patterns", "scoring", "bands"],
+        required=["regions", "scoring", "bands"],
+    )
     regions = []
     for item in as_list(root["regions"], what="a list of regions"):
         r = mapping(item, ["from", "to", "what"], required=["from", "to", "what"])
@@ -144,6 +153,14 @@ def load_infrared(path: str | Path | None = None, *, groups: GroupTable | None =
     bands = {
         str(name): tuple(_band(b) for b in as_list(loc, what="a list of bands")) for name, loc in body.value.items()
     }
+    patterns: dict[str, tuple[Band, ...]] = {}
+    if "reading_patterns" in root:
+        ploc = root["reading_patterns"]
+        if not isinstance(ploc.value, dict):
+            raise ploc.error("expected a mapping of group names to band lists")
+        patterns = {
+            str(name): tuple(_band(b) for b in as_list(loc, what="a list of bands")) for name, loc in ploc.value.items()
+        }
     table = IRTable(
         bands=bands,
         regions=tuple(regions),
@@ -154,6 +171,7 @@ def load_infrared(path: str | Path | None = None, *, groups: GroupTable | None =
         fingerprint_below=as_number(sc["fingerprint_below"], minimum=400, maximum=4000, what="a wavenumber"),
         source=as_str(root["source"]) if "source" in root else "",
         groups=groups,
+        patterns=patterns,
     )
     return validated(table, document)
 
@@ -201,13 +219,17 @@ def read_bands(
     vocabulary = groups or t.groups or default_groups()
     indicated, against = [], []
     for name in vocabulary.names:
+        if allowed is not None and not _possible(vocabulary[name].elements, allowed):
+            continue
+        pattern = t.patterns.get(name, ())
+        seen = [(b, _found(b, observed, t, strict_shape=True)) for b in pattern]
+        if pattern and all(hit is not None for _, hit in seen):
+            indicated.append((name, ", ".join(f"{hit.at:g} ({b.mode})" for b, hit in seen if hit is not None)))
         keys = _reading_bands(t.of(name))
         if not keys:
             continue
-        if allowed is not None and not _possible(vocabulary[name].elements, allowed):
-            continue
         hits = [(b, _found(b, observed, t, strict_shape=True)) for b in keys]
-        if all(hit is not None for _, hit in hits):
+        if all(hit is not None for _, hit in hits) and name not in dict(indicated):
             where = ", ".join(f"{hit.at:g} ({b.mode})" for b, hit in hits if hit is not None)
             indicated.append((name, where))
         missing = [
