@@ -461,6 +461,7 @@ class Fragments:
         self.table = table or default_fragments()
         self.elements = elements or default_elements()
         self.losses = losses or default_neutral_losses()
+        self._usual = self.losses.by_mass()  # built once, not per candidate
 
     def applies(self, case: Case) -> bool:
         return case.mass_spec is not None and len(case.mass_spec.peaks) > 1
@@ -479,7 +480,7 @@ class Fragments:
         total = sum(scored.values())
         pieces: dict[int, Piece] | None = None  # built when a peak needs them
         m = subject.molecular_ion
-        usual = self.losses.by_mass()
+        usual = self._usual
         halogens = _halogens(mol, (1 << mol.GetNumAtoms()) - 1)
         found: dict[int, tuple[str, float, int]] = {}  # m/z -> (explanation, credit, halogens)
         for mz in sorted(scored):  # ascending, so an isotope partner's parent is settled first

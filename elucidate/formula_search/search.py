@@ -331,7 +331,7 @@ def _demotions(
     if query.enforce_ratios or query.element_ratios == "off":
         return np.zeros(rows, dtype=bool), np.zeros(rows)
     extended = ratio_violations(arr, symbols, replace(query, element_ratios="extended"), table, rules)
-    asked = ratio_violations(arr, symbols, query, table, rules)
+    asked = extended if query.element_ratios == "extended" else ratio_violations(arr, symbols, query, table, rules)
     nats = np.where(extended, rules.ratio_demotion["extended"], np.where(asked, rules.ratio_demotion["common"], 0.0))
     return asked | extended, nats
 
