@@ -17,7 +17,7 @@ import sys
 import time
 
 from elucidate import FormulaQuery, ObservedCluster, default_rules, derive_formulas
-from elucidate.formula_search import composition_array
+from elucidate.formula_search.search import composition_array
 
 
 def best_of(fn, repeat: int) -> float:

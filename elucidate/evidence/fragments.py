@@ -352,9 +352,13 @@ def graph_pieces(mol: Mol, *, elements: ElementTable | None = None) -> dict[int,
         for a, b in pairs:
             adj[a] &= ~(1 << b)
             adj[b] &= ~(1 << a)
+        covered = 0  # atoms of the components already found for this cut
         for a, b in pairs:
             for start in (a, b):
+                if covered >> start & 1:
+                    continue
                 mask = component(start, adj)
+                covered |= mask
                 if mask != whole and masks.get(mask, 3) > len(pairs):
                     masks[mask] = len(pairs)
 
