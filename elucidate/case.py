@@ -142,6 +142,7 @@ class SolveOptions:
 
     formulas: int | None = None  # formulas kept per molecular ion
     limit: int | None = None  # largest estimated structure space enumerated per formula
+    worse_formulas: bool | None = None  # also solve formulas fitting much worse than one skipped
 
 
 @dataclass(frozen=True)
@@ -434,14 +435,15 @@ def _nmr(loc: Located) -> Nmr:
 
 
 def _solve_options(loc: Located) -> SolveOptions:
-    body = mapping(loc, ["formulas", "limit"])
+    body = mapping(loc, ["formulas", "limit", "worse_formulas"])
     formulas = (
         as_int(body["formulas"], minimum=1, maximum=1000, what="formulas per molecular ion, 1-1000")
         if "formulas" in body
         else None
     )
     limit = as_int(body["limit"], minimum=1, what="a structure count of 1 or more") if "limit" in body else None
-    return SolveOptions(formulas, limit)
+    worse = as_bool(body["worse_formulas"]) if "worse_formulas" in body else None
+    return SolveOptions(formulas, limit, worse)
 
 
 def _structure(loc: Located) -> StructureSpec:

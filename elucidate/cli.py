@@ -220,6 +220,15 @@ def build_parser() -> argparse.ArgumentParser:
             f"(default: the case's solve.limit, else {SOLVER_LIMIT:,.0f})"
         ),
     )
+    v.add_argument(
+        "--worse-formulas",
+        action="store_true",
+        default=None,
+        help=(
+            "also enumerate formulas that fit the isotope cluster much worse than a formula skipped for "
+            "size (default: the case's solve.worse_formulas, else they are named and left)"
+        ),
+    )
     return parser
 
 
@@ -501,7 +510,8 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
     # the command line overrides the case's own solve section, which overrides the defaults
     formulas = args.formulas or case.solve.formulas or FORMULAS_PER_ION
     limit = int(args.limit) if args.limit is not None else (case.solve.limit or SOLVER_LIMIT)
-    solution = solve(case, limit=limit, max_formulas=formulas, workers=args.workers)
+    worse = bool(args.worse_formulas or case.solve.worse_formulas)
+    solution = solve(case, limit=limit, max_formulas=formulas, workers=args.workers, worse_formulas=worse)
     if args.json:
         json.dump(solve_json(solution, top=args.top), out, indent=1)
         out.write("\n")

@@ -135,3 +135,17 @@ def test_neutral_loss_table_validates_and_a_repeated_loss_is_located(tmp_path):
     with pytest.raises(ElucidateError, match="listed twice") as info:
         load_neutral_losses(bad)
     assert info.value.line == 3
+
+
+def test_implausible_losses_are_the_published_gaps_and_never_a_listed_loss(tmp_path):
+    from elucidate.evidence.fragments import default_neutral_losses, load_neutral_losses
+
+    table = default_neutral_losses()
+    # McLafferty & Turecek (from memory): losses of about 3-14 and 21-25 u from M+ are implausible
+    assert [table.is_implausible(d) for d in (2, 3, 14, 15, 20, 21, 25, 26)] == [
+        False, True, True, False, False, True, True, False,
+    ]  # fmt: skip
+    bad = tmp_path / "neutral_losses.yaml"
+    bad.write_text("implausible: [3-14]\nlosses:\n  - {loss: 14, neutral: CH2, first: false}\n")
+    with pytest.raises(ElucidateError, match="also listed as implausible"):
+        load_neutral_losses(bad)

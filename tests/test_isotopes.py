@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 
 from elucidate import ObservedCluster, isotope_pattern, parse_formula, read_cluster
+from elucidate.formula_search import FormulaQuery, derive_formulas
 from elucidate.formula_search.isotopes import IsotopeTolerance, chi2_matrix, cluster_matrix, fit_cluster
 
 
@@ -106,7 +107,41 @@ def test_unlisted_peak_above_threshold_counts_as_zero():
     observed = ObservedCluster.from_peaks(112, {112: 100, 113: 6.6, 77: 5})
     fit = fit_cluster(isotope_pattern(parse_formula("C6H5Cl")), observed)
     assert any(k == 2 and obs == 0.0 for k, obs, _, _ in fit.compared)
-    assert fit.score < 1e-6
+    # a missing peak costs a bounded amount: z² capped at the table's unlisted_cap (3 sigma)
+    assert fit.chi2 == pytest.approx(9.0, abs=0.01)
+    benzene_like = fit_cluster(isotope_pattern(parse_formula("C7H12O")), observed)
+    assert benzene_like.score > fit.score
+
+
+def test_a_listed_peak_at_the_wrong_height_costs_more_than_a_missing_one():
+    # common practice: an M+2 listed at 0 % is stronger evidence than an M+2 left out
+    missing = ObservedCluster.from_peaks(112, {112: 100, 113: 6.6, 77: 5})
+    listed = ObservedCluster.from_peaks(112, {112: 100, 113: 6.6, 114: 0.0001, 77: 0.0001})
+    pattern = isotope_pattern(parse_formula("C6H5Cl"))
+    assert fit_cluster(pattern, listed).chi2 > 5 * fit_cluster(pattern, missing).chi2
+
+
+def _bromide_query(peaks: dict[int, float]) -> FormulaQuery:
+    limits = {"C": (0, 12), "H": (0, 30), "N": (0, 2), "O": (0, 3), "Br": (0, 2), "Cl": (0, 2), "S": (0, 1)}
+    return FormulaQuery(136, limits, (0, 20), cluster=ObservedCluster.from_peaks(136, peaks))
+
+
+def test_a_bromine_cluster_missing_its_m1_still_ranks_the_bromide_first():
+    # 1-bromobutane C4H9Br, M 136 with M+2 97 % of M (79Br/81Br, IUPAC abundances) and M+1 left
+    # out of a list that reports 0.1 % peaks: the Br formula must rank first (it fits on M+2)
+    query = _bromide_query({136: 97, 138: 94, 139: 0.1, 57: 100, 41: 60, 29: 40, 27: 30})
+    result = derive_formulas(query, top=3)
+    assert str(result.kept[0].formula) == "C4H9Br"
+
+
+def test_a_cluster_every_formula_fits_badly_falls_back_to_the_reading_by_eye():
+    # an interfering ion at M+3 (20 % of M) spoils every fit; the 97 % M+2 still means one Br
+    query = _bromide_query({136: 97, 137: 4.4, 138: 94, 139: 20, 57: 100, 41: 60})
+    result = derive_formulas(query, top=3)
+    assert result.poor_cluster
+    assert any("by-eye reading (Br1)" in n for n in result.notes)
+    assert all(c.formula.get("Br") == 1 for c in result.kept)
+    assert str(result.kept[0].formula) == "C4H9Br"
 
 
 def test_weak_molecular_ion_widens_tolerance():

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from elucidate import parse_case
-from elucidate.solver import molecular_ion_hypotheses, solve
+from elucidate.solver import molecular_ion_hypotheses, rank_hypotheses, solve
 
 DEMO = str(Path(__file__).resolve().parents[1] / "cases" / "cr-0509-i.yaml")
 
@@ -87,8 +87,52 @@ def test_contradictory_constraints_are_named(tmp_path, cli):
 
 def test_unknown_molecular_ion_hypotheses():
     case = parse_case("schema: 1\nid: u\nmass_spec:\n  molecular_ion: unknown\n  peaks: {73: 25, 59: 100, 55: 40}\n")
-    # the highest peak and that peak + CH3 15, OH 17, H2O 18 (common practice)
-    assert molecular_ion_hypotheses(case) == (73, 88, 90, 91)
+    # the highest peak + CH3 15, OH 17, H2O 18 explain 73, 59 and 55 by usual losses (Lange's
+    # 7.8.2.4); 73 itself as M would need a loss of 14 u to the base peak, which no usual
+    # fragmentation gives (McLafferty & Turecek, from memory), so it is not tried
+    assert molecular_ion_hypotheses(case)[:3] == (88, 90, 91)
+    assert 73 not in molecular_ion_hypotheses(case)
+
+
+# 2-methyl-2-butanol, EI (from memory: 73 M-15, 59 M-29 base, 55 M-18-15, 45, 43, 41, 31; no M+ 88)
+TERT_AMYL = {73: 25, 59: 100, 55: 40, 45: 10, 43: 30, 41: 25, 31: 20}
+
+
+def test_hypotheses_are_ranked_by_the_upper_spectrum_and_every_one_is_said():
+    ranked = rank_hypotheses(TERT_AMYL)
+    assert ranked[0].m == 88 and ranked[0].loss == 15
+    dropped = {h.m: h for h in ranked if not h.kept}
+    assert 73 in dropped and dropped[73].implausible == (59,)
+    assert "worse than M 88" in (dropped[73].why or "")
+    # every first loss of the table was considered: 0 and the nine usual first losses
+    assert sorted(h.loss for h in ranked) == [0, 15, 17, 18, 29, 31, 43, 45, 59, 60]
+    assert sum(h.kept for h in ranked) <= 4
+
+
+def test_a_chlorine_partner_is_not_taken_as_the_highest_peak():
+    # a C-Cl fragment pair 93/95 at about 3:1 (35Cl/37Cl, IUPAC abundances): 95 is the partner
+    ranked = rank_hypotheses({95: 10, 93: 30, 57: 100, 41: 50})
+    assert {h.highest for h in ranked} == {93}
+
+
+def test_the_report_names_every_hypothesis_and_every_formula_not_tried(cli, tmp_path):
+    case = tmp_path / "u3.yaml"
+    case.write_text(
+        "schema: 1\nid: u3\nmass_spec:\n  molecular_ion: unknown\n  peaks: {73: 25, 59: 100, 55: 40}\n"
+        "formula:\n  elements: {C: 0-8, H: 0-20, N: 0-2, O: 0-3}\ninfrared:\n  bands: [3380]\n  require: [alcohol]\n",
+        encoding="utf-8",
+    )
+    res = cli("solve", str(case), "--json", "--formulas", "2")
+    data = res.json()
+    considered = data["molecular_ion_considered"]
+    assert [h["m"] for h in considered if h["kept"]] == data["molecular_ion_hypotheses"]
+    assert any(not h["kept"] and h["why"] for h in considered)
+    untried = data["formulas_not_tried"]
+    assert untried and all("parsimony" in u["why"] for u in untried)
+    tried = {(f["formula"], f["molecular_ion"]) for f in data["formulas"]}
+    assert not tried & {(u["formula"], u["molecular_ion"]) for u in untried}
+    text = cli("solve", str(case), "--formulas", "2").out
+    assert "not tried: M 73" in text and "formulas not tried" in text
 
 
 def test_unknown_molecular_ion_candidates_say_which_m(tmp_path):
@@ -129,3 +173,58 @@ def test_bad_solve_options_are_refused(tmp_path, cli):
     res = cli("check", str(case))
     assert res.code == 1 and "formulaz" in res.err
     assert cli("solve", DEMO, "--limit", "0").code == 1
+
+
+MS_ONLY_100 = (
+    "schema: 1\nid: ms100\nmass_spec:\n  molecular_ion: 100\n"
+    "  peaks: {100: 20, 101: 1.4, 102: 0.2, 85: 30, 58: 100, 43: 80}\n"
+    "formula:\n  elements: {C: 0-10, H: 0-24, O: 0-2}\n"
+)
+
+
+def test_a_formula_skipped_for_size_is_named_first_with_advice_and_worse_ones_wait(cli, tmp_path):
+    # C8H4 (M 100) has thousands of isomers (Knuth estimate); with --limit 3000 it is skipped, and
+    # the formula ranked below it (C7O, demoted by Kind & Fiehn) is held back unless asked
+    case = tmp_path / "ms100.yaml"
+    case.write_text(MS_ONLY_100, encoding="utf-8")
+    text = cli("solve", str(case), "--limit", "3000", "--details", "0").out
+    notes = [line for line in text.splitlines() if line.startswith("note:")]
+    first_table = text.index("formulas kept")
+    assert notes and all(text.index(n) < first_table for n in notes)
+    assert any(
+        "C8H4 (M 100) not enumerated" in n and "would bring it under the limit: aromatic_ring" in n for n in notes
+    )
+    assert any("C7O (M 100) not enumerated" in n and "ranks below C8H4" in n for n in notes)
+    data = cli("solve", str(case), "--limit", "3000", "--json").json()
+    held = {f["formula"]: f for f in data["formulas"]}
+    assert held["C7O"]["structures"] == 0 and "--worse-formulas" in held["C7O"]["skipped"]
+    asked = cli("solve", str(case), "--limit", "3000", "--json", "--worse-formulas").json()
+    assert {f["formula"]: f for f in asked["formulas"]}["C7O"]["structures"] > 0
+    # the case can ask for the same in its solve section
+    case.write_text(MS_ONLY_100 + "solve:\n  worse_formulas: true\n  limit: 3000\n", encoding="utf-8")
+    stored = cli("solve", str(case), "--json").json()
+    assert {f["formula"]: f for f in stored["formulas"]}["C7O"]["structures"] > 0
+
+
+def test_group_advice_names_only_groups_the_formula_can_hold():
+    # C8H4 (no O, no halogen) can hold an aromatic ring or a C≡C but never a ketone or a halide
+    # (IUPAC Gold Book group definitions, groups.yaml); each size given is the Knuth estimate
+    # the solver itself uses with that group declared, and a group the generator can realise
+    # has a positive exact count
+    from elucidate.formula import parse_formula
+    from elucidate.generator import GeneratorOptions, count_isomers
+    from elucidate.generator.groups import default_groups
+    from elucidate.generator.selection import Selection
+    from elucidate.solver.advice import could_hold, group_estimates
+
+    options = GeneratorOptions(selection=Selection(profile="stable"))
+    sizes = dict(group_estimates(parse_formula("C8H4"), options, default_groups()))
+    assert {"aromatic_ring", "alkyne"} <= set(sizes)
+    assert not {"ketone", "alkyl_halide", "aryl_halide"} & set(sizes)
+    for group in ("aromatic_ring", "alkyne"):
+        exact = count_isomers(
+            parse_formula("C8H4"), GeneratorOptions(selection=Selection(require=(group,), profile="stable"))
+        )
+        assert exact > 0
+    assert could_hold("[CX4][F,Cl,Br,I]", parse_formula("C4H9Br"))
+    assert not could_hold("[CX4][F,Cl,Br,I]", parse_formula("C4H10O"))

@@ -32,7 +32,7 @@ from ..errors import ElucidateError
 from ..formula import Formula
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
-from ..yamlnodes import as_bool, as_choice, as_int, as_list, as_number, as_str, mapping, read_yaml_file
+from ..yamlnodes import as_bool, as_choice, as_int, as_list, as_number, as_range, as_str, mapping, read_yaml_file
 from .base import Assessment, Reading, Subject
 
 if TYPE_CHECKING:
@@ -279,6 +279,9 @@ class NeutralLoss:
 class NeutralLossTable:
     losses: tuple[NeutralLoss, ...]
     source: str = ""
+    #: losses from M+ that no usual fragmentation gives (inclusive ranges, u): a peak that far
+    #: below a supposed M argues that M is not the molecular ion
+    implausible: tuple[tuple[int, int], ...] = ()
 
     def validate(self) -> None:
         seen: set[int] = set()
@@ -286,6 +289,11 @@ class NeutralLossTable:
             if item.loss in seen:
                 raise ElucidateError(f"loss {item.loss} is listed twice", key=f"losses[{i}].loss")
             seen.add(item.loss)
+            if self.is_implausible(item.loss):
+                raise ElucidateError(f"loss {item.loss} is also listed as implausible", key=f"losses[{i}].loss")
+
+    def is_implausible(self, loss: int) -> bool:
+        return any(low <= loss <= high for low, high in self.implausible)
 
     def by_mass(self) -> dict[int, NeutralLoss]:
         return {item.loss: item for item in self.losses}
@@ -294,14 +302,19 @@ class NeutralLossTable:
 def load_neutral_losses(path: str | Path | None = None) -> NeutralLossTable:
     file = Path(path) if path is not None else table_path("neutral_losses.yaml")
     document = read_yaml_file(file)
-    root = mapping(document, ["source", "losses"], required=["losses"])
+    root = mapping(document, ["source", "losses", "implausible"], required=["losses"])
     losses = []
     for item in as_list(root["losses"], what="a list of losses"):
         r = mapping(item, ["loss", "neutral", "first"], required=["loss", "neutral", "first"])
         losses.append(
             NeutralLoss(as_int(r["loss"], minimum=1, what="a nominal mass"), as_str(r["neutral"]), as_bool(r["first"]))
         )
-    table = NeutralLossTable(tuple(losses), as_str(root["source"]) if "source" in root else "")
+    implausible = (
+        tuple(as_range(item) for item in as_list(root["implausible"], what="a list of ranges such as 3-14"))
+        if "implausible" in root
+        else ()
+    )
+    table = NeutralLossTable(tuple(losses), as_str(root["source"]) if "source" in root else "", implausible)
     return validated(table, document)
 
 

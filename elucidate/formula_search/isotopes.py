@@ -116,6 +116,9 @@ class IsotopeTolerance:
     #: an unlisted M+k counts as observed 0 only when predicted above this many times the
     #: smallest intensity in the peak list (clearly above what the list reports)
     unlisted_factor: float = 2.0
+    #: the most an unlisted M+k taken as observed 0 adds to chi-square (z² capped): a peak left
+    #: out of the list is weaker evidence than a peak listed at the wrong height
+    unlisted_cap: float = 9.0
 
     def unlisted_counts(
         self, predicted_in_spectrum: float, threshold: float, complete_above: float | None = None
@@ -193,8 +196,9 @@ def chi2_matrix(
     Returns ``(chi2, z, used)``: chi-square per row, and per row and offset the z value and
     whether that offset was compared. Offsets compared: every listed M+k, and every unlisted M+k
     whose predicted intensity in the spectrum (% of base) is clearly above the smallest listed
-    intensity (``tolerance.unlisted_factor`` times it), taken as observed 0 (it would have been
-    listed).
+    intensity (``tolerance.unlisted_factor`` times it) or above the level the list claims to be
+    complete to, taken as observed 0 (it would have been listed) with its z² capped at
+    ``tolerance.unlisted_cap``: one missing peak costs a bounded amount.
     """
     pred = np.atleast_2d(predicted)[:, 1:]
     offsets = np.arange(1, pred.shape[1] + 1)
@@ -208,7 +212,8 @@ def chi2_matrix(
     used = listed[None, :] | unlisted_used
     sigma = tolerance.relative * pred + tolerance.absolute + tolerance.reading * 100.0 / observed.m_intensity
     z = np.where(used, (obs[None, :] - pred) / sigma, 0.0)
-    return (z * z).sum(axis=1), z, used
+    z2 = np.where(listed[None, :], z * z, np.minimum(z * z, tolerance.unlisted_cap))
+    return z2.sum(axis=1), z, used
 
 
 def fit_cluster(
@@ -238,11 +243,13 @@ def fit_cluster(
 class ClusterReading:
     """What the M+1 / M+2 / M+4 peaks say on their own, as a chemist reads them."""
 
-    heavy_atoms: str  # e.g. "Cl1", "Br2", "S1", "none" or "Cl1 or Br1?"
+    heavy_atoms: str  # e.g. "Cl1", "Br2", "S1", "none" or "Cl1 (or Br1)"
     heavy_fit: float
     carbon_estimate: float | None
     carbon_range: tuple[int, int] | None
     notes: tuple[str, ...]
+    #: the best-read heavy-atom set (empty: none), None when the M+2 pattern could not be read
+    heavy_counts: Mapping[str, int] | None = None
 
 
 def _label(counts: Mapping[str, int]) -> str:
@@ -329,4 +336,4 @@ def read_cluster(
                 f"M+1 = {observed.ratios[1]:.1f} % of M+: about {carbon:.1f} C at {per_c:.2f} % per C "
                 f"(range {low}-{high}; H, N and O add a little)"
             )
-    return ClusterReading(best[1], best[0], carbon, c_range, tuple(notes))
+    return ClusterReading(best[1], best[0], carbon, c_range, tuple(notes), heavy_counts if scores else None)

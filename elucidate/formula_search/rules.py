@@ -61,6 +61,8 @@ class FormulaRules:
     rule13_removals: Mapping[str, Mapping[str, int]]
     isotope_tolerance: IsotopeTolerance = field(default_factory=IsotopeTolerance)
     isotope_max_offset: int = 8
+    #: below this best isotope fit the cluster is unreliable: the by-eye reading orders formulas
+    isotope_poor_fit: float = 0.01
     #: nats a formula that breaks the Kind & Fiehn rules at a level is demoted by, when they are
     #: not enforced ("extended" also for the count rules)
     ratio_demotion: Mapping[str, float] = field(default_factory=lambda: {"common": 0.1, "extended": 2.3})
@@ -170,8 +172,8 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
     }
     fit = mapping(
         root["isotope_fit"],
-        ["source", "relative", "absolute", "reading", "unlisted_factor", "max_offset"],
-        required=["relative", "absolute", "reading", "unlisted_factor", "max_offset"],
+        ["source", "relative", "absolute", "reading", "unlisted_factor", "unlisted_cap", "poor_fit", "max_offset"],
+        required=["relative", "absolute", "reading", "unlisted_factor", "unlisted_cap", "poor_fit", "max_offset"],
     )
     reading = mapping(root["isotope_reading"], ["source", "heavy_sets"], required=["heavy_sets"])
     heavy_sets = tuple(_counts(item) for item in as_list(reading["heavy_sets"], what="a list of element counts"))
@@ -187,8 +189,10 @@ def load_formula_rules(path: str | Path | None = None, table: ElementTable | Non
             absolute=as_number(fit["absolute"], minimum=0),
             reading=as_number(fit["reading"], minimum=0),
             unlisted_factor=as_number(fit["unlisted_factor"], minimum=1),
+            unlisted_cap=as_number(fit["unlisted_cap"], minimum=0),
         ),
         isotope_max_offset=as_int(fit["max_offset"], minimum=2, maximum=20),
+        isotope_poor_fit=float(as_number(fit["poor_fit"], minimum=0, what="a fit between 0 and 1")),
         ratio_demotion={
             level: float(as_number(v, minimum=0, what="nats of 0 or more"))
             for level, v in mapping(kf["demotion"], ["common", "extended"], required=["common", "extended"]).items()

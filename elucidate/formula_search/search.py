@@ -106,6 +106,8 @@ class FormulaResult:
     rule13: RuleOf13 | None = None
     reading: ClusterReading | None = None
     notes: tuple[str, ...] = field(default=())
+    #: every formula fits the cluster below the rules' poor_fit: ranked by the by-eye reading
+    poor_cluster: bool = False
 
 
 # ------------------------------------------------------------------ enumeration
@@ -435,7 +437,26 @@ def derive_formulas(
     rare = good[:, [j for j, s in enumerate(symbols) if s not in ("C", "H", "N", "O")]].sum(axis=1)
     carbons = good[:, symbols.index("C")] if "C" in symbols else np.zeros(n_good, dtype=np.int64)
     score_class = np.floor(ranked / SCORE_STEP + 0.5 + 1e-9)
-    order = np.lexsort((np.arange(n_good), -carbons, hetero, rare, np.round(ppm, 9), demoted, -score_class))
+    notes: list[str] = []
+    reading = None
+    if query.cluster is not None:
+        reading = read_cluster(query.cluster, t, r.isotope_tolerance, allowed=query.elements, heavy_sets=r.heavy_sets)
+    # When even the best formula fits the cluster badly, the cluster is unreliable as a whole (an
+    # interfering ion, a mistyped peak); a chemist then trusts the M+2/M+4 pattern read by eye
+    # (a 97 % M+2 means Br whatever else is wrong): formulas agreeing with it rank first.
+    disagrees = np.zeros(n_good, dtype=bool)
+    poor = query.cluster is not None and n_good > 0 and float(score.max()) < r.isotope_poor_fit
+    if poor and reading is not None and reading.heavy_counts is not None:
+        col = _columns(good, symbols)
+        heavy = sorted({s for h in r.heavy_sets for s in h})
+        for sym in heavy:
+            disagrees |= col(sym) != reading.heavy_counts.get(sym, 0)
+        notes.append(
+            f"every formula fits the isotope cluster poorly (best fit {float(score.max()):.3g}): the cluster "
+            f"may hold an interfering or mistyped peak; formulas agreeing with the by-eye reading "
+            f"({reading.heavy_atoms}) are ranked first"
+        )
+    order = np.lexsort((np.arange(n_good), -carbons, hetero, rare, np.round(ppm, 9), demoted, -score_class, disagrees))
     if top is not None and top > 0:
         order = order[:top]
     kept = []
@@ -448,11 +469,8 @@ def derive_formulas(
         if demoted[i]:
             why = kind_fiehn(formula, r, "extended") or kind_fiehn(formula, r, query.element_ratios)
         kept.append(_candidate(formula, query, t, fit=fit, demoted_by=why, demotion=float(demotion[i])))
-    notes: list[str] = []
-    reading = None
-    if query.cluster is not None:
-        reading = read_cluster(query.cluster, t, r.isotope_tolerance, allowed=query.elements, heavy_sets=r.heavy_sets)
-        notes.extend(reading.notes)
+    if reading is not None:
+        notes[:0] = reading.notes
         best_kept = float(score.max()) if n_good else 0.0
         warning = (
             _heuristic_warning(arr[failed == 4], symbols, query, t, r, best_kept) if query.enforce_ratios else None
@@ -475,6 +493,7 @@ def derive_formulas(
         rule13=rule13,
         reading=reading,
         notes=tuple(notes),
+        poor_cluster=bool(poor),
     )
 
 

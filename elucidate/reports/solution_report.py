@@ -13,7 +13,10 @@ from ..solver import Ranked, Solution
 from ..solver.hypotheses import first_losses
 from .layout import CAUTION, text_table
 
-__all__ = ["solve_json", "solve_text"]
+__all__ = ["UNTRIED_SHOWN", "solve_json", "solve_text"]
+
+#: formulas not tried named per molecular ion in the text report (JSON names them all)
+UNTRIED_SHOWN = 20
 
 
 def _techniques() -> list[Technique]:
@@ -36,7 +39,11 @@ def _detail(c: Ranked, by_name: dict[str, Technique]) -> list[str]:
 
 
 def _losses() -> str:
-    return ", ".join(["highest peak", *(f"+ {name} {mass}" for mass, name in first_losses().items())])
+    return (
+        "highest peak + 0 or a usual first loss ("
+        + ", ".join(map(str, first_losses()))
+        + "), ranked by the upper spectrum"
+    )
 
 
 def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
@@ -49,12 +56,21 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
         lines.append(
             "molecular ion not seen: hypotheses M = " + ", ".join(map(str, solution.hypotheses)) + f" ({_losses()})"
         )
+        for h in solution.considered:
+            lines.append(f"  {'tried' if h.kept else 'not tried'}: {h.describe()}" + (f" ({h.why})" if h.why else ""))
     else:
         lines.append(f"molecular ion: m/z {solution.hypotheses[0]}")
     lines.append("evidence used: " + (", ".join(solution.techniques) or "none besides the formula"))
     # what the run could not do comes first: a formula left out cannot be in the shortlist
     for note in solution.notes:
         lines.append(f"note: {note}")
+    for m in dict.fromkeys(u.molecular_ion for u in solution.untried):
+        names = [str(u.formula) for u in solution.untried if u.molecular_ion == m]
+        why = next(u.why for u in solution.untried if u.molecular_ion == m)
+        listed = ", ".join(names[:UNTRIED_SHOWN]) + (
+            f" and {len(names) - UNTRIED_SHOWN} more" if len(names) > UNTRIED_SHOWN else ""
+        )
+        lines.append(f"note: {len(names)} formulas not tried ({why}): {listed}")
     lines.append("")
     lines.append("formulas kept")
     rows = [["formula", "M", "isotope fit", "structures", "note"]]
@@ -77,7 +93,10 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
             lines.append(f"  removed by {label}: {n}")
     lines.append("")
     if not solution.candidates:
-        lines.append("no candidate survives the hard constraints:")
+        if solution.formulas and all(k.skipped for k in solution.formulas):
+            lines.append("no structure was enumerated:")
+        else:
+            lines.append("no candidate survives the hard constraints:")
         lines += ["  " + text for text in solution.empty_reason]
     else:
         shown = [t for t in techniques if any(t.name in c.components for c in solution.candidates)]
@@ -129,6 +148,8 @@ def solve_json(solution: Solution, *, top: int = 0) -> dict[str, Any]:
             "suspects": [s.as_dict() for s in solution.suspects],
             "empty_reason": list(solution.empty_reason),
             "notes": list(solution.notes),
+            "molecular_ion_considered": [h.as_dict() for h in solution.considered],
+            "formulas_not_tried": [u.as_dict() for u in solution.untried],
         }
     )
     return out

@@ -8,24 +8,27 @@ what is returned.
 
 from __future__ import annotations
 
-from .hypotheses import first_losses, losses_for_m, molecular_ion_hypotheses
+from .hypotheses import Hypothesis, first_losses, losses_for_m, molecular_ion_hypotheses, rank_hypotheses
 from .ranking import PROFILE, hard_selection, solve
-from .records import FoundCandidate, KeptFormula, Ranked, Solution, SuspectResult
+from .records import FoundCandidate, KeptFormula, Ranked, Solution, SuspectResult, UntriedFormula
 from .scoring import ScoringTable, default_scoring, load_scoring
 
 __all__ = [
     "PROFILE",
     "FoundCandidate",
+    "Hypothesis",
     "KeptFormula",
     "Ranked",
     "ScoringTable",
     "Solution",
     "SuspectResult",
+    "UntriedFormula",
     "default_scoring",
     "first_losses",
     "hard_selection",
     "load_scoring",
     "losses_for_m",
     "molecular_ion_hypotheses",
+    "rank_hypotheses",
     "solve",
 ]

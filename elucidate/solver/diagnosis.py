@@ -29,7 +29,12 @@ def why_empty(
             + " (see `elucidate formulas` with --explain)",
         )
     if all(k.skipped for k in kept):
-        return ("every formula's structure space is above the limit; declare groups or raise --limit",)
+        return (
+            (
+                "no formula was enumerated: each is above the size limit or fits worse than one that is; "
+                "declare the groups the advice above names, or raise --limit"
+            ),
+        )
     lines = [f"{k.formula} was not enumerated: {k.skipped}" for k in kept if k.skipped]
     last = [label for label, n in removed.items() if n]
     if last:

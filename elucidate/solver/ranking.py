@@ -23,9 +23,10 @@ from ..evidence import TECHNIQUES, Assessment, Technique, make_subject
 from ..formula_search import Candidate, case_query, derive_formulas
 from ..generator.groups import GroupTable, default_groups
 from ..generator.selection import Selection
+from .advice import ADVISED_FORMULAS, size_advice
 from .diagnosis import why_empty
-from .hypotheses import molecular_ion_hypotheses
-from .records import FoundCandidate, KeptFormula, Ranked, Solution
+from .hypotheses import molecular_ion_hypotheses, rank_hypotheses
+from .records import FoundCandidate, KeptFormula, Ranked, Solution, UntriedFormula
 from .scoring import Combined, ScoringTable, combine, default_scoring
 from .suspects import assess_suspect
 
@@ -130,11 +131,14 @@ def solve(
     workers: int = WORKERS,
     groups: GroupTable | None = None,
     scoring: ScoringTable | None = None,
+    worse_formulas: bool = False,
 ) -> Solution:
     """Solve one case. ``limit``: largest estimated structure space per formula that is
     enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
     isotope fit, and only those within the scoring table's ``formula_cut`` of the best fit);
-    ``workers``: processes for generation and scoring (the result does not depend on it)."""
+    ``workers``: processes for generation and scoring (the result does not depend on it);
+    ``worse_formulas``: also enumerate formulas that fit much worse (the scoring table's
+    ``worse_than_skipped``) than a formula skipped for size, which are otherwise named and left."""
     from ..generator import GeneratorOptions, estimate_structures, isomer_smiles
 
     g = groups or default_groups()
@@ -144,6 +148,10 @@ def solve(
     selection = hard_selection(case, every)
     compiled = selection.compile(g)
     hypotheses = molecular_ion_hypotheses(case)
+    ms = case.mass_spec
+    unknown_m = ms is not None and ms.molecular_ion is None and case.formula.known is None
+    considered = rank_hypotheses(ms.peaks) if unknown_m and ms is not None else ()
+    untried: list[UntriedFormula] = []
     kept: list[KeptFormula] = []
     notes: list[str] = []
     removed: dict[str, int] = dict.fromkeys(compiled.labels, 0)
@@ -151,22 +159,56 @@ def solve(
     found: list[FoundCandidate] = []
     estimate_options = GeneratorOptions(selection=selection)
     options = GeneratorOptions(selection=selection, workers=workers)
+    advised = 0
     for m in hypotheses:
-        result = derive_formulas(case_query(case, m), top=4 * max_formulas)
+        query = case_query(case, m)
+        # without isotope data the order is parsimony only: every formula not tried is named
+        result = derive_formulas(query, top=None if query.cluster is None else 4 * max_formulas)
         chosen = formulas_to_enumerate(result.kept, max_formulas)
+        if query.cluster is None:
+            why = (
+                f"no isotope peaks at M {m}: formulas are tried in parsimony order, the first {max_formulas} "
+                "only (raise --formulas)"
+            )
+            untried += [UntriedFormula(c.formula, m, why) for c in result.kept[len(chosen) :]]
         best = max((c.ranking_score or 0.0 for c in chosen), default=0.0)
+        skipped: Candidate | None = None  # the best-fitting formula skipped for size
         for cand in chosen:
             fit = cand.ranking_score
-            if fit is not None and best > 0 and fit < best / sc.formula_cut:
+            if fit is not None and best > 0 and fit < best / sc.formula_cut and not result.poor_cluster:
                 continue
             estimate = estimate_structures(cand.formula, estimate_options)
-            if estimate > limit:
-                why = (
-                    f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: declare groups "
-                    "(infrared.require / forbid) or raise --limit"
-                )
+            over = estimate > limit
+            # Formulas are worked in order of fit. Once one is skipped for size, a formula fitting
+            # worse is not enumerated unless asked: its shortlist could not hold the answer the
+            # skipped formula may hold, and minutes spent on it would mislead.
+            held = (
+                not worse_formulas
+                and not result.poor_cluster
+                and skipped is not None
+                and fit is not None
+                and fit < (skipped.ranking_score or 0.0) / sc.worse_than_skipped
+            )
+            if over or held:
+                size = f"about {estimate:,.0f} structures estimated"
+                if over:
+                    advice = (
+                        size_advice(cand.formula, estimate_options, g, limit)
+                        if advised < ADVISED_FORMULAS
+                        else "declare groups (infrared.require / forbid) or raise --limit"
+                    )
+                    advised += 1
+                    why = f"{size}, above the limit {limit:,}: {advice}"
+                else:
+                    assert skipped is not None
+                    why = (
+                        f"{size}; it ranks below {skipped.formula} on the isotope fit, and {skipped.formula} was "
+                        "skipped for size, so its structures alone would mislead (--worse-formulas enumerates it)"
+                    )
                 kept.append(KeptFormula(cand.formula, m, cand.score, 0, why, cand.demoted_by, cand.demotion))
                 notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
+                if over and skipped is None and fit is not None:
+                    skipped = cand
                 continue
             local: dict[str, int] = {}
             before = len(found)
@@ -233,4 +275,6 @@ def solve(
         PROFILE,
         empty,
         tuple(notes),
+        considered,
+        tuple(untried),
     )

@@ -10,9 +10,18 @@ from typing import Any
 from ..case import Case
 from ..evidence import Assessment, Reading
 from ..formula import Formula
+from .hypotheses import Hypothesis
 from .scoring import Component
 
-__all__ = ["FoundCandidate", "KeptFormula", "Ranked", "Solution", "SuspectResult", "components_json"]
+__all__ = [
+    "FoundCandidate",
+    "KeptFormula",
+    "Ranked",
+    "Solution",
+    "SuspectResult",
+    "UntriedFormula",
+    "components_json",
+]
 
 
 @dataclass(frozen=True)
@@ -138,6 +147,22 @@ class Solution:
     profile: str
     empty_reason: tuple[str, ...] = ()
     notes: tuple[str, ...] = ()
+    #: when M+ is not seen: every hypothesis considered, best first, with why a dropped one was
+    considered: tuple[Hypothesis, ...] = ()
+    #: formulas not tried, per molecular ion, and why (parsimony order without isotope data)
+    untried: tuple[UntriedFormula, ...] = ()
+
+
+@dataclass(frozen=True)
+class UntriedFormula:
+    """A formula that passed the formula stage but was not enumerated, and why."""
+
+    formula: Formula
+    molecular_ion: int
+    why: str
+
+    def as_dict(self) -> dict[str, Any]:
+        return {"formula": str(self.formula), "molecular_ion": self.molecular_ion, "why": self.why}
 
 
 @lru_cache(maxsize=4096)

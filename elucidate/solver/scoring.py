@@ -52,6 +52,8 @@ class TechniqueWeight:
 class ScoringTable:
     techniques: Mapping[str, TechniqueWeight]  # technique weight key -> weight and caps
     formula_cut: float  # formulas fitting worse than best / formula_cut are not enumerated
+    #: formulas fitting worse than this factor below one skipped for size are not enumerated
+    worse_than_skipped: float = 4.0
     source: str = ""
 
     def validate(self) -> None:
@@ -68,7 +70,11 @@ _FIELDS = ("weight", "against_cap", "unexplained_cap")
 def load_scoring(path: str | Path | None = None) -> ScoringTable:
     file = Path(path) if path is not None else table_path("scoring.yaml")
     document = read_yaml_file(file)
-    root = mapping(document, ["source", "techniques", "formula_cut"], required=["techniques", "formula_cut"])
+    root = mapping(
+        document,
+        ["source", "techniques", "formula_cut", "worse_than_skipped"],
+        required=["techniques", "formula_cut", "worse_than_skipped"],
+    )
     keys = component_keys()
     section = mapping(root["techniques"], list(keys), required=list(keys))
     techniques = {}
@@ -80,6 +86,7 @@ def load_scoring(path: str | Path | None = None) -> ScoringTable:
     table = ScoringTable(
         techniques=techniques,
         formula_cut=as_number(root["formula_cut"], minimum=1, what="a factor of 1 or more"),
+        worse_than_skipped=as_number(root["worse_than_skipped"], minimum=1, what="a factor of 1 or more"),
         source=as_str(root["source"]) if "source" in root else "",
     )
     return validated(table, document)

@@ -1,0 +1,86 @@
+"""Advice for a formula whose structure space is too large to enumerate: which single declared
+group would bring it under the limit, from Knuth estimates of the space with that group."""
+
+from __future__ import annotations
+
+import re
+from dataclasses import replace
+
+from ..formula import Formula
+from ..generator.groups import GroupTable
+from ..generator.options import GeneratorOptions
+
+__all__ = ["ADVICE_PROBES", "ADVISED_FORMULAS", "group_estimates", "size_advice"]
+
+#: Knuth walks per group estimate: a quick look, not the estimate the limit is checked with
+ADVICE_PROBES = 8
+#: skipped formulas that get per-group advice (the best-fitting ones; each costs about a second)
+ADVISED_FORMULAS = 2
+#: groups named in the advice at most
+ADVICE_SHOWN = 4
+
+
+_BRACKET = re.compile(r"\[([^\]]*)\]")
+_ELEMENT_TOKEN = re.compile(r"#(\d+)|([A-Z][a-z]?)|([cnops])")
+
+
+def could_hold(smarts: str, formula: Formula) -> bool:
+    """False when some bracket atom of the SMARTS names only elements the formula lacks (e.g. the
+    halogen of ``[CX4][F,Cl,Br,I]`` in a hydrocarbon). Permissive: a token it cannot read (a
+    recursive or negated primitive) never makes a group impossible."""
+    from .._rdkit import Chem
+    from ..elements import default_elements
+
+    periodic = Chem.GetPeriodicTable()
+    known = set(default_elements().symbols)
+    present = {s for s, n in formula.counts if n}
+    for atom in _BRACKET.findall(smarts):
+        if "$" in atom or "!" in atom:
+            continue
+        named = set()
+        for number, symbol, aromatic in _ELEMENT_TOKEN.findall(atom.split(";")[0]):
+            if number:
+                named.add(periodic.GetElementSymbol(int(number)))
+            elif symbol in known:
+                named.add(symbol)
+            elif aromatic:
+                named.add(aromatic.upper())
+        named.discard("H")  # an H count primitive, not an atom
+        if named and not named & present:
+            return False
+    return True
+
+
+def group_estimates(formula: Formula, options: GeneratorOptions, groups: GroupTable) -> list[tuple[str, float]]:
+    """The estimated structure space of ``formula`` with each group of the vocabulary that is not
+    yet required or forbidden added to the required ones, smallest first (groups the formula
+    cannot hold, estimated 0, are left out)."""
+    from ..generator import estimate_structures
+    from ..generator.selection import Selection
+
+    sel = options.selection or Selection()
+    taken = set(sel.require) | set(sel.forbid)
+    out = []
+    for name in groups.names:
+        if name in taken or not could_hold(groups[name].smarts, formula):
+            continue
+        trial = replace(options, selection=replace(sel, require=(*sel.require, name)))
+        size = estimate_structures(formula, trial, probes=ADVICE_PROBES)
+        if size > 0:
+            out.append((name, size))
+    out.sort(key=lambda item: (item[1], item[0]))
+    return out
+
+
+def size_advice(formula: Formula, options: GeneratorOptions, groups: GroupTable, limit: int) -> str:
+    """One sentence: the groups whose declaration (``infrared.require``) would bring the space
+    under ``limit``, or the smallest spaces one group leaves when none does."""
+    sizes = group_estimates(formula, options, groups)
+    under = [(n, s) for n, s in sizes if s <= limit]
+    if under:
+        shown = ", ".join(f"{n} (about {s:,.0f})" for n, s in under[:ADVICE_SHOWN])
+        return f"requiring one of these groups would bring it under the limit: {shown}"
+    if sizes:
+        shown = ", ".join(f"{n} (about {s:,.0f})" for n, s in sizes[:ADVICE_SHOWN])
+        return f"no single group brings it under the limit; the smallest spaces: {shown}: declare two or more groups"
+    return "declare groups (infrared.require / forbid) or raise --limit"
