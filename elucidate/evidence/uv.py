@@ -79,8 +79,9 @@ class ArylCarbonylRules:
 @dataclass(frozen=True)
 class BenzenoidEntry:
     smarts: str
-    lambda_max: Number
+    lambda_max: Number  # the secondary (B) band, or the one band tabulated
     what: str
+    strong_band: Number | None = None  # the primary (K / E2) band, when tabulated
 
 
 @dataclass(frozen=True)
@@ -222,13 +223,18 @@ def load_uv(path: str | Path | None = None) -> UVTable:
         ring[str(k)] = (_number(items[0]), _number(items[1]), _number(items[2]))
     aryl = ArylCarbonylRules(_numbers(a["base"]), ring)
     benzenoid = []
-    for item in as_list(root["benzenoid"], what="a list of {smarts, lambda_max, what}"):
-        entry = mapping(item, ["smarts", "lambda_max", "what"], required=["smarts", "lambda_max", "what"])
+    for item in as_list(root["benzenoid"], what="a list of {smarts, lambda_max, strong_band, what}"):
+        entry = mapping(
+            item, ["smarts", "lambda_max", "strong_band", "what"], required=["smarts", "lambda_max", "what"]
+        )
         benzenoid.append(
             BenzenoidEntry(
                 as_str(entry["smarts"], what="a SMARTS pattern"),
                 _number(entry["lambda_max"], minimum=190, what="a wavelength 190-800 nm"),
                 as_str(entry["what"]),
+                _number(entry["strong_band"], minimum=190, what="a wavelength 190-800 nm")
+                if "strong_band" in entry
+                else None,
             )
         )
     score_keys = [
@@ -267,6 +273,8 @@ class UVPrediction:
     lambda_max: float | None  # nm; None = no maximum above the table's floor (210 nm)
     rule: str
     steps: tuple[str, ...] = field(default=())
+    #: further bands the rule predicts (a benzenoid's primary band beside its B band), nm
+    also: tuple[float, ...] = field(default=())
 
 
 # ------------------------------------------------------------------ perception helpers
@@ -588,7 +596,9 @@ def predict_lambda_max(mol: Mol, *, table: UVTable | None = None, solvent: str =
     if not predictions:
         for entry in t.benzenoid:
             if mol.HasSubstructMatch(compiled_smarts(entry.smarts)):
-                predictions.append(UVPrediction(float(entry.lambda_max), f"benzenoid table ({entry.what})"))
+                strong = entry.strong_band
+                also = (float(strong),) if strong is not None and strong >= t.no_maximum_below_nm else ()
+                predictions.append(UVPrediction(float(entry.lambda_max), f"benzenoid table ({entry.what})", (), also))
                 break
     if not predictions:
         floor = t.no_maximum_below_nm
@@ -645,18 +655,26 @@ class UvVis:
                 against = cost
                 text = f"UV: no chromophore to absorb above {floor:g} nm, observed {_range(observed)} nm"
         else:
-            # the rules predict one band; it is matched with the nearest observed maximum, and
-            # every other maximum is data the rules do not cover (a benzenoid's strong band
-            # below its predicted B band, an n-π* band, a second chromophore)
+            # the rule's band is matched with the nearest observed maximum; a further band the
+            # rule predicts (a benzenoid's primary K/E2 band beside its B band) explains an observed
+            # maximum within the tolerance; every other maximum is data the rules do not cover (an
+            # n-π* band, a second chromophore)
             bands = [observed, *case.uv_vis.others]
-            gaps = [max(low - predicted, predicted - high, 0.0) for low, high in bands]
+            every = [predicted, *p.also]
+            gaps = [min(_gap(band, x) for x in every) for band in bands]
             d = min(gaps)
             against = 0.0 if d <= tol else 0.5 * ((d - tol) / tol) ** 2
-            unexplained = float(sc.extra_maximum) * (len(bands) - 1)
             matched = bands[gaps.index(d)]
-            text = f"UV: predicted {predicted:g} nm ({p.rule}), observed {_range(matched)} nm"
+            rest = [b for i, b in enumerate(bands) if i != gaps.index(d)]
+            explained = [b for b in rest if min(_gap(b, x) for x in every) <= tol]
+            unexplained = float(sc.extra_maximum) * (len(rest) - len(explained))
+            shown = " and ".join(f"{x:g}" for x in every)
+            text = f"UV: predicted {shown} nm ({p.rule}), observed {_range(matched)} nm"
+            if explained:
+                text += " and " + " and ".join(_range(b) for b in explained) + " nm"
         detail = {
             "predicted": predicted,
+            "also_predicted": list(p.also),
             "rule": p.rule,
             "steps": list(p.steps),
             "observed": observed,
@@ -693,6 +711,11 @@ def _may_absorb(mol: Mol) -> bool:
         if single and bond.GetBeginAtomIdx() in atoms and bond.GetEndAtomIdx() in atoms:
             return True
     return False
+
+
+def _gap(band: tuple[float, float], at: float) -> float:
+    """How far ``at`` lies outside an observed band (low, high), nm; 0 inside it."""
+    return max(band[0] - at, at - band[1], 0.0)
 
 
 def _range(r: tuple[float, float]) -> str:
