@@ -44,7 +44,7 @@ def test_a_table_missing_a_technique_is_refused_with_its_key(tmp_path):
     text = tmp_path / "scoring.yaml"
     keys = component_keys()
     lines = [f"  {k}: {{weight: 1, against_cap: 3, unexplained_cap: 1}}" for k in keys[:-1]]
-    text.write_text("techniques:\n" + "\n".join(lines) + "\nformula_cut: 20\n")
+    text.write_text("techniques:\n" + "\n".join(lines) + "\nformula_cut: 20\nworse_than_skipped: 1\n")
     with pytest.raises(ElucidateError, match=keys[-1]) as info:
         load_scoring(text)
     assert info.value.file == str(text)
