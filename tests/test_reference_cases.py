@@ -8,12 +8,13 @@ from __future__ import annotations
 
 import functools
 from collections.abc import Callable
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
 from rdkit import Chem
 
-from elucidate import load_case
+from elucidate import Case, load_case
 from elucidate.solver import solve
 
 HERE = Path(__file__).parent / "reference_cases"
@@ -54,6 +55,24 @@ TRUTH = [
     ("2-methylpropan-2-ol", "CC(C)(C)O"),
 ]
 
+#: held out: added after the weights in constraints/scoring.yaml were set and never used to set
+#: them (small solvents, Cl and Br clusters, an enal, a diamine, an aryl ester, a terpene with DEPT)
+HELD_OUT = [
+    ("acetone", "CC(C)=O"),
+    ("butan-2-one", "CCC(C)=O"),
+    ("methanol", "CO"),
+    ("chloroform", "ClC(Cl)Cl"),
+    ("1-chlorobutane", "CCCCCl"),
+    ("bromobenzene", "Brc1ccccc1"),
+    ("benzyl-chloride", "ClCc1ccccc1"),
+    ("crotonaldehyde", "CC=CC=O"),
+    ("ethylenediamine", "NCCN"),
+    ("ethyl-benzoate", "CCOC(=O)c1ccccc1"),
+    ("limonene", "C=C(C)C1CC=C(C)CC1"),
+]
+TUNING = list(TRUTH)
+TRUTH = TUNING + HELD_OUT
+
 
 @pytest.fixture(scope="session")
 def rank_of() -> Callable[[str], tuple[int | None, int]]:
@@ -72,7 +91,8 @@ def rank_of() -> Callable[[str], tuple[int | None, int]]:
 
 def test_every_reference_case_has_a_truth_and_classes_vary():
     assert sorted(p.stem for p in HERE.glob("*.yaml")) == sorted(n for n, _ in TRUTH)
-    assert len(TRUTH) >= 20
+    assert len(TRUTH) >= 40 and len(HELD_OUT) >= 10
+    assert all("Held out" in (HERE / f"{n}.yaml").read_text(encoding="utf-8") for n, _ in HELD_OUT)
 
 
 # one test process solves every reference case once: the aggregate test reuses its cache
@@ -84,9 +104,74 @@ def test_true_structure_is_never_eliminated(name, rank_of):
     assert rank is not None, f"{name}: the true structure is not among the {total} candidates"
 
 
+def _rates(rank_of: Callable[[str], tuple[int | None, int]], part: list[tuple[str, str]]) -> dict[str, object]:
+    ranks = {name: rank_of(name)[0] for name, _ in part}
+    return {
+        "top1": sum(r == 1 for r in ranks.values()) / len(ranks),
+        "top3": sum(r is not None and r <= 3 for r in ranks.values()) / len(ranks),
+        "missed": {n: r for n, r in ranks.items() if r is None or r > 3},
+    }
+
+
 @pytest.mark.xdist_group("reference_cases")
 @pytest.mark.slow
-def test_true_structure_in_top_three_for_ninety_percent(rank_of):
-    ranks = {name: rank_of(name)[0] for name, _ in TRUTH}
-    top3 = [n for n, r in ranks.items() if r is not None and r <= 3]
-    assert len(top3) / len(ranks) >= 0.9, {n: r for n, r in ranks.items() if n not in top3}
+@pytest.mark.parametrize("part", ["tuning", "held_out"])
+def test_true_structure_in_top_three_for_ninety_percent_of_each_part(part, rank_of):
+    # top-1 and top-3 are measured apart on the cases used to set the weights and on those held out
+    rates = _rates(rank_of, TUNING if part == "tuning" else HELD_OUT)
+    print(f"{part}: top-1 {rates['top1']:.0%}, top-3 {rates['top3']:.0%}, outside the top 3: {rates['missed']}")
+    assert rates["top3"] >= 0.9, rates
+
+
+LEVELS = {
+    "ms": ("mass_spec", "formula"),
+    "ms+ir": ("mass_spec", "formula", "infrared"),
+    "ms+ir+uv": ("mass_spec", "formula", "infrared", "uv_vis"),
+    "full": ("mass_spec", "formula", "infrared", "uv_vis", "nmr"),
+}
+
+
+def _eliminated_by(case: Case, smiles: str) -> str | None:
+    """The hard constraint that removes the structure from this case's search, without
+    enumerating: the molecular-ion hypotheses, the formula stage and the formulas the solver
+    works, the declared groups and SMARTS and the plausibility profile."""
+    from elucidate.evidence import TECHNIQUES
+    from elucidate.formula import parse_formula
+    from elucidate.formula_search import case_query, check_formula, derive_formulas
+    from elucidate.generator.groups import default_groups
+    from elucidate.solver import hard_selection, molecular_ion_hypotheses
+    from elucidate.solver.ranking import formulas_to_enumerate
+
+    mol = Chem.MolFromSmiles(smiles)
+    formula = parse_formula(Chem.rdMolDescriptors.CalcMolFormula(mol))
+    m = formula.nominal_mass()
+    if m not in molecular_ion_hypotheses(case):
+        return f"molecular ion {m} not among the hypotheses"
+    query = case_query(case, m)
+    verdict = check_formula(formula, query)
+    if verdict is not None:
+        return f"formula stage: {verdict[1]}"
+    chosen = formulas_to_enumerate(derive_formulas(query, top=20).kept, 5)
+    if formula not in [c.formula for c in chosen]:
+        return "formula not among those the solver works"
+    failed = hard_selection(case, [cls() for cls in TECHNIQUES]).compile(default_groups()).first_failure(mol)
+    return None if failed is None else f"declared constraint: {failed}"
+
+
+@pytest.mark.parametrize("level", list(LEVELS))
+@pytest.mark.parametrize("name", [n for n, _ in TRUTH])
+def test_true_structure_is_never_eliminated_at_any_evidence_level(name, level):
+    # the same case with only the sections of that level: less evidence may rank the truth lower
+    # but never removes it (soft evidence never eliminates; only declared constraints do)
+    full = load_case(HERE / f"{name}.yaml")
+    keep = LEVELS[level]
+    case = replace(full, **{key: None for key in ("infrared", "uv_vis", "nmr") if key not in keep})
+    assert _eliminated_by(case, dict(TRUTH)[name]) is None
+
+
+def test_the_elimination_check_names_what_removes_a_wrong_structure():
+    # the check above can fail: in the acetophenone case (M 120, ketone and aromatic ring declared)
+    # 2-phenylethanol has the wrong mass, and 4-methylbenzaldehyde (C8H8O) lacks the ketone
+    case = load_case(HERE / "acetophenone.yaml")
+    assert "not among the hypotheses" in (_eliminated_by(case, "OCCc1ccccc1") or "")
+    assert "declared constraint" in (_eliminated_by(case, "Cc1ccc(C=O)cc1") or "")
