@@ -4,7 +4,7 @@ usual first losses, ranked by how well each explains the upper part of the spect
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from ..case import Case
 from ..errors import ElucidateError
@@ -131,9 +131,9 @@ def rank_hypotheses(peaks: Mapping[int, float], table: NeutralLossTable | None =
     for i, h in enumerate(found):
         if h.cost > best + KEEP_WITHIN:
             why = f"explains the upper spectrum {h.cost - best:.2f} nats worse than M {found[0].m}"
-            h = Hypothesis(**{**h.__dict__, "kept": False, "why": why})
+            h = replace(h, kept=False, why=why)
         elif i >= MAX_HYPOTHESES:
-            h = Hypothesis(**{**h.__dict__, "kept": False, "why": f"beyond the {MAX_HYPOTHESES} best hypotheses"})
+            h = replace(h, kept=False, why=f"beyond the {MAX_HYPOTHESES} best hypotheses")
         out.append(h)
     return tuple(out)
 

@@ -137,8 +137,8 @@ def solve(
     enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
     isotope fit, and only those within the scoring table's ``formula_cut`` of the best fit);
     ``workers``: processes for generation and scoring (the result does not depend on it);
-    ``worse_formulas``: also enumerate formulas that fit much worse (the scoring table's
-    ``worse_than_skipped``) than a formula skipped for size, which are otherwise named and left."""
+    ``worse_formulas``: also enumerate formulas ranked below a formula skipped for size (by more
+    than the scoring table's ``worse_than_skipped`` factor), which are otherwise named and left."""
     from ..generator import GeneratorOptions, estimate_structures, isomer_smiles
 
     g = groups or default_groups()
