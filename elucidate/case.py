@@ -142,7 +142,7 @@ class SolveOptions:
 
     formulas: int | None = None  # formulas kept per molecular ion
     limit: int | None = None  # largest estimated structure space enumerated per formula
-    worse_formulas: bool | None = None  # also solve formulas fitting much worse than one skipped
+    worse_formulas: bool | None = None  # also solve formulas ranked below one skipped for size
 
 
 @dataclass(frozen=True)

@@ -225,8 +225,8 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         default=None,
         help=(
-            "also enumerate formulas that fit the isotope cluster much worse than a formula skipped for "
-            "size (default: the case's solve.worse_formulas, else they are named and left)"
+            "also enumerate formulas ranked below a formula skipped for size "
+            "(default: the case's solve.worse_formulas, else they are named and left)"
         ),
     )
     return parser

@@ -9,7 +9,7 @@ from __future__ import annotations
 from typing import Any
 
 from ..evidence import TECHNIQUES, Technique
-from ..solver import Ranked, Solution
+from ..solver import Ranked, Solution, UntriedFormula
 from ..solver.hypotheses import first_losses
 from .layout import CAUTION, text_table
 
@@ -51,8 +51,7 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
     by_name = {t.name: t for t in techniques}
     case = solution.case
     lines = [f"case {case.id}: {case.title} ({case.path})", CAUTION, ""]
-    ms = case.mass_spec
-    if ms is not None and ms.molecular_ion is None and case.formula.known is None:
+    if solution.considered:
         lines.append(
             "molecular ion not seen: hypotheses M = " + ", ".join(map(str, solution.hypotheses)) + f" ({_losses()})"
         )
@@ -64,9 +63,12 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
     # what the run could not do comes first: a formula left out cannot be in the shortlist
     for note in solution.notes:
         lines.append(f"note: {note}")
-    for m in dict.fromkeys(u.molecular_ion for u in solution.untried):
-        names = [str(u.formula) for u in solution.untried if u.molecular_ion == m]
-        why = next(u.why for u in solution.untried if u.molecular_ion == m)
+    untried: dict[int, list[UntriedFormula]] = {}
+    for u in solution.untried:
+        untried.setdefault(u.molecular_ion, []).append(u)
+    for group in untried.values():
+        names = [str(u.formula) for u in group]
+        why = group[0].why
         listed = ", ".join(names[:UNTRIED_SHOWN]) + (
             f" and {len(names) - UNTRIED_SHOWN} more" if len(names) > UNTRIED_SHOWN else ""
         )

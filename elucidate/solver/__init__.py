@@ -8,7 +8,14 @@ what is returned.
 
 from __future__ import annotations
 
-from .hypotheses import Hypothesis, first_losses, losses_for_m, molecular_ion_hypotheses, rank_hypotheses
+from .hypotheses import (
+    Hypothesis,
+    considered_hypotheses,
+    first_losses,
+    losses_for_m,
+    molecular_ion_hypotheses,
+    rank_hypotheses,
+)
 from .ranking import PROFILE, hard_selection, solve
 from .records import FoundCandidate, KeptFormula, Ranked, Solution, SuspectResult, UntriedFormula
 from .scoring import ScoringTable, default_scoring, load_scoring
@@ -23,6 +30,7 @@ __all__ = [
     "Solution",
     "SuspectResult",
     "UntriedFormula",
+    "considered_hypotheses",
     "default_scoring",
     "first_losses",
     "hard_selection",

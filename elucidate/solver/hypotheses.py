@@ -15,6 +15,7 @@ __all__ = [
     "MAX_HYPOTHESES",
     "UPPER_WINDOW",
     "Hypothesis",
+    "considered_hypotheses",
     "first_losses",
     "losses_for_m",
     "molecular_ion_hypotheses",
@@ -138,19 +139,30 @@ def rank_hypotheses(peaks: Mapping[int, float], table: NeutralLossTable | None =
     return tuple(out)
 
 
-def molecular_ion_hypotheses(case: Case) -> tuple[int, ...]:
-    """The molecular ions to try: the declared one (or the known formula's mass); when the
-    molecular ion is unknown, the kept hypotheses of :func:`rank_hypotheses`, best first, since
-    alcohols and branched compounds often show no M+."""
+def considered_hypotheses(case: Case) -> tuple[Hypothesis, ...]:
+    """Every hypothesis :func:`rank_hypotheses` weighs for the case, best first; empty when the
+    case declares its molecular ion or a known formula."""
     ms = case.mass_spec
-    if ms is not None and ms.molecular_ion is not None:
-        return (ms.molecular_ion,)
-    if case.formula.known is not None:
-        return (case.formula.known.nominal_mass(),)
+    if (ms is not None and ms.molecular_ion is not None) or case.formula.known is not None:
+        return ()
     if ms is None or not ms.peaks:
         raise ElucidateError(
             "no molecular ion and no peaks: give mass_spec.molecular_ion, mass_spec.peaks or formula.known",
             file=case.path,
             key="mass_spec",
         )
-    return tuple(h.m for h in rank_hypotheses(ms.peaks) if h.kept)
+    return rank_hypotheses(ms.peaks)
+
+
+def molecular_ion_hypotheses(case: Case, considered: tuple[Hypothesis, ...] | None = None) -> tuple[int, ...]:
+    """The molecular ions to try: the declared one (or the known formula's mass); when the
+    molecular ion is unknown, the kept hypotheses of :func:`rank_hypotheses`, best first, since
+    alcohols and branched compounds often show no M+. ``considered``: the case's
+    :func:`considered_hypotheses` when the caller has them already."""
+    ms = case.mass_spec
+    if ms is not None and ms.molecular_ion is not None:
+        return (ms.molecular_ion,)
+    if case.formula.known is not None:
+        return (case.formula.known.nominal_mass(),)
+    ranked = considered_hypotheses(case) if considered is None else considered
+    return tuple(h.m for h in ranked if h.kept)

@@ -25,7 +25,7 @@ from ..generator.groups import GroupTable, default_groups
 from ..generator.selection import Selection
 from .advice import ADVISED_FORMULAS, size_advice
 from .diagnosis import why_empty
-from .hypotheses import molecular_ion_hypotheses, rank_hypotheses
+from .hypotheses import considered_hypotheses, molecular_ion_hypotheses
 from .records import FoundCandidate, KeptFormula, Ranked, Solution, UntriedFormula
 from .scoring import Combined, ScoringTable, combine, default_scoring
 from .suspects import assess_suspect
@@ -147,10 +147,8 @@ def solve(
     applied = [t for t in every if t.applies(case)]
     selection = hard_selection(case, every)
     compiled = selection.compile(g)
-    hypotheses = molecular_ion_hypotheses(case)
-    ms = case.mass_spec
-    unknown_m = ms is not None and ms.molecular_ion is None and case.formula.known is None
-    considered = rank_hypotheses(ms.peaks) if unknown_m and ms is not None else ()
+    considered = considered_hypotheses(case)
+    hypotheses = molecular_ion_hypotheses(case, considered)
     untried: list[UntriedFormula] = []
     kept: list[KeptFormula] = []
     notes: list[str] = []
