@@ -36,11 +36,16 @@ from .yamlnodes import (
 )
 
 __all__ = [
+    "CARBON_KINDS",
     "IONIZATIONS",
+    "MULTIPLET_CODES",
+    "NMR_SOLVENTS",
     "SCHEMA_VERSION",
     "SOLVENTS",
+    "C13Signal",
     "Case",
     "FormulaSpec",
+    "H1Signal",
     "IRBand",
     "Infrared",
     "MassSpec",
@@ -51,8 +56,10 @@ __all__ = [
     "intensity_problem",
     "isotope_span",
     "load_case",
+    "multiplet_lines",
     "mz_problem",
     "parse_case",
+    "parse_multiplet",
 ]
 
 SCHEMA_VERSION = 1
@@ -71,6 +78,33 @@ SOLVENTS = (
     "acetonitrile",
 )
 MULTIPLICITIES = ("CH3", "CH2", "CH", "C")
+NMR_SOLVENTS = ("CDCl3", "CD2Cl2", "C6D6", "acetone-d6", "CD3CN", "CD3OD", "DMSO-d6", "D2O")
+#: 1H multiplet codes, the trade's usual abbreviations: lines per coupling
+MULTIPLET_LINES = {"s": 1, "d": 2, "t": 3, "q": 4, "quint": 5, "sext": 6, "sept": 7}
+#: codes offered in "did you mean" messages (any run of d/t/q up to 3 letters is also read)
+MULTIPLET_CODES = (
+    "s",
+    "d",
+    "t",
+    "q",
+    "quint",
+    "sext",
+    "sept",
+    "m",
+    "dd",
+    "dt",
+    "td",
+    "ddd",
+    "dq",
+    "qd",
+    "tt",
+    "br",
+    "br s",
+    "br d",
+    "br t",
+)
+#: structural carbon kinds that c13_regions counts (their shift windows: constraints/nmr13c.yaml)
+CARBON_KINDS = ("carbonyl", "sp2", "sp", "heteroatom_sp3", "alkyl")
 _SLUG = re.compile(r"^[a-z0-9][a-z0-9_.-]{0,63}$")
 _GROUP = re.compile(r"^[a-z][a-z0-9_]*$")
 
@@ -124,9 +158,39 @@ class UvVis:
 
 
 @dataclass(frozen=True)
+class C13Signal:
+    """One observed 13C signal: its shift and, from DEPT, the carbon type (None: not measured)."""
+
+    ppm: float
+    type: str | None = None  # CH3, CH2, CH or C
+
+
+@dataclass(frozen=True)
+class H1Signal:
+    """One observed 1H signal: shift, relative integral, multiplicity code and couplings."""
+
+    ppm: float
+    integral: float | None = None
+    multiplicity: str | None = None  # a code from MULTIPLET_CODES (normalised: "br s", "dd", ...)
+    j_hz: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True)
 class Nmr:
-    c13_signals: int | None = None
-    c13_multiplicity: Mapping[str, int] | None = None
+    c13_signals: int | None = None  # observed 13C signal count (from c13 when that is listed)
+    c13_multiplicity: Mapping[str, int] | None = None  # DEPT signal counts per type
+    solvent: str | None = None
+    c13: tuple[C13Signal, ...] = ()
+    h1: tuple[H1Signal, ...] = ()
+    #: carbons (not signals) carrying 3, 2, 1 and 0 H, in the order of MULTIPLICITIES: hard
+    carbon_types: tuple[int, int, int, int] | None = None
+    exchangeable_h: tuple[int, int] | None = None  # H on O and N (D2O exchange), low-high: hard
+    c13_regions: Mapping[str, tuple[int, int]] | None = None  # carbons per kind (CARBON_KINDS): hard
+
+    @property
+    def has_lists(self) -> bool:
+        """Whether shift lists were given (scored by assignment) rather than counts only."""
+        return bool(self.c13 or self.h1)
 
 
 @dataclass(frozen=True)
@@ -417,8 +481,131 @@ def _uv_vis(loc: Located) -> UvVis:
     return UvVis(value, solvent, tuple(others))
 
 
+_MULTIPLET_WORDS = {
+    "singlet": "s",
+    "doublet": "d",
+    "triplet": "t",
+    "quartet": "q",
+    "quintet": "quint",
+    "pentet": "quint",
+    "p": "quint",
+    "sextet": "sext",
+    "septet": "sept",
+    "heptet": "sept",
+    "hept": "sept",
+    "multiplet": "m",
+}
+
+
+def parse_multiplet(text: str) -> str | None:
+    """A 1H multiplet code in its normal form (``"br s"``, ``"dd"``, ``"quint"``), or None if it is
+    not one: an optional ``br`` (broad), then ``s``, ``m``, ``quint``, ``sext``, ``sept`` or a run
+    of one to three of ``d``, ``t``, ``q``."""
+    words = text.strip().lower().replace(".", "").split()
+    if not words:
+        return None
+    broad = False
+    if words[0] in ("br", "broad"):
+        broad, words = True, words[1:]
+    elif len(words) == 1 and words[0].startswith("br") and len(words[0]) > 2:
+        broad, words = True, [words[0][2:]]  # "brs" -> br s
+    if not words:
+        return "br" if broad else None
+    if len(words) != 1:
+        return None
+    core = _MULTIPLET_WORDS.get(words[0], words[0])
+    ok = core in ("s", "m", "quint", "sext", "sept") or (1 <= len(core) <= 3 and set(core) <= set("dtq"))
+    if not ok:
+        return None
+    return f"br {core}" if broad else core
+
+
+def multiplet_lines(code: str | None) -> int | None:
+    """Lines of a first-order multiplet (product over its couplings), None for m, br or unknown."""
+    if code is None:
+        return None
+    core = code.removeprefix("br").strip()
+    if core in MULTIPLET_LINES:
+        return MULTIPLET_LINES[core]
+    if core and set(core) <= set("dtq"):
+        lines = 1
+        for letter in core:
+            lines *= MULTIPLET_LINES[letter]
+        return lines
+    return None
+
+
+def _c13_list(loc: Located) -> tuple[C13Signal, ...]:
+    out = []
+    for item in as_list(loc, what="a list of 13C signals such as {ppm: 199.6, type: C}"):
+        if isinstance(item.value, dict):
+            body = mapping(item, ["ppm", "type"], required=["ppm"], what="a 13C signal")
+            ppm = as_number(body["ppm"], minimum=-10, maximum=250, what="a 13C shift in ppm (-10 to 250)")
+            kind = _dept_type(body["type"]) if "type" in body else None
+        else:
+            ppm = as_number(item, minimum=-10, maximum=250, what="a 13C shift in ppm (-10 to 250) or {ppm, type}")
+            kind = None
+        out.append(C13Signal(ppm, kind))
+    if not out:
+        raise loc.error("expected at least one 13C signal")
+    return tuple(out)
+
+
+def _dept_type(loc: Located) -> str:
+    check_gap(loc)
+    text = str(loc.value) if isinstance(loc.value, str) else None
+    if text in MULTIPLICITIES:
+        return text
+    spelled = {"ch3": "CH3", "ch2": "CH2", "ch": "CH", "c": "C", "cq": "C", "q": "C"}.get((text or "").lower())
+    close = difflib.get_close_matches(text or "", list(MULTIPLICITIES), n=1)
+    hint = f" (did you mean {spelled or close[0]!r}?)" if (spelled or close) else ""
+    raise loc.error(f"expected a DEPT carbon type, one of {', '.join(MULTIPLICITIES)}; got {loc.value!r}{hint}")
+
+
+def _h1_list(loc: Located) -> tuple[H1Signal, ...]:
+    out = []
+    for item in as_list(loc, what="a list of 1H signals such as {ppm: 2.58, integral: 3, multiplicity: s}"):
+        body = mapping(item, ["ppm", "integral", "multiplicity", "j_hz"], required=["ppm"], what="a 1H signal")
+        ppm = as_number(body["ppm"], minimum=-5, maximum=20, what="a 1H shift in ppm (-5 to 20)")
+        integral = (
+            as_number(
+                body["integral"], minimum=0, maximum=1000, exclusive_minimum=True, what="a relative integral above 0"
+            )
+            if "integral" in body
+            else None
+        )
+        code = None
+        if "multiplicity" in body:
+            mloc = body["multiplicity"]
+            text = as_str(mloc, what="a multiplicity code such as s, d, dd, br s")
+            code = parse_multiplet(text)
+            if code is None:
+                word = text.strip().lower()
+                close = difflib.get_close_matches(word, [*MULTIPLET_CODES, *_MULTIPLET_WORDS], n=1)
+                hint = f" (did you mean {_MULTIPLET_WORDS.get(close[0], close[0])!r}?)" if close else ""
+                raise mloc.error(
+                    f"unknown multiplicity {text!r}{hint}; use s, d, t, q, quint, sext, sept, m, a run of "
+                    "d/t/q such as dd or dt, each optionally after br"
+                )
+        j: list[float] = []
+        if "j_hz" in body:
+            jloc = body["j_hz"]
+            values = (
+                as_list(jloc, what="a coupling in Hz or a list of them") if isinstance(jloc.value, list) else [jloc]
+            )
+            j = [
+                as_number(v, minimum=0, maximum=300, exclusive_minimum=True, what="a coupling constant in Hz (0-300)")
+                for v in values
+            ]
+        out.append(H1Signal(ppm, integral, code, tuple(j)))
+    if not out:
+        raise loc.error("expected at least one 1H signal")
+    return tuple(out)
+
+
 def _nmr(loc: Located) -> Nmr:
-    body = mapping(loc, ["c13_signals", "c13_multiplicity"])
+    keys = ["solvent", "c13", "h1", "carbon_types", "exchangeable_h", "c13_regions", "c13_signals", "c13_multiplicity"]
+    body = mapping(loc, keys)
     signals = (
         as_int(body["c13_signals"], minimum=1, maximum=200, what="a number of 13C signals (1-200)")
         if "c13_signals" in body
@@ -431,7 +618,59 @@ def _nmr(loc: Located) -> Nmr:
         mult = {k: as_int(v, minimum=0, maximum=200, what="a signal count") for k, v in m.items()}
         if signals is not None and sum(mult.values()) != signals:
             raise mloc.error(f"the multiplicities add up to {sum(mult.values())} signals but c13_signals is {signals}")
-    return Nmr(signals, mult)
+    solvent = None
+    if "solvent" in body:
+        text = as_str(body["solvent"], what="an NMR solvent")
+        by_lower = {s.lower(): s for s in NMR_SOLVENTS}
+        if text.lower() not in by_lower:
+            close = difflib.get_close_matches(text, list(NMR_SOLVENTS), n=1)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            raise body["solvent"].error(f"unknown NMR solvent {text!r}{hint}; known: {', '.join(NMR_SOLVENTS)}")
+        solvent = by_lower[text.lower()]
+    c13 = _c13_list(body["c13"]) if "c13" in body else ()
+    h1 = _h1_list(body["h1"]) if "h1" in body else ()
+    if c13:
+        if signals is not None and signals != len(c13):
+            raise body["c13_signals"].error(f"c13_signals is {signals} but the c13 list holds {len(c13)} signals")
+        signals = len(c13)
+        if all(s.type is not None for s in c13):
+            listed = {k: sum(1 for s in c13 if s.type == k) for k in MULTIPLICITIES}
+            if mult is not None and any(mult.get(k, 0) != listed[k] for k in MULTIPLICITIES):
+                raise body["c13_multiplicity"].error(
+                    "c13_multiplicity disagrees with the DEPT types in the c13 list ("
+                    + ", ".join(f"{k} {listed[k]}" for k in MULTIPLICITIES)
+                    + "); give one of them"
+                )
+            mult = listed
+    types = None
+    if "carbon_types" in body:
+        tloc = body["carbon_types"]
+        t = mapping(
+            tloc, list(MULTIPLICITIES), required=MULTIPLICITIES, what="a mapping of CH3, CH2, CH, C to carbon counts"
+        )
+        counts = tuple(as_int(t[k], minimum=0, maximum=200, what="a carbon count (0-200)") for k in MULTIPLICITIES)
+        types = (counts[0], counts[1], counts[2], counts[3])
+        if sum(types) == 0:
+            raise tloc.error("carbon_types counts no carbon at all")
+        if signals is not None and signals > sum(types):
+            raise tloc.error(f"carbon_types counts {sum(types)} carbons, fewer than the {signals} 13C signals")
+        if mult is not None:
+            for k, n in zip(MULTIPLICITIES, types, strict=True):
+                if mult.get(k, 0) > n:
+                    raise t[k].error(f"{mult[k]} {k} signals are observed but carbon_types counts {n} {k} carbons")
+    exchangeable = (
+        as_range(body["exchangeable_h"], what="an H count or range such as 1 or 1-2")
+        if "exchangeable_h" in body
+        else None
+    )
+    regions = None
+    if "c13_regions" in body:
+        rloc = body["c13_regions"]
+        r = mapping(rloc, list(CARBON_KINDS), what="a mapping of carbon kinds to carbon counts")
+        regions = {k: as_range(v, what="a carbon count or range such as 4 or 4-6") for k, v in r.items()}
+        if types is not None and sum(low for low, _ in regions.values()) > sum(types):
+            raise rloc.error(f"c13_regions needs more carbons than the {sum(types)} carbon_types counts")
+    return Nmr(signals, mult, solvent, c13, h1, types, exchangeable, regions)
 
 
 def _solve_options(loc: Located) -> SolveOptions:
@@ -537,12 +776,39 @@ def _case(root: Located, table: ElementTable) -> Case:
                         "either molecular_ion is wrong or the peak belongs to something else"
                     )
                 reached.add(mz)
-    if nmr is not None and nmr.c13_signals is not None and spec.known is not None:
+    if nmr is not None and nmr.carbon_types is not None and spec.known is None:
+        if spec.elements is not None:
+            limits = dict(spec.elements)
+            carbons = sum(nmr.carbon_types)
+            on_carbon = sum(h * n for h, n in zip((3, 2, 1, 0), nmr.carbon_types, strict=True))
+            c_low, c_high = limits.get("C", (0, 0))
+            h_high = limits.get("H", (0, 0))[1]
+            if not c_low <= carbons <= c_high or on_carbon > h_high:
+                raise (
+                    body["nmr"]
+                    .value["carbon_types"]
+                    .error(
+                        f"carbon_types counts {carbons} C carrying {on_carbon} H, outside formula.elements "
+                        f"(C {c_low}-{c_high}, H up to {h_high})"
+                    )
+                )
+    if nmr is not None and spec.known is not None:
         carbons = spec.known.get("C")
-        if nmr.c13_signals > carbons:
+        if nmr.c13_signals is not None and nmr.c13_signals > carbons:
             raise body["nmr"].error(
                 f"{nmr.c13_signals} 13C signals cannot come from {spec.known}, which has {carbons} C"
             )
+        if nmr.carbon_types is not None:
+            on_carbon = sum(h * n for h, n in zip((3, 2, 1, 0), nmr.carbon_types, strict=True))
+            if sum(nmr.carbon_types) != carbons or on_carbon > spec.known.get("H"):
+                raise (
+                    body["nmr"]
+                    .value["carbon_types"]
+                    .error(
+                        f"carbon_types ({sum(nmr.carbon_types)} C carrying {on_carbon} H) cannot be met by "
+                        f"{spec.known}, which has {carbons} C and {spec.known.get('H')} H"
+                    )
+                )
     return Case(
         path=root.file,
         id=case_id,

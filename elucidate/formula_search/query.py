@@ -4,7 +4,7 @@ optional exact mass and the observed isotope cluster; built from a case in one p
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from ..case import Case, FormulaSpec, MassSpec
 from ..defaults import ELEMENT_RATIOS, EXACT_MASS_KINDS, EXACT_MASS_OF, PPM_TOLERANCE, RATIO_LEVELS
@@ -93,5 +93,18 @@ def formula_query(
 
 
 def case_query(case: Case, molecular_ion: int) -> FormulaQuery:
-    """The formula question a case asks for one molecular-ion hypothesis."""
-    return formula_query(molecular_ion, formula=case.formula, mass_spec=case.mass_spec)
+    """The formula question a case asks for one molecular-ion hypothesis. Declared NMR carbon
+    types fix the carbon count and set a floor under the hydrogen count (the H on carbon)."""
+    query = formula_query(molecular_ion, formula=case.formula, mass_spec=case.mass_spec)
+    types = case.nmr.carbon_types if case.nmr is not None else None
+    if types is None:
+        return query
+    elements = dict(query.elements)
+    carbons = sum(types)
+    on_carbon = 3 * types[0] + 2 * types[1] + types[2]
+    low, high = elements.get("C", (0, 0))
+    # the case loader has checked the limits allow these counts
+    elements["C"] = (max(low, carbons), min(high, carbons)) if low <= carbons <= high else (carbons, carbons)
+    h_low, h_high = elements.get("H", (0, 0))
+    elements["H"] = (max(h_low, on_carbon), max(h_high, on_carbon))
+    return replace(query, elements=elements)

@@ -14,6 +14,7 @@ from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
+from .counts import CountTest
 from .plans import ValenceStates, default_valence_states
 from .selection import SkeletonPatterns
 from .skeletons import automorphisms
@@ -43,15 +44,18 @@ def structures_on_skeleton(
     n: int,
     edges: tuple[tuple[int, int], ...],
     labels: Sequence[tuple[str, int]],
-    counts: Sequence[int],
+    per_label: Sequence[int],
     bond_sum: int,
     max_extra: int,
     test: SkeletonTest | None = None,
     states: ValenceStates | None = None,
+    *,
+    counts: CountTest | None = None,
 ) -> Iterator[Structure]:
     """Structures on one skeleton. ``test``: the necessary conditions of required groups that
     the bare skeleton, the labelled skeleton and the labelled multigraph must meet (groups.yaml
-    ``skeleton`` and ``kekule``)."""
+    ``skeleton`` and ``kekule``). ``counts``: declared NMR counts, tested on each labelling
+    (a necessary condition) and exactly on each multigraph."""
     oxo_states = states or default_valence_states()
     valence = [v for _, v in labels]
     special = [label in oxo_states for label in labels]
@@ -81,9 +85,12 @@ def structures_on_skeleton(
                 einv[j] = i
             perms.append((tuple(inv), tuple(einv)))
     seen: set[tuple[tuple[int, ...], tuple[int, ...]]] | None = set() if group is None else None
-    for colouring in _colourings(n, degree, valence, list(counts)):
+    is_carbon = [sym == "C" for sym, _ in labels]
+    for colouring in _colourings(n, degree, valence, list(per_label)):
         capacity = [valence[colouring[i]] - degree[i] for i in range(n)]
         if sum(capacity) < 2 * extra_total:
+            continue
+        if counts is not None and not counts.colouring_ok(colouring, degree, is_carbon):
             continue
         stabilizer: list[tuple[int, ...]] = []
         if perms:
@@ -112,17 +119,20 @@ def structures_on_skeleton(
                 continue
             if test is not None and test.kekule and not test.kekule_ok(orders):
                 continue
-            if seen is not None:
-                key = _certificate(n, edges, colouring, orders)
-                if key in seen:
-                    continue
-                seen.add(key)
-            yield Structure(
+            built = Structure(
                 tuple(labels[c][0] for c in colouring),
                 tuple((a, b, o) for (a, b), o in zip(edges, orders, strict=True)),
                 tuple(valence[colouring[i]] - used[i] for i in range(n)),
                 tuple(valence[c] for c in colouring),
             )
+            if counts is not None and not counts.structure_ok(built):
+                continue
+            if seen is not None:
+                key = _certificate(n, edges, colouring, orders)
+                if key in seen:
+                    continue
+                seen.add(key)
+            yield built
 
 
 def _oxo_ok(

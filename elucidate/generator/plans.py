@@ -18,6 +18,7 @@ from ..errors import ElucidateError
 from ..formula import Formula
 from ..tables import table_path, validated
 from ..yamlnodes import as_bool, as_int, as_list, as_str, mapping, read_yaml_file
+from .counts import CountTest
 from .groups import default_groups, min_pi_bonds
 
 __all__ = [
@@ -140,6 +141,7 @@ class Plan:
     rings_max: int
     max_extra: int  # highest bond order - 1
     hydrogens: int
+    count_test: CountTest | None = None  # declared NMR counts the structures must meet
 
 
 def valence_plans(
@@ -151,16 +153,21 @@ def valence_plans(
     lowest_valence: bool,
     required: tuple[str, ...] = (),
     states: ValenceStates | None = None,
+    counts: CountTest | None = None,
 ) -> list[Plan]:
     """One plan per valence split. Each plan's ring bound is lowered by the π bonds (bond order
     − 1 summed) every wanted molecule must have — one oxo bond per higher-valence atom, and
     those the ``required`` groups imply (:func:`~.groups.min_pi_bonds`): rings = bond sum −
-    (n − 1) − π bonds, and a ring bound is hereditary, so skeleton generation prunes on it."""
+    (n − 1) − π bonds, and a ring bound is hereditary, so skeleton generation prunes on it.
+    Declared ``counts`` (:mod:`.counts`) lower the carbons' degree bounds to 4 − h and travel
+    with the plan to the labelling; a formula that cannot meet them gets no plan."""
     oxo_states = states or default_valence_states()
     hydrogens = formula.get("H")
     plans: list[Plan] = []
     if not has_group_elements(formula, required):
         return plans  # a required group needs an element (or more atoms of it) the formula lacks
+    if counts is not None and counts.formula_problem(formula) is not None:
+        return plans
     for heavy in _valence_splits(formula, table, lowest_valence):
         n = len(heavy)
         total_valence = sum(v for _, v in heavy)
@@ -174,17 +181,19 @@ def valence_plans(
         if max_rings is not None:
             rings_max = min(rings_max, max_rings)
         labels = sorted(set(heavy), key=lambda a: (-a[1], a[0]))
-        counts = [sum(1 for atom in heavy if atom == label) for label in labels]
+        per_label = [sum(1 for atom in heavy if atom == label) for label in labels]
+        bounds = counts.degree_bounds(labels, per_label) if counts is not None else None
         plans.append(
             Plan(
                 n,
                 tuple(labels),
-                tuple(counts),
-                tuple(v for _, v in heavy),
+                tuple(per_label),
+                tuple(bounds) if bounds is not None else tuple(v for _, v in heavy),
                 bond_sum,
                 rings_max,
                 max_bond_order - 1,
                 hydrogens,
+                counts,
             )
         )
     return plans

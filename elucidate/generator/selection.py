@@ -12,6 +12,7 @@ from typing import TYPE_CHECKING, TypeAlias
 
 from ..errors import ElucidateError
 from ..smarts import compiled_smarts
+from .counts import CountTest
 from .groups import GroupTable, default_groups
 from .plausibility import default_profiles
 
@@ -35,6 +36,7 @@ class Selection:
     forbid_smarts: tuple[str, ...] = ()
     max_ring_size: int | None = None
     profile: str | None = None  # a plausibility profile from constraints/plausibility.yaml
+    counts: CountTest | None = None  # declared NMR counts, pushed into generation (.counts)
 
     @property
     def empty(self) -> bool:
@@ -42,7 +44,13 @@ class Selection:
             not (self.require or self.forbid or self.require_smarts or self.forbid_smarts)
             and self.max_ring_size is None
             and self.profile is None
+            and (self.counts is None or self.counts.empty)
         )
+
+    @property
+    def count_test(self) -> CountTest | None:
+        """The declared counts, or None when there are none."""
+        return None if self.counts is None or self.counts.empty else self.counts
 
     def pushed(self, groups: GroupTable | None = None) -> tuple[str, ...]:
         """Required groups that also prune during generation: by their skeleton and Kekulé
@@ -65,7 +73,9 @@ class Selection:
             patterns.append((shape, labelled, group.kekule_pattern))
         return tuple(patterns)
 
-    def compile(self, groups: GroupTable | None = None) -> CompiledSelection:
+    def compile(self, groups: GroupTable | None = None, *, pushed_counts: bool = False) -> CompiledSelection:
+        """The yes/no tests on a finished molecule. ``pushed_counts``: leave out the declared
+        counts, because generation already applies them exactly (:mod:`.counts`)."""
         g = groups or default_groups()
         both = sorted(set(self.require) & set(self.forbid))
         if both:
@@ -86,6 +96,9 @@ class Selection:
             tests.append(
                 (f"largest ring {limit}", lambda mol: all(len(r) <= limit for r in mol.GetRingInfo().AtomRings()))
             )
+        test = self.count_test
+        if test is not None and not pushed_counts:
+            tests.append((test.label, test.mol_ok))
         if self.profile is not None:
             for rule in default_profiles()[self.profile]:
                 tests.append((f"implausible {rule.name}", _not(rule.matches)))

@@ -64,6 +64,7 @@ def selection_plans(formula: Formula, options: GeneratorOptions) -> tuple[list[P
         max_bond_order=options.max_bond_order,
         lowest_valence=options.lowest_valence,
         required=selection.require if selection is not None else (),
+        counts=selection.count_test if selection is not None else None,
     )
     return plans, (selection.skeleton_patterns() if selection is not None else ())
 
@@ -76,16 +77,21 @@ def generation_tasks(plans: list[Plan]) -> Iterator[GenerationTask]:
 
 
 def task_structures(task: GenerationTask, prefilter: SkeletonPatterns = ()) -> Iterator[Structure]:
-    """Every structure below one task (multigraphs, Kekulé forms apart)."""
+    """Every structure below one task (multigraphs, Kekulé forms apart) that meets the plan's
+    declared counts."""
     plan = task.plan
     if plan.n == 1:
         ((sym, v),) = plan.labels
         if plan.hydrogens == v and allowed_alone(sym, v):
-            yield Structure((sym,), (), (plan.hydrogens,), (v,))
+            alone = Structure((sym,), (), (plan.hydrogens,), (v,))
+            if plan.count_test is None or plan.count_test.structure_ok(alone):
+                yield alone
         return
     test = SkeletonTest(prefilter, plan.labels) if prefilter else None  # once per task, reused per skeleton
     for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max):
-        yield from structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test)
+        yield from structures_on_skeleton(
+            size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test, counts=plan.count_test
+        )
 
 
 def task_smiles(
@@ -126,9 +132,11 @@ def task_smiles(
 
 
 def compiled_selection(selection: Selection | None) -> CompiledSelection | None:
+    """The tests generation applies to finished molecules (the declared counts are pushed)."""
     if selection is None or selection.empty:
         return None
-    return selection.compile()
+    compiled = selection.compile(pushed_counts=True)
+    return compiled if compiled.tests else None
 
 
 def run_job(job: WorkerJob) -> tuple[list[str], dict[str, int]]:

@@ -17,10 +17,11 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from ..case import Case
+from ..case import CARBON_KINDS, Case
 from ..defaults import FORMULAS_PER_ION, SOLVER_LIMIT, WORKERS
 from ..evidence import TECHNIQUES, Assessment, Technique, make_subject
 from ..formula_search import Candidate, case_query, derive_formulas
+from ..generator.counts import CountTest
 from ..generator.groups import GroupTable, default_groups
 from ..generator.selection import Selection
 from .advice import ADVISED_FORMULAS, size_advice
@@ -33,7 +34,7 @@ from .suspects import assess_suspect
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["CHUNK", "PROFILE", "Evaluator", "hard_selection", "solve"]
+__all__ = ["CHUNK", "PROFILE", "Evaluator", "declared_counts", "hard_selection", "solve"]
 
 #: the plausibility profile the solver applies
 PROFILE = "stable"
@@ -56,7 +57,21 @@ def hard_selection(case: Case, techniques: Sequence[Technique]) -> Selection:
         require_smarts=s.require_smarts if s else (),
         forbid_smarts=s.forbid_smarts if s else (),
         profile=PROFILE,
+        counts=declared_counts(case),
     )
+
+
+def declared_counts(case: Case) -> CountTest | None:
+    """The NMR counts the case declares as hard (carbon types, exchangeable H, carbon kinds)."""
+    nmr = case.nmr
+    if nmr is None:
+        return None
+    test = CountTest(
+        types=nmr.carbon_types,
+        exchangeable=nmr.exchangeable_h,
+        kinds=tuple((k, *nmr.c13_regions[k]) for k in CARBON_KINDS if k in nmr.c13_regions) if nmr.c13_regions else (),
+    )
+    return None if test.empty else test
 
 
 @dataclass(frozen=True)
@@ -174,6 +189,13 @@ def solve(
         for cand in chosen:
             fit = cand.ranking_score
             if fit is not None and best > 0 and fit < best / sc.formula_cut and not result.poor_cluster:
+                continue
+            counts = selection.count_test
+            problem = counts.formula_problem(cand.formula) if counts is not None else None
+            if problem is not None:
+                why = f"no structure can meet the declared NMR counts: {problem}"
+                kept.append(KeptFormula(cand.formula, m, cand.score, 0, why, cand.demoted_by, cand.demotion))
+                notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
                 continue
             estimate = estimate_structures(cand.formula, estimate_options)
             over = estimate > limit
