@@ -1,0 +1,521 @@
+"""13C and 1H shift prediction by published additivity schemes (``constraints/nmr13c.yaml``,
+``constraints/nmr1h.yaml``), one prediction per symmetry class.
+
+13C, per carbon, the first scheme that covers it:
+
+* a carbonyl carbon: a base value per carbonyl kind;
+* nitrile, alkyne, allene and heteroaromatic carbons: a base value per environment;
+* a benzene carbon: 128.5 + the ipso/ortho/meta/para increments of every substituent on its
+  ring (a fused aromatic ring counts as a substituent);
+* an alkene carbon: 123.3 + increments for the sp3 carbons 1-3 bonds out on either side, the
+  geminal corrections, and the increments of other substituents on either carbon;
+* an sp3 carbon: the parent hydrocarbon (every functional group replaced by H) by Lindeman-
+  Adams or Grant-Paul, a ring correction, then the alpha..delta increments of each functional
+  group met walking out along sp3 carbons;
+* otherwise a base value per hybridisation with a wide uncertainty.
+
+1H, per H-bearing atom: aldehyde, exchangeable, alkyne and heteroaromatic H by base value;
+H on sp3 carbon by base value per CH3/CH2/CH plus alpha and beta increments (Shoolery-type);
+vinyl H by Pascual-Meier-Simon (gem, cis, trans; when the geometry is not fixed by the
+constitution, the cis and trans terms are averaged and the uncertainty widened); aryl H by
+7.27 + ortho/meta/para increments. Multiplicity: first order, the H on adjacent atoms (n + 1
+lines). Constitution only: the two H of a CH2 beside a stereocentre are taken as equivalent,
+and the two H of a terminal =CH2 are told apart only by their cis/trans relation.
+
+Every prediction carries an uncertainty from the table that grows with what the scheme does not
+cover (rings, crowded carbons, unknown substituents), so a poorly covered environment counts
+less when scored.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from ..smarts import compiled_smarts
+from .carbon13 import _ranks, _split_geminal
+from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
+
+if TYPE_CHECKING:
+    from .._rdkit import Atom, Mol
+
+__all__ = ["CarbonShift", "ProtonShift", "predict_c13", "predict_h1"]
+
+_TYPES = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
+_ALKYL_NAMES = ("methyl", "ch2", "ch", "cq", "ch2n")
+
+
+@dataclass(frozen=True)
+class CarbonShift:
+    """The predicted 13C signal of one symmetry class."""
+
+    atoms: tuple[int, ...]
+    ppm: float
+    uncertainty: float
+    type: str  # CH3, CH2, CH, C
+    environment: str
+
+    @property
+    def count(self) -> int:
+        return len(self.atoms)
+
+
+@dataclass(frozen=True)
+class ProtonShift:
+    """The predicted 1H signal of one class of equivalent hydrogens."""
+
+    atoms: tuple[int, ...]  # the heavy atoms the H sit on
+    hydrogens: int  # H in the class
+    ppm: float
+    uncertainty: float
+    neighbours: int  # H on adjacent atoms that split it (first order)
+    exchangeable: bool  # on O or N
+    environment: str
+
+
+class _Context:
+    """One molecule's substituent classification, cached."""
+
+    def __init__(self, mol: Mol, tables: NmrTables) -> None:
+        self.mol = mol
+        self.tables = tables
+        self._matches: list[dict[int, list[tuple[int, ...]]]] = []
+        for _, smarts in tables.c13.substituents:
+            by_first: dict[int, list[tuple[int, ...]]] = {}
+            for match in mol.GetSubstructMatches(compiled_smarts(smarts), uniquify=False):
+                by_first.setdefault(match[0], []).append(match)
+            self._matches.append(by_first)
+        self._names: dict[tuple[int, int], str] = {}
+        ri = mol.GetRingInfo()
+        self.ring_size = [ri.MinAtomRingSize(i) if ri.NumAtomRings(i) else 0 for i in range(mol.GetNumAtoms())]
+        self.atom_rings = [set(r) for r in ri.AtomRings()]
+        self.benzene_rings = [
+            r
+            for r in ri.AtomRings()
+            if len(r) == 6
+            and all(mol.GetAtomWithIdx(a).GetIsAromatic() and mol.GetAtomWithIdx(a).GetAtomicNum() == 6 for a in r)
+        ]
+
+    def name(self, atom: int, seen_from: int) -> str:
+        """The substituent kind starting at ``atom``, hanging on ``seen_from``."""
+        key = (atom, seen_from)
+        if key not in self._names:
+            found = "other"
+            for (name, _), by_first in zip(self.tables.c13.substituents, self._matches, strict=True):
+                if any(seen_from not in m[1:] for m in by_first.get(atom, ())):
+                    found = name
+                    break
+            self._names[key] = found
+        return self._names[key]
+
+    def sp3_carbon(self, atom: Atom) -> bool:
+        return atom.GetAtomicNum() == 6 and not atom.GetIsAromatic() and _unsaturation(atom) == 0
+
+    def same_ring(self, a: int, b: int, c: int | None = None) -> bool:
+        return any(a in r and b in r and (c is None or c in r) for r in self.atom_rings)
+
+
+def _aromatic_carbon(atom: Atom) -> bool:
+    return bool(atom.GetIsAromatic()) and atom.GetAtomicNum() == 6
+
+
+def _unsaturation(atom: Atom) -> int:
+    """Bond orders above single on a carbon: 4 - heavy neighbours - H."""
+    return 4 - atom.GetDegree() - atom.GetTotalNumHs()
+
+
+def _terminal_oxygen(atom: Atom) -> bool:
+    """An O double bonded to its only neighbour (no H, no charge)."""
+    return (
+        atom.GetAtomicNum() == 8 and len(_heavy(atom)) == 1 and atom.GetTotalNumHs() == 0 and not atom.GetFormalCharge()
+    )
+
+
+def _heavy(atom: Atom) -> list[Atom]:
+    return [n for n in atom.GetNeighbors() if n.GetAtomicNum() != 1]
+
+
+def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:
+    for entry in entries:
+        for match in ctx.mol.GetSubstructMatches(compiled_smarts(entry.smarts), uniquify=False):
+            if match[0] == atom:
+                return entry
+    return None
+
+
+# ------------------------------------------------------------------ 13C
+
+
+def _ring_category(atom: Atom) -> str:
+    """What a non-sp3-carbon ring member is, for the in-ring increments."""
+    z = atom.GetAtomicNum()
+    if z == 8:
+        return "oxygen"
+    if z == 7:
+        return "nitrogen"
+    if z == 6 and any(_terminal_oxygen(n) for n in _heavy(atom)):
+        return "carbonyl"
+    if z == 6 and atom.GetIsAromatic():
+        return "arene"
+    if z == 6:
+        return "alkene"
+    return "other"
+
+
+def _alkyl_walk(
+    ctx: _Context, start: int, blocked: set[int], depth: int, ring: frozenset[int] = frozenset()
+) -> tuple[list[int], list[tuple[str, int]], list[tuple[str, int]]]:
+    """From ``start`` outwards along sp3 carbons: sp3 carbons per distance 1..depth, the
+    functional groups met (name, distance), and the members of ``ring`` (the rings of the
+    observed carbon) that are not sp3 carbons, walked through as ring members of the parent
+    cycloalkane (category, distance)."""
+    mol = ctx.mol
+    carbons = [0] * (depth + 1)
+    groups: list[tuple[str, int]] = []
+    in_ring: list[tuple[str, int]] = []
+    dist = {start: 0, **dict.fromkeys(blocked, -1)}
+    frontier = [start]
+    while frontier:
+        nxt = []
+        for u in frontier:
+            if dist[u] >= depth:
+                continue
+            for nb in _heavy(mol.GetAtomWithIdx(u)):
+                v = nb.GetIdx()
+                if v in dist:
+                    continue
+                dist[v] = dist[u] + 1
+                if ctx.sp3_carbon(nb):
+                    carbons[dist[v]] += 1
+                    nxt.append(v)
+                elif v in ring and u in ring:
+                    carbons[dist[v]] += 1
+                    in_ring.append((_ring_category(nb), dist[v]))
+                    nxt.append(v)
+                elif u != start and u in ring and not ctx.sp3_carbon(mol.GetAtomWithIdx(u)) and _terminal_oxygen(nb):
+                    continue  # the =O of a ring carbonyl is part of its ring increments
+                else:
+                    groups.append((ctx.name(v, u), dist[v]))
+        frontier = nxt
+    return carbons, groups, in_ring
+
+
+def _skeleton_neighbours(ctx: _Context, atom: Atom, ring: frozenset[int]) -> int:
+    """Carbon neighbours in the parent hydrocarbon: sp3 carbons and members of the observed
+    carbon's rings."""
+    inside = atom.GetIdx() in ring
+    return sum(1 for n in _heavy(atom) if ctx.sp3_carbon(n) or (inside and n.GetIdx() in ring))
+
+
+def _beyond(ctx: _Context, i: int, name: str) -> int:
+    """sp3 carbons on the first atom of each ``name`` group bonded to ``i`` (other than ``i``)."""
+    atom = ctx.mol.GetAtomWithIdx(i)
+    count = 0
+    for nb in _heavy(atom):
+        if not ctx.sp3_carbon(nb) and ctx.name(nb.GetIdx(), i) == name:
+            count += sum(1 for far in _heavy(nb) if far.GetIdx() != i and ctx.sp3_carbon(far))
+    return count
+
+
+def _sp3_carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
+    t = ctx.tables.c13
+    atom = ctx.mol.GetAtomWithIdx(i)
+    ring = frozenset(a for r in ctx.atom_rings if i in r for a in r)
+    carbons, groups, in_ring = _alkyl_walk(ctx, i, set(), 5, ring)
+    attached = [n for n in _heavy(atom) if ctx.sp3_carbon(n) or n.GetIdx() in ring]
+    s = len(attached)
+    if t.scheme == "lindeman_adams":
+        la = t.lindeman_adams
+        ppm = la.base[min(s, 4)]
+        if s:
+            for nb in attached:
+                m = _skeleton_neighbours(ctx, nb, ring)
+                if m >= 2:
+                    ppm += la.attached[min(s, 4) - 1][min(m, 4) - 2]
+            ppm += la.gamma[min(s, 4) - 1] * carbons[3] + la.delta[min(s, 4) - 1] * carbons[4]
+        rings = la.rings
+        scheme = "Lindeman-Adams"
+    else:
+        gp = t.grant_paul
+        ppm = gp.base + sum(w * n for w, n in zip(gp.carbons, carbons[1:], strict=True))
+        for nb in attached:
+            m = _skeleton_neighbours(ctx, nb, ring)
+            ppm += gp.steric[min(max(s, 1), 4) - 1][min(max(m, 1), 4) - 1]
+        rings = gp.rings
+        scheme = "Grant-Paul"
+    h = atom.GetTotalNumHs()
+    unc = t.alkane_uncertainty[_TYPES.get(h, "CH3")]
+    size = ctx.ring_size[i]
+    if size:
+        ppm += rings.get(size, 0.0)
+        unc += t.alkane_ring_uncertainty
+    named = []
+    for category, d in in_ring:
+        if d > 3:
+            continue
+        inc, known = t.alkane_ring_groups.get(category)
+        ppm += inc[d - 1]
+        unc += t.alkane_group_uncertainty if known else t.alkane_ring_groups.unknown_uncertainty
+        named.append(f"ring {category}")
+    for name, d in groups:
+        if d > 4:
+            continue
+        inc, known = t.alkane_groups.get(name)
+        ppm += inc[d - 1]
+        if d == 1 and name in t.alkane_beyond:
+            ppm += t.alkane_beyond[name] * _beyond(ctx, i, name)
+        if not known:
+            unc += t.alkane_groups.unknown_uncertainty
+        if d <= 2:
+            unc += t.alkane_group_uncertainty
+        named.append(name)
+    env = f"sp3 ({scheme}" + (f"; {', '.join(sorted(set(named)))}" if named else "") + ")"
+    return ppm, unc, env
+
+
+def _benzene_carbon(
+    ctx: _Context, i: int, ring: Sequence[int], increments: Increments, slot: int
+) -> tuple[float, int, int]:
+    """The summed increments of every substituent on ``ring`` for the ring atom ``i``
+    (positions ipso..para from ``slot``: 0 for 13C, -1 for 1H which has no ipso), the count of
+    substituents and of unknown ones."""
+    mol = ctx.mol
+    p = ring.index(i)
+    total, n, unknown = 0.0, 0, 0
+    ring_set = set(ring)
+    for k, j in enumerate(ring):
+        offset = abs(k - p)
+        position = min(offset, 6 - offset)
+        for nb in _heavy(mol.GetAtomWithIdx(j)):
+            a = nb.GetIdx()
+            if a in ring_set:
+                continue
+            bond = mol.GetBondBetweenAtoms(j, a)
+            name = "fused" if bond.IsInRing() and nb.GetIsAromatic() and ctx.same_ring(j, a) else ctx.name(a, j)
+            inc, known = increments.get(name)
+            index = position + slot
+            if index < 0:
+                continue  # an H never sits ipso to a substituent
+            total += inc[index]
+            n += 1
+            unknown += not known
+    return total, n, unknown
+
+
+def _alkene_carbon(ctx: _Context, i: int, k: int) -> tuple[float, float, str]:
+    t = ctx.tables.c13
+    a = t.alkene
+    mol = ctx.mol
+    ppm = a.base
+    unc = a.uncertainty
+    for side, (centre, partner) in enumerate(((i, k), (k, i))):
+        weights = a.same_side if side == 0 else a.other_side
+        alkyl = 0
+        for nb in _heavy(mol.GetAtomWithIdx(centre)):
+            j = nb.GetIdx()
+            if j == partner:
+                continue
+            if ctx.sp3_carbon(nb):
+                alkyl += 1
+                carbons, _, _ = _alkyl_walk(ctx, j, {i, k}, 2)
+                ppm += weights[0] + weights[1] * carbons[1] + weights[2] * carbons[2]
+            else:
+                inc, known = t.alkene_groups.get(ctx.name(j, centre))
+                ppm += inc[side]
+                if not known:
+                    unc += t.alkene_groups.unknown_uncertainty or 5.0
+        if alkyl >= 2:
+            ppm += a.geminal_same if side == 0 else a.geminal_other
+    if mol.GetBondBetweenAtoms(i, k).IsInRing():
+        unc += a.ring_uncertainty
+    return ppm, unc, "alkene C"
+
+
+def _carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
+    t = ctx.tables.c13
+    atom = ctx.mol.GetAtomWithIdx(i)
+    heavy = _heavy(atom)
+    if any(
+        n.GetAtomicNum() == 8 and len(_heavy(n)) == 1 and n.GetTotalNumHs() == 0 and n.GetFormalCharge() == 0
+        for n in heavy
+    ):
+        entry = _first_match(ctx, i, t.carbonyl)
+        if entry is not None:
+            return entry.shift, entry.uncertainty, f"carbonyl: {entry.name}"
+    entry = _first_match(ctx, i, t.special)
+    if entry is not None:
+        return entry.shift, entry.uncertainty, entry.name
+    if atom.GetIsAromatic():
+        for ring in ctx.benzene_rings:
+            if i in ring:
+                total, n, unknown = _benzene_carbon(ctx, i, ring, t.benzene_groups, 0)
+                kind = "CH" if atom.GetTotalNumHs() else "C"
+                unc = t.benzene_uncertainty[kind] + t.benzene_substituent_uncertainty * n
+                unc += t.benzene_groups.unknown_uncertainty * unknown
+                return t.benzene_base + total, unc, "benzene C"
+        shift, unc = t.fallback["sp2"]
+        return shift, unc, "aromatic C (no scheme)"
+    unsaturation = _unsaturation(atom)
+    if unsaturation == 0:
+        return _sp3_carbon(ctx, i)
+    if unsaturation == 1:
+        for bond in atom.GetBonds():
+            other = bond.GetOtherAtom(atom)
+            if bond.GetBondTypeAsDouble() == 2 and other.GetAtomicNum() == 6 and not other.GetIsAromatic():
+                return _alkene_carbon(ctx, i, other.GetIdx())
+        shift, unc = t.fallback["sp2"]
+        return shift, unc, "sp2 C (no scheme)"
+    shift, unc = t.fallback["sp"]
+    return shift, unc, "sp C (no scheme)"
+
+
+def _classes(mol: Mol) -> list[int]:
+    """Symmetry class of every atom (constitution, with the alkene geminal split)."""
+    return _ranks(_split_geminal(mol))
+
+
+def predict_c13(mol: Mol, tables: NmrTables | None = None) -> list[CarbonShift]:
+    """One predicted 13C signal per carbon symmetry class, in order of first atom."""
+    ctx = _Context(mol, tables or default_nmr_tables())
+    ranks = _classes(mol)
+    members: dict[int, list[int]] = {}
+    for atom in mol.GetAtoms():
+        if atom.GetAtomicNum() == 6:
+            members.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
+    out = []
+    for atoms in sorted(members.values()):
+        first = atoms[0]
+        ppm, unc, env = _carbon(ctx, first)
+        kind = _TYPES.get(mol.GetAtomWithIdx(first).GetTotalNumHs(), "CH3")
+        out.append(CarbonShift(tuple(atoms), round(ppm, 2), round(unc, 2), kind, env))
+    return out
+
+
+# ------------------------------------------------------------------ 1H
+
+
+def _alkene_h_name(ctx: _Context, j: int, centre: int, partner: int) -> str:
+    name = ctx.name(j, centre)
+    if name in _ALKYL_NAMES:
+        return "ring_alkyl" if ctx.same_ring(j, centre, partner) else "alkyl"
+    return name
+
+
+def _proton_shifts(ctx: _Context, i: int) -> list[tuple[float, float, str, int | None]]:
+    """Predictions for the H on atom ``i``: one entry, or for a =CH2 whose two H differ, two
+    entries (shift, uncertainty, environment, which H: index of the partner substituent it is
+    cis to, or None)."""
+    t = ctx.tables.h1
+    mol = ctx.mol
+    atom = mol.GetAtomWithIdx(i)
+    entry = _first_match(ctx, i, t.special)
+    if entry is not None:
+        return [(entry.shift, entry.uncertainty, entry.name, None)]
+    if atom.GetAtomicNum() != 6:
+        shift, unc = t.fallback["other"]
+        return [(shift, unc, "H on heteroatom (no scheme)", None)]
+    if atom.GetIsAromatic():
+        for ring in ctx.benzene_rings:
+            if i in ring:
+                total, n, unknown = _benzene_carbon(ctx, i, ring, t.benzene_groups, -1)
+                unc = t.benzene_uncertainty + t.benzene_substituent_uncertainty * n
+                unc += t.benzene_groups.unknown_uncertainty * unknown
+                return [(t.benzene_base + total, unc, "aryl H", None)]
+        shift, unc = t.fallback["aromatic"]
+        return [(shift, unc, "aromatic H (no scheme)", None)]
+    unsaturation = _unsaturation(atom)
+    if unsaturation == 0:
+        h = atom.GetTotalNumHs()
+        ppm = t.alkyl_base.get(_TYPES.get(h, "CH3"), t.alkyl_base["CH3"])
+        unc = t.alkyl_uncertainty
+        if ctx.ring_size[i] and h < 3:
+            ppm += t.alkyl_ring
+        for nb in _heavy(atom):
+            j = nb.GetIdx()
+            if ctx.sp3_carbon(nb):
+                for far in _heavy(nb):
+                    if far.GetIdx() == i or ctx.sp3_carbon(far):
+                        continue
+                    inc, known = t.alkyl_groups.get(ctx.name(far.GetIdx(), j))
+                    ppm += inc[1]
+                    unc += 0.0 if known else t.alkyl_groups.unknown_uncertainty / 2
+                continue
+            inc, known = t.alkyl_groups.get(ctx.name(j, i))
+            ppm += inc[0]
+            unc += t.alkyl_group_uncertainty + (0.0 if known else t.alkyl_groups.unknown_uncertainty)
+        return [(ppm, unc, "alkyl H", None)]
+    if unsaturation == 1:
+        partner = next(
+            (
+                b.GetOtherAtom(atom)
+                for b in atom.GetBonds()
+                if b.GetBondTypeAsDouble() == 2 and b.GetOtherAtom(atom).GetAtomicNum() == 6
+            ),
+            None,
+        )
+        if partner is not None:
+            k = partner.GetIdx()
+            base = t.alkene_base
+            unc = t.alkene_uncertainty
+            for nb in _heavy(atom):
+                if nb.GetIdx() != k:
+                    inc, known = t.alkene_groups.get(_alkene_h_name(ctx, nb.GetIdx(), i, k))
+                    base += inc[0]
+                    unc += 0.0 if known else t.alkene_groups.unknown_uncertainty
+            across = [nb.GetIdx() for nb in _heavy(partner) if nb.GetIdx() != i]
+            terms = []
+            for j in across:
+                inc, known = t.alkene_groups.get(_alkene_h_name(ctx, j, k, i))
+                unc += 0.0 if known else t.alkene_groups.unknown_uncertainty
+                terms.append((inc[1], inc[2]))  # (cis, trans)
+            if atom.GetTotalNumHs() == 2 and across:
+                # =CH2: one H cis to each partner substituent (the other H, or the second group)
+                outs: list[tuple[float, float, str, int | None]] = []
+                for slot in range(len(across) if len(across) == 2 else 2):
+                    shift = base
+                    for m, (cis, trans) in enumerate(terms):
+                        shift += cis if m == slot else trans
+                    outs.append((shift, unc, "vinyl H", slot))
+                return outs
+            shift = base + sum((cis + trans) / 2 for cis, trans in terms)
+            if terms:
+                unc += t.alkene_geometry_uncertainty
+            return [(shift, unc, "vinyl H", None)]
+    shift, unc = t.fallback["sp2"]
+    return [(shift, unc, "H (no scheme)", None)]
+
+
+def predict_h1(mol: Mol, tables: NmrTables | None = None) -> list[ProtonShift]:
+    """One predicted 1H signal per class of equivalent hydrogens, in order of first atom."""
+    tab = tables or default_nmr_tables()
+    ctx = _Context(mol, tab)
+    ranks = _classes(mol)
+    members: dict[int, list[int]] = {}
+    for atom in mol.GetAtoms():
+        if atom.GetAtomicNum() != 1 and atom.GetTotalNumHs():
+            members.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
+    out = []
+    for atoms in sorted(members.values()):
+        first = mol.GetAtomWithIdx(atoms[0])
+        exchangeable = first.GetAtomicNum() in (7, 8)
+        same = set(atoms)
+        neighbours = 0
+        if not exchangeable:
+            for nb in _heavy(first):
+                if nb.GetIdx() in same:
+                    continue  # equivalent H do not split each other
+                if nb.GetAtomicNum() in (7, 8) and not tab.h1.exchangeable_couple:
+                    continue
+                neighbours += nb.GetTotalNumHs()
+        h = first.GetTotalNumHs()
+        shifts = _proton_shifts(ctx, atoms[0])
+        if len(shifts) == 2 and shifts[0][0] != shifts[1][0]:
+            for ppm, unc, env, _ in shifts:
+                out.append(ProtonShift(tuple(atoms), len(atoms), round(ppm, 2), round(unc, 2), neighbours, False, env))
+            continue
+        ppm, unc, env, _ = shifts[0]
+        out.append(
+            ProtonShift(tuple(atoms), h * len(atoms), round(ppm, 2), round(unc, 2), neighbours, exchangeable, env)
+        )
+    return out
