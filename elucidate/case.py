@@ -776,39 +776,31 @@ def _case(root: Located, table: ElementTable) -> Case:
                         "either molecular_ion is wrong or the peak belongs to something else"
                     )
                 reached.add(mz)
-    if nmr is not None and nmr.carbon_types is not None and spec.known is None:
-        if spec.elements is not None:
-            limits = dict(spec.elements)
-            carbons = sum(nmr.carbon_types)
-            on_carbon = sum(h * n for h, n in zip((3, 2, 1, 0), nmr.carbon_types, strict=True))
-            c_low, c_high = limits.get("C", (0, 0))
-            h_high = limits.get("H", (0, 0))[1]
-            if not c_low <= carbons <= c_high or on_carbon > h_high:
-                raise (
-                    body["nmr"]
-                    .value["carbon_types"]
-                    .error(
-                        f"carbon_types counts {carbons} C carrying {on_carbon} H, outside formula.elements "
-                        f"(C {c_low}-{c_high}, H up to {h_high})"
-                    )
-                )
+    types_loc: Located | None = body["nmr"].value.get("carbon_types") if nmr is not None else None
+    if nmr is not None and nmr.carbon_types is not None and types_loc is not None:
+        carbons = sum(nmr.carbon_types)
+        on_carbon = sum(h * n for h, n in zip((3, 2, 1, 0), nmr.carbon_types, strict=True))
+        if spec.known is not None:
+            c_low = c_high = spec.known.get("C")
+            h_high = spec.known.get("H")
+            where = str(spec.known)
+        elif spec.elements is not None:
+            c_low, c_high = spec.elements.get("C", (0, 0))
+            h_high = spec.elements.get("H", (0, 0))[1]
+            where = "formula.elements"
+        else:
+            c_low, c_high, h_high, where = 0, carbons, on_carbon, ""
+        if not c_low <= carbons <= c_high or on_carbon > h_high:
+            raise types_loc.error(
+                f"carbon_types counts {carbons} C carrying {on_carbon} H, which {where} cannot hold "
+                f"(C {c_low}-{c_high}, H up to {h_high})"
+            )
     if nmr is not None and spec.known is not None:
         carbons = spec.known.get("C")
         if nmr.c13_signals is not None and nmr.c13_signals > carbons:
             raise body["nmr"].error(
                 f"{nmr.c13_signals} 13C signals cannot come from {spec.known}, which has {carbons} C"
             )
-        if nmr.carbon_types is not None:
-            on_carbon = sum(h * n for h, n in zip((3, 2, 1, 0), nmr.carbon_types, strict=True))
-            if sum(nmr.carbon_types) != carbons or on_carbon > spec.known.get("H"):
-                raise (
-                    body["nmr"]
-                    .value["carbon_types"]
-                    .error(
-                        f"carbon_types ({sum(nmr.carbon_types)} C carrying {on_carbon} H) cannot be met by "
-                        f"{spec.known}, which has {carbons} C and {spec.known.get('H')} H"
-                    )
-                )
     return Case(
         path=root.file,
         id=case_id,

@@ -10,11 +10,13 @@ from .carbon13 import Carbon13, carbon_classes
 from .fragments import Fragments, predict_ions
 from .infrared import Infrared, read_bands
 from .isotope_fit import IsotopeFit
+from .nmr import Nmr
+from .nmr_predict import predict_c13, predict_h1
 from .strain import Strain, strain_energy
 from .uv import UvVis, predict_lambda_max
 
 #: the techniques the solver runs, in report order; each is built with no arguments
-TECHNIQUES: tuple[type[Technique], ...] = (IsotopeFit, Infrared, UvVis, Fragments, Carbon13, Strain)
+TECHNIQUES: tuple[type[Technique], ...] = (IsotopeFit, Infrared, UvVis, Fragments, Carbon13, Nmr, Strain)
 
 __all__ = [
     "TECHNIQUES",
@@ -23,6 +25,7 @@ __all__ = [
     "Fragments",
     "Infrared",
     "IsotopeFit",
+    "Nmr",
     "Reading",
     "Strain",
     "Subject",
@@ -30,6 +33,8 @@ __all__ = [
     "UvVis",
     "carbon_classes",
     "make_subject",
+    "predict_c13",
+    "predict_h1",
     "predict_ions",
     "predict_lambda_max",
     "read_bands",

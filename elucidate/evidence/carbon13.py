@@ -144,7 +144,9 @@ class Carbon13:
         self.table = table or default_carbon13()
 
     def applies(self, case: Case) -> bool:
-        return case.nmr is not None and (case.nmr.c13_signals is not None or case.nmr.c13_multiplicity is not None)
+        """Counts only: a 13C list is scored by assignment instead (:mod:`.nmr`)."""
+        nmr = case.nmr
+        return nmr is not None and not nmr.c13 and (nmr.c13_signals is not None or nmr.c13_multiplicity is not None)
 
     def hard_constraints(self, case: Case) -> Mapping[str, tuple[str, ...]]:
         return {}

@@ -40,7 +40,7 @@ from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
 if TYPE_CHECKING:
     from .._rdkit import Atom, Mol
 
-__all__ = ["CarbonShift", "ProtonShift", "predict_c13", "predict_h1"]
+__all__ = ["CarbonShift", "ProtonShift", "predict_c13", "predict_h1", "predict_nmr"]
 
 _TYPES = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
 _ALKYL_NAMES = ("methyl", "ch2", "ch", "cq", "ch2n")
@@ -87,6 +87,7 @@ class _Context:
                 by_first.setdefault(match[0], []).append(match)
             self._matches.append(by_first)
         self._names: dict[tuple[int, int], str] = {}
+        self._starts: dict[str, frozenset[int]] = {}
         ri = mol.GetRingInfo()
         self.ring_size = [ri.MinAtomRingSize(i) if ri.NumAtomRings(i) else 0 for i in range(mol.GetNumAtoms())]
         self.atom_rings = [set(r) for r in ri.AtomRings()]
@@ -108,6 +109,14 @@ class _Context:
                     break
             self._names[key] = found
         return self._names[key]
+
+    def starts(self, smarts: str) -> frozenset[int]:
+        """The atoms a SMARTS matches with its atom 0 (cached per molecule)."""
+        found = self._starts.get(smarts)
+        if found is None:
+            matches = self.mol.GetSubstructMatches(compiled_smarts(smarts), uniquify=False)
+            found = self._starts[smarts] = frozenset(m[0] for m in matches)
+        return found
 
     def sp3_carbon(self, atom: Atom) -> bool:
         return atom.GetAtomicNum() == 6 and not atom.GetIsAromatic() and _unsaturation(atom) == 0
@@ -132,15 +141,19 @@ def _terminal_oxygen(atom: Atom) -> bool:
     )
 
 
+def _double(mol: Mol, a: int, b: int) -> bool:
+    bond = mol.GetBondBetweenAtoms(a, b)
+    return bond is not None and bond.GetBondTypeAsDouble() == 2
+
+
 def _heavy(atom: Atom) -> list[Atom]:
     return [n for n in atom.GetNeighbors() if n.GetAtomicNum() != 1]
 
 
 def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:
     for entry in entries:
-        for match in ctx.mol.GetSubstructMatches(compiled_smarts(entry.smarts), uniquify=False):
-            if match[0] == atom:
-                return entry
+        if atom in ctx.starts(entry.smarts):
+            return entry
     return None
 
 
@@ -193,8 +206,8 @@ def _alkyl_walk(
                     carbons[dist[v]] += 1
                     in_ring.append((_ring_category(nb), dist[v]))
                     nxt.append(v)
-                elif u != start and u in ring and not ctx.sp3_carbon(mol.GetAtomWithIdx(u)) and _terminal_oxygen(nb):
-                    continue  # the =O of a ring carbonyl is part of its ring increments
+                elif u != start and u in ring and not ctx.sp3_carbon(mol.GetAtomWithIdx(u)) and _double(mol, u, v):
+                    continue  # the =O of a ring carbonyl, the =CH2 of a ring alkene: in its ring increments
                 else:
                     groups.append((ctx.name(v, u), dist[v]))
         frontier = nxt
@@ -375,10 +388,20 @@ def _classes(mol: Mol) -> list[int]:
     return _ranks(_split_geminal(mol))
 
 
-def predict_c13(mol: Mol, tables: NmrTables | None = None) -> list[CarbonShift]:
-    """One predicted 13C signal per carbon symmetry class, in order of first atom."""
+def predict_nmr(mol: Mol, tables: NmrTables | None = None) -> tuple[list[CarbonShift], list[ProtonShift]]:
+    """Both predictions, sharing one pass over the molecule's substituents and symmetry."""
     ctx = _Context(mol, tables or default_nmr_tables())
     ranks = _classes(mol)
+    return _predict_c13(ctx, ranks), _predict_h1(ctx, ranks)
+
+
+def predict_c13(mol: Mol, tables: NmrTables | None = None) -> list[CarbonShift]:
+    """One predicted 13C signal per carbon symmetry class, in order of first atom."""
+    return _predict_c13(_Context(mol, tables or default_nmr_tables()), _classes(mol))
+
+
+def _predict_c13(ctx: _Context, ranks: Sequence[int]) -> list[CarbonShift]:
+    mol = ctx.mol
     members: dict[int, list[int]] = {}
     for atom in mol.GetAtoms():
         if atom.GetAtomicNum() == 6:
@@ -488,9 +511,12 @@ def _proton_shifts(ctx: _Context, i: int) -> list[tuple[float, float, str, int |
 
 def predict_h1(mol: Mol, tables: NmrTables | None = None) -> list[ProtonShift]:
     """One predicted 1H signal per class of equivalent hydrogens, in order of first atom."""
-    tab = tables or default_nmr_tables()
-    ctx = _Context(mol, tab)
-    ranks = _classes(mol)
+    return _predict_h1(_Context(mol, tables or default_nmr_tables()), _classes(mol))
+
+
+def _predict_h1(ctx: _Context, ranks: Sequence[int]) -> list[ProtonShift]:
+    mol = ctx.mol
+    tab = ctx.tables
     members: dict[int, list[int]] = {}
     for atom in mol.GetAtoms():
         if atom.GetAtomicNum() != 1 and atom.GetTotalNumHs():

@@ -21,6 +21,7 @@ from ..yamlnodes import Located, as_bool, as_choice, as_list, as_number, as_str,
 
 __all__ = [
     "AlkeneScheme",
+    "AssignmentCosts",
     "BaseValue",
     "Carbon13Tables",
     "GrantPaul",
@@ -91,6 +92,19 @@ class AlkeneScheme:
 
 
 @dataclass(frozen=True)
+class AssignmentCosts:
+    """How an observed list is scored against predicted classes (nats)."""
+
+    deviation_cap: float
+    overlap: float
+    extra_signal: float
+    type_mismatch: float = 0.0
+    integral_per_h: float = 0.0
+    multiplicity_per_h: float = 0.0
+    multiplicity_cap: float = 0.0
+
+
+@dataclass(frozen=True)
 class Carbon13Tables:
     regions: Mapping[str, tuple[float, float]]
     substituents: tuple[tuple[str, str], ...]  # (name, SMARTS), first match wins
@@ -112,6 +126,7 @@ class Carbon13Tables:
     carbonyl: tuple[BaseValue, ...]
     special: tuple[BaseValue, ...]
     fallback: Mapping[str, tuple[float, float]]
+    costs: AssignmentCosts
 
 
 @dataclass(frozen=True)
@@ -132,6 +147,7 @@ class Proton1Tables:
     special: tuple[BaseValue, ...]
     fallback: Mapping[str, tuple[float, float]]
     exchangeable_couple: bool
+    costs: AssignmentCosts
 
 
 @dataclass(frozen=True, eq=False)
@@ -228,7 +244,18 @@ def _kinds(loc: Located, keys: list[str]) -> dict[str, float]:
 
 
 def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
-    top = ["source", "regions", "substituents", "alkane", "alkene", "benzene", "carbonyl", "special", "fallback"]
+    top = [
+        "source",
+        "regions",
+        "substituents",
+        "alkane",
+        "alkene",
+        "benzene",
+        "carbonyl",
+        "special",
+        "fallback",
+        "scoring",
+    ]
     body = mapping(root, top, required=top[1:])
     regions = {}
     for k, v in mapping(body["regions"], list(CARBON_KINDS), required=list(CARBON_KINDS)).items():
@@ -327,8 +354,14 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         carbonyl=_base_values(body["carbonyl"]),
         special=_base_values(body["special"]),
         fallback=_fallback(body["fallback"], ["sp2", "sp", "sp3"]),
+        costs=_costs(body["scoring"], ["deviation_cap", "type_mismatch", "overlap", "extra_signal"]),
     )
     return table, as_str(body["source"]) if "source" in body else ""
+
+
+def _costs(loc: Located, keys: list[str]) -> AssignmentCosts:
+    body = mapping(loc, keys, required=keys)
+    return AssignmentCosts(**{k: as_number(body[k], minimum=0, what="a cost of 0 or more") for k in keys})
 
 
 def _rings(loc: Located) -> dict[int, float]:
@@ -343,7 +376,7 @@ def _rings(loc: Located) -> dict[int, float]:
 
 
 def _proton1(root: Located) -> tuple[Proton1Tables, str]:
-    top = ["source", "alkyl", "alkene", "benzene", "special", "fallback", "multiplicity"]
+    top = ["source", "alkyl", "alkene", "benzene", "special", "fallback", "multiplicity", "scoring"]
     body = mapping(root, top, required=top[1:])
     ak = ["base", "ring", "uncertainty", "group_uncertainty", "groups", "unknown_group", "unknown_uncertainty"]
     alk = mapping(body["alkyl"], ak, required=ak)
@@ -371,6 +404,17 @@ def _proton1(root: Located) -> tuple[Proton1Tables, str]:
         special=_base_values(body["special"]),
         fallback=_fallback(body["fallback"], ["aromatic", "sp2", "sp3", "other"]),
         exchangeable_couple=as_bool(mult["exchangeable_couple"]),
+        costs=_costs(
+            body["scoring"],
+            [
+                "deviation_cap",
+                "overlap",
+                "extra_signal",
+                "integral_per_h",
+                "multiplicity_per_h",
+                "multiplicity_cap",
+            ],
+        ),
     )
     return table, as_str(body["source"]) if "source" in body else ""
 

@@ -1,0 +1,460 @@
+"""NMR: the observed 13C and 1H lists against the candidate's predicted signals, by optimal
+assignment (``constraints/nmr13c.yaml``, ``constraints/nmr1h.yaml``).
+
+Assignment. Observed signals and predicted symmetry classes are paired one to one by the
+Hungarian algorithm (``scipy.optimize.linear_sum_assignment``) on the cost of each pair: the
+squared deviation over the class's stated uncertainty (half of it taken as one standard
+deviation), capped, plus a DEPT-type mismatch (13C) that makes a differing type all but
+forbidden. Classes left over when there are fewer observed signals overlap the observed signal
+that suits them best (a mild cost); observed signals left over are more than the structure can
+give (a strong cost). For 1H the integrals are then compared with the H of the classes each
+signal holds (scaled to the best common factor), and a resolved multiplet with the first-order
+n + 1 prediction. Exchangeable H (OH, NH) may be missing from the list at no cost.
+
+The counts a chemist declares (``carbon_types``, ``exchangeable_h``, ``c13_regions``) are hard
+and pushed into generation (:mod:`elucidate.generator.counts`); this module only ranks.
+
+Reading (:meth:`Nmr.read`): the tool's own reading of the lists, for the chemist to judge and
+copy: DEPT counts as lower bounds on the carbon types, signals per shift window (carbonyl
+kinds by region), the integral sum against the formula's H, and broad signals that may be
+exchangeable.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any, Literal
+
+from ..case import CARBON_KINDS, MULTIPLICITIES, C13Signal, Case, H1Signal
+from .base import Assessment, Reading, Subject
+from .nmr_predict import CarbonShift, ProtonShift, predict_nmr
+from .nmr_tables import AssignmentCosts, NmrTables, default_nmr_tables
+
+if TYPE_CHECKING:
+    import numpy as np
+
+__all__ = ["Nmr", "assign", "coupled_h"]
+
+#: coupled H a multiplet code stands for (first order, all couplings resolved)
+_COUPLED = {"s": 0, "d": 1, "t": 2, "q": 3, "quint": 4, "sext": 5, "sept": 6}
+
+
+def coupled_h(code: str | None) -> int | None:
+    """How many neighbouring H a multiplet code reports (dd and t both 2); None when it does
+    not say (m, br, or no code)."""
+    if code is None or code.startswith("br") or code == "m":
+        return None
+    if code in _COUPLED:
+        return _COUPLED[code]
+    return sum(_COUPLED[letter] for letter in code)
+
+
+@dataclass(frozen=True)
+class Pair:
+    """One row of an assignment table."""
+
+    observed: int | None  # index into the observed list (None: a class with no signal of its own)
+    predicted: int | None  # index into the predicted classes (None: an observed signal left over)
+    cost: float
+    overlap: bool = False  # the class shares its observed signal with another class
+
+
+def _deviation(observed: float, predicted: float, uncertainty: float, cap: float) -> float:
+    sigma = max(uncertainty / 2, 1e-6)
+    return min(0.5 * ((observed - predicted) / sigma) ** 2, cap)
+
+
+def assign(cost: np.ndarray, costs: AssignmentCosts, *, optional: Sequence[bool] = ()) -> list[Pair]:
+    """Observed (rows) to predicted (columns): one to one by least total cost, leftover classes
+    overlapping their cheapest observed signal, leftover observed signals as extra. A class
+    marked ``optional`` that is left over is dropped at no cost."""
+    from scipy.optimize import linear_sum_assignment
+
+    n_obs, n_pred = cost.shape
+    pairs: list[Pair] = []
+    if n_obs and n_pred:
+        rows, cols = linear_sum_assignment(cost)
+        pairs = [Pair(int(r), int(c), float(cost[r, c])) for r, c in zip(rows, cols, strict=True)]
+    used_obs = {p.observed for p in pairs}
+    used_pred = {p.predicted for p in pairs}
+    for c in range(n_pred):
+        if c in used_pred:
+            continue
+        if optional and optional[c]:
+            continue
+        if n_obs:
+            r = min(range(n_obs), key=lambda r: (cost[r, c], r))
+            pairs.append(Pair(r, c, float(cost[r, c]) + costs.overlap, overlap=True))
+        else:
+            pairs.append(Pair(None, c, costs.extra_signal))
+    for r in range(n_obs):
+        if r not in used_obs:
+            pairs.append(Pair(r, None, costs.extra_signal))
+    return sorted(pairs, key=lambda p: (p.observed if p.observed is not None else -1, p.predicted or 0))
+
+
+class Nmr:
+    """Observed 13C (with DEPT types) and 1H lists scored by optimal assignment."""
+
+    name = "nmr"
+    weight_key = "nmr"
+    label = "NMR"
+    stage: Literal["formula", "structure"] = "structure"
+    reading_key: str | None = "nmr_reading"
+
+    def __init__(self, tables: NmrTables | None = None) -> None:
+        self.tables = tables or default_nmr_tables()
+
+    def applies(self, case: Case) -> bool:
+        return case.nmr is not None and case.nmr.has_lists
+
+    def hard_constraints(self, case: Case) -> Mapping[str, tuple[str, ...]]:
+        return {}
+
+    # ------------------------------------------------------------------ scoring
+
+    def _carbon(self, observed: Sequence[C13Signal], predicted: Sequence[CarbonShift]) -> tuple[float, float, list]:
+        import numpy as np
+
+        costs = self.tables.c13.costs
+        cost = np.zeros((len(observed), len(predicted)))
+        for r, o in enumerate(observed):
+            for c, p in enumerate(predicted):
+                cost[r, c] = _deviation(o.ppm, p.ppm, p.uncertainty, costs.deviation_cap)
+                if o.type is not None and o.type != p.type:
+                    cost[r, c] += costs.type_mismatch
+        pairs = assign(cost, costs)
+        against = unexplained = 0.0
+        rows = []
+        for pair in pairs:
+            if pair.overlap:
+                unexplained += costs.overlap
+                against += pair.cost - costs.overlap
+            else:
+                against += pair.cost
+            sig = observed[pair.observed] if pair.observed is not None else None
+            cls = predicted[pair.predicted] if pair.predicted is not None else None
+            rows.append(
+                {
+                    "observed_ppm": sig.ppm if sig else None,
+                    "observed_type": sig.type if sig else None,
+                    "predicted_ppm": cls.ppm if cls else None,
+                    "uncertainty": cls.uncertainty if cls else None,
+                    "type": cls.type if cls else None,
+                    "carbons": list(cls.atoms) if cls else [],
+                    "environment": cls.environment if cls else None,
+                    "deviation": round(sig.ppm - cls.ppm, 2) if sig and cls else None,
+                    "overlap": pair.overlap,
+                }
+            )
+        return against, unexplained, rows
+
+    def _proton(
+        self, observed: Sequence[H1Signal], predicted: Sequence[ProtonShift]
+    ) -> tuple[float, float, list, list[str]]:
+        costs = self.tables.h1.costs
+        dev = [[_deviation(o.ppm, p.ppm, p.uncertainty, costs.deviation_cap) for p in predicted] for o in observed]
+        notes: list[str] = []
+        if observed and all(o.integral is not None for o in observed):
+            held, against, unexplained = self._by_integrals(observed, predicted, dev, notes)
+        else:
+            held, against, unexplained = self._one_to_one(observed, predicted, dev)
+        # resolved multiplets against the first-order prediction
+        for r, o in enumerate(observed):
+            classes = held.get(r, {})
+            want = coupled_h(o.multiplicity)
+            if want is None or len(classes) != 1:
+                continue
+            (c,) = classes
+            have = predicted[c].neighbours
+            if have != want:
+                against += min(costs.multiplicity_per_h * abs(have - want), costs.multiplicity_cap)
+                notes.append(f"1H {o.ppm:g} {o.multiplicity}: {have} neighbouring H predicted ({want} read)")
+        rows = []
+        placed = set()
+        for r, o in enumerate(observed):
+            classes = held.get(r, {})
+            if not classes:
+                rows.append(_h_row(o, None, 0, False))
+            for c, units in sorted(classes.items()):
+                placed.add(c)
+                rows.append(_h_row(o, predicted[c], units, len(classes) > 1))
+        for c, p in enumerate(predicted):
+            if c not in placed:
+                rows.append(_h_row(None, p, 0, False))
+        return against, unexplained, rows, notes
+
+    def _one_to_one(
+        self, observed: Sequence[H1Signal], predicted: Sequence[ProtonShift], dev: list[list[float]]
+    ) -> tuple[dict[int, dict[int, int]], float, float]:
+        """Without integrals: signals to classes one to one, leftover classes overlapping."""
+        import numpy as np
+
+        costs = self.tables.h1.costs
+        pairs = assign(
+            np.array(dev).reshape(len(observed), len(predicted)), costs, optional=[p.exchangeable for p in predicted]
+        )
+        held: dict[int, dict[int, int]] = {}
+        against = unexplained = 0.0
+        for pair in pairs:
+            against += pair.cost - (costs.overlap if pair.overlap else 0.0)
+            unexplained += costs.overlap if pair.overlap else 0.0
+            if pair.observed is not None and pair.predicted is not None:
+                held.setdefault(pair.observed, {})[pair.predicted] = predicted[pair.predicted].hydrogens
+        return held, against, unexplained
+
+    def _by_integrals(
+        self,
+        observed: Sequence[H1Signal],
+        predicted: Sequence[ProtonShift],
+        dev: list[list[float]],
+        notes: list[str],
+    ) -> tuple[dict[int, dict[int, int]], float, float]:
+        """With integrals: every H of every class to one H of an observed signal (the signal's
+        integral in H), by least total cost; a class's deviation cost is spread over its H. H the
+        list does not hold, or integral the classes do not fill, cost ``integral_per_h`` each
+        (exchangeable H may be missing at no cost)."""
+        import numpy as np
+        from scipy.optimize import linear_sum_assignment
+
+        costs = self.tables.h1.costs
+        total_h = sum(p.hydrogens for p in predicted)
+        fixed_h = sum(p.hydrogens for p in predicted if not p.exchangeable)
+        integral = sum(o.integral or 0.0 for o in observed)
+        # integrals already in H (with or without the exchangeable H), else scaled to the H
+        in_h = any(abs(integral - h) <= max(0.15 * h, 0.5) for h in (total_h, fixed_h))
+        scale = 1.0 if in_h or integral <= 0 else total_h / integral
+        slots = [max(1, round((o.integral or 0.0) * scale)) for o in observed]
+        obs_units = [r for r, n in enumerate(slots) for _ in range(n)]
+        pred_units = [c for c, p in enumerate(predicted) for _ in range(p.hydrogens)]
+        n_o, n_p = len(obs_units), len(pred_units)
+        size = n_o + n_p
+        big = np.zeros((size, size))
+        for i, r in enumerate(obs_units):
+            for j, c in enumerate(pred_units):
+                big[i, j] = dev[r][c] / predicted[c].hydrogens
+            big[i, n_p:] = costs.integral_per_h  # an observed H no class fills
+        for j, c in enumerate(pred_units):
+            big[n_o:, j] = 0.0 if predicted[c].exchangeable else costs.integral_per_h  # an H with no signal
+        rows, cols = linear_sum_assignment(big)
+        units: dict[int, dict[int, int]] = {}  # class -> signal -> H of it placed there
+        for i, j in zip(rows, cols, strict=True):
+            if i < n_o and j < n_p:
+                c, r = pred_units[j], obs_units[i]
+                units.setdefault(c, {})[r] = units.setdefault(c, {}).get(r, 0) + 1
+        # each class whole to one signal: start from the signal that took most of its H, then
+        # move or swap classes while that lowers the total (a class is one signal)
+        n_obs = len(observed)
+        place: list[int | None] = []
+        for c in range(len(predicted)):
+            where = units.get(c)
+            place.append(max(where, key=lambda r: (where[r], -dev[r][c], -r)) if where else None)
+        fill = [0] * n_obs
+        for c, at in enumerate(place):
+            if at is not None:
+                fill[at] += predicted[c].hydrogens
+        per_h = costs.integral_per_h
+
+        def absent(c: int) -> float:
+            return 0.0 if predicted[c].exchangeable else per_h * predicted[c].hydrogens
+
+        def delta(c: int, new: int | None) -> float:
+            """Change of the total when class c moves to ``new`` (None: no signal)."""
+            old, h = place[c], predicted[c].hydrogens
+            change = 0.0
+            if old is not None:
+                change -= dev[old][c] + per_h * (abs(slots[old] - fill[old]) - abs(slots[old] - fill[old] + h))
+            else:
+                change -= absent(c)
+            if new is not None:
+                change += dev[new][c] + per_h * (abs(slots[new] - fill[new] - h) - abs(slots[new] - fill[new]))
+            else:
+                change += absent(c)
+            return change
+
+        def move(c: int, new: int | None) -> None:
+            old, h = place[c], predicted[c].hydrogens
+            if old is not None:
+                fill[old] -= h
+            if new is not None:
+                fill[new] += h
+            place[c] = new
+
+        for _ in range(4 * len(predicted) + 4):
+            best: tuple[float, int, int, int | None] = (-1e-9, -1, -1, None)  # (delta, class, other, target)
+            for c in range(len(predicted)):
+                for r in [*range(n_obs), None]:
+                    if r != place[c]:
+                        d = delta(c, r)
+                        if d < best[0]:
+                            best = (d, c, -1, r)
+                for c2 in range(c + 1, len(predicted)):
+                    r1, r2 = place[c], place[c2]
+                    if r1 == r2 or r1 is None or r2 is None:
+                        continue
+                    d = delta(c, r2)
+                    move(c, r2)
+                    d += delta(c2, r1)
+                    move(c, r1)
+                    if d < best[0]:
+                        best = (d, c, c2, r2)
+            if best[1] < 0:
+                break
+            _, c, c2, target = best
+            if c2 >= 0:
+                r1 = place[c]
+                move(c, target)
+                move(c2, r1)
+            else:
+                move(c, target)
+        held: dict[int, dict[int, int]] = {}
+        against = 0.0
+        missing = 0
+        for c, at in enumerate(place):
+            if at is None:
+                against += absent(c)
+                missing += 0 if predicted[c].exchangeable else predicted[c].hydrogens
+                continue
+            held.setdefault(at, {})[c] = predicted[c].hydrogens
+            against += dev[at][c]
+        off = sum(abs(slots[r] - fill[r]) for r in range(n_obs))
+        against += per_h * off
+        if off or missing:
+            notes.append(f"1H integrals: {off} H apart from the H per signal, {missing} H with no signal")
+        shared = sum(len(classes) - 1 for classes in held.values())
+        return held, against, costs.overlap * shared
+
+    def assess(self, subject: Subject, case: Case) -> Assessment:
+        assert case.nmr is not None
+        nmr = case.nmr
+        carbons, protons = predict_nmr(subject.mol, self.tables)
+        against = unexplained = 0.0
+        reasons: list[str] = []
+        detail: dict[str, Any] = {}
+        if nmr.c13:
+            a, u, rows = self._carbon(nmr.c13, carbons)
+            against += a
+            unexplained += u
+            detail["c13"] = rows
+            reasons.append(_summary("13C", rows, "ppm", len(carbons)))
+        if nmr.h1:
+            a, u, rows, notes = self._proton(nmr.h1, protons)
+            against += a
+            unexplained += u
+            detail["h1"] = rows
+            reasons.append(_summary("1H", rows, "ppm", len(protons)))
+            reasons += notes
+        return Assessment(self.name, against, unexplained, tuple(reasons), detail)
+
+    def detail_lines(self, assessment: Assessment) -> list[str]:
+        lines = []
+        for nucleus, key in (("13C", "c13"), ("1H", "h1")):
+            rows = assessment.detail.get(key)
+            if not rows:
+                continue
+            lines.append(f"    {nucleus} assignment (observed / predicted ± uncertainty, deviation, environment):")
+            for row in rows:
+                obs = f"{row['observed_ppm']:7.2f}" if row["observed_ppm"] is not None else "      -"
+                if row["predicted_ppm"] is None:
+                    lines.append(f"      {obs}  -- no class left for this signal")
+                    continue
+                pred = f"{row['predicted_ppm']:7.2f} ± {row['uncertainty']:.2f}"
+                dev = f"{row['deviation']:+6.2f}" if row["deviation"] is not None else "      "
+                share = " (overlaps)" if row["overlap"] else ""
+                what = row.get("type") or f"{row.get('hydrogens')}H"
+                lines.append(f"      {obs}  {pred}  {dev}  {what} {row['environment']}{share}")
+        return lines
+
+    # ------------------------------------------------------------------ reading
+
+    def read(self, case: Case) -> Reading | None:
+        if case.nmr is None or not case.nmr.has_lists:
+            return None
+        nmr = case.nmr
+        regions = self.tables.c13.regions
+        lines = ["NMR reading (the tool's, from the lists alone; judge before copying into the case)"]
+        data: dict[str, Any] = {}
+        if nmr.c13:
+            typed = [s for s in nmr.c13 if s.type is not None]
+            dept = {k: sum(1 for s in typed if s.type == k) for k in MULTIPLICITIES}
+            lines.append(f"  13C: {len(nmr.c13)} signals")
+            if typed:
+                text = ", ".join(f"{k} {n}" for k, n in dept.items())
+                complete = " (every signal typed)" if len(typed) == len(nmr.c13) else " (signals typed so far)"
+                lines.append(f"  DEPT: {text}{complete}; carbons of each type are at least these")
+                data["dept_signals"] = dept
+            windows = {k: [s.ppm for s in nmr.c13 if regions[k][0] <= s.ppm <= regions[k][1]] for k in CARBON_KINDS}
+            data["windows"] = {k: len(v) for k, v in windows.items()}
+            data["window_limits"] = {k: list(regions[k]) for k in CARBON_KINDS}
+            carbonyls = []
+            for s in sorted(nmr.c13, key=lambda s: -s.ppm):
+                kind: str | None = None
+                if s.ppm > 190:
+                    kind = "aldehyde" if s.type == "CH" else "ketone" if s.type == "C" else "ketone or aldehyde"
+                elif 160 <= s.ppm <= 185 and s.type in (None, "C"):
+                    kind = "acid, ester or amide"
+                if kind is not None:
+                    carbonyls.append({"ppm": s.ppm, "kind": kind})
+            data["carbonyl"] = carbonyls
+            lines.append(
+                "  carbonyl: " + (", ".join(f"{c['ppm']:g} ({c['kind']})" for c in carbonyls) or "none above 160 ppm")
+            )
+            lines.append(
+                f"  sp2 window {regions['sp2'][0]:g}-{regions['sp2'][1]:g} ppm: {len(windows['sp2'])} signals "
+                "(alkene and aromatic C; nitrile C also falls here)"
+            )
+            lines.append(
+                f"  O/N-bearing sp3 window {regions['heteroatom_sp3'][0]:g}-{regions['heteroatom_sp3'][1]:g} ppm: "
+                f"{len(windows['heteroatom_sp3'])} signals (N-CH and crowded quaternary C overlap its low end)"
+            )
+        if nmr.h1:
+            integrals = [s.integral for s in nmr.h1 if s.integral is not None]
+            if integrals:
+                total = sum(integrals)
+                known = case.formula.known
+                versus = f"; {known} has {known.get('H')} H" if known is not None else "; compare with the formula's H"
+                lines.append(f"  1H: integrals sum to {total:g}{versus}")
+                data["h1_integral_sum"] = total
+            broad = [s.ppm for s in nmr.h1 if s.multiplicity is not None and s.multiplicity.startswith("br")]
+            if broad:
+                lines.append(
+                    "  broad 1H signals (OH/NH? confirm by D2O exchange): " + ", ".join(f"{p:g}" for p in broad)
+                )
+            data["broad_h1"] = broad
+        return Reading("NMR reading", tuple(lines), data)
+
+
+def _h_row(o: H1Signal | None, p: ProtonShift | None, units: int, shared: bool) -> dict[str, Any]:
+    return {
+        "observed_ppm": o.ppm if o else None,
+        "integral": o.integral if o else None,
+        "multiplicity": o.multiplicity if o else None,
+        "predicted_ppm": p.ppm if p else None,
+        "uncertainty": p.uncertainty if p else None,
+        "hydrogens": p.hydrogens if p else None,
+        "assigned_h": units,
+        "neighbours": p.neighbours if p else None,
+        "on_atoms": list(p.atoms) if p else [],
+        "environment": p.environment if p else None,
+        "deviation": round(o.ppm - p.ppm, 2) if o and p else None,
+        "overlap": shared,
+    }
+
+
+def _summary(nucleus: str, rows: Sequence[Mapping[str, Any]], unit: str, classes: int) -> str:
+    devs = [abs(r["deviation"]) for r in rows if r["deviation"] is not None]
+    extra = sum(1 for r in rows if r["predicted_ppm"] is None)
+    shared = sum(1 for r in rows if r["overlap"])
+    text = f"{nucleus}: {classes} classes predicted"
+    if devs:
+        worst = max(rows, key=lambda r: abs(r["deviation"]) if r["deviation"] is not None else -1)
+        text += (
+            f", mean |dev| {sum(devs) / len(devs):.1f} {unit}, largest {worst['deviation']:+.1f} "
+            f"at {worst['observed_ppm']:g} ({worst['environment']})"
+        )
+    if extra:
+        text += f"; {extra} observed signal{'s' if extra > 1 else ''} more than the structure gives"
+    if shared:
+        text += f"; {shared} classes share a signal"
+    return text

@@ -1,0 +1,210 @@
+"""The NMR section of the case file and the NMR technique (elucidate/evidence/nmr.py).
+
+Spectra are handbook values recalled from memory (CDCl3; Pretsch, Buehlmann & Badertscher,
+Structure Determination of Organic Compounds; SDBS-style library spectra), rounded.
+"""
+
+from __future__ import annotations
+
+import textwrap
+
+import pytest
+
+from elucidate._rdkit import Chem
+from elucidate.case import multiplet_lines, parse_case, parse_multiplet
+from elucidate.errors import ElucidateError
+from elucidate.evidence import Nmr, make_subject
+from elucidate.evidence.nmr import coupled_h
+from elucidate.formula import parse_formula
+from elucidate.generator.groups import default_groups
+
+HEAD = textwrap.dedent(
+    """\
+    schema: 1
+    id: t-nmr
+    formula:
+      elements: {C: 0-12, H: 0-30, O: 0-3}
+    """
+)
+
+# ethyl acetate, CDCl3 (from memory): 13C 171.1 C, 60.4 CH2, 21.0 CH3, 14.2 CH3;
+# 1H 4.12 q 2H, 2.05 s 3H, 1.26 t 3H
+ETHYL_ACETATE = HEAD + textwrap.dedent(
+    """\
+    nmr:
+      solvent: CDCl3
+      c13:
+        - {ppm: 171.1, type: C}
+        - {ppm: 60.4, type: CH2}
+        - {ppm: 21.0, type: CH3}
+        - {ppm: 14.2, type: CH3}
+      h1:
+        - {ppm: 4.12, integral: 2, multiplicity: q, j_hz: 7.1}
+        - {ppm: 2.05, integral: 3, multiplicity: s}
+        - {ppm: 1.26, integral: 3, multiplicity: t, j_hz: 7.1}
+    """
+)
+
+
+@pytest.mark.parametrize(
+    ("text", "code", "lines"),
+    [
+        # the trade's usual abbreviations (common practice)
+        ("s", "s", 1),
+        ("d", "d", 2),
+        ("t", "t", 3),
+        ("q", "q", 4),
+        ("quint", "quint", 5),
+        ("sext", "sext", 6),
+        ("sept", "sept", 7),
+        ("dd", "dd", 4),
+        ("dt", "dt", 6),
+        ("td", "td", 6),
+        ("ddd", "ddd", 8),
+        ("m", "m", None),
+        ("br s", "br s", 1),
+        ("brs", "br s", 1),
+        ("br", "br", None),
+        ("triplet", "t", 3),
+        ("septet", "sept", 7),
+        ("x", None, None),
+        ("dddd", None, None),
+        ("sx", None, None),
+    ],
+)
+def test_multiplet_codes(text: str, code: str | None, lines: int | None) -> None:
+    assert parse_multiplet(text) == code
+    if code is not None:
+        assert multiplet_lines(code) == lines
+
+
+@pytest.mark.parametrize(
+    ("code", "neighbours"),
+    [("s", 0), ("d", 1), ("t", 2), ("dd", 2), ("q", 3), ("dt", 3), ("sept", 6), ("m", None), ("br s", None)],
+)
+def test_coupled_h_of_a_code(code: str, neighbours: int | None) -> None:
+    assert coupled_h(code) == neighbours
+
+
+def test_the_nmr_section_loads() -> None:
+    case = parse_case(ETHYL_ACETATE)
+    nmr = case.nmr
+    assert nmr is not None and nmr.solvent == "CDCl3"
+    assert [s.ppm for s in nmr.c13] == [171.1, 60.4, 21.0, 14.2]
+    assert nmr.c13_signals == 4
+    assert nmr.c13_multiplicity == {"CH3": 2, "CH2": 1, "CH": 0, "C": 1}
+    assert nmr.h1[0].multiplicity == "q" and nmr.h1[0].j_hz == (7.1,)
+
+
+@pytest.mark.parametrize(
+    ("section", "key", "words"),
+    [
+        ("nmr:\n  h1:\n    - {ppm: 1.2, multiplicity: tripplet}\n", "nmr.h1[0].multiplicity", ["did you mean 't'"]),
+        ("nmr:\n  h1:\n    - {ppm: 1.2, multiplicity: qq7}\n", "nmr.h1[0].multiplicity", ["unknown multiplicity"]),
+        ("nmr:\n  c13:\n    - {ppm: 20.1, type: CH4}\n", "nmr.c13[0].type", ["CH3, CH2, CH, C", "did you mean"]),
+        ("nmr:\n  c13: [20.1, 300]\n", "nmr.c13[1]", ["-10 to 250"]),
+        ("nmr:\n  solvent: CDCL\n", "nmr.solvent", ["did you mean 'CDCl3'"]),
+        ("nmr:\n  carbon_types: {CH3: 2, CH2: 1}\n", "nmr.carbon_types", ["missing required key 'CH'"]),
+        ("nmr:\n  carbon_types: {CH3: 2, CH2: 1, CH: 1, C: 20}\n", "nmr.carbon_types", ["24 C", "cannot hold"]),
+        ("nmr:\n  c13_regions: {carbonyls: 1}\n", "nmr.c13_regions.carbonyls", ["did you mean 'carbonyl'"]),
+        ("nmr:\n  exchangeable_h: 2-1\n", "nmr.exchangeable_h", ["exceeds"]),
+        (
+            "nmr:\n  c13: [20.1, 30.2, 40.3]\n  carbon_types: {CH3: 1, CH2: 1, CH: 0, C: 0}\n",
+            "nmr.carbon_types",
+            ["fewer than the 3 13C signals"],
+        ),
+        (
+            (
+                "nmr:\n  c13: [{ppm: 20, type: CH3}, {ppm: 21, type: CH3}]\n"
+                "  carbon_types: {CH3: 1, CH2: 1, CH: 0, C: 0}\n"
+            ),
+            "nmr.carbon_types.CH3",
+            ["2 CH3 signals"],
+        ),
+        ("nmr:\n  c13: [20.1, 30.2]\n  c13_signals: 3\n", "nmr.c13_signals", ["holds 2"]),
+    ],
+)
+def test_nmr_section_errors_name_the_key(section: str, key: str, words: list[str]) -> None:
+    with pytest.raises(ElucidateError) as info:
+        parse_case(HEAD + section, file="unk.yaml")
+    assert info.value.key == key, str(info.value)
+    for word in words:
+        assert word in str(info.value)
+
+
+def _assess(case_text: str, smiles: str) -> tuple[float, float, tuple[str, ...]]:
+    case = parse_case(case_text)
+    mol = Chem.MolFromSmiles(smiles)
+    formula = parse_formula(Chem.rdMolDescriptors.CalcMolFormula(mol))
+    a = Nmr().assess(make_subject(smiles, mol, formula, default_groups(), None), case)
+    return a.against, a.unexplained, a.reasons
+
+
+@pytest.mark.parametrize(
+    ("truth", "others"),
+    [
+        # C4H8O2 esters and the acid: the ethyl acetate spectra fit ethyl acetate best
+        ("CCOC(C)=O", ["COC(=O)CC", "CCCC(=O)O", "CC(C)C(=O)O", "CCC(=O)OC"]),
+    ],
+)
+def test_the_true_structure_fits_its_spectra_best(truth: str, others: list[str]) -> None:
+    best, _, _ = _assess(ETHYL_ACETATE, truth)
+    for other in others:
+        against, _, _ = _assess(ETHYL_ACETATE, other)
+        assert against > best + 2.0, other
+
+
+def test_dept_type_is_a_must_match() -> None:
+    """Ethyl acetate's list against methyl propanoate: both have C, CH2, CH3, CH3, so only the
+    shifts tell; a typed list with a type that no class has costs the type mismatch."""
+    wrong = ETHYL_ACETATE.replace("{ppm: 60.4, type: CH2}", "{ppm: 60.4, type: CH}")
+    right, _, _ = _assess(ETHYL_ACETATE, "CCOC(C)=O")
+    mismatched, _, _ = _assess(wrong, "CCOC(C)=O")
+    assert mismatched >= right + 3.5  # the table's type_mismatch is 4 nats
+
+
+def test_more_signals_than_classes_cost_and_overlap_is_mild() -> None:
+    extra = ETHYL_ACETATE.replace(
+        "    - {ppm: 14.2, type: CH3}\n", "    - {ppm: 14.2, type: CH3}\n    - {ppm: 35.0, type: CH2}\n"
+    )
+    base, _, _ = _assess(ETHYL_ACETATE, "CCOC(C)=O")
+    more, _, _ = _assess(extra, "CCOC(C)=O")
+    assert more >= base + 2.0  # extra_signal
+    fewer = ETHYL_ACETATE.replace("    - {ppm: 14.2, type: CH3}\n", "")
+    _, unexplained, reasons = _assess(fewer, "CCOC(C)=O")
+    assert unexplained == pytest.approx(0.3)  # overlap
+    assert any("13C" in r for r in reasons)
+
+
+def test_assignment_table_is_in_the_detail() -> None:
+    case = parse_case(ETHYL_ACETATE)
+    mol = Chem.MolFromSmiles("CCOC(C)=O")
+    technique = Nmr()
+    a = technique.assess(make_subject("CCOC(C)=O", mol, parse_formula("C4H8O2"), default_groups(), None), case)
+    rows = a.detail["c13"]
+    assert {r["observed_ppm"] for r in rows} == {171.1, 60.4, 21.0, 14.2}
+    by_obs = {r["observed_ppm"]: r for r in rows}
+    assert by_obs[60.4]["type"] == "CH2" and by_obs[60.4]["carbons"] == [1]
+    h1 = {r["observed_ppm"]: r for r in a.detail["h1"]}
+    assert h1[4.12]["neighbours"] == 3 and h1[1.26]["neighbours"] == 2
+    lines = technique.detail_lines(a)
+    assert any("13C assignment" in line for line in lines) and any("1H assignment" in line for line in lines)
+
+
+def test_a_wrong_multiplicity_costs() -> None:
+    singlet = ETHYL_ACETATE.replace("multiplicity: t, j_hz: 7.1", "multiplicity: s")
+    base, _, _ = _assess(ETHYL_ACETATE, "CCOC(C)=O")
+    worse, _, reasons = _assess(singlet, "CCOC(C)=O")
+    assert worse > base
+    assert any("neighbouring H" in r for r in reasons)
+
+
+def test_the_reading() -> None:
+    case = parse_case(ETHYL_ACETATE.replace("elements: {C: 0-12, H: 0-30, O: 0-3}", "known: C4H8O2"))
+    reading = Nmr().read(case)
+    assert reading is not None
+    text = "\n".join(reading.lines)
+    assert "DEPT: CH3 2, CH2 1, CH 0, C 1" in text
+    assert "171.1 (acid, ester or amide)" in text
+    assert "integrals sum to 8; C4H8O2 has 8 H" in text
+    assert reading.data["windows"]["heteroatom_sp3"] == 1
