@@ -70,8 +70,34 @@ HELD_OUT = [
     ("ethyl-benzoate", "CCOC(=O)c1ccccc1"),
     ("limonene", "C=C(C)C1CC=C(C)CC1"),
 ]
+#: the NMR part: C9-C13 compounds (terpenes, aryl ketones and esters, alkyl aromatics, a lactone,
+#: a tertiary amide) with MS, declared IR groups, a UV maximum, 13C with DEPT, 1H and the carbon
+#: types; written after the NMR tables and weights were first set (changes made after seeing
+#: their results are listed in docs/solver.md)
+NMR_PART = [
+    ("limonene-nmr", "C=C(C)C1CC=C(C)CC1"),
+    ("camphor", "CC1(C)C2CCC1(C)C(=O)C2"),
+    ("menthone", "CC(C)C1CCC(C)CC1=O"),
+    ("p-cymene", "Cc1ccc(C(C)C)cc1"),
+    ("linalool", "C=CC(C)(O)CCC=C(C)C"),
+    ("alpha-terpineol", "CC1=CCC(CC1)C(C)(C)O"),
+    ("carvone", "C=C(C)C1CC=C(C)C(=O)C1"),
+    ("cineole", "CC12CCC(CC1)C(C)(C)O2"),
+    ("thymol", "Cc1ccc(C(C)C)c(O)c1"),
+    ("4-methylacetophenone", "CC(=O)c1ccc(C)cc1"),
+    ("4-methoxyacetophenone", "COc1ccc(C(C)=O)cc1"),
+    ("propiophenone", "CCC(=O)c1ccccc1"),
+    ("benzylacetone", "CC(=O)CCc1ccccc1"),
+    ("ethyl-phenylacetate", "CCOC(=O)Cc1ccccc1"),
+    ("phenethyl-acetate", "CC(=O)OCCc1ccccc1"),
+    ("methyl-cinnamate", "COC(=O)C=Cc1ccccc1"),
+    ("anethole", "CC=Cc1ccc(OC)cc1"),
+    ("cinnamyl-alcohol", "OCC=Cc1ccccc1"),
+    ("gamma-nonalactone", "CCCCCC1CCC(=O)O1"),
+    ("deet", "CCN(CC)C(=O)c1cccc(C)c1"),
+]
 TUNING = list(TRUTH)
-TRUTH = TUNING + HELD_OUT
+TRUTH = TUNING + HELD_OUT + NMR_PART
 
 
 @pytest.fixture(scope="session")
@@ -91,14 +117,24 @@ def rank_of() -> Callable[[str], tuple[int | None, int]]:
 
 def test_every_reference_case_has_a_truth_and_classes_vary():
     assert sorted(p.stem for p in HERE.glob("*.yaml")) == sorted(n for n, _ in TRUTH)
-    assert len(TRUTH) >= 40 and len(HELD_OUT) >= 10
+    assert len(TRUTH) >= 40 and len(HELD_OUT) >= 10 and len(NMR_PART) >= 15
     assert all("Held out" in (HERE / f"{n}.yaml").read_text(encoding="utf-8") for n, _ in HELD_OUT)
+    for name, smiles in NMR_PART:
+        case = load_case(HERE / f"{name}.yaml")
+        carbons = sum(1 for atom in Chem.MolFromSmiles(smiles).GetAtoms() if atom.GetAtomicNum() == 6)
+        assert 9 <= carbons <= 13, name
+        assert case.nmr is not None and case.nmr.c13 and case.nmr.h1 and case.nmr.carbon_types, name
+        assert all(s.type is not None for s in case.nmr.c13), name
 
 
-# one test process solves every reference case once: the aggregate test reuses its cache
-@pytest.mark.xdist_group("reference_cases")
+def _group(name: str) -> str:
+    """The test process that solves a case: the NMR part in a process of its own."""
+    return "reference_nmr" if name in dict(NMR_PART) else "reference_cases"
+
+
+# one test process solves each case once: the aggregate tests reuse its cache
 @pytest.mark.slow
-@pytest.mark.parametrize("name", [n for n, _ in TRUTH])
+@pytest.mark.parametrize("name", [pytest.param(n, marks=pytest.mark.xdist_group(_group(n))) for n, _ in TRUTH])
 def test_true_structure_is_never_eliminated(name, rank_of):
     rank, total = rank_of(name)
     assert rank is not None, f"{name}: the true structure is not among the {total} candidates"
@@ -121,6 +157,15 @@ def test_true_structure_in_top_three_for_ninety_percent_of_each_part(part, rank_
     rates = _rates(rank_of, TUNING if part == "tuning" else HELD_OUT)
     print(f"{part}: top-1 {rates['top1']:.0%}, top-3 {rates['top3']:.0%}, outside the top 3: {rates['missed']}")
     assert rates["top3"] >= 0.9, rates
+
+
+@pytest.mark.xdist_group("reference_nmr")
+@pytest.mark.slow
+def test_nmr_part_top_one_and_top_three(rank_of):
+    # the NMR part's promise: the truth first for at least 80 % and in the top 3 for at least 95 %
+    rates = _rates(rank_of, NMR_PART)
+    print(f"NMR part: top-1 {rates['top1']:.0%}, top-3 {rates['top3']:.0%}, outside the top 3: {rates['missed']}")
+    assert rates["top1"] >= 0.8 and rates["top3"] >= 0.95, rates
 
 
 LEVELS = {

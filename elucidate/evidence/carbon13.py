@@ -29,7 +29,7 @@ from ..yamlnodes import as_number, as_str, mapping, read_yaml_file
 from .base import Assessment, Reading, Subject
 
 if TYPE_CHECKING:
-    from .._rdkit import Mol
+    from .._rdkit import Atom, Mol
 
 __all__ = ["Carbon13", "Carbon13Table", "carbon_classes", "default_carbon13", "load_carbon13"]
 
@@ -79,7 +79,42 @@ def _ranks(mol: Mol) -> list[int]:
 
 def _split_geminal(mol: Mol) -> Mol:
     """A copy in which one of each pair of identical geminal groups on a C=C whose other end is
-    unsymmetric carries an isotope label, so ranking tells the pair apart."""
+    unsymmetric, and one of each pair of diastereotopic groups on an sp3 carbon
+    (:func:`_split_diastereotopic`), carries an isotope label, so ranking tells the pair apart."""
+    return _split_diastereotopic(_split_amide_nitrogen(_split_alkene_ends(mol)))
+
+
+def _split_amide_nitrogen(mol: Mol) -> Mol:
+    """The two identical groups on the N of a tertiary amide lie cis and trans to the C=O, and
+    rotation about the C-N bond is slow on the NMR time scale at room temperature (common
+    practice: N,N-diethyl amides show two CH2 and two CH3 signals): one is labelled."""
+    from .._rdkit import Chem
+
+    matches = mol.GetSubstructMatches(compiled_smarts("[NX3;H0;!$(N=*);!$([N+])](-[#6])(-[#6])-[CX3]=O"))
+    if not matches:
+        return mol
+    work = Chem.RWMol(mol)
+    ranks = _ranks(work)
+    for n_idx, *_ in matches:
+        atom = work.GetAtomWithIdx(n_idx)
+        if atom.IsInRing():
+            continue
+        subs = [nb.GetIdx() for nb in atom.GetNeighbors() if not _is_carbonyl(nb)]
+        if len(subs) == 2 and ranks[subs[0]] == ranks[subs[1]]:
+            first = min(subs)
+            work.GetAtomWithIdx(first).SetIsotope(work.GetAtomWithIdx(first).GetIsotope() + 3000)
+            ranks = _ranks(work)
+    return work
+
+
+def _is_carbonyl(atom: Atom) -> bool:
+    return atom.GetAtomicNum() == 6 and any(
+        b.GetBondTypeAsDouble() == 2 and b.GetOtherAtom(atom).GetAtomicNum() == 8 for b in atom.GetBonds()
+    )
+
+
+def _split_alkene_ends(mol: Mol) -> Mol:
+    """Geminal identical groups on a C=C end whose other end is unsymmetric: one is labelled."""
     from .._rdkit import Chem
 
     if not mol.HasSubstructMatch(
@@ -113,6 +148,37 @@ def _split_geminal(mol: Mol) -> Mol:
                         break
             if changed:
                 break
+    return work
+
+
+def _split_diastereotopic(mol: Mol) -> Mol:
+    """A copy in which one of each pair of identical acyclic groups on one sp3 carbon carries an
+    isotope label when the two are diastereotopic: marking one of them makes that carbon a
+    stereocentre in a molecule with a second stereocentre (the isopropyl methyls beside a
+    stereocentre, the gem-dimethyl bridge of camphor). Enantiotopic pairs (one stereocentre
+    only) stay one class, as they are in an achiral solvent."""
+    from .._rdkit import Chem
+
+    work = Chem.RWMol(mol)
+    ranks = _ranks(work)
+    for atom in mol.GetAtoms():
+        if atom.GetAtomicNum() != 6 or atom.GetIsAromatic() or atom.GetDegree() + atom.GetTotalNumHs() != 4:
+            continue
+        groups: dict[int, list[int]] = {}
+        for nb in atom.GetNeighbors():
+            if not mol.GetBondBetweenAtoms(atom.GetIdx(), nb.GetIdx()).IsInRing():
+                groups.setdefault(ranks[nb.GetIdx()], []).append(nb.GetIdx())
+        for members in groups.values():
+            if len(members) != 2:
+                continue
+            probe = Chem.RWMol(work)
+            first = min(members)
+            probe.GetAtomWithIdx(first).SetIsotope(probe.GetAtomWithIdx(first).GetIsotope() + 2000)
+            centres = [
+                s.centeredOn for s in Chem.FindPotentialStereo(probe) if s.type == Chem.StereoType.Atom_Tetrahedral
+            ]
+            if atom.GetIdx() in centres and len(centres) >= 2:
+                work = probe
     return work
 
 

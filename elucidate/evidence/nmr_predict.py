@@ -38,7 +38,7 @@ from .carbon13 import _ranks, _split_geminal
 from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
 
 if TYPE_CHECKING:
-    from .._rdkit import Atom, Mol
+    from .._rdkit import Mol
 
 __all__ = ["CarbonShift", "ProtonShift", "predict_c13", "predict_h1", "predict_nmr"]
 
@@ -80,35 +80,70 @@ class _Context:
     def __init__(self, mol: Mol, tables: NmrTables) -> None:
         self.mol = mol
         self.tables = tables
-        self._matches: list[dict[int, list[tuple[int, ...]]]] = []
-        for _, smarts in tables.c13.substituents:
-            by_first: dict[int, list[tuple[int, ...]]] = {}
-            for match in mol.GetSubstructMatches(compiled_smarts(smarts), uniquify=False):
-                by_first.setdefault(match[0], []).append(match)
-            self._matches.append(by_first)
+        self._matches: list[dict[int, list[tuple[int, ...]]] | None] = [None] * len(tables.c13.substituents)
         self._names: dict[tuple[int, int], str] = {}
         self._starts: dict[str, frozenset[int]] = {}
         ri = mol.GetRingInfo()
         self.ring_size = [ri.MinAtomRingSize(i) if ri.NumAtomRings(i) else 0 for i in range(mol.GetNumAtoms())]
         self.atom_rings = [set(r) for r in ri.AtomRings()]
-        self.benzene_rings = [
-            r
-            for r in ri.AtomRings()
-            if len(r) == 6
-            and all(mol.GetAtomWithIdx(a).GetIsAromatic() and mol.GetAtomWithIdx(a).GetAtomicNum() == 6 for a in r)
+        # atoms of bridged ring systems (two rings sharing three atoms or more)
+        self.bridged: set[int] = set()
+        for x, first in enumerate(self.atom_rings):
+            for second in self.atom_rings[x + 1 :]:
+                if len(first & second) >= 3:
+                    self.bridged |= first | second
+        atoms = list(mol.GetAtoms())
+        self.z = [a.GetAtomicNum() for a in atoms]
+        self.hs = [a.GetTotalNumHs() for a in atoms]
+        self.arom = [a.GetIsAromatic() for a in atoms]
+        self.adj = [[n.GetIdx() for n in a.GetNeighbors() if n.GetAtomicNum() != 1] for a in atoms]
+        self.unsat = [4 - len(self.adj[i]) - self.hs[i] if self.z[i] == 6 else 0 for i in range(len(atoms))]
+        self.sp3c = [self.z[i] == 6 and not self.arom[i] and self.unsat[i] == 0 for i in range(len(atoms))]
+        self.double: set[tuple[int, int]] = set()
+        self.ring_bonds: set[tuple[int, int]] = set()
+        for b in mol.GetBonds():
+            key = (min(b.GetBeginAtomIdx(), b.GetEndAtomIdx()), max(b.GetBeginAtomIdx(), b.GetEndAtomIdx()))
+            if b.GetBondTypeAsDouble() == 2:
+                self.double.add(key)
+            if b.IsInRing():
+                self.ring_bonds.add(key)
+        terminal_o = [
+            self.z[i] == 8 and len(self.adj[i]) == 1 and self.hs[i] == 0 and not atoms[i].GetFormalCharge()
+            for i in range(len(atoms))
         ]
+        self.carbonyl_c = [self.z[i] == 6 and any(terminal_o[j] for j in self.adj[i]) for i in range(len(atoms))]
+        self.benzene_rings = [
+            r for r in ri.AtomRings() if len(r) == 6 and all(self.arom[a] and self.z[a] == 6 for a in r)
+        ]
+
+    def is_double(self, a: int, b: int) -> bool:
+        return (min(a, b), max(a, b)) in self.double
+
+    def in_ring(self, a: int, b: int) -> bool:
+        return (min(a, b), max(a, b)) in self.ring_bonds
 
     def name(self, atom: int, seen_from: int) -> str:
         """The substituent kind starting at ``atom``, hanging on ``seen_from``."""
         key = (atom, seen_from)
         if key not in self._names:
             found = "other"
-            for (name, _), by_first in zip(self.tables.c13.substituents, self._matches, strict=True):
-                if any(seen_from not in m[1:] for m in by_first.get(atom, ())):
+            for k, (name, _) in enumerate(self.tables.c13.substituents):
+                if any(seen_from not in m[1:] for m in self._by_first(k).get(atom, ())):
                     found = name
                     break
             self._names[key] = found
         return self._names[key]
+
+    def _by_first(self, k: int) -> dict[int, list[tuple[int, ...]]]:
+        """Matches of substituent pattern k by their first atom (searched on first use)."""
+        found = self._matches[k]
+        if found is None:
+            found = {}
+            pattern = compiled_smarts(self.tables.c13.substituents[k][1])
+            for match in self.mol.GetSubstructMatches(pattern, uniquify=False):
+                found.setdefault(match[0], []).append(match)
+            self._matches[k] = found
+        return found
 
     def starts(self, smarts: str) -> frozenset[int]:
         """The atoms a SMARTS matches with its atom 0 (cached per molecule)."""
@@ -118,36 +153,8 @@ class _Context:
             found = self._starts[smarts] = frozenset(m[0] for m in matches)
         return found
 
-    def sp3_carbon(self, atom: Atom) -> bool:
-        return atom.GetAtomicNum() == 6 and not atom.GetIsAromatic() and _unsaturation(atom) == 0
-
     def same_ring(self, a: int, b: int, c: int | None = None) -> bool:
         return any(a in r and b in r and (c is None or c in r) for r in self.atom_rings)
-
-
-def _aromatic_carbon(atom: Atom) -> bool:
-    return bool(atom.GetIsAromatic()) and atom.GetAtomicNum() == 6
-
-
-def _unsaturation(atom: Atom) -> int:
-    """Bond orders above single on a carbon: 4 - heavy neighbours - H."""
-    return 4 - atom.GetDegree() - atom.GetTotalNumHs()
-
-
-def _terminal_oxygen(atom: Atom) -> bool:
-    """An O double bonded to its only neighbour (no H, no charge)."""
-    return (
-        atom.GetAtomicNum() == 8 and len(_heavy(atom)) == 1 and atom.GetTotalNumHs() == 0 and not atom.GetFormalCharge()
-    )
-
-
-def _double(mol: Mol, a: int, b: int) -> bool:
-    bond = mol.GetBondBetweenAtoms(a, b)
-    return bond is not None and bond.GetBondTypeAsDouble() == 2
-
-
-def _heavy(atom: Atom) -> list[Atom]:
-    return [n for n in atom.GetNeighbors() if n.GetAtomicNum() != 1]
 
 
 def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:
@@ -160,16 +167,16 @@ def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> Base
 # ------------------------------------------------------------------ 13C
 
 
-def _ring_category(atom: Atom) -> str:
+def _ring_category(ctx: _Context, i: int) -> str:
     """What a non-sp3-carbon ring member is, for the in-ring increments."""
-    z = atom.GetAtomicNum()
+    z = ctx.z[i]
     if z == 8:
         return "oxygen"
     if z == 7:
         return "nitrogen"
-    if z == 6 and any(_terminal_oxygen(n) for n in _heavy(atom)):
+    if z == 6 and ctx.carbonyl_c[i]:
         return "carbonyl"
-    if z == 6 and atom.GetIsAromatic():
+    if z == 6 and ctx.arom[i]:
         return "arene"
     if z == 6:
         return "alkene"
@@ -183,7 +190,7 @@ def _alkyl_walk(
     functional groups met (name, distance), and the members of ``ring`` (the rings of the
     observed carbon) that are not sp3 carbons, walked through as ring members of the parent
     cycloalkane (category, distance)."""
-    mol = ctx.mol
+    sp3c, adj = ctx.sp3c, ctx.adj
     carbons = [0] * (depth + 1)
     groups: list[tuple[str, int]] = []
     in_ring: list[tuple[str, int]] = []
@@ -192,51 +199,49 @@ def _alkyl_walk(
     while frontier:
         nxt = []
         for u in frontier:
-            if dist[u] >= depth:
+            du = dist[u]
+            if du >= depth:
                 continue
-            for nb in _heavy(mol.GetAtomWithIdx(u)):
-                v = nb.GetIdx()
+            for v in adj[u]:
                 if v in dist:
                     continue
-                dist[v] = dist[u] + 1
-                if ctx.sp3_carbon(nb):
-                    carbons[dist[v]] += 1
+                dist[v] = du + 1
+                if sp3c[v]:
+                    carbons[du + 1] += 1
                     nxt.append(v)
                 elif v in ring and u in ring:
-                    carbons[dist[v]] += 1
-                    in_ring.append((_ring_category(nb), dist[v]))
+                    carbons[du + 1] += 1
+                    in_ring.append((_ring_category(ctx, v), du + 1))
                     nxt.append(v)
-                elif u != start and u in ring and not ctx.sp3_carbon(mol.GetAtomWithIdx(u)) and _double(mol, u, v):
+                elif u != start and u in ring and not sp3c[u] and ctx.is_double(u, v):
                     continue  # the =O of a ring carbonyl, the =CH2 of a ring alkene: in its ring increments
                 else:
-                    groups.append((ctx.name(v, u), dist[v]))
+                    groups.append((ctx.name(v, u), du + 1))
         frontier = nxt
     return carbons, groups, in_ring
 
 
-def _skeleton_neighbours(ctx: _Context, atom: Atom, ring: frozenset[int]) -> int:
+def _skeleton_neighbours(ctx: _Context, i: int, ring: frozenset[int]) -> int:
     """Carbon neighbours in the parent hydrocarbon: sp3 carbons and members of the observed
     carbon's rings."""
-    inside = atom.GetIdx() in ring
-    return sum(1 for n in _heavy(atom) if ctx.sp3_carbon(n) or (inside and n.GetIdx() in ring))
+    inside = i in ring
+    return sum(1 for n in ctx.adj[i] if ctx.sp3c[n] or (inside and n in ring))
 
 
 def _beyond(ctx: _Context, i: int, name: str) -> int:
     """sp3 carbons on the first atom of each ``name`` group bonded to ``i`` (other than ``i``)."""
-    atom = ctx.mol.GetAtomWithIdx(i)
     count = 0
-    for nb in _heavy(atom):
-        if not ctx.sp3_carbon(nb) and ctx.name(nb.GetIdx(), i) == name:
-            count += sum(1 for far in _heavy(nb) if far.GetIdx() != i and ctx.sp3_carbon(far))
+    for nb in ctx.adj[i]:
+        if not ctx.sp3c[nb] and ctx.name(nb, i) == name:
+            count += sum(1 for far in ctx.adj[nb] if far != i and ctx.sp3c[far])
     return count
 
 
 def _sp3_carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
     t = ctx.tables.c13
-    atom = ctx.mol.GetAtomWithIdx(i)
     ring = frozenset(a for r in ctx.atom_rings if i in r for a in r)
     carbons, groups, in_ring = _alkyl_walk(ctx, i, set(), 5, ring)
-    attached = [n for n in _heavy(atom) if ctx.sp3_carbon(n) or n.GetIdx() in ring]
+    attached = [n for n in ctx.adj[i] if ctx.sp3c[n] or n in ring]
     s = len(attached)
     if t.scheme == "lindeman_adams":
         la = t.lindeman_adams
@@ -257,12 +262,14 @@ def _sp3_carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
             ppm += gp.steric[min(max(s, 1), 4) - 1][min(max(m, 1), 4) - 1]
         rings = gp.rings
         scheme = "Grant-Paul"
-    h = atom.GetTotalNumHs()
-    unc = t.alkane_uncertainty[_TYPES.get(h, "CH3")]
+    unc = t.alkane_uncertainty[_TYPES.get(ctx.hs[i], "CH3")]
     size = ctx.ring_size[i]
     if size:
         ppm += rings.get(size, 0.0)
         unc += t.alkane_ring_uncertainty
+    if i in ctx.bridged:
+        unc += t.alkane_bridged_uncertainty
+    unc += t.alkane_gamma_uncertainty * (carbons[3] + sum(1 for _, d in groups if d == 3))
     named = []
     for category, d in in_ring:
         if d > 3:
@@ -293,19 +300,17 @@ def _benzene_carbon(
     """The summed increments of every substituent on ``ring`` for the ring atom ``i``
     (positions ipso..para from ``slot``: 0 for 13C, -1 for 1H which has no ipso), the count of
     substituents and of unknown ones."""
-    mol = ctx.mol
     p = ring.index(i)
     total, n, unknown = 0.0, 0, 0
     ring_set = set(ring)
     for k, j in enumerate(ring):
         offset = abs(k - p)
         position = min(offset, 6 - offset)
-        for nb in _heavy(mol.GetAtomWithIdx(j)):
-            a = nb.GetIdx()
+        for a in ctx.adj[j]:
             if a in ring_set:
                 continue
-            bond = mol.GetBondBetweenAtoms(j, a)
-            name = "fused" if bond.IsInRing() and nb.GetIsAromatic() and ctx.same_ring(j, a) else ctx.name(a, j)
+            fused = ctx.in_ring(j, a) and ctx.arom[a] and ctx.same_ring(j, a)
+            name = "fused" if fused else ctx.name(a, j)
             inc, known = increments.get(name)
             index = position + slot
             if index < 0:
@@ -319,64 +324,71 @@ def _benzene_carbon(
 def _alkene_carbon(ctx: _Context, i: int, k: int) -> tuple[float, float, str]:
     t = ctx.tables.c13
     a = t.alkene
-    mol = ctx.mol
     ppm = a.base
     unc = a.uncertainty
+    conjugated = False
+    own_alkyl = 0
+    partner_carbonyl = False
     for side, (centre, partner) in enumerate(((i, k), (k, i))):
         weights = a.same_side if side == 0 else a.other_side
         alkyl = 0
-        for nb in _heavy(mol.GetAtomWithIdx(centre)):
-            j = nb.GetIdx()
+        for j in ctx.adj[centre]:
             if j == partner:
                 continue
-            if ctx.sp3_carbon(nb):
+            if ctx.sp3c[j]:
                 alkyl += 1
+                own_alkyl += side == 0
                 carbons, _, _ = _alkyl_walk(ctx, j, {i, k}, 2)
                 ppm += weights[0] + weights[1] * carbons[1] + weights[2] * carbons[2]
             else:
-                inc, known = t.alkene_groups.get(ctx.name(j, centre))
+                name = ctx.name(j, centre)
+                inc, known = t.alkene_groups.get(name)
                 ppm += inc[side]
                 if not known:
                     unc += t.alkene_groups.unknown_uncertainty or 5.0
+                elif name in t.alkene_conjugating:
+                    conjugated = True
+                if side == 1 and ctx.carbonyl_c[j]:
+                    partner_carbonyl = True
         if alkyl >= 2:
             ppm += a.geminal_same if side == 0 else a.geminal_other
-    if mol.GetBondBetweenAtoms(i, k).IsInRing():
+    if ctx.in_ring(i, k):
         unc += a.ring_uncertainty
+    if conjugated:
+        unc += t.alkene_conjugated_uncertainty
+    if partner_carbonyl and own_alkyl:
+        ppm += a.enone_beta_alkyl  # the beta carbon of an enone with an alkyl group on it
     return ppm, unc, "alkene C"
 
 
 def _carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
     t = ctx.tables.c13
-    atom = ctx.mol.GetAtomWithIdx(i)
-    heavy = _heavy(atom)
-    if any(
-        n.GetAtomicNum() == 8 and len(_heavy(n)) == 1 and n.GetTotalNumHs() == 0 and n.GetFormalCharge() == 0
-        for n in heavy
-    ):
+    if ctx.carbonyl_c[i]:
         entry = _first_match(ctx, i, t.carbonyl)
         if entry is not None:
             return entry.shift, entry.uncertainty, f"carbonyl: {entry.name}"
-    entry = _first_match(ctx, i, t.special)
+    unsaturation = ctx.unsat[i]
+    aromatic = ctx.arom[i]
+    # the special base values cover aromatic and sp carbons only (nmr13c.yaml special)
+    entry = _first_match(ctx, i, t.special) if aromatic or unsaturation >= 2 else None
     if entry is not None:
         return entry.shift, entry.uncertainty, entry.name
-    if atom.GetIsAromatic():
+    if aromatic:
         for ring in ctx.benzene_rings:
             if i in ring:
                 total, n, unknown = _benzene_carbon(ctx, i, ring, t.benzene_groups, 0)
-                kind = "CH" if atom.GetTotalNumHs() else "C"
+                kind = "CH" if ctx.hs[i] else "C"
                 unc = t.benzene_uncertainty[kind] + t.benzene_substituent_uncertainty * n
                 unc += t.benzene_groups.unknown_uncertainty * unknown
                 return t.benzene_base + total, unc, "benzene C"
         shift, unc = t.fallback["sp2"]
         return shift, unc, "aromatic C (no scheme)"
-    unsaturation = _unsaturation(atom)
     if unsaturation == 0:
         return _sp3_carbon(ctx, i)
     if unsaturation == 1:
-        for bond in atom.GetBonds():
-            other = bond.GetOtherAtom(atom)
-            if bond.GetBondTypeAsDouble() == 2 and other.GetAtomicNum() == 6 and not other.GetIsAromatic():
-                return _alkene_carbon(ctx, i, other.GetIdx())
+        for other in ctx.adj[i]:
+            if ctx.z[other] == 6 and not ctx.arom[other] and ctx.is_double(i, other):
+                return _alkene_carbon(ctx, i, other)
         shift, unc = t.fallback["sp2"]
         return shift, unc, "sp2 C (no scheme)"
     shift, unc = t.fallback["sp"]
@@ -410,7 +422,7 @@ def _predict_c13(ctx: _Context, ranks: Sequence[int]) -> list[CarbonShift]:
     for atoms in sorted(members.values()):
         first = atoms[0]
         ppm, unc, env = _carbon(ctx, first)
-        kind = _TYPES.get(mol.GetAtomWithIdx(first).GetTotalNumHs(), "CH3")
+        kind = _TYPES.get(ctx.hs[first], "CH3")
         out.append(CarbonShift(tuple(atoms), round(ppm, 2), round(unc, 2), kind, env))
     return out
 
@@ -425,20 +437,21 @@ def _alkene_h_name(ctx: _Context, j: int, centre: int, partner: int) -> str:
     return name
 
 
-def _proton_shifts(ctx: _Context, i: int) -> list[tuple[float, float, str, int | None]]:
-    """Predictions for the H on atom ``i``: one entry, or for a =CH2 whose two H differ, two
-    entries (shift, uncertainty, environment, which H: index of the partner substituent it is
-    cis to, or None)."""
+def _proton_shifts(ctx: _Context, i: int, ranks: Sequence[int]) -> list[tuple[float, float, str, int | None]]:
+    """Predictions for the H on atom ``i``: one entry, or for a =CH2 whose partner carries two
+    different groups, two entries (shift, uncertainty, environment, which H: the index of the
+    partner substituent it is cis to, or None)."""
     t = ctx.tables.h1
-    mol = ctx.mol
-    atom = mol.GetAtomWithIdx(i)
-    entry = _first_match(ctx, i, t.special)
+    z, unsaturation = ctx.z[i], ctx.unsat[i]
+    # the special base values cover H on heteroatoms, aromatic atoms, carbonyl and sp carbons
+    plain = z == 6 and not ctx.arom[i] and unsaturation <= 1 and not ctx.carbonyl_c[i]
+    entry = None if plain else _first_match(ctx, i, t.special)
     if entry is not None:
         return [(entry.shift, entry.uncertainty, entry.name, None)]
-    if atom.GetAtomicNum() != 6:
+    if z != 6:
         shift, unc = t.fallback["other"]
         return [(shift, unc, "H on heteroatom (no scheme)", None)]
-    if atom.GetIsAromatic():
+    if ctx.arom[i]:
         for ring in ctx.benzene_rings:
             if i in ring:
                 total, n, unknown = _benzene_carbon(ctx, i, ring, t.benzene_groups, -1)
@@ -447,20 +460,18 @@ def _proton_shifts(ctx: _Context, i: int) -> list[tuple[float, float, str, int |
                 return [(t.benzene_base + total, unc, "aryl H", None)]
         shift, unc = t.fallback["aromatic"]
         return [(shift, unc, "aromatic H (no scheme)", None)]
-    unsaturation = _unsaturation(atom)
     if unsaturation == 0:
-        h = atom.GetTotalNumHs()
+        h = ctx.hs[i]
         ppm = t.alkyl_base.get(_TYPES.get(h, "CH3"), t.alkyl_base["CH3"])
         unc = t.alkyl_uncertainty
         if ctx.ring_size[i] and h < 3:
             ppm += t.alkyl_ring
-        for nb in _heavy(atom):
-            j = nb.GetIdx()
-            if ctx.sp3_carbon(nb):
-                for far in _heavy(nb):
-                    if far.GetIdx() == i or ctx.sp3_carbon(far):
+        for j in ctx.adj[i]:
+            if ctx.sp3c[j]:
+                for far in ctx.adj[j]:
+                    if far == i or ctx.sp3c[far]:
                         continue
-                    inc, known = t.alkyl_groups.get(ctx.name(far.GetIdx(), j))
+                    inc, known = t.alkyl_groups.get(ctx.name(far, j))
                     ppm += inc[1]
                     unc += 0.0 if known else t.alkyl_groups.unknown_uncertainty / 2
                 continue
@@ -469,30 +480,23 @@ def _proton_shifts(ctx: _Context, i: int) -> list[tuple[float, float, str, int |
             unc += t.alkyl_group_uncertainty + (0.0 if known else t.alkyl_groups.unknown_uncertainty)
         return [(ppm, unc, "alkyl H", None)]
     if unsaturation == 1:
-        partner = next(
-            (
-                b.GetOtherAtom(atom)
-                for b in atom.GetBonds()
-                if b.GetBondTypeAsDouble() == 2 and b.GetOtherAtom(atom).GetAtomicNum() == 6
-            ),
-            None,
-        )
-        if partner is not None:
-            k = partner.GetIdx()
+        k = next((j for j in ctx.adj[i] if ctx.z[j] == 6 and ctx.is_double(i, j)), None)
+        if k is not None:
             base = t.alkene_base
             unc = t.alkene_uncertainty
-            for nb in _heavy(atom):
-                if nb.GetIdx() != k:
-                    inc, known = t.alkene_groups.get(_alkene_h_name(ctx, nb.GetIdx(), i, k))
+            for j in ctx.adj[i]:
+                if j != k:
+                    inc, known = t.alkene_groups.get(_alkene_h_name(ctx, j, i, k))
                     base += inc[0]
                     unc += 0.0 if known else t.alkene_groups.unknown_uncertainty
-            across = [nb.GetIdx() for nb in _heavy(partner) if nb.GetIdx() != i]
+            across = [j for j in ctx.adj[k] if j != i]
             terms = []
             for j in across:
                 inc, known = t.alkene_groups.get(_alkene_h_name(ctx, j, k, i))
                 unc += 0.0 if known else t.alkene_groups.unknown_uncertainty
                 terms.append((inc[1], inc[2]))  # (cis, trans)
-            if atom.GetTotalNumHs() == 2 and across:
+            symmetric = len(across) == 2 and ranks[across[0]] == ranks[across[1]]
+            if ctx.hs[i] == 2 and across and not symmetric:
                 # =CH2: one H cis to each partner substituent (the other H, or the second group)
                 outs: list[tuple[float, float, str, int | None]] = []
                 for slot in range(len(across) if len(across) == 2 else 2):
@@ -515,28 +519,27 @@ def predict_h1(mol: Mol, tables: NmrTables | None = None) -> list[ProtonShift]:
 
 
 def _predict_h1(ctx: _Context, ranks: Sequence[int]) -> list[ProtonShift]:
-    mol = ctx.mol
     tab = ctx.tables
     members: dict[int, list[int]] = {}
-    for atom in mol.GetAtoms():
-        if atom.GetAtomicNum() != 1 and atom.GetTotalNumHs():
-            members.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
+    for i, z in enumerate(ctx.z):
+        if z != 1 and ctx.hs[i]:
+            members.setdefault(ranks[i], []).append(i)
     out = []
     for atoms in sorted(members.values()):
-        first = mol.GetAtomWithIdx(atoms[0])
-        exchangeable = first.GetAtomicNum() in (7, 8)
+        first = atoms[0]
+        exchangeable = ctx.z[first] in (7, 8)
         same = set(atoms)
         neighbours = 0
         if not exchangeable:
-            for nb in _heavy(first):
-                if nb.GetIdx() in same:
+            for nb in ctx.adj[first]:
+                if nb in same:
                     continue  # equivalent H do not split each other
-                if nb.GetAtomicNum() in (7, 8) and not tab.h1.exchangeable_couple:
+                if ctx.z[nb] in (7, 8) and not tab.h1.exchangeable_couple:
                     continue
-                neighbours += nb.GetTotalNumHs()
-        h = first.GetTotalNumHs()
-        shifts = _proton_shifts(ctx, atoms[0])
-        if len(shifts) == 2 and shifts[0][0] != shifts[1][0]:
+                neighbours += ctx.hs[nb]
+        h = ctx.hs[first]
+        shifts = _proton_shifts(ctx, atoms[0], ranks)
+        if len(shifts) == 2:  # the two H of a =CH2 whose partner carries two different groups
             for ppm, unc, env, _ in shifts:
                 out.append(ProtonShift(tuple(atoms), len(atoms), round(ppm, 2), round(unc, 2), neighbours, False, env))
             continue

@@ -89,6 +89,7 @@ class AlkeneScheme:
     geminal_other: float
     uncertainty: float
     ring_uncertainty: float
+    enone_beta_alkyl: float  # the one cross term: an alkyl-bearing beta carbon of an enone
 
 
 @dataclass(frozen=True)
@@ -113,12 +114,16 @@ class Carbon13Tables:
     lindeman_adams: LindemanAdams
     alkane_uncertainty: Mapping[str, float]
     alkane_ring_uncertainty: float
+    alkane_bridged_uncertainty: float
+    alkane_gamma_uncertainty: float
     alkane_group_uncertainty: float
     alkane_groups: Increments
     alkane_ring_groups: Increments  # by ring-member category, relative to the cycloalkane CH2
     alkane_beyond: Mapping[str, float]  # per sp3 carbon on an alpha group's first atom
     alkene: AlkeneScheme
     alkene_groups: Increments
+    alkene_conjugating: frozenset[str]  # substituents that conjugate with the C=C
+    alkene_conjugated_uncertainty: float
     benzene_base: float
     benzene_uncertainty: Mapping[str, float]
     benzene_substituent_uncertainty: float
@@ -176,6 +181,9 @@ class NmrTables:
             for name in inc.groups:
                 if name not in names | extra:
                     raise ElucidateError(f"{name!r} is not a substituent of nmr13c.yaml", key=f"{where}.{name}")
+        for name in self.c13.alkene_conjugating:
+            if name not in names:
+                raise ElucidateError(f"{name!r} is not a substituent of nmr13c.yaml", key="alkene.conjugating")
         for name in self.c13.alkane_beyond:
             if name not in names:
                 raise ElucidateError(f"{name!r} is not a substituent of nmr13c.yaml", key=f"alkane.beyond.{name}")
@@ -273,6 +281,8 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         "lindeman_adams",
         "uncertainty",
         "ring_uncertainty",
+        "bridged_uncertainty",
+        "gamma_uncertainty",
         "group_uncertainty",
         "groups",
         "unknown_group",
@@ -317,6 +327,9 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         "ring_uncertainty",
         "groups",
         "unknown_group",
+        "conjugating",
+        "conjugated_uncertainty",
+        "enone_beta_alkyl",
     ]
     ene = mapping(body["alkene"], ek, required=ek)
     alkene = AlkeneScheme(
@@ -327,6 +340,7 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         as_number(ene["geminal_other"]),
         as_number(ene["uncertainty"], minimum=0, exclusive_minimum=True),
         as_number(ene["ring_uncertainty"], minimum=0),
+        as_number(ene["enone_beta_alkyl"]),
     )
     bk = ["base", "uncertainty", "substituent_uncertainty", "groups", "unknown_group", "unknown_uncertainty"]
     ben = mapping(body["benzene"], bk, required=bk)
@@ -338,6 +352,8 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         lindeman_adams=lindeman_adams,
         alkane_uncertainty=_kinds(alk["uncertainty"], ["CH3", "CH2", "CH", "C"]),
         alkane_ring_uncertainty=as_number(alk["ring_uncertainty"], minimum=0),
+        alkane_bridged_uncertainty=as_number(alk["bridged_uncertainty"], minimum=0),
+        alkane_gamma_uncertainty=as_number(alk["gamma_uncertainty"], minimum=0),
         alkane_group_uncertainty=as_number(alk["group_uncertainty"], minimum=0),
         alkane_groups=_increments(alk, 4),
         alkane_ring_groups=_increments(rg, 3),
@@ -347,6 +363,8 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         },
         alkene=alkene,
         alkene_groups=_increments(ene, 2),
+        alkene_conjugating=frozenset(as_str(x) for x in as_list(ene["conjugating"])),
+        alkene_conjugated_uncertainty=as_number(ene["conjugated_uncertainty"], minimum=0),
         benzene_base=as_number(ben["base"]),
         benzene_uncertainty=_kinds(ben["uncertainty"], ["CH", "C"]),
         benzene_substituent_uncertainty=as_number(ben["substituent_uncertainty"], minimum=0),

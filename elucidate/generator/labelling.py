@@ -106,7 +106,10 @@ def structures_on_skeleton(
                 continue
         if test is not None and not test.labelled_ok(colouring):
             continue
-        for orders in _multiplicities(edges, capacity, extra_total, max_extra):
+        need = None
+        if counts is not None and counts.types is not None:
+            need = ([i for i in range(n) if is_carbon[colouring[i]]], counts.types)
+        for orders in _multiplicities(edges, capacity, extra_total, max_extra, need):
             if stabilizer and any(tuple(orders[e] for e in einv) < orders for einv in stabilizer):
                 continue
             used = [0] * n
@@ -117,8 +120,6 @@ def structures_on_skeleton(
                 n, edges, orders, colouring, labels, degree, used, oxo_states
             ):
                 continue
-            if test is not None and test.kekule and not test.kekule_ok(orders):
-                continue
             built = Structure(
                 tuple(labels[c][0] for c in colouring),
                 tuple((a, b, o) for (a, b), o in zip(edges, orders, strict=True)),
@@ -126,6 +127,8 @@ def structures_on_skeleton(
                 tuple(valence[c] for c in colouring),
             )
             if counts is not None and not counts.structure_ok(built):
+                continue  # pure Python: before the RDKit test below
+            if test is not None and test.kekule and not test.kekule_ok(orders):
                 continue
             if seen is not None:
                 key = _certificate(n, edges, colouring, orders)
@@ -235,12 +238,32 @@ def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]
 
 
 def _multiplicities(
-    edges: Sequence[tuple[int, int]], capacity: list[int], extra: int, max_extra: int
+    edges: Sequence[tuple[int, int]],
+    capacity: list[int],
+    extra: int,
+    max_extra: int,
+    carbon_types: tuple[list[int], tuple[int, int, int, int]] | None = None,
 ) -> Iterator[tuple[int, ...]]:
-    """Bond orders (1 to 1 + max_extra) per edge using exactly ``extra`` orders above single."""
+    """Bond orders (1 to 1 + max_extra) per edge using exactly ``extra`` orders above single.
+    ``carbon_types``: (the carbon vertices, carbons wanted with 3, 2, 1, 0 H); once a carbon's
+    last edge is placed its H count is final, and a placement that gives more carbons of one H
+    count than wanted is cut (hereditary: later edges never change a finished carbon)."""
     m = len(edges)
     free = capacity[:]
     orders = [1] * m
+    closing: list[list[int]] = [[] for _ in range(m)]  # carbons whose last edge is this one
+    room = [0, 0, 0, 0]  # carbons still allowed with 3, 2, 1, 0 H
+    if carbon_types is not None:
+        carbons, types = carbon_types
+        last: dict[int, int] = {}
+        for i, (a, b) in enumerate(edges):
+            last[a] = i
+            last[b] = i
+        for c in carbons:
+            if c in last:
+                closing[last[c]].append(c)
+        room = list(types)
+    track = carbon_types is not None
 
     def place(i: int, left: int) -> Iterator[tuple[int, ...]]:
         if left == 0:
@@ -257,7 +280,21 @@ def _multiplicities(
                 free[a] -= x
                 free[b] -= x
                 orders[i] = 1 + x
-            yield from place(i + 1, left - x)
+            ok = True
+            done: list[int] = []
+            if track:
+                for c in closing[i]:
+                    h = free[c]
+                    slot = 3 - h if h <= 3 else -1
+                    if slot < 0 or room[slot] == 0:
+                        ok = False
+                        break
+                    room[slot] -= 1
+                    done.append(slot)
+            if ok:
+                yield from place(i + 1, left - x)
+            for slot in done:
+                room[slot] += 1
             if x:
                 free[a] += x
                 free[b] += x
