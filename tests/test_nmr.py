@@ -208,3 +208,41 @@ def test_the_reading() -> None:
     assert "171.1 (acid, ester or amide)" in text
     assert "integrals sum to 8; C4H8O2 has 8 H" in text
     assert reading.data["windows"]["heteroatom_sp3"] == 1
+
+
+def test_solve_json_carries_the_assignment_and_the_reading(cli, project_root) -> None:
+    import json
+
+    case = project_root / "tests" / "reference_cases" / "propiophenone.yaml"
+    res = cli("solve", str(case), "--json", "--top", "2")
+    assert res.code == 0, res.err
+    data = json.loads(res.out)
+    first = data["candidates"][0]
+    assert first["smiles"] == "CCC(=O)c1ccccc1"
+    rows = first["nmr_assignment"]["c13"]
+    assert {r["observed_ppm"] for r in rows} == {200.8, 137.0, 132.9, 128.6, 128.0, 31.8, 8.3}
+    assert all(r["type"] == r["observed_type"] for r in rows)  # DEPT types honoured
+    assert data["nmr_reading"]["dept_signals"] == {"CH3": 1, "CH2": 1, "CH": 3, "C": 2}
+    assert "nmr" in first["components"]
+
+
+def test_carbon_types_name_the_formulas_they_rule_out() -> None:
+    """A formula that cannot hold the declared carbon types is named, with the reason, and not
+    enumerated (the types fix the carbon count and the H on carbon)."""
+    from elucidate.solver import solve
+
+    text = HEAD.replace("elements: {C: 0-12, H: 0-30, O: 0-3}", "elements: {C: 0-12, H: 0-30, O: 0-3, N: 0-2}")
+    text += textwrap.dedent(
+        """\
+        mass_spec:
+          molecular_ion: 134
+          peaks: {134: 20, 135: 2.0, 105: 100, 77: 45}
+        nmr:
+          carbon_types: {CH3: 1, CH2: 1, CH: 5, C: 2}
+          c13_regions: {carbonyl: 1, sp2: 6}
+        """
+    )
+    solution = solve(parse_case(text), workers=1)
+    assert {str(k.formula) for k in solution.formulas if k.skipped is None} == {"C9H10O"}
+    assert all(k.formula.get("C") == 9 for k in solution.formulas)
+    assert "CCC(=O)c1ccccc1" in [c.smiles for c in solution.candidates]

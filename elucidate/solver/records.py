@@ -106,7 +106,15 @@ class Ranked:
             "log_likelihood": round(self.log_likelihood, 6),
             "components": components_json(self.components),
             "reasons": list(self.reasons),
+            **self._assignment(),
         }
+
+    def _assignment(self) -> dict[str, Any]:
+        """The NMR assignment tables (observed, predicted, class, deviation), when scored."""
+        for a in self.assessments:
+            if a.technique == "nmr":
+                return {"nmr_assignment": {k: list(v) for k, v in a.detail.items()}}
+        return {}
 
 
 @dataclass(frozen=True)
