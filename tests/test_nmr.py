@@ -208,6 +208,8 @@ def test_the_reading() -> None:
     assert "171.1 (acid, ester or amide)" in text
     assert "integrals sum to 8; C4H8O2 has 8 H" in text
     assert reading.data["windows"]["heteroatom_sp3"] == 1
+    assert reading.data["heteroatom_sp3_certain"] == 1  # 60.4 lies above the alkyl window
+    assert "O/N-bearing sp3 C: 1 signal at 60-95 ppm; 0 signals at 40-60 ppm" in text
 
 
 def test_solve_json_carries_the_assignment_and_the_reading(cli, project_root) -> None:

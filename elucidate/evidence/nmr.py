@@ -401,12 +401,20 @@ class Nmr:
                 "  carbonyl: " + (", ".join(f"{c['ppm']:g} ({c['kind']})" for c in carbonyls) or "none above 160 ppm")
             )
             lines.append(
-                f"  sp2 window {regions['sp2'][0]:g}-{regions['sp2'][1]:g} ppm: {len(windows['sp2'])} signals "
+                f"  sp2 window {regions['sp2'][0]:g}-{regions['sp2'][1]:g} ppm: {_signals(len(windows['sp2']))} "
                 "(alkene and aromatic C; nitrile C also falls here)"
             )
+            # the O/N-bearing window overlaps the alkyl one: only signals above the alkyl window
+            # are certain (below it: alkyl, N-CH or a crowded quaternary C)
+            het_low, het_high = regions["heteroatom_sp3"]
+            top_alkyl = regions["alkyl"][1]
+            certain = [p for p in windows["heteroatom_sp3"] if p > top_alkyl]
+            shared = [p for p in windows["heteroatom_sp3"] if p <= top_alkyl]
+            data["heteroatom_sp3_certain"] = len(certain)
             lines.append(
-                f"  O/N-bearing sp3 window {regions['heteroatom_sp3'][0]:g}-{regions['heteroatom_sp3'][1]:g} ppm: "
-                f"{len(windows['heteroatom_sp3'])} signals (N-CH and crowded quaternary C overlap its low end)"
+                f"  O/N-bearing sp3 C: {_signals(len(certain))} at {top_alkyl:g}-{het_high:g} ppm; "
+                f"{_signals(len(shared))} at {het_low:g}-{top_alkyl:g} ppm that may be alkyl, N-CH or crowded "
+                "quaternary C"
             )
         if nmr.h1:
             integrals = [s.integral for s in nmr.h1 if s.integral is not None]
@@ -423,6 +431,10 @@ class Nmr:
                 )
             data["broad_h1"] = broad
         return Reading("NMR reading", tuple(lines), data)
+
+
+def _signals(n: int) -> str:
+    return f"{n} signal" + ("" if n == 1 else "s")
 
 
 def _h_row(o: H1Signal | None, p: ProtonShift | None, units: int, shared: bool) -> dict[str, Any]:
