@@ -265,9 +265,29 @@ def _multiplicities(
         room = list(types)
     track = carbon_types is not None
 
+    def rest_ok(i: int) -> bool:
+        """With every edge from i on single, the carbons they close get their final H counts."""
+        taken: list[int] = []
+        ok = True
+        for j in range(i, m):
+            for c in closing[j]:
+                h = free[c]
+                slot = 3 - h if h <= 3 else -1
+                if slot < 0 or room[slot] == 0:
+                    ok = False
+                    break
+                room[slot] -= 1
+                taken.append(slot)
+            if not ok:
+                break
+        for slot in taken:
+            room[slot] += 1
+        return ok
+
     def place(i: int, left: int) -> Iterator[tuple[int, ...]]:
         if left == 0:
-            yield tuple(orders)
+            if not track or rest_ok(i):
+                yield tuple(orders)
             return
         if i == m:
             return

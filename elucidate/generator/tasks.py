@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from ..elements import default_elements
 from ..formula import Formula
@@ -19,6 +20,9 @@ from .plans import Plan, valence_plans
 from .selection import CompiledSelection, Selection
 from .skeletons import PartialGraph, frontier, grow
 from .smiles import sanitized
+
+if TYPE_CHECKING:
+    from .._rdkit import Mol
 
 __all__ = [
     "TASK_DEPTH",
@@ -110,6 +114,16 @@ def task_smiles(
     with quiet_rdkit():
         for s in task_structures(task, prefilter):
             mol = sanitized(s, kekule=kekule)
+            if compiled is not None and not kekule and not _aromatic(mol):
+                # no aromatic atom: no other Kekulé form can write the same compound, so the
+                # constraints are tested before the SMILES is written (what they remove is
+                # counted once, as below)
+                failed = compiled.first_failure(mol)
+                if failed is not None:
+                    removed[failed] = removed.get(failed, 0) + 1
+                    continue
+                yield Chem.MolToSmiles(mol)
+                continue
             smiles: str = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
             if not kekule:
                 # Kekulé forms of one compound share the skeleton: merge them within it
@@ -129,6 +143,10 @@ def task_smiles(
                     removed[failed] = removed.get(failed, 0) + 1
                     continue
             yield smiles
+
+
+def _aromatic(mol: Mol) -> bool:
+    return any(atom.GetIsAromatic() for atom in mol.GetAtoms())
 
 
 def compiled_selection(selection: Selection | None) -> CompiledSelection | None:
