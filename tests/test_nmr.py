@@ -248,3 +248,23 @@ def test_carbon_types_name_the_formulas_they_rule_out() -> None:
     assert {str(k.formula) for k in solution.formulas if k.skipped is None} == {"C9H10O"}
     assert all(k.formula.get("C") == 9 for k in solution.formulas)
     assert "CCC(=O)c1ccccc1" in [c.smiles for c in solution.candidates]
+
+
+def test_an_empty_result_names_the_declared_counts() -> None:
+    """When the declared counts alone leave no structure, the empty-result reason says so."""
+    from elucidate.solver import solve
+
+    text = HEAD + textwrap.dedent(
+        """\
+        mass_spec:
+          molecular_ion: 134
+          peaks: {134: 20, 135: 2.0, 105: 100, 77: 45}
+        nmr:
+          carbon_types: {CH3: 1, CH2: 1, CH: 5, C: 2}
+          c13_regions: {carbonyl: 1, sp2: 6, heteroatom_sp3: 1}
+        """
+    )
+    solution = solve(parse_case(text), workers=1)
+    assert solution.candidates == ()
+    assert any("declared NMR counts" in line and "alone leaves no structure" in line for line in solution.empty_reason)
+    assert not any("carbon types" in label for label in solution.eliminated)  # pruned, never counted

@@ -42,19 +42,23 @@ def why_empty(
     declared = [("require", n) for n in selection.require] + [("forbid", n) for n in selection.forbid]
     declared += [("require_smarts", s) for s in selection.require_smarts]
     declared += [("forbid_smarts", s) for s in selection.forbid_smarts]
+    if selection.count_test is not None:
+        declared.append(("declared NMR counts", selection.count_test.label))
     formulas = [k.formula for k in kept if not k.skipped]
     bare = Selection(profile=selection.profile)
 
     def survivors(parts: Sequence[tuple[str, str]]) -> int:
         spec: dict[str, tuple[str, ...]] = {"require": (), "forbid": (), "require_smarts": (), "forbid_smarts": ()}
         for key, value in parts:
-            spec[key] = spec[key] + (value,)
+            if key in spec:
+                spec[key] = spec[key] + (value,)
         sel = replace(
             bare,
             require=spec["require"],
             forbid=spec["forbid"],
             require_smarts=spec["require_smarts"],
             forbid_smarts=spec["forbid_smarts"],
+            counts=selection.counts if any(key == "declared NMR counts" for key, _ in parts) else None,
         )
         return sum(count_isomers(f, GeneratorOptions(selection=sel)) for f in formulas)
 

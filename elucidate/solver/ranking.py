@@ -167,7 +167,8 @@ def solve(
     untried: list[UntriedFormula] = []
     kept: list[KeptFormula] = []
     notes: list[str] = []
-    removed: dict[str, int] = dict.fromkeys(compiled.labels, 0)
+    # the declared NMR counts prune before structures are built: not counted (generator.md)
+    removed: dict[str, int] = dict.fromkeys(selection.compile(g, pushed_counts=True).labels, 0)
     generated = 0
     found: list[FoundCandidate] = []
     estimate_options = GeneratorOptions(selection=selection)
