@@ -12,6 +12,7 @@ under 10 s on one worker.
 
 from __future__ import annotations
 
+import importlib.util
 import sys
 import time
 from dataclasses import replace
@@ -25,13 +26,19 @@ from elucidate.generator import GeneratorOptions, estimate_structures
 from elucidate.solver import hard_selection, solve
 
 ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT / "tests"))
 
-from test_reference_cases import NMR_PART  # noqa: E402  (the list lives with the test)
+
+def nmr_part() -> list[tuple[str, str]]:
+    """The NMR part's (case, true SMILES) list, read from the test module that owns it."""
+    spec = importlib.util.spec_from_file_location("reference_cases", ROOT / "tests" / "test_reference_cases.py")
+    assert spec is not None and spec.loader is not None
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return list(module.NMR_PART)
 
 
 def main(names: list[str]) -> None:
-    chosen = [(n, s) for n, s in NMR_PART if not names or n in names]
+    chosen = [(n, s) for n, s in nmr_part() if not names or n in names]
     head = ("case", "formula", "est. without", "est. with", "generated", "time s")
     print(f"{head[0]:22s} {head[1]:10s} {head[2]:>13s} {head[3]:>10s} {head[4]:>10s} {head[5]:>7s}  rank")
     total = 0.0
