@@ -31,7 +31,7 @@ from .base import Assessment, Reading, Subject
 if TYPE_CHECKING:
     from .._rdkit import Atom, Mol
 
-__all__ = ["Carbon13", "Carbon13Table", "carbon_classes", "default_carbon13", "load_carbon13"]
+__all__ = ["Carbon13", "Carbon13Table", "carbon_classes", "default_carbon13", "load_carbon13", "symmetry_ranks"]
 
 _PENALTIES = ("missing_signal", "extra_signal", "missing_multiplicity", "extra_multiplicity")
 
@@ -182,13 +182,18 @@ def _split_diastereotopic(mol: Mol) -> Mol:
     return work
 
 
+def symmetry_ranks(mol: Mol) -> list[int]:
+    """The symmetry class of every atom as the spectrum shows it: constitutional equivalence,
+    with the alkene-end, amide-N and diastereotopic splits of :func:`_split_geminal`."""
+    return _ranks(_split_geminal(mol))
+
+
 def carbon_classes(mol: Mol) -> list[tuple[int, str, int]]:
     """One entry per expected 13C signal: (first carbon index, multiplicity, carbons in it)."""
-    work = _split_geminal(mol)
-    ranks = _ranks(work)
+    ranks = symmetry_ranks(mol)
     classes: dict[int, list[int]] = {}
-    for i in range(work.GetNumAtoms()):
-        if work.GetAtomWithIdx(i).GetAtomicNum() == 6:
+    for i in range(mol.GetNumAtoms()):
+        if mol.GetAtomWithIdx(i).GetAtomicNum() == 6:
             classes.setdefault(ranks[i], []).append(i)
     out = []
     for members in classes.values():

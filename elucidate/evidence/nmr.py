@@ -328,7 +328,7 @@ class Nmr:
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.nmr is not None
         nmr = case.nmr
-        carbons, protons = predict_nmr(subject.mol, self.tables)
+        carbons, protons = predict_nmr(subject.mol, self.tables, c13=bool(nmr.c13), h1=bool(nmr.h1))
         against = unexplained = 0.0
         reasons: list[str] = []
         detail: dict[str, Any] = {}

@@ -34,7 +34,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from ..smarts import compiled_smarts
-from .carbon13 import _ranks, _split_geminal
+from .carbon13 import symmetry_ranks
 from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
 
 if TYPE_CHECKING:
@@ -395,21 +395,19 @@ def _carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
     return shift, unc, "sp C (no scheme)"
 
 
-def _classes(mol: Mol) -> list[int]:
-    """Symmetry class of every atom (constitution, with the alkene geminal split)."""
-    return _ranks(_split_geminal(mol))
-
-
-def predict_nmr(mol: Mol, tables: NmrTables | None = None) -> tuple[list[CarbonShift], list[ProtonShift]]:
-    """Both predictions, sharing one pass over the molecule's substituents and symmetry."""
+def predict_nmr(
+    mol: Mol, tables: NmrTables | None = None, *, c13: bool = True, h1: bool = True
+) -> tuple[list[CarbonShift], list[ProtonShift]]:
+    """The 13C and 1H predictions asked for (an empty list for the other), sharing one pass over
+    the molecule's substituents and symmetry."""
     ctx = _Context(mol, tables or default_nmr_tables())
-    ranks = _classes(mol)
-    return _predict_c13(ctx, ranks), _predict_h1(ctx, ranks)
+    ranks = symmetry_ranks(mol)
+    return (_predict_c13(ctx, ranks) if c13 else []), (_predict_h1(ctx, ranks) if h1 else [])
 
 
 def predict_c13(mol: Mol, tables: NmrTables | None = None) -> list[CarbonShift]:
     """One predicted 13C signal per carbon symmetry class, in order of first atom."""
-    return _predict_c13(_Context(mol, tables or default_nmr_tables()), _classes(mol))
+    return _predict_c13(_Context(mol, tables or default_nmr_tables()), symmetry_ranks(mol))
 
 
 def _predict_c13(ctx: _Context, ranks: Sequence[int]) -> list[CarbonShift]:
@@ -515,7 +513,7 @@ def _proton_shifts(ctx: _Context, i: int, ranks: Sequence[int]) -> list[tuple[fl
 
 def predict_h1(mol: Mol, tables: NmrTables | None = None) -> list[ProtonShift]:
     """One predicted 1H signal per class of equivalent hydrogens, in order of first atom."""
-    return _predict_h1(_Context(mol, tables or default_nmr_tables()), _classes(mol))
+    return _predict_h1(_Context(mol, tables or default_nmr_tables()), symmetry_ranks(mol))
 
 
 def _predict_h1(ctx: _Context, ranks: Sequence[int]) -> list[ProtonShift]:

@@ -8,7 +8,7 @@ on those names, and :meth:`NmrTables.validate` checks that it does.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -198,6 +198,11 @@ class NmrTables:
                 raise ElucidateError(f"{entry.name}: an uncertainty must be above 0")
 
 
+def _every(loc: Located, keys: Sequence[str]) -> dict[str, Located]:
+    """A mapping that must hold every one of ``keys`` and nothing else."""
+    return mapping(loc, keys, required=keys)
+
+
 def _numbers(loc: Located, length: int | None = None, what: str = "a list of numbers") -> tuple[float, ...]:
     values = tuple(as_number(v, what="a number") for v in as_list(loc, what=what))
     if length is not None and len(values) != length:
@@ -223,9 +228,7 @@ def _increments(body: Mapping[str, Located], length: int, *, unknown_key: str = 
 def _base_values(loc: Located) -> tuple[BaseValue, ...]:
     out = []
     for item in as_list(loc, what="a list of {name, smarts, shift, uncertainty}"):
-        e = mapping(
-            item, ["name", "smarts", "shift", "uncertainty"], required=["name", "smarts", "shift", "uncertainty"]
-        )
+        e = _every(item, ["name", "smarts", "shift", "uncertainty"])
         out.append(
             BaseValue(
                 as_str(e["name"]),
@@ -238,16 +241,16 @@ def _base_values(loc: Located) -> tuple[BaseValue, ...]:
 
 
 def _fallback(loc: Located, keys: list[str]) -> dict[str, tuple[float, float]]:
-    body = mapping(loc, keys, required=keys)
+    body = _every(loc, keys)
     out = {}
     for k in keys:
-        e = mapping(body[k], ["shift", "uncertainty"], required=["shift", "uncertainty"])
+        e = _every(body[k], ["shift", "uncertainty"])
         out[k] = (as_number(e["shift"]), as_number(e["uncertainty"], minimum=0, exclusive_minimum=True))
     return out
 
 
 def _kinds(loc: Located, keys: list[str]) -> dict[str, float]:
-    body = mapping(loc, keys, required=keys)
+    body = _every(loc, keys)
     return {k: as_number(body[k], minimum=0, what="an uncertainty of 0 or more") for k in keys}
 
 
@@ -266,14 +269,14 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
     ]
     body = mapping(root, top, required=top[1:])
     regions = {}
-    for k, v in mapping(body["regions"], list(CARBON_KINDS), required=list(CARBON_KINDS)).items():
+    for k, v in _every(body["regions"], list(CARBON_KINDS)).items():
         low, high = _numbers(v, 2)
         if low >= high:
             raise v.error(f"window {low}-{high}: the low end must be below the high end")
         regions[k] = (low, high)
     subs = []
     for item in as_list(body["substituents"]):
-        e = mapping(item, ["name", "smarts"], required=["name", "smarts"])
+        e = _every(item, ["name", "smarts"])
         subs.append((as_str(e["name"]), as_str(e["smarts"], what="a SMARTS pattern")))
     akeys = [
         "scheme",
@@ -290,24 +293,18 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         "ring_groups",
         "beyond",
     ]
-    alk = mapping(body["alkane"], akeys, required=akeys)
+    alk = _every(body["alkane"], akeys)
     rg = mapping(
         alk["ring_groups"], ["groups", "unknown_group", "unknown_uncertainty"], required=["groups", "unknown_group"]
     )
-    gp = mapping(
-        alk["grant_paul"], ["base", "carbons", "steric", "rings"], required=["base", "carbons", "steric", "rings"]
-    )
+    gp = _every(alk["grant_paul"], ["base", "carbons", "steric", "rings"])
     grant_paul = GrantPaul(
         as_number(gp["base"]),
         _numbers(gp["carbons"], 5),
         tuple(_numbers(row, 4) for row in as_list(gp["steric"])),
         _rings(gp["rings"]),
     )
-    la = mapping(
-        alk["lindeman_adams"],
-        ["base", "attached", "gamma", "delta", "rings"],
-        required=["base", "attached", "gamma", "delta", "rings"],
-    )
+    la = _every(alk["lindeman_adams"], ["base", "attached", "gamma", "delta", "rings"])
     lindeman_adams = LindemanAdams(
         _numbers(la["base"], 5),
         tuple(_numbers(row, 3) for row in as_list(la["attached"])),
@@ -331,7 +328,7 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         "conjugated_uncertainty",
         "enone_beta_alkyl",
     ]
-    ene = mapping(body["alkene"], ek, required=ek)
+    ene = _every(body["alkene"], ek)
     alkene = AlkeneScheme(
         as_number(ene["base"]),
         _numbers(ene["same_side"], 3),
@@ -343,7 +340,7 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
         as_number(ene["enone_beta_alkyl"]),
     )
     bk = ["base", "uncertainty", "substituent_uncertainty", "groups", "unknown_group", "unknown_uncertainty"]
-    ben = mapping(body["benzene"], bk, required=bk)
+    ben = _every(body["benzene"], bk)
     table = Carbon13Tables(
         regions=regions,
         substituents=tuple(subs),
@@ -378,7 +375,7 @@ def _carbon13(root: Located) -> tuple[Carbon13Tables, str]:
 
 
 def _costs(loc: Located, keys: list[str]) -> AssignmentCosts:
-    body = mapping(loc, keys, required=keys)
+    body = _every(loc, keys)
     return AssignmentCosts(**{k: as_number(body[k], minimum=0, what="a cost of 0 or more") for k in keys})
 
 
@@ -397,14 +394,14 @@ def _proton1(root: Located) -> tuple[Proton1Tables, str]:
     top = ["source", "alkyl", "alkene", "benzene", "special", "fallback", "multiplicity", "scoring"]
     body = mapping(root, top, required=top[1:])
     ak = ["base", "ring", "uncertainty", "group_uncertainty", "groups", "unknown_group", "unknown_uncertainty"]
-    alk = mapping(body["alkyl"], ak, required=ak)
+    alk = _every(body["alkyl"], ak)
     base_keys = ["CH3", "CH2", "CH"]
-    base_body = mapping(alk["base"], base_keys, required=base_keys)
+    base_body = _every(alk["base"], base_keys)
     ek = ["base", "uncertainty", "unknown_geometry_uncertainty", "groups", "unknown_group", "unknown_uncertainty"]
-    ene = mapping(body["alkene"], ek, required=ek)
+    ene = _every(body["alkene"], ek)
     bk = ["base", "uncertainty", "substituent_uncertainty", "groups", "unknown_group", "unknown_uncertainty"]
-    ben = mapping(body["benzene"], bk, required=bk)
-    mult = mapping(body["multiplicity"], ["exchangeable_couple"], required=["exchangeable_couple"])
+    ben = _every(body["benzene"], bk)
+    mult = _every(body["multiplicity"], ["exchangeable_couple"])
     table = Proton1Tables(
         alkyl_base={k: as_number(base_body[k]) for k in base_keys},
         alkyl_ring=as_number(alk["ring"]),

@@ -265,28 +265,29 @@ def _multiplicities(
         room = list(types)
     track = carbon_types is not None
 
-    def rest_ok(i: int) -> bool:
-        """With every edge from i on single, the carbons they close get their final H counts."""
-        taken: list[int] = []
-        ok = True
-        for j in range(i, m):
-            for c in closing[j]:
-                h = free[c]
-                slot = 3 - h if h <= 3 else -1
-                if slot < 0 or room[slot] == 0:
-                    ok = False
-                    break
-                room[slot] -= 1
-                taken.append(slot)
-            if not ok:
-                break
+    def claim(carbons: Sequence[int], taken: list[int]) -> bool:
+        """Give each finished carbon its H-count slot (recorded in ``taken`` for undoing);
+        False as soon as one has no room left."""
+        for c in carbons:
+            h = free[c]
+            slot = 3 - h if h <= 3 else -1
+            if slot < 0 or room[slot] == 0:
+                return False
+            room[slot] -= 1
+            taken.append(slot)
+        return True
+
+    def release(taken: list[int]) -> None:
         for slot in taken:
             room[slot] += 1
-        return ok
 
     def place(i: int, left: int) -> Iterator[tuple[int, ...]]:
         if left == 0:
-            if not track or rest_ok(i):
+            # every edge from i on stays single: the carbons they close are finished now
+            taken: list[int] = []
+            ok = not track or all(claim(closing[j], taken) for j in range(i, m))
+            release(taken)
+            if ok:
                 yield tuple(orders)
             return
         if i == m:
@@ -300,21 +301,10 @@ def _multiplicities(
                 free[a] -= x
                 free[b] -= x
                 orders[i] = 1 + x
-            ok = True
             done: list[int] = []
-            if track:
-                for c in closing[i]:
-                    h = free[c]
-                    slot = 3 - h if h <= 3 else -1
-                    if slot < 0 or room[slot] == 0:
-                        ok = False
-                        break
-                    room[slot] -= 1
-                    done.append(slot)
-            if ok:
+            if not track or claim(closing[i], done):
                 yield from place(i + 1, left - x)
-            for slot in done:
-                room[slot] += 1
+            release(done)
             if x:
                 free[a] += x
                 free[b] += x

@@ -114,18 +114,13 @@ def task_smiles(
     with quiet_rdkit():
         for s in task_structures(task, prefilter):
             mol = sanitized(s, kekule=kekule)
-            if compiled is not None and not kekule and not _aromatic(mol):
-                # no aromatic atom: no other Kekulé form can write the same compound, so the
-                # constraints are tested before the SMILES is written (what they remove is
-                # counted once, as below)
-                failed = compiled.first_failure(mol)
-                if failed is not None:
-                    removed[failed] = removed.get(failed, 0) + 1
-                    continue
-                yield Chem.MolToSmiles(mol)
+            # a molecule with no aromatic atom has no other Kekulé form: its constraints are
+            # tested before its SMILES is written, and it needs no merging
+            early = compiled is not None and not kekule and not _aromatic(mol)
+            if early and _rejected(compiled, mol, removed):
                 continue
             smiles: str = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
-            if not kekule:
+            if not kekule and not early:
                 # Kekulé forms of one compound share the skeleton: merge them within it
                 skeleton = tuple((a, b) for a, b, _ in s.bonds)
                 if skeleton != current:
@@ -133,16 +128,22 @@ def task_smiles(
                 if smiles in seen:
                     continue
                 seen.add(smiles)
-            if compiled is not None:
+            if compiled is not None and not early:
                 probe = mol
                 if kekule:
                     probe = Chem.Mol(mol)
                     Chem.SetAromaticity(probe)
-                failed = compiled.first_failure(probe)
-                if failed is not None:
-                    removed[failed] = removed.get(failed, 0) + 1
+                if _rejected(compiled, probe, removed):
                     continue
             yield smiles
+
+
+def _rejected(compiled: CompiledSelection | None, mol: Mol, removed: dict[str, int]) -> bool:
+    """Whether ``mol`` breaks a constraint; the first one it breaks is counted in ``removed``."""
+    failed = compiled.first_failure(mol) if compiled is not None else None
+    if failed is not None:
+        removed[failed] = removed.get(failed, 0) + 1
+    return failed is not None
 
 
 def _aromatic(mol: Mol) -> bool:
