@@ -511,7 +511,9 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
     formulas = args.formulas or case.solve.formulas or FORMULAS_PER_ION
     limit = int(args.limit) if args.limit is not None else (case.solve.limit or SOLVER_LIMIT)
     worse = bool(args.worse_formulas or case.solve.worse_formulas)
-    solution = solve(case, limit=limit, max_formulas=formulas, workers=args.workers, worse_formulas=worse)
+    solution = solve(
+        case, limit=limit, max_formulas=formulas, workers=args.workers, worse_formulas=worse, shortlist=args.top
+    )
     if args.json:
         json.dump(solve_json(solution, top=args.top), out, indent=1)
         out.write("\n")

@@ -14,6 +14,7 @@ __all__ = [
     "ISOMERS_LIMIT",
     "PPM_TOLERANCE",
     "RATIO_LEVELS",
+    "SHORTLIST",
     "SOLVER_LIMIT",
     "WORKERS",
 ]
@@ -33,6 +34,8 @@ ELEMENT_RATIOS = "common"
 ISOMERS_LIMIT = 1_000_000
 #: largest estimated structure space per formula the solver enumerates without --limit
 SOLVER_LIMIT = 200_000
+#: places the solver ranks exactly (0: every candidate); the rest are only known to rank lower
+SHORTLIST = 10
 #: formulas the solver keeps per molecular-ion hypothesis
 FORMULAS_PER_ION = 5
 #: worker processes

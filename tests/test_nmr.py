@@ -268,3 +268,23 @@ def test_an_empty_result_names_the_declared_counts() -> None:
     assert solution.candidates == ()
     assert any("declared NMR counts" in line and "alone leaves no structure" in line for line in solution.empty_reason)
     assert not any("carbon types" in label for label in solution.eliminated)  # pruned, never counted
+
+
+@pytest.mark.parametrize(
+    "smiles", ["C=C(C)C1CC=C(C)C(=O)C1", "CC1=CCC(CC1)C(C)(C)O", "CCN(CC)C(=O)c1cccc(C)c1", "CC(=O)c1ccc(C)cc1"]
+)
+def test_carbon_cost_matrix_equals_the_pairwise_rule(smiles: str) -> None:
+    # the vectorised matrix against _deviation and the DEPT rule pair by pair (self-consistency)
+    from elucidate.case import C13Signal
+    from elucidate.evidence.nmr import _deviation, carbon_costs
+    from elucidate.evidence.nmr_predict import predict_c13
+
+    costs = Nmr().tables.c13.costs
+    predicted = predict_c13(Chem.MolFromSmiles(smiles))
+    observed = [C13Signal(ppm, kind) for ppm, kind in ((199.8, "C"), (144.0, "CH"), (110.0, "CH2"), (31.2, None))]
+    matrix = carbon_costs(observed, predicted, costs)
+    for r, o in enumerate(observed):
+        for c, p in enumerate(predicted):
+            want = _deviation(o.ppm, p.ppm, p.uncertainty, costs.deviation_cap)
+            want += costs.type_mismatch if o.type is not None and o.type != p.type else 0.0
+            assert matrix[r, c] == pytest.approx(want, abs=1e-12)

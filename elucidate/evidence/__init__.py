@@ -5,7 +5,7 @@ one entry in :data:`TECHNIQUES`."""
 
 from __future__ import annotations
 
-from .base import Assessment, Reading, Subject, Technique, make_subject
+from .base import Assessment, Bounded, Reading, Subject, Technique, make_subject
 from .carbon13 import Carbon13, carbon_classes
 from .fragments import Fragments, predict_ions
 from .infrared import Infrared, read_bands
@@ -21,6 +21,7 @@ TECHNIQUES: tuple[type[Technique], ...] = (IsotopeFit, Infrared, UvVis, Fragment
 __all__ = [
     "TECHNIQUES",
     "Assessment",
+    "Bounded",
     "Carbon13",
     "Fragments",
     "Infrared",

@@ -14,7 +14,8 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any, Literal, Protocol
+from functools import cached_property
+from typing import TYPE_CHECKING, Any, Literal, Protocol, runtime_checkable
 
 from ..case import Case
 from ..formula import Formula
@@ -23,7 +24,7 @@ from ..generator.groups import GroupTable
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Assessment", "Reading", "Subject", "Technique", "make_subject"]
+__all__ = ["Assessment", "Bounded", "Reading", "Subject", "Technique", "make_subject"]
 
 
 @dataclass(frozen=True)
@@ -38,6 +39,14 @@ class Subject:
     isotope_score: float | None = None  # its formula's isotope-cluster fit (None: no cluster)
     formula_demotion: float = 0.0  # nats: its formula breaks the element-ratio heuristic
     demoted_by: str | None = None  # the rule it breaks
+
+    @cached_property
+    def symmetry_ranks(self) -> list[int]:
+        """Each atom's symmetry class as the spectrum shows it (computed once, shared by the
+        techniques: :func:`~elucidate.evidence.carbon13.symmetry_ranks`)."""
+        from .carbon13 import symmetry_ranks
+
+        return symmetry_ranks(self.mol)
 
 
 def make_subject(
@@ -99,7 +108,9 @@ class Technique(Protocol):
     ``name``: the component name in reports and JSON; ``weight_key``: its weight in
     ``constraints/scoring.yaml``; ``label``: the short column label; ``stage``: ``"formula"``
     for evidence about the formula (the isotope cluster), ``"structure"`` for evidence about the
-    structure; ``reading_key``: the JSON key of its reading, or None if it has none.
+    structure; ``reading_key``: the JSON key of its reading, or None if it has none;
+    ``scoring_pass``: when the solver runs it, cheapest first (0: on every candidate; a later
+    pass only on candidates whose best possible total can still reach the shortlist).
     """
 
     name: str
@@ -107,6 +118,7 @@ class Technique(Protocol):
     label: str
     stage: Literal["formula", "structure"]
     reading_key: str | None
+    scoring_pass: int
 
     def applies(self, case: Case) -> bool:
         """Whether the case holds data this technique can use."""
@@ -126,4 +138,15 @@ class Technique(Protocol):
 
     def read(self, case: Case) -> Reading | None:
         """The technique's own reading of the case's data, or None."""
+        ...
+
+
+@runtime_checkable
+class Bounded(Protocol):
+    """A technique that can bound its assessment cheaply before making it (for the solver's
+    later scoring passes)."""
+
+    def floor(self, subject: Subject, case: Case) -> tuple[float, float]:
+        """Lower bounds of the ``against`` and ``unexplained`` that :meth:`Technique.assess`
+        would give ``subject`` (0, 0 when nothing cheap is known)."""
         ...

@@ -15,7 +15,7 @@ an elimination. The penalties live in ``constraints/carbon13.yaml``.
 from __future__ import annotations
 
 from collections import Counter
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -188,9 +188,10 @@ def symmetry_ranks(mol: Mol) -> list[int]:
     return _ranks(_split_geminal(mol))
 
 
-def carbon_classes(mol: Mol) -> list[tuple[int, str, int]]:
-    """One entry per expected 13C signal: (first carbon index, multiplicity, carbons in it)."""
-    ranks = symmetry_ranks(mol)
+def carbon_classes(mol: Mol, ranks: Sequence[int] | None = None) -> list[tuple[int, str, int]]:
+    """One entry per expected 13C signal: (first carbon index, multiplicity, carbons in it);
+    ``ranks``: the molecule's :func:`symmetry_ranks`, when already known."""
+    ranks = symmetry_ranks(mol) if ranks is None else ranks
     classes: dict[int, list[int]] = {}
     for i in range(mol.GetNumAtoms()):
         if mol.GetAtomWithIdx(i).GetAtomicNum() == 6:
@@ -210,6 +211,7 @@ class Carbon13:
     label = "13C"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
+    scoring_pass: int = 0
 
     def __init__(self, table: Carbon13Table | None = None) -> None:
         self.table = table or default_carbon13()
@@ -224,7 +226,7 @@ class Carbon13:
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.nmr is not None
-        classes = carbon_classes(subject.mol)
+        classes = carbon_classes(subject.mol, subject.symmetry_ranks)
         predicted = len(classes)
         kinds = Counter(kind for _, kind, _ in classes)
         p = self.table

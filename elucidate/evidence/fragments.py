@@ -468,6 +468,7 @@ class Fragments:
     label = "EI"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
+    scoring_pass: int = 2
 
     def __init__(
         self,

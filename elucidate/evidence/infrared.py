@@ -273,6 +273,7 @@ class Infrared:
     label = "IR"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = "ir_reading"
+    scoring_pass: int = 0
 
     def __init__(self, table: IRTable | None = None) -> None:
         self.table = table or default_infrared()

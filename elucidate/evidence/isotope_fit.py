@@ -22,6 +22,7 @@ class IsotopeFit:
     label = "iso"
     stage: Literal["formula", "structure"] = "formula"
     reading_key: str | None = None
+    scoring_pass: int = 0
 
     def applies(self, case: Case) -> bool:
         return case.mass_spec is not None and bool(case.mass_spec.peaks)

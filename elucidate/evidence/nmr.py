@@ -22,19 +22,21 @@ exchangeable.
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
 from ..case import CARBON_KINDS, MULTIPLICITIES, C13Signal, Case, H1Signal
 from .base import Assessment, Reading, Subject
+from .carbon13 import carbon_classes
 from .nmr_predict import CarbonShift, ProtonShift, predict_nmr
 from .nmr_tables import AssignmentCosts, NmrTables, default_nmr_tables
 
 if TYPE_CHECKING:
     import numpy as np
 
-__all__ = ["Nmr", "assign", "coupled_h"]
+__all__ = ["Nmr", "assign", "carbon_costs", "coupled_h"]
 
 #: coupled H a multiplet code stands for (first order, all couplings resolved)
 _COUPLED = {"s": 0, "d": 1, "t": 2, "q": 3, "quint": 4, "sext": 5, "sept": 6}
@@ -63,6 +65,21 @@ class Pair:
 def _deviation(observed: float, predicted: float, uncertainty: float, cap: float) -> float:
     sigma = max(uncertainty / 2, 1e-6)
     return min(0.5 * ((observed - predicted) / sigma) ** 2, cap)
+
+
+def carbon_costs(observed: Sequence[C13Signal], predicted: Sequence[CarbonShift], costs: AssignmentCosts) -> np.ndarray:
+    """The 13C cost matrix (observed rows, predicted columns) at once: each pair's capped
+    deviation cost (:func:`_deviation`) plus ``type_mismatch`` where a DEPT type differs."""
+    import numpy as np
+
+    obs = np.array([o.ppm for o in observed], dtype=float)[:, None]
+    sigma = np.maximum(np.array([p.uncertainty for p in predicted], dtype=float) / 2, 1e-6)
+    deviation = (obs - np.array([p.ppm for p in predicted], dtype=float)) / sigma
+    cost = np.minimum(0.5 * deviation**2, costs.deviation_cap).reshape(len(observed), len(predicted))
+    otype = np.array([o.type or "" for o in observed], dtype=object)[:, None]
+    ptype = np.array([p.type for p in predicted], dtype=object)
+    mismatch: np.ndarray = ((otype != "") & (otype != ptype)) * costs.type_mismatch
+    return cost + mismatch
 
 
 def assign(cost: np.ndarray, costs: AssignmentCosts, *, optional: Sequence[bool] = ()) -> list[Pair]:
@@ -102,6 +119,7 @@ class Nmr:
     label = "NMR"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = "nmr_reading"
+    scoring_pass: int = 1
 
     def __init__(self, tables: NmrTables | None = None) -> None:
         self.tables = tables or default_nmr_tables()
@@ -115,15 +133,9 @@ class Nmr:
     # ------------------------------------------------------------------ scoring
 
     def _carbon(self, observed: Sequence[C13Signal], predicted: Sequence[CarbonShift]) -> tuple[float, float, list]:
-        import numpy as np
 
         costs = self.tables.c13.costs
-        cost = np.zeros((len(observed), len(predicted)))
-        for r, o in enumerate(observed):
-            for c, p in enumerate(predicted):
-                cost[r, c] = _deviation(o.ppm, p.ppm, p.uncertainty, costs.deviation_cap)
-                if o.type is not None and o.type != p.type:
-                    cost[r, c] += costs.type_mismatch
+        cost = carbon_costs(observed, predicted, costs)
         pairs = assign(cost, costs)
         against = unexplained = 0.0
         rows = []
@@ -328,7 +340,9 @@ class Nmr:
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.nmr is not None
         nmr = case.nmr
-        carbons, protons = predict_nmr(subject.mol, self.tables, c13=bool(nmr.c13), h1=bool(nmr.h1))
+        carbons, protons = predict_nmr(
+            subject.mol, self.tables, c13=bool(nmr.c13), h1=bool(nmr.h1), ranks=subject.symmetry_ranks
+        )
         against = unexplained = 0.0
         reasons: list[str] = []
         detail: dict[str, Any] = {}
@@ -346,6 +360,24 @@ class Nmr:
             reasons.append(_summary("1H", rows, "ppm", len(protons)))
             reasons += notes
         return Assessment(self.name, against, unexplained, tuple(reasons), detail)
+
+    def floor(self, subject: Subject, case: Case) -> tuple[float, float]:
+        """Lower bounds from the carbon symmetry classes alone, before any prediction: an
+        observed 13C signal beyond the classes of its DEPT type, or beyond all the classes, is
+        paired with a class of another type or left over, and costs at least the cheaper of the
+        two; a class beyond the observed signals overlaps one (unexplained)."""
+        nmr = case.nmr
+        if nmr is None or not nmr.c13:
+            return 0.0, 0.0
+        classes = carbon_classes(subject.mol, subject.symmetry_ranks)
+        have = Counter(kind for _, kind, _ in classes)
+        typed = Counter(s.type for s in nmr.c13 if s.type is not None)
+        beyond = max(sum(max(0, n - have[t]) for t, n in typed.items()), len(nmr.c13) - len(classes))
+        costs = self.tables.c13.costs
+        return (
+            max(0, beyond) * min(costs.extra_signal, costs.type_mismatch),
+            max(0, len(classes) - len(nmr.c13)) * costs.overlap,
+        )
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
         lines = []

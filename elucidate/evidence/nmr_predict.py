@@ -396,12 +396,17 @@ def _carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
 
 
 def predict_nmr(
-    mol: Mol, tables: NmrTables | None = None, *, c13: bool = True, h1: bool = True
+    mol: Mol,
+    tables: NmrTables | None = None,
+    *,
+    c13: bool = True,
+    h1: bool = True,
+    ranks: Sequence[int] | None = None,
 ) -> tuple[list[CarbonShift], list[ProtonShift]]:
     """The 13C and 1H predictions asked for (an empty list for the other), sharing one pass over
-    the molecule's substituents and symmetry."""
+    the molecule's substituents and symmetry; ``ranks``: its :func:`symmetry_ranks`, when known."""
     ctx = _Context(mol, tables or default_nmr_tables())
-    ranks = symmetry_ranks(mol)
+    ranks = symmetry_ranks(mol) if ranks is None else ranks
     return (_predict_c13(ctx, ranks) if c13 else []), (_predict_h1(ctx, ranks) if h1 else [])
 
 

@@ -138,6 +138,7 @@ class Strain:
     label = "strain"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
+    scoring_pass: int = 0
 
     def __init__(self, table: StrainTable | None = None) -> None:
         self.table = table or default_strain()

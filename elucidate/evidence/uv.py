@@ -614,6 +614,7 @@ class UvVis:
     label = "UV"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
+    scoring_pass: int = 0
 
     def __init__(self, table: UVTable | None = None) -> None:
         self.table = table or default_uv()

@@ -93,6 +93,7 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
     for label, n in solution.eliminated.items():
         if n:
             lines.append(f"  removed by {label}: {n}")
+    lines += _pass_lines(solution)
     lines.append("")
     if not solution.candidates:
         if solution.formulas and all(k.skipped for k in solution.formulas):
@@ -102,7 +103,7 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
         lines += ["  " + text for text in solution.empty_reason]
     else:
         shown = [t for t in techniques if any(t.name in c.components for c in solution.candidates)]
-        count = len(solution.candidates)
+        count = solution.candidate_count
         lines.append(f"shortlist ({min(top, count) if top else count} of {count})")
         rows = [["rank", "score", "formula", "SMILES", *[t.label for t in shown], "reasons"]]
         for c in solution.candidates[: top or None]:
@@ -129,6 +130,19 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
     return "\n".join(lines) + "\n"
 
 
+def _pass_lines(solution: Solution) -> list[str]:
+    """How far each candidate was scored: the passes, cheapest first."""
+    passes = solution.scoring_passes
+    if not passes or not solution.candidate_count:
+        return []
+    lines = [f"scoring of {solution.candidate_count:,} candidates, cheapest evidence first:"]
+    for number, p in enumerate(passes, start=1):
+        last = number == len(passes)
+        what = "scored in full" if last else "settled (cannot reach the shortlist)"
+        lines.append(f"  pass {number} ({', '.join(p.techniques)}): ran on {p.scored:,}, {what}: {p.settled:,}")
+    return lines
+
+
 def solve_json(solution: Solution, *, top: int = 0) -> dict[str, Any]:
     cands = solution.candidates[: top or None]
     out: dict[str, Any] = {
@@ -146,7 +160,8 @@ def solve_json(solution: Solution, *, top: int = 0) -> dict[str, Any]:
     out.update(
         {
             "candidates": [c.as_dict() for c in cands],
-            "candidate_count": len(solution.candidates),
+            "candidate_count": solution.candidate_count,
+            "scoring_passes": [p.as_dict() for p in solution.scoring_passes],
             "suspects": [s.as_dict() for s in solution.suspects],
             "empty_reason": list(solution.empty_reason),
             "notes": list(solution.notes),

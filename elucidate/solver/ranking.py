@@ -12,34 +12,35 @@ Results are hypotheses to confirm against a reference standard under the lab's o
 
 from __future__ import annotations
 
+import math
 from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from ..case import CARBON_KINDS, Case
-from ..defaults import FORMULAS_PER_ION, SOLVER_LIMIT, WORKERS
-from ..evidence import TECHNIQUES, Assessment, Technique, make_subject
+from ..defaults import FORMULAS_PER_ION, SHORTLIST, SOLVER_LIMIT, WORKERS
+from ..evidence import TECHNIQUES, Assessment, Technique
 from ..formula_search import Candidate, case_query, derive_formulas
 from ..generator.counts import CountTest
 from ..generator.groups import GroupTable, default_groups
 from ..generator.selection import Selection
+from ..parallel import local_runner
 from .advice import ADVISED_FORMULAS, size_advice
 from .diagnosis import why_empty
 from .hypotheses import considered_hypotheses, molecular_ion_hypotheses
+from .passes import evaluate_in_passes, score_candidates
 from .records import FoundCandidate, KeptFormula, Ranked, Solution, UntriedFormula
-from .scoring import Combined, ScoringTable, combine, default_scoring
+from .scoring import Combined, ScoringTable, default_scoring
 from .suspects import assess_suspect
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["CHUNK", "PROFILE", "Evaluator", "declared_counts", "hard_selection", "solve"]
+__all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "solve"]
 
 #: the plausibility profile the solver applies
 PROFILE = "stable"
-#: candidates scored per task when scoring runs in worker processes
-CHUNK = 500
 
 
 def hard_selection(case: Case, techniques: Sequence[Technique]) -> Selection:
@@ -91,37 +92,8 @@ class Evaluator:
         self, candidate: FoundCandidate, mol: Mol, techniques: Sequence[Technique]
     ) -> tuple[Combined, tuple[Assessment, ...]]:
         """The combined log-likelihood (with its components) and the assessments of one candidate."""
-        subject = make_subject(
-            candidate.smiles,
-            mol,
-            candidate.formula,
-            self.groups,
-            candidate.molecular_ion,
-            candidate.isotope_score,
-            formula_demotion=candidate.formula_demotion,
-            demoted_by=candidate.demoted_by,
-        )
-        found = (t.assess(subject, self.case) for t in techniques)
-        assessments = tuple(a for a in found if a is not None)
-        return combine(assessments, {t.name: t.weight_key for t in techniques}, self.scoring), assessments
-
-
-@dataclass(frozen=True)
-class _ScoringJob:
-    evaluator: Evaluator
-    items: tuple[FoundCandidate, ...]
-
-
-_Scored = tuple[Combined, tuple[Assessment, ...]]
-
-
-def _score_chunk(job: _ScoringJob) -> list[_Scored]:
-    """Score candidates on every technique that applies."""
-    from .._rdkit import Chem, quiet_rdkit
-
-    techniques = job.evaluator.techniques()
-    with quiet_rdkit():
-        return [job.evaluator.evaluate(item, Chem.MolFromSmiles(item.smiles), techniques) for item in job.items]
+        outcome = evaluate_in_passes(self, candidate, mol, techniques, -math.inf)
+        return outcome.combined, outcome.assessments
 
 
 def formulas_to_enumerate(ranked: Sequence[Candidate], count: int) -> list[Candidate]:
@@ -147,13 +119,18 @@ def solve(
     groups: GroupTable | None = None,
     scoring: ScoringTable | None = None,
     worse_formulas: bool = False,
+    shortlist: int = SHORTLIST,
+    watch: Sequence[str] = (),
 ) -> Solution:
     """Solve one case. ``limit``: largest estimated structure space per formula that is
     enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
     isotope fit, and only those within the scoring table's ``formula_cut`` of the best fit);
     ``workers``: processes for generation and scoring (the result does not depend on it);
     ``worse_formulas``: also enumerate formulas ranked below a formula skipped for size (by more
-    than the scoring table's ``worse_than_skipped`` factor), which are otherwise named and left."""
+    than the scoring table's ``worse_than_skipped`` factor), which are otherwise named and left;
+    ``shortlist``: the places ranked exactly (0: every candidate; the rest are scored only as far
+    as needed to show they rank lower, :mod:`.passes`); ``watch``: SMILES whose exact rank is
+    wanted too, like the case's suspects."""
     from ..generator import GeneratorOptions, estimate_structures, isomer_smiles
 
     g = groups or default_groups()
@@ -241,25 +218,19 @@ def solve(
             generated += count + sum(local.values())
             kept.append(KeptFormula(cand.formula, m, cand.score, count, None, cand.demoted_by, cand.demotion))
     evaluator = Evaluator(case, g, sc)
-    chunks = [_ScoringJob(evaluator, tuple(found[i : i + CHUNK])) for i in range(0, len(found), CHUNK)]
-    if workers > 1 and len(chunks) > 1:
-        import multiprocessing
-
-        with multiprocessing.Pool(workers) as pool:
-            scored = [r for part in pool.imap(_score_chunk, chunks) for r in part]
-    else:
-        scored = [r for job in chunks for r in _score_chunk(job)]
-    level = [round(combined.log_likelihood, 6) for combined, _ in scored]
-    order = sorted(
-        range(len(found)),
-        key=lambda i: (-level[i], -round(found[i].isotope_score or 0.0, 6), found[i].smiles),
-    )
-    shared = Counter(level)
+    wanted = {_canonical(text) for text in (*(case.structure.suspects if case.structure else ()), *watch)}
+    watched = frozenset(i for i, item in enumerate(found) if item.smiles in wanted)
+    with local_runner(workers) as runner:
+        scored = score_candidates(found, evaluator, runner, shortlist=shortlist, watched=watched)
+    full = scored.full
+    level = {i: round(combined.log_likelihood, 6) for i, (combined, _) in full.items()}
+    order = sorted(full, key=lambda i: (-level[i], -round(found[i].isotope_score or 0.0, 6), found[i].smiles))
+    shared = Counter(level.values())
     candidates = []
     rank = 0
     for position, i in enumerate(order, start=1):
         item = found[i]
-        combined, assessments = scored[i]
+        combined, assessments = full[i]
         if position == 1 or level[i] != level[order[position - 2]]:
             rank = position
         reasons = tuple(r for a in assessments for r in a.reasons[:2])
@@ -298,4 +269,18 @@ def solve(
         tuple(notes),
         considered,
         tuple(untried),
+        len(found),
+        scored.passes,
     )
+
+
+def _canonical(text: str) -> str:
+    """RDKit's canonical SMILES of ``text`` ("" when it cannot be read)."""
+    from .._rdkit import Chem, mol_from_smiles, quiet_rdkit
+
+    mol = mol_from_smiles(text)
+    if mol is None:
+        return ""
+    with quiet_rdkit():
+        smiles: str = Chem.MolToSmiles(mol)
+    return smiles

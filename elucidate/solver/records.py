@@ -16,6 +16,7 @@ from .scoring import Component
 __all__ = [
     "FoundCandidate",
     "KeptFormula",
+    "PassCount",
     "Ranked",
     "Solution",
     "SuspectResult",
@@ -142,6 +143,20 @@ class SuspectResult:
 
 
 @dataclass(frozen=True)
+class PassCount:
+    """One scoring pass: its techniques, how many candidates it ran on, and how many it settled
+    (their bound fell below the shortlist after it, or, in the last pass, they were scored in
+    full)."""
+
+    techniques: tuple[str, ...]
+    scored: int
+    settled: int
+
+    def as_dict(self) -> dict[str, object]:
+        return {"techniques": list(self.techniques), "scored": self.scored, "settled": self.settled}
+
+
+@dataclass(frozen=True)
 class Solution:
     case: Case
     hypotheses: tuple[int, ...]
@@ -159,6 +174,10 @@ class Solution:
     considered: tuple[Hypothesis, ...] = ()
     #: formulas not tried, per molecular ion, and why (parsimony order without isotope data)
     untried: tuple[UntriedFormula, ...] = ()
+    #: every candidate that passed the hard constraints; ``candidates`` holds the ranked ones
+    candidate_count: int = 0
+    #: the scoring passes: techniques, candidates run, candidates settled (:mod:`.passes`)
+    scoring_passes: tuple[PassCount, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,118 @@
+"""Scoring in passes (elucidate.solver.passes): branch and bound must give exactly the shortlist
+of full scoring. Checked on every reference case in tests/test_reference_cases.py, and here on
+random cases: reference cases with their evidence perturbed at random (seeded), a random
+shortlist length and a random suspect, against the same case scored in full (self-consistency:
+full scoring is the definition the passes must reproduce)."""
+
+from __future__ import annotations
+
+import math
+import random
+from pathlib import Path
+
+import pytest
+import yaml
+
+from elucidate.case import parse_case
+from elucidate.evidence import TECHNIQUES, Nmr
+from elucidate.solver import solve
+from elucidate.solver.passes import technique_passes
+
+HERE = Path(__file__).parent / "reference_cases"
+#: small spaces with every kind of evidence between them (NMR, fragments, IR, UV)
+BASES = ["benzylacetone", "menthone", "acetophenone", "propylbenzene", "2-methylbutan-2-ol", "hexan-2-one"]
+
+
+def _perturbed(name: str, rng: random.Random) -> dict:
+    doc = yaml.safe_load((HERE / f"{name}.yaml").read_text(encoding="utf-8"))
+    ms = doc["mass_spec"]
+    peaks = {int(k): float(v) for k, v in ms["peaks"].items()}
+    m = ms.get("molecular_ion")
+    m = m if isinstance(m, int) else max(peaks)  # "none": M+ not seen
+    for mz in list(peaks):
+        if mz < m:  # the isotope cluster stays; fragment intensities move
+            peaks[mz] = round(min(100.0, peaks[mz] * rng.uniform(0.4, 1.6)), 1)
+    peaks[rng.randrange(27, m - 14)] = round(rng.uniform(5, 90), 1)
+    top = max(peaks.values())  # % of the base peak again; the cluster's ratios are kept
+    ms["peaks"] = {mz: round(100 * v / top, 2) for mz, v in peaks.items()}
+    ir = doc.get("infrared")
+    if ir:
+        moved = [{**b, "at": b["at"] + rng.randint(-25, 25)} for b in ir["bands"] if rng.random() > 0.25]
+        ir["bands"] = moved or ir["bands"][:1]
+    uv = doc.get("uv_vis")
+    if uv and isinstance(uv.get("lambda_max"), int):
+        uv["lambda_max"] = uv["lambda_max"] + rng.randint(-25, 25)
+    nmr = doc.get("nmr")
+    if nmr:
+        for s in nmr.get("c13", []):
+            s["ppm"] = round(s["ppm"] + rng.uniform(-6, 6), 1)
+        for s in nmr.get("h1", []):
+            s["ppm"] = round(max(0.2, s["ppm"] + rng.uniform(-0.4, 0.4)), 2)
+    return doc
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("seed", range(10))
+def test_random_cases_give_the_shortlist_of_full_scoring(seed: int) -> None:
+    rng = random.Random(seed)
+    name = BASES[seed % len(BASES)]
+    doc = _perturbed(name, rng)
+    full = solve(parse_case(yaml.safe_dump(doc, sort_keys=False)), shortlist=0)
+    assert full.candidates, name
+    suspect = rng.choice(full.candidates).smiles
+    doc.setdefault("structure", {})["suspects"] = [suspect]
+    case = parse_case(yaml.safe_dump(doc, sort_keys=False))
+    full = solve(case, shortlist=0)
+    places = rng.randint(1, 15)
+    quick = solve(case, shortlist=places, workers=1 + seed % 2)
+    assert quick.candidate_count == full.candidate_count
+    shown = len(quick.candidates)
+    assert shown >= min(places, full.candidate_count)
+    assert [c.as_dict() for c in quick.candidates] == [c.as_dict() for c in full.candidates[:shown]]
+    assert quick.suspects == full.suspects and quick.suspects[0].rank is not None
+    # what the passes settled adds up: every candidate settled exactly once
+    assert sum(p.settled for p in quick.scoring_passes) == quick.candidate_count
+    assert quick.scoring_passes[0].scored == quick.candidate_count
+
+
+def test_passes_run_cheapest_first_and_each_technique_once() -> None:
+    techniques = [cls() for cls in TECHNIQUES]
+    passes = technique_passes(techniques)
+    numbers = [group[0].scoring_pass for group in passes]
+    assert numbers == sorted(set(numbers))
+    assert sorted(t.name for group in passes for t in group) == sorted(t.name for t in techniques)
+    # the expensive techniques come after the cheap ones (common practice: cost measured in bench/)
+    by_name = {t.name: t.scoring_pass for t in techniques}
+    assert by_name["nmr"] > by_name["infrared"] and by_name["fragments"] > by_name["strain"]
+
+
+@pytest.mark.parametrize(
+    ("smiles", "signals", "floor_against"),
+    [
+        # 2,2-dimethylpropane: 2 carbon classes (CH3, C); four observed CH3 signals leave three
+        # with no CH3 class of their own: at least 3 x min(extra_signal, type_mismatch)
+        ("CC(C)(C)C", [(27.0, "CH3"), (28.0, "CH3"), (29.0, "CH3"), (30.0, "CH3"), (31.0, "C")], 3),
+        # pentane: 3 classes (CH3, CH2, CH2); three signals of the right types: nothing owed
+        ("CCCCC", [(14.0, "CH3"), (22.0, "CH2"), (34.0, "CH2")], 0),
+        # pentane with four untyped signals: one beyond the three classes
+        ("CCCCC", [(14.0, None), (22.0, None), (34.0, None), (50.0, None)], 1),
+    ],
+)
+def test_nmr_floor_never_exceeds_the_assessment(smiles: str, signals: list, floor_against: int) -> None:
+    from elucidate._rdkit import Chem
+    from elucidate.evidence import make_subject
+    from elucidate.formula import parse_formula
+    from elucidate.generator.groups import default_groups
+
+    c13 = "\n".join(f"    - {{ppm: {p}{', type: ' + t if t else ''}}}" for p, t in signals)
+    case = parse_case(f"schema: 1\nid: t\nmass_spec: {{molecular_ion: 72, peaks: {{72: 100}}}}\nnmr:\n  c13:\n{c13}\n")
+    mol = Chem.MolFromSmiles(smiles)
+    formula = parse_formula(Chem.rdMolDescriptors.CalcMolFormula(mol))
+    subject = make_subject(smiles, mol, formula, default_groups(), 72)
+    technique = Nmr()
+    against, unexplained = technique.floor(subject, case)
+    costs = technique.tables.c13.costs
+    assert against == pytest.approx(floor_against * min(costs.extra_signal, costs.type_mismatch))
+    full = technique.assess(subject, case)
+    assert full.against >= against - 1e-9 and full.unexplained >= unexplained - 1e-9
+    assert math.isfinite(full.against)
