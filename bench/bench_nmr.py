@@ -50,7 +50,7 @@ def main(names: list[str]) -> None:
         with_types = estimate_structures(formula, GeneratorOptions(selection=selection))
         without = estimate_structures(formula, GeneratorOptions(selection=replace(selection, counts=None)))
         t0 = time.perf_counter()
-        solution = solve(case, workers=1)
+        solution = solve(case, workers=1, watch=(truth,))
         seconds = time.perf_counter() - t0
         total += seconds
         canonical = Chem.MolToSmiles(mol)

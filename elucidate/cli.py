@@ -12,6 +12,7 @@ import os
 import re
 import sys
 from collections.abc import Sequence
+from contextlib import nullcontext
 from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING, TextIO
@@ -23,11 +24,14 @@ from .elements import default_elements
 from .errors import ElucidateError
 from .formula import parse_formula
 from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
+from .progress import TerminalProgress
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
 from .yamlnodes import parse_range_text
 
 if TYPE_CHECKING:
     from tqdm import tqdm
+
+    from .cluster import DaskRunner
 
 __all__ = ["EXIT_NOTHING_SURVIVES", "build_parser", "main"]
 
@@ -173,6 +177,12 @@ def build_parser() -> argparse.ArgumentParser:
         help="worker processes (default 1); the output and its order do not depend on N",
     )
     g.add_argument(
+        "--scheduler",
+        metavar="ADDRESS",
+        help="run generation on the Dask cluster whose scheduler is at ADDRESS (tcp://host:8786; needs "
+        "the cluster extra); the output equals a one-process run",
+    )
+    g.add_argument(
         "--limit",
         type=float,
         default=ISOMERS_LIMIT,
@@ -208,7 +218,17 @@ def build_parser() -> argparse.ArgumentParser:
         help=f"formulas kept per molecular ion (default: the case's solve.formulas, else {FORMULAS_PER_ION})",
     )
     v.add_argument(
-        "--workers", type=int, default=WORKERS, metavar="N", help=f"worker processes for generation (default {WORKERS})"
+        "--workers",
+        type=int,
+        default=WORKERS,
+        metavar="N",
+        help=f"worker processes for generation and scoring (default {WORKERS}); the output does not depend on N",
+    )
+    v.add_argument(
+        "--scheduler",
+        metavar="ADDRESS",
+        help="run generation and scoring on the Dask cluster whose scheduler is at ADDRESS (tcp://host:8786; needs "
+        "the cluster extra); the output equals a one-process run",
     )
     v.add_argument(
         "--limit",
@@ -461,39 +481,42 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
             f"of the space walked, before the constraints are tested), above the limit of {args.limit:,.0f}; "
             "narrow the question (--require, --max-rings, --max-bond-order) or raise the limit with --limit N"
         )
-    stream = isomer_smiles(formula, options, removed=removed)
-    if args.sort or args.json:
-        stream = iter(sorted(stream))
-    if args.json:
-        listed = list(stream)
-        data = {
-            "formula": str(formula),
-            "kekule": args.kekule,
-            "count": len(listed),
-            "removed": removed,
-            "pruned_during_generation": [f"require {name}" for name in selection.pushed()],
-            "smiles": listed,
-        }
-        json.dump(data, out, indent=1)
-        out.write("\n")
+    with _cluster(args.scheduler) or nullcontext() as runner:
+        stream = isomer_smiles(formula, options, removed=removed, runner=runner)
+        if args.sort or args.json:
+            stream = iter(sorted(stream))
+        if args.json:
+            listed = list(stream)
+            data = {
+                "formula": str(formula),
+                "kekule": args.kekule,
+                "count": len(listed),
+                "removed": removed,
+                "pruned_during_generation": [f"require {name}" for name in selection.pushed()],
+                "smiles": listed,
+            }
+            json.dump(data, out, indent=1)
+            out.write("\n")
+            return 0
+        count = 0
+        with _progress(err, estimate) as bar:
+            for smiles in stream:
+                count += 1
+                bar.update(1)
+                if not args.count:
+                    out.write(smiles + "\n")
+        for label, n in removed.items():
+            err.write(f"removed by {label}: {n}\n")
+        for name in selection.pushed():
+            err.write(
+                f"require {name}: also applied during generation (ring bound, skeleton conditions; not counted)\n"
+            )
+        if args.count:
+            out.write(f"{count}\n")
         return 0
-    count = 0
-    with _progress(err, estimate) as bar:
-        for smiles in stream:
-            count += 1
-            bar.update(1)
-            if not args.count:
-                out.write(smiles + "\n")
-    for label, n in removed.items():
-        err.write(f"removed by {label}: {n}\n")
-    for name in selection.pushed():
-        err.write(f"require {name}: also applied during generation (ring bound, skeleton conditions; not counted)\n")
-    if args.count:
-        out.write(f"{count}\n")
-    return 0
 
 
-def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
+def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     from .reports.solution_report import solve_json, solve_text
     from .solver import solve
 
@@ -511,15 +534,32 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO) -> int:
     formulas = args.formulas or case.solve.formulas or FORMULAS_PER_ION
     limit = int(args.limit) if args.limit is not None else (case.solve.limit or SOLVER_LIMIT)
     worse = bool(args.worse_formulas or case.solve.worse_formulas)
-    solution = solve(
-        case, limit=limit, max_formulas=formulas, workers=args.workers, worse_formulas=worse, shortlist=args.top
-    )
+    with TerminalProgress(err) as progress, _cluster(args.scheduler) or nullcontext() as runner:
+        solution = solve(
+            case,
+            limit=limit,
+            max_formulas=formulas,
+            workers=args.workers,
+            worse_formulas=worse,
+            shortlist=args.top,
+            runner=runner,
+            progress=progress,
+        )
     if args.json:
         json.dump(solve_json(solution, top=args.top), out, indent=1)
         out.write("\n")
     else:
         out.write(solve_text(solution, top=args.top, details=args.details))
     return 0 if solution.candidates else EXIT_NOTHING_SURVIVES
+
+
+def _cluster(address: str | None) -> DaskRunner | None:
+    """A runner on the Dask cluster at ``address``, or None for local processes."""
+    if address is None:
+        return None
+    from .cluster import DaskRunner
+
+    return DaskRunner(address)
 
 
 def main(argv: Sequence[str] | None = None, *, stdout: TextIO | None = None, stderr: TextIO | None = None) -> int:
@@ -555,7 +595,7 @@ def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: Te
         if args.command == "isomers":
             return _cmd_isomers(args, out, err)
         if args.command == "solve":
-            return _cmd_solve(args, out)
+            return _cmd_solve(args, out, err)
     except ElucidateError as exc:
         err.write(f"error: {exc}\n")
         return 1

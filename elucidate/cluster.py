@@ -67,7 +67,8 @@ class DaskRunner:
         threads = sum(self.client.nthreads().values())
         if threads < 1:
             self.close()
-            raise ElucidateError(f"the Dask scheduler at {address or self.client.scheduler.address} has no workers")
+            where = f"at {address!r}" if address else "of the given client"
+            raise ElucidateError(f"the Dask scheduler {where} has no workers", key="--scheduler")
         self.workers = threads
         self.in_flight = in_flight or PER_THREAD * threads
 

@@ -2,10 +2,15 @@
 
 from __future__ import annotations
 
+import io
+import json
 import re
 import shutil
+from pathlib import Path
 
 import pytest
+
+from elucidate.cli import main
 
 
 def test_check_all_demo_cases(cli, cases_dir):
@@ -192,3 +197,24 @@ def test_isomers_limit_can_be_raised(cli):
     res = cli("isomers", "C6H6", "--limit", "10", "--count")
     assert res.code == 1 and "--limit" in res.err
     assert cli("isomers", "C6H6", "--limit", "1000", "--count").out.strip() == "217"
+
+
+class _Terminal(io.StringIO):
+    """A captured stream that says it is a terminal."""
+
+    def isatty(self) -> bool:
+        return True
+
+
+def test_solve_draws_a_bar_per_stage_on_a_terminal_and_keeps_stdout_json() -> None:
+    case = str(Path(__file__).resolve().parents[1] / "cases" / "cr-0611-j.yaml")
+    out, err = io.StringIO(), _Terminal()
+    assert main(["solve", case, "--json"], stdout=out, stderr=err) == 0
+    data = json.loads(out.getvalue())  # stdout holds the JSON and nothing else
+    bars = err.getvalue()
+    for stage in ("formulas", "generation", "scoring"):
+        assert stage in bars
+    assert f"{data['candidate_count']}/{data['candidate_count']}" in bars  # scoring ran to the end
+    piped = io.StringIO()
+    assert main(["solve", case, "--json"], stdout=io.StringIO(), stderr=piped) == 0
+    assert piped.getvalue() == ""  # not a terminal: quiet

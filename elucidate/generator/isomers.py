@@ -25,9 +25,11 @@ each element (plain graph counting). Constitution only: no stereochemistry.
 from __future__ import annotations
 
 from collections.abc import Iterator
+from contextlib import nullcontext
 
 from ..errors import ElucidateError
 from ..formula import Formula
+from ..parallel import Runner, local_runner
 from .labelling import Structure
 from .options import GeneratorOptions
 from .tasks import (
@@ -66,7 +68,11 @@ def structures(formula: Formula, options: GeneratorOptions = _DEFAULT) -> Iterat
 
 
 def isomer_smiles(
-    formula: Formula, options: GeneratorOptions = _DEFAULT, *, removed: dict[str, int] | None = None
+    formula: Formula,
+    options: GeneratorOptions = _DEFAULT,
+    *,
+    removed: dict[str, int] | None = None,
+    runner: Runner | None = None,
 ) -> Iterator[str]:
     """Canonical SMILES of every constitutional isomer of ``formula`` that passes the options'
     selection, each once. ``removed``, when given, is filled with how many generated structures
@@ -74,9 +80,10 @@ def isomer_smiles(
     Required groups with a skeleton condition (:meth:`~.selection.Selection.pushed`) also prune
     labelled skeletons during generation; what they prune is not generated and so not counted.
 
-    With ``options.workers`` > 1 the generation tree is cut into subtrees (:mod:`.tasks`) that
-    worker processes grow independently; results are returned in task order, so the output,
-    and its order, is the same for any number of workers.
+    With ``options.workers`` > 1, or a ``runner`` (:mod:`elucidate.parallel`, a Dask cluster:
+    :mod:`elucidate.cluster`), the generation tree is cut into subtrees (:mod:`.tasks`) that
+    workers grow independently; results are read in task order, so the output, and its order,
+    is the same for any number of workers and wherever they run.
     """
     if not formula.counts:
         raise ElucidateError("empty formula")
@@ -86,15 +93,13 @@ def isomer_smiles(
     if compiled is not None:
         for label in compiled.labels:
             counts.setdefault(label, 0)
-    if options.workers == 1:
+    if runner is None and options.workers == 1:
         for task in generation_tasks(plans):
             yield from task_smiles(task, options.kekule, compiled, counts, prefilter)
         return
-    import multiprocessing
-
     jobs = (WorkerJob(task, options.kekule, options.selection) for task in generation_tasks(plans))
-    with multiprocessing.Pool(options.workers) as pool:
-        for smiles, rem in pool.imap(run_job, jobs, chunksize=1):
+    with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
+        for smiles, rem in work.map(run_job, jobs):
             for label, n in rem.items():
                 counts[label] = counts.get(label, 0) + n
             yield from smiles

@@ -24,6 +24,7 @@ from typing import TYPE_CHECKING
 
 from ..evidence import Assessment, Bounded, Subject, Technique, make_subject
 from ..parallel import Runner
+from ..progress import Progress, silent
 from .records import FoundCandidate, PassCount
 from .scoring import Combined, combine
 
@@ -157,6 +158,7 @@ def score_candidates(
     *,
     shortlist: int,
     watched: frozenset[int] = frozenset(),
+    progress: Progress = silent,
 ) -> Scoring:
     """Score ``found`` so that every candidate that can reach the first ``shortlist`` places
     (0: every candidate) or rank at or above a ``watched`` one is scored in full."""
@@ -195,6 +197,7 @@ def score_candidates(
                     heapq.heappush(best, level)
                 elif level > best[0]:
                     heapq.heapreplace(best, level)
+        progress("scoring", position, n)
         if shortlist and len(best) == shortlist and not unscored_watched:
             threshold = max(threshold, min(best[0], lowest_watched))
             full = {i: s for i, s in full.items() if round(s[0].log_likelihood, 6) >= threshold}

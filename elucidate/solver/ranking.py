@@ -25,7 +25,8 @@ from ..formula_search import Candidate, case_query, derive_formulas
 from ..generator.counts import CountTest
 from ..generator.groups import GroupTable, default_groups
 from ..generator.selection import Selection
-from ..parallel import local_runner
+from ..parallel import Runner, local_runner
+from ..progress import Progress, silent
 from .advice import ADVISED_FORMULAS, size_advice
 from .diagnosis import why_empty
 from .hypotheses import considered_hypotheses, molecular_ion_hypotheses
@@ -41,6 +42,8 @@ __all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "solve"]
 
 #: the plausibility profile the solver applies
 PROFILE = "stable"
+#: structures between two progress reports during generation
+PROGRESS_EVERY = 500
 
 
 def hard_selection(case: Case, techniques: Sequence[Technique]) -> Selection:
@@ -121,6 +124,8 @@ def solve(
     worse_formulas: bool = False,
     shortlist: int = SHORTLIST,
     watch: Sequence[str] = (),
+    runner: Runner | None = None,
+    progress: Progress | None = None,
 ) -> Solution:
     """Solve one case. ``limit``: largest estimated structure space per formula that is
     enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
@@ -130,7 +135,31 @@ def solve(
     than the scoring table's ``worse_than_skipped`` factor), which are otherwise named and left;
     ``shortlist``: the places ranked exactly (0: every candidate; the rest are scored only as far
     as needed to show they rank lower, :mod:`.passes`); ``watch``: SMILES whose exact rank is
-    wanted too, like the case's suspects."""
+    wanted too, like the case's suspects; ``runner``: where generation and scoring run (a Dask
+    cluster: :class:`elucidate.cluster.DaskRunner`; default: ``workers`` local processes);
+    ``progress``: told how far each stage has got (:mod:`elucidate.progress`)."""
+    work = runner if runner is not None else local_runner(workers)
+    try:
+        return _solve(
+            case, limit, max_formulas, work, groups, scoring, worse_formulas, shortlist, watch, progress or silent
+        )
+    finally:
+        if runner is None:
+            work.close()
+
+
+def _solve(
+    case: Case,
+    limit: int,
+    max_formulas: int,
+    runner: Runner,
+    groups: GroupTable | None,
+    scoring: ScoringTable | None,
+    worse_formulas: bool,
+    shortlist: int,
+    watch: Sequence[str],
+    progress: Progress,
+) -> Solution:
     from ..generator import GeneratorOptions, estimate_structures, isomer_smiles
 
     g = groups or default_groups()
@@ -149,9 +178,10 @@ def solve(
     generated = 0
     found: list[FoundCandidate] = []
     estimate_options = GeneratorOptions(selection=selection)
-    options = GeneratorOptions(selection=selection, workers=workers)
+    options = GeneratorOptions(selection=selection)
     advised = 0
-    for m in hypotheses:
+    derived = []
+    for done, m in enumerate(hypotheses, start=1):
         query = case_query(case, m)
         # without isotope data the order is parsimony only: every formula not tried is named
         result = derive_formulas(query, top=None if query.cluster is None else 4 * max_formulas)
@@ -162,6 +192,9 @@ def solve(
                 "only (raise --formulas)"
             )
             untried += [UntriedFormula(c.formula, m, why) for c in result.kept[len(chosen) :]]
+        derived.append((m, result, chosen))
+        progress("formulas", done, len(hypotheses))
+    for m, result, chosen in derived:
         best = max((c.ranking_score or 0.0 for c in chosen), default=0.0)
         skipped: Candidate | None = None  # the best-fitting formula skipped for size
         for cand in chosen:
@@ -210,8 +243,12 @@ def solve(
                 continue
             local: dict[str, int] = {}
             before = len(found)
-            for smiles in isomer_smiles(cand.formula, options, removed=local):
+            parallel = runner if runner.workers > 1 else None
+            for smiles in isomer_smiles(cand.formula, options, removed=local, runner=parallel):
                 found.append(FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by))
+                if len(found) % PROGRESS_EVERY == 0:
+                    progress("generation", len(found), None)
+            progress("generation", len(found), None)
             count = len(found) - before
             for label, n in local.items():
                 removed[label] = removed.get(label, 0) + n
@@ -220,8 +257,7 @@ def solve(
     evaluator = Evaluator(case, g, sc)
     wanted = {_canonical(text) for text in (*(case.structure.suspects if case.structure else ()), *watch)}
     watched = frozenset(i for i, item in enumerate(found) if item.smiles in wanted)
-    with local_runner(workers) as runner:
-        scored = score_candidates(found, evaluator, runner, shortlist=shortlist, watched=watched)
+    scored = score_candidates(found, evaluator, runner, shortlist=shortlist, watched=watched, progress=progress)
     full = scored.full
     level = {i: round(combined.log_likelihood, 6) for i, (combined, _) in full.items()}
     order = sorted(full, key=lambda i: (-level[i], -round(found[i].isotope_score or 0.0, 6), found[i].smiles))

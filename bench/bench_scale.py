@@ -1,0 +1,110 @@
+"""Scale: scoring in passes against full scoring, and a Dask LocalCluster against local worker
+processes. Prints figures side by side in one run; asserts nothing.
+
+    python3 bench/bench_scale.py [CASE] [--workers N]
+
+1. Solver: the case (default: the carvone reference case, C10H14O with 13C/1H, IR, UV and MS)
+   solved with the shortlist of 10 (scoring in passes, branch and bound) and with every
+   candidate scored in full, on N local workers: seconds, candidates settled per second, what
+   each pass settled, and whether the shortlists are identical.
+2. Dask: the same case on a 2-worker LocalCluster of processes against ``--workers 2``: the
+   same output or not, the per-partition (generation task) timings, and from them an estimate
+   of the generation time on 64 workers (the longest partition bounds it from below; the total
+   over 64 bounds it from above when partitions are spread evenly).
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+from pathlib import Path
+
+from elucidate import load_case
+from elucidate.evidence import TECHNIQUES
+from elucidate.formula import parse_formula
+from elucidate.generator import GeneratorOptions
+from elucidate.generator.tasks import WorkerJob, generation_tasks, run_job, selection_plans
+from elucidate.solver import hard_selection, solve
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def solver_figures(case_path: Path, workers: int) -> None:
+    case = load_case(case_path)
+    rows = []
+    results = {}
+    for label, shortlist in (("passes, shortlist 10", 10), ("full scoring", 0)):
+        t0 = time.perf_counter()
+        solution = solve(case, workers=workers, shortlist=shortlist)
+        seconds = time.perf_counter() - t0
+        results[label] = solution
+        rows.append((label, seconds, solution))
+    print(f"solver on {case_path.name}, {workers} worker(s):")
+    for label, seconds, solution in rows:
+        n = solution.candidate_count
+        passes = "; ".join(
+            f"{'+'.join(p.techniques)}: ran {p.scored}, settled {p.settled}" for p in solution.scoring_passes
+        )
+        print(f"  {label:22s} {seconds:7.1f} s  {n / seconds:8.0f} candidates settled/s  [{passes}]")
+    quick, full = results["passes, shortlist 10"], results["full scoring"]
+    same = [c.as_dict() for c in quick.candidates[:10]] == [c.as_dict() for c in full.candidates[:10]]
+    print(f"  shortlists identical: {same}; speed-up {rows[1][1] / rows[0][1]:.2f}x")
+
+
+def dask_figures(case_path: Path) -> None:
+    try:
+        import distributed
+    except ImportError:
+        print("dask: not installed (pip install 'elucidate[cluster]')")
+        return
+    from elucidate.cluster import DaskRunner
+
+    case = load_case(case_path)
+    lc = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None)
+    with lc, distributed.Client(lc) as client:
+        client.run(lambda: __import__("elucidate.solver"))  # warm the workers' imports
+        t0 = time.perf_counter()
+        with DaskRunner(client=client) as runner:
+            on_dask = solve(case, runner=runner)
+        dask_s = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    local = solve(case, workers=2)
+    local_s = time.perf_counter() - t0
+    same = [c.as_dict() for c in on_dask.candidates] == [c.as_dict() for c in local.candidates]
+    print(f"dask LocalCluster (2 processes) {dask_s:.1f} s against --workers 2 {local_s:.1f} s; same output: {same}")
+    # per-partition timings of generation, measured one by one in this process
+    selection = hard_selection(case, [cls() for cls in TECHNIQUES])
+    times = []
+    for kept in on_dask.formulas:
+        if kept.skipped:
+            continue
+        plans, _ = selection_plans(parse_formula(str(kept.formula)), GeneratorOptions(selection=selection))
+        for task in generation_tasks(plans):
+            t0 = time.perf_counter()
+            run_job(WorkerJob(task, False, selection))
+            times.append(time.perf_counter() - t0)
+    if not times:
+        return
+    total = sum(times)
+    times.sort(reverse=True)
+    print(
+        f"generation partitions: {len(times)}, total {total:.2f} s, longest {times[0]:.3f} s, "
+        f"median {times[len(times) // 2] * 1e3:.1f} ms"
+    )
+    print(
+        f"estimate on 64 workers: generation between {max(times[0], total / 64):.2f} s and "
+        f"{total / 64 + times[0]:.2f} s (list scheduling bound), against {total:.2f} s on one"
+    )
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser()
+    parser.add_argument("case", nargs="?", default=str(ROOT / "tests" / "reference_cases" / "carvone.yaml"))
+    parser.add_argument("--workers", type=int, default=2)
+    args = parser.parse_args()
+    solver_figures(Path(args.case), args.workers)
+    dask_figures(Path(args.case))
+
+
+if __name__ == "__main__":
+    main()
