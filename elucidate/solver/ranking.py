@@ -20,6 +20,7 @@ from typing import TYPE_CHECKING
 
 from ..case import CARBON_KINDS, Case
 from ..defaults import FORMULAS_PER_ION, SHORTLIST, SOLVER_LIMIT, WORKERS
+from ..errors import ElucidateError
 from ..evidence import TECHNIQUES, Assessment, Technique
 from ..formula_search import Candidate, case_query, derive_formulas
 from ..generator.counts import CountTest
@@ -138,6 +139,8 @@ def solve(
     wanted too, like the case's suspects; ``runner``: where generation and scoring run (a Dask
     cluster: :class:`elucidate.cluster.DaskRunner`; default: ``workers`` local processes);
     ``progress``: told how far each stage has got (:mod:`elucidate.progress`)."""
+    if shortlist < 0:
+        raise ElucidateError(f"shortlist must be 0 (every candidate) or more, got {shortlist}")
     work = runner if runner is not None else local_runner(workers)
     try:
         return _solve(
