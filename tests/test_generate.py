@@ -308,3 +308,64 @@ def test_certificate_fallback_for_large_groups_gives_the_same_isomers(formula, m
     monkeypatch.setattr(gen, "automorphisms", lambda n, edges: automorphisms(n, edges, limit=1))
     forced = list(isomer_smiles(f, GeneratorOptions(kekule=True)))
     assert sorted(forced) == sorted(normal) and len(forced) == len(set(forced))
+
+
+def test_fast_nauty_graphs_give_what_pynauty_graphs_give() -> None:
+    # skeleton growth builds nauty graphs without pynauty's checks: certificates, canonical
+    # labellings and orbits must equal those of pynauty.Graph on the same graphs (self-consistency
+    # against the general-purpose library's own constructor)
+    import random
+
+    import pynauty
+
+    from elucidate.generator.skeletons import adjacency_lists, nauty_graph
+
+    rng = random.Random(7)
+    for _ in range(500):
+        n = rng.randint(2, 14)
+        edges = sorted({tuple(sorted(rng.sample(range(n), 2))) for _ in range(rng.randint(1, 2 * n))})
+        adj = adjacency_lists(n, edges)
+        fast = nauty_graph(n, adj)
+        plain = pynauty.Graph(n, adjacency_dict={i: nb for i, nb in enumerate(adj) if nb})
+        assert pynauty.certificate(fast) == pynauty.certificate(plain)
+        assert pynauty.canon_label(fast) == pynauty.canon_label(plain)
+        assert pynauty.autgrp(fast)[3] == pynauty.autgrp(plain)[3]
+
+
+def test_cycle_test_agrees_with_rdkit_ring_matching() -> None:
+    # has_cycles (the pruning of required rings during growth) against RDKit substructure
+    # matching of an n-membered ring query on the same graph (a general-purpose library)
+    import random
+
+    from elucidate.generator.skeletons import adjacency_lists, has_cycles
+
+    rng = random.Random(11)
+    rings = {size: Chem.MolFromSmarts("*1" + "~*" * (size - 1) + "~1") for size in range(3, 9)}
+    for _ in range(300):
+        n = rng.randint(3, 12)
+        edges = sorted({tuple(sorted(rng.sample(range(n), 2))) for _ in range(rng.randint(2, 2 * n))})
+        mol = Chem.RWMol()
+        for _ in range(n):
+            mol.AddAtom(Chem.Atom(6))
+        for a, b in edges:
+            mol.AddBond(a, b, Chem.BondType.SINGLE)
+        mol.UpdatePropertyCache(strict=False)
+        Chem.FastFindRings(mol)
+        adj = adjacency_lists(n, edges)
+        for size, query in rings.items():
+            assert has_cycles(adj, [size]) == mol.HasSubstructMatch(query), (edges, size)
+
+
+@pytest.mark.parametrize(("formula", "max_rings"), [("C7H8O", None), ("C8H10", 1), ("C6H7N", None), ("C7H9N", 2)])
+def test_required_ring_pruned_in_growth_equals_filtering(formula: str, max_rings: int | None) -> None:
+    # the aromatic ring's 6-cycle pushed into skeleton growth keeps exactly the structures that
+    # filtering every isomer by the group keeps (self-consistency: pushed == filtered)
+    from elucidate.generator.groups import default_groups
+
+    pattern = default_groups()["aromatic_ring"].pattern
+    everything = isomer_smiles(parse_formula(formula), GeneratorOptions(max_rings=max_rings))
+    filtered = sorted(s for s in everything if Chem.MolFromSmiles(s).HasSubstructMatch(pattern))
+    pushed = isomer_smiles(
+        parse_formula(formula), GeneratorOptions(max_rings=max_rings, selection=Selection(require=("aromatic_ring",)))
+    )
+    assert sorted(pushed) == filtered and filtered

@@ -53,4 +53,4 @@ def estimate_structures(
 
 
 def _children_of(part: PartialGraph, plan: Plan) -> Iterator[PartialGraph]:
-    return children(part, sorted(plan.bounds, reverse=True), plan.rings_max)
+    return children(part, sorted(plan.bounds, reverse=True), plan.rings_max, cycles=plan.cycles)

@@ -80,6 +80,20 @@ class Group:
     def shape_pattern(self) -> Mol | None:
         return compiled_smarts(self.shape) if self.shape is not None else None
 
+    @property
+    def cycles(self) -> tuple[int, ...]:
+        """Lengths of the rings in the skeleton condition: any molecule with the group has a
+        simple cycle of each length in its skeleton (a match maps a ring of the pattern onto
+        one)."""
+        from .._rdkit import Chem
+
+        shape = self.shape_pattern
+        if shape is None:
+            return ()
+        probe = Chem.Mol(shape)
+        Chem.FastFindRings(probe)
+        return tuple(sorted(len(ring) for ring in probe.GetRingInfo().AtomRings()))
+
 
 @dataclass(frozen=True, eq=False)
 class GroupTable:

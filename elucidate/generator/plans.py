@@ -142,6 +142,7 @@ class Plan:
     max_extra: int  # highest bond order - 1
     hydrogens: int
     count_test: CountTest | None = None  # declared NMR counts the structures must meet
+    cycles: tuple[int, ...] = ()  # simple-cycle lengths every skeleton must have (required rings)
 
 
 def valence_plans(
@@ -160,7 +161,9 @@ def valence_plans(
     those the ``required`` groups imply (:func:`~.groups.min_pi_bonds`): rings = bond sum −
     (n − 1) − π bonds, and a ring bound is hereditary, so skeleton generation prunes on it.
     Declared ``counts`` (:mod:`.counts`) lower the carbons' degree bounds to 4 − h and travel
-    with the plan to the labelling; a formula that cannot meet them gets no plan."""
+    with the plan to the labelling; a formula that cannot meet them gets no plan. The rings of
+    the required groups' skeleton conditions (:attr:`~.groups.Group.cycles`) travel with it to
+    skeleton growth."""
     oxo_states = states or default_valence_states()
     hydrogens = formula.get("H")
     plans: list[Plan] = []
@@ -183,6 +186,7 @@ def valence_plans(
         labels = sorted(set(heavy), key=lambda a: (-a[1], a[0]))
         per_label = [sum(1 for atom in heavy if atom == label) for label in labels]
         bounds = counts.degree_bounds(labels, per_label) if counts is not None else None
+        cycles = tuple(sorted({length for name in required for length in default_groups()[name].cycles}))
         plans.append(
             Plan(
                 n,
@@ -194,6 +198,7 @@ def valence_plans(
                 max_bond_order - 1,
                 hydrogens,
                 counts,
+                cycles,
             )
         )
     return plans

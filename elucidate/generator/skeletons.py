@@ -24,7 +24,19 @@ from typing import NamedTuple
 
 import pynauty
 
-__all__ = ["PartialGraph", "Skeleton", "automorphisms", "children", "frontier", "grow", "root_graph", "skeletons"]
+__all__ = [
+    "PartialGraph",
+    "Skeleton",
+    "adjacency_lists",
+    "automorphisms",
+    "children",
+    "frontier",
+    "grow",
+    "has_cycles",
+    "nauty_graph",
+    "root_graph",
+    "skeletons",
+]
 
 
 class Skeleton(NamedTuple):
@@ -47,7 +59,7 @@ def root_graph() -> PartialGraph:
     return PartialGraph(1, ((),), 0)
 
 
-def _adjacency(n: int, edges: Sequence[tuple[int, int]]) -> list[list[int]]:
+def adjacency_lists(n: int, edges: Sequence[tuple[int, int]]) -> list[list[int]]:
     adj: list[list[int]] = [[] for _ in range(n)]
     for a, b in edges:
         adj[a].append(b)
@@ -55,8 +67,17 @@ def _adjacency(n: int, edges: Sequence[tuple[int, int]]) -> list[list[int]]:
     return adj
 
 
-def _nauty(n: int, adj: list[list[int]]) -> pynauty.Graph:
-    return pynauty.Graph(n, directed=False, adjacency_dict={i: nb for i, nb in enumerate(adj) if nb})
+def nauty_graph(n: int, adj: list[list[int]]) -> pynauty.Graph:
+    """The graph for nauty, built without pynauty's per-vertex checks (the hot path of skeleton
+    growth): ``adj`` is a simple graph on 0..n-1 already, with no repeated neighbour. nauty reads
+    the adjacency as bit sets, so the result equals ``pynauty.Graph(n, adjacency_dict=...)``
+    (tests/test_generate.py checks certificates both ways)."""
+    graph: pynauty.Graph = pynauty.Graph.__new__(pynauty.Graph)
+    graph.number_of_vertices = n
+    graph.directed = False
+    graph._adjacency_dict = {i: nb for i, nb in enumerate(adj) if nb}
+    graph._vertex_coloring = []
+    return graph
 
 
 def _dominated(degrees: list[int], bounds: Sequence[int]) -> bool:
@@ -70,17 +91,21 @@ def _checked(n: int, bounds: Sequence[int]) -> list[int]:
     return bounds
 
 
-def skeletons(n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
+def skeletons(n: int, bounds: Sequence[int], max_rings: int, *, cycles: Sequence[int] = ()) -> Iterator[Skeleton]:
     """Yield every connected simple graph on ``n`` vertices once.
 
     ``bounds``: the largest allowed degrees (one per vertex, any order). ``max_rings``: the
-    largest cyclomatic number (edges - vertices + 1).
+    largest cyclomatic number (edges - vertices + 1). ``cycles``: lengths of simple cycles every
+    skeleton must contain (a required ring): a partial graph whose ring budget is spent has all
+    its cycles, so one lacking a wanted cycle is pruned with its subtree.
     """
-    for part in frontier(n, bounds, max_rings, depth=n):
-        yield from grow(part, n, bounds, max_rings)
+    for part in frontier(n, bounds, max_rings, depth=n, cycles=cycles):
+        yield from grow(part, n, bounds, max_rings, cycles=cycles)
 
 
-def frontier(n: int, bounds: Sequence[int], max_rings: int, *, depth: int) -> Iterator[PartialGraph]:
+def frontier(
+    n: int, bounds: Sequence[int], max_rings: int, *, depth: int, cycles: Sequence[int] = ()
+) -> Iterator[PartialGraph]:
     """The partial graphs with ``min(depth, n)`` vertices on the generation tree, in the order
     the tree visits them. Growing each with :func:`grow` and chaining the results in this order
     gives exactly :func:`skeletons` — this is how work is split across processes."""
@@ -89,33 +114,43 @@ def frontier(n: int, bounds: Sequence[int], max_rings: int, *, depth: int) -> It
         return
     if n > 1 and bounds[1] < 1:
         return
-    yield from _descend(root_graph(), n, bounds, max_rings, min(depth, n))
+    if cycles and (max_rings == 0 or max(cycles) > n):
+        return  # a wanted cycle needs a ring, and room for it
+    yield from _descend(root_graph(), n, bounds, max_rings, min(depth, n), tuple(cycles))
 
 
-def _descend(part: PartialGraph, n: int, bounds: Sequence[int], max_rings: int, depth: int) -> Iterator[PartialGraph]:
+def _descend(
+    part: PartialGraph, n: int, bounds: Sequence[int], max_rings: int, depth: int, cycles: tuple[int, ...]
+) -> Iterator[PartialGraph]:
     if part[0] == depth:
         yield part
         return
-    for child in children(part, bounds, max_rings):
-        yield from _descend(child, n, bounds, max_rings, depth)
+    for child in children(part, bounds, max_rings, cycles=cycles):
+        yield from _descend(child, n, bounds, max_rings, depth, cycles)
 
 
-def grow(part: PartialGraph, n: int, bounds: Sequence[int], max_rings: int) -> Iterator[Skeleton]:
+def grow(
+    part: PartialGraph, n: int, bounds: Sequence[int], max_rings: int, *, cycles: Sequence[int] = ()
+) -> Iterator[Skeleton]:
     """Every finished n-vertex skeleton below the partial graph ``part``."""
-    yield from _grow(part, n, _checked(n, bounds), max_rings)
+    yield from _grow(part, n, _checked(n, bounds), max_rings, tuple(cycles))
 
 
-def _grow(part: PartialGraph, n: int, bounds: list[int], max_rings: int) -> Iterator[Skeleton]:
+def _grow(part: PartialGraph, n: int, bounds: list[int], max_rings: int, cycles: tuple[int, ...]) -> Iterator[Skeleton]:
     k, adj, _ = part
     if k == n:
         yield Skeleton(n, tuple(sorted((a, b) for a in range(n) for b in adj[a] if a < b)))
         return
-    for child in children(part, bounds, max_rings):
-        yield from _grow(child, n, bounds, max_rings)
+    for child in children(part, bounds, max_rings, cycles=cycles):
+        yield from _grow(child, n, bounds, max_rings, cycles)
 
 
-def children(part: PartialGraph, bounds: Sequence[int], max_rings: int) -> Iterator[PartialGraph]:
-    """The accepted children of a partial graph, one per isomorphism class."""
+def children(
+    part: PartialGraph, bounds: Sequence[int], max_rings: int, *, cycles: Sequence[int] = ()
+) -> Iterator[PartialGraph]:
+    """The accepted children of a partial graph, one per isomorphism class; a child that spends
+    the last of the ring budget without every wanted cycle (``cycles``) is not one: every vertex
+    added below it is a leaf, which closes no cycle."""
     k, adj_t, rings = part
     adj = [list(nb) for nb in adj_t]
     top = bounds[0]
@@ -137,12 +172,14 @@ def children(part: PartialGraph, bounds: Sequence[int], max_rings: int) -> Itera
             child.append(list(subset))
             if size > 1 and any(len(nb) == 1 for nb in child):
                 continue  # a leaf (never a cut vertex) has a smaller degree than the new vertex
+            if cycles and size > 1 and rings + size - 1 == max_rings and not has_cycles(child, cycles):
+                continue
             # a new leaf: the deletion candidates are the leaves, which are never cut vertices,
             # so the articulation points are not needed
             cut = _cut_vertices(child) if size > 1 else set()
             if not _accept(child, k, cut):
                 continue
-            graph = _nauty(k + 1, child)
+            graph = nauty_graph(k + 1, child)
             if not _canonical_deletion_ok(child, k, graph, cut):
                 continue
             # accepted children of one parent are isomorphic only when their sets S lie in
@@ -152,6 +189,59 @@ def children(part: PartialGraph, bounds: Sequence[int], max_rings: int) -> Itera
                 continue
             seen.add(cert)
             yield PartialGraph(k + 1, tuple(tuple(nb) for nb in child), rings + size - 1)
+
+
+def has_cycles(adj: list[list[int]], lengths: Sequence[int]) -> bool:
+    """Whether the graph contains a simple cycle of each length in ``lengths``."""
+    n = len(adj)
+    # cycles lie in the 2-core: strip the leaves first
+    degree = [len(nb) for nb in adj]
+    alive = [True] * n
+    leaves = [v for v in range(n) if degree[v] <= 1]
+    while leaves:
+        v = leaves.pop()
+        if not alive[v]:
+            continue
+        alive[v] = False
+        for w in adj[v]:
+            if alive[w]:
+                degree[w] -= 1
+                if degree[w] == 1:
+                    leaves.append(w)
+    core = [v for v in range(n) if alive[v]]
+    return all(_has_cycle(adj, core, alive, length) for length in set(lengths))
+
+
+def _has_cycle(adj: list[list[int]], core: list[int], alive: list[bool], length: int) -> bool:
+    """A simple cycle of ``length`` vertices through core vertices, found from its lowest vertex."""
+    if length < 3 or len(core) < length:
+        return False
+    on_path = [False] * len(adj)
+
+    def extend(start: int, v: int, steps: int) -> bool:
+        for w in adj[v]:
+            if not alive[w] or w < start:
+                continue
+            if w == start:
+                if steps == length:
+                    return True
+                continue
+            if on_path[w] or steps == length:
+                continue
+            on_path[w] = True
+            found = extend(start, w, steps + 1)
+            on_path[w] = False
+            if found:
+                return True
+        return False
+
+    for start in core:
+        on_path[start] = True
+        found = extend(start, start, 1)
+        on_path[start] = False
+        if found:
+            return True
+    return False
 
 
 def _cut_vertices(adj: list[list[int]]) -> set[int]:
@@ -218,8 +308,8 @@ def _canonical_deletion_ok(adj: list[list[int]], v: int, graph: pynauty.Graph, c
 def automorphisms(n: int, edges: Sequence[tuple[int, int]], *, limit: int = 5000) -> list[tuple[int, ...]] | None:
     """All automorphisms of the skeleton as vertex permutations, or None if there are more than
     ``limit`` (callers then fall back to canonical certificates)."""
-    adj = _adjacency(n, edges)
-    generators, order, _, _, _ = pynauty.autgrp(_nauty(n, adj)) if edges else ([], float(_factorial(n)), 0, [], 0)
+    adj = adjacency_lists(n, edges)
+    generators, order, _, _, _ = pynauty.autgrp(nauty_graph(n, adj)) if edges else ([], float(_factorial(n)), 0, [], 0)
     if order > limit:
         return None
     identity = tuple(range(n))

@@ -76,7 +76,7 @@ def selection_plans(formula: Formula, options: GeneratorOptions) -> tuple[list[P
 def generation_tasks(plans: list[Plan]) -> Iterator[GenerationTask]:
     """The generation tree cut at TASK_DEPTH, in tree order."""
     for plan in plans:
-        for part in frontier(plan.n, plan.bounds, plan.rings_max, depth=TASK_DEPTH):
+        for part in frontier(plan.n, plan.bounds, plan.rings_max, depth=TASK_DEPTH, cycles=plan.cycles):
             yield GenerationTask(plan, part)
 
 
@@ -92,7 +92,7 @@ def task_structures(task: GenerationTask, prefilter: SkeletonPatterns = ()) -> I
                 yield alone
         return
     test = SkeletonTest(prefilter, plan.labels) if prefilter else None  # once per task, reused per skeleton
-    for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max):
+    for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max, cycles=plan.cycles):
         yield from structures_on_skeleton(
             size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test, counts=plan.count_test
         )
