@@ -8,9 +8,10 @@ processes. Prints figures side by side in one run; asserts nothing.
    candidate scored in full, on N local workers: seconds, candidates settled per second, what
    each pass settled, and whether the shortlists are identical.
 2. Dask: the same case on a 2-worker LocalCluster of processes against ``--workers 2``: the
-   same output or not, the per-partition (generation task) timings, and from them an estimate
-   of the generation time on 64 workers (the longest partition bounds it from below; the total
-   over 64 bounds it from above when partitions are spread evenly).
+   same output or not, the per-partition (generation task) timings with the fixed cut and with
+   the partition balanced for 64 workers, and from them the generation time on 64 workers
+   (at least the longest partition and the total over 64; at most their sum, the
+   list-scheduling bound).
 """
 
 from __future__ import annotations
@@ -23,6 +24,7 @@ from elucidate import load_case
 from elucidate.evidence import TECHNIQUES
 from elucidate.formula import parse_formula
 from elucidate.generator import GeneratorOptions
+from elucidate.generator.estimate import balanced_tasks
 from elucidate.generator.tasks import WorkerJob, generation_tasks, run_job, selection_plans
 from elucidate.solver import hard_selection, solve
 
@@ -72,29 +74,32 @@ def dask_figures(case_path: Path) -> None:
     local_s = time.perf_counter() - t0
     same = [c.as_dict() for c in on_dask.candidates] == [c.as_dict() for c in local.candidates]
     print(f"dask LocalCluster (2 processes) {dask_s:.1f} s against --workers 2 {local_s:.1f} s; same output: {same}")
-    # per-partition timings of generation, measured one by one in this process
+    # per-partition timings of generation, measured one by one in this process: the fixed cut
+    # at TASK_DEPTH, and the partition balanced for 64 workers
     selection = hard_selection(case, [cls() for cls in TECHNIQUES])
-    times = []
-    for kept in on_dask.formulas:
-        if kept.skipped:
-            continue
-        plans, _ = selection_plans(parse_formula(str(kept.formula)), GeneratorOptions(selection=selection))
-        for task in generation_tasks(plans):
-            t0 = time.perf_counter()
-            run_job(WorkerJob(task, False, selection))
-            times.append(time.perf_counter() - t0)
-    if not times:
-        return
-    total = sum(times)
-    times.sort(reverse=True)
-    print(
-        f"generation partitions: {len(times)}, total {total:.2f} s, longest {times[0]:.3f} s, "
-        f"median {times[len(times) // 2] * 1e3:.1f} ms"
-    )
-    print(
-        f"estimate on 64 workers: generation between {max(times[0], total / 64):.2f} s and "
-        f"{total / 64 + times[0]:.2f} s (list scheduling bound), against {total:.2f} s on one"
-    )
+    for label, workers in (("fixed cut", None), ("balanced for 64", 64)):
+        times = []
+        for kept in on_dask.formulas:
+            if kept.skipped:
+                continue
+            options = GeneratorOptions(selection=selection)
+            plans, prefilter = selection_plans(parse_formula(str(kept.formula)), options)
+            tasks = list(generation_tasks(plans))
+            if workers is not None:
+                tasks = balanced_tasks(tasks, prefilter, workers=workers)
+            for task in tasks:
+                t0 = time.perf_counter()
+                run_job(WorkerJob(task, False, selection))
+                times.append(time.perf_counter() - t0)
+        if not times:
+            return
+        total = sum(times)
+        times.sort(reverse=True)
+        print(
+            f"generation partitions ({label}): {len(times)}, total {total:.2f} s, longest {times[0]:.3f} s, "
+            f"median {times[len(times) // 2] * 1e3:.1f} ms; on 64 workers between "
+            f"{max(times[0], total / 64):.2f} s and {total / 64 + times[0]:.2f} s (list scheduling bound)"
+        )
 
 
 def main() -> None:

@@ -369,3 +369,19 @@ def test_required_ring_pruned_in_growth_equals_filtering(formula: str, max_rings
         parse_formula(formula), GeneratorOptions(max_rings=max_rings, selection=Selection(require=("aromatic_ring",)))
     )
     assert sorted(pushed) == filtered and filtered
+
+
+@pytest.mark.parametrize("formula", ["C7H14O", "C8H10", "C6H11NO"])
+def test_balanced_partition_splits_large_subtrees_and_keeps_the_output(formula: str) -> None:
+    # splitting tasks into their subtrees for many workers changes neither the structures nor
+    # their order (self-consistency with the unsplit tree)
+    from elucidate.generator.estimate import balanced_tasks
+    from elucidate.generator.tasks import generation_tasks, selection_plans, task_structures
+
+    plans, prefilter = selection_plans(parse_formula(formula), GeneratorOptions())
+    plain = list(generation_tasks(plans))
+    split = balanced_tasks(generation_tasks(plans), prefilter, workers=64)
+    assert len(split) > len(plain)
+    assert split == balanced_tasks(generation_tasks(plans), prefilter, workers=64)  # the same every run
+    whole = [s for task in plain for s in task_structures(task)]
+    assert [s for task in split for s in task_structures(task)] == whole
