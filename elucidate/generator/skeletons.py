@@ -95,9 +95,10 @@ def skeletons(n: int, bounds: Sequence[int], max_rings: int, *, cycles: Sequence
     """Yield every connected simple graph on ``n`` vertices once.
 
     ``bounds``: the largest allowed degrees (one per vertex, any order). ``max_rings``: the
-    largest cyclomatic number (edges - vertices + 1). ``cycles``: lengths of simple cycles every
-    skeleton must contain (a required ring): a partial graph whose ring budget is spent has all
-    its cycles, so one lacking a wanted cycle is pruned with its subtree.
+    largest cyclomatic number (edges - vertices + 1). ``cycles``: lengths of simple cycles the
+    caller wants (a required ring), a pruning aid: a partial graph whose ring budget is spent has
+    all its cycles, so one lacking a wanted cycle is pruned with its subtree; a skeleton with
+    fewer rings than the budget may still lack them, so the caller tests finished skeletons.
     """
     for part in frontier(n, bounds, max_rings, depth=n, cycles=cycles):
         yield from grow(part, n, bounds, max_rings, cycles=cycles)
