@@ -83,10 +83,10 @@ def dask_figures(case_path: Path) -> None:
             if kept.skipped:
                 continue
             options = GeneratorOptions(selection=selection)
-            plans, prefilter = selection_plans(parse_formula(str(kept.formula)), options)
+            plans, _ = selection_plans(parse_formula(str(kept.formula)), options)
             tasks = list(generation_tasks(plans))
             if workers is not None:
-                tasks = balanced_tasks(tasks, prefilter, workers=workers)
+                tasks = balanced_tasks(tasks, workers=workers)
             for task in tasks:
                 t0 = time.perf_counter()
                 run_job(WorkerJob(task, False, selection))

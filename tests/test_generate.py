@@ -378,10 +378,10 @@ def test_balanced_partition_splits_large_subtrees_and_keeps_the_output(formula: 
     from elucidate.generator.estimate import balanced_tasks
     from elucidate.generator.tasks import generation_tasks, selection_plans, task_structures
 
-    plans, prefilter = selection_plans(parse_formula(formula), GeneratorOptions())
+    plans, _ = selection_plans(parse_formula(formula), GeneratorOptions())
     plain = list(generation_tasks(plans))
-    split = balanced_tasks(generation_tasks(plans), prefilter, workers=64)
+    split = balanced_tasks(generation_tasks(plans), workers=64)
     assert len(split) > len(plain)
-    assert split == balanced_tasks(generation_tasks(plans), prefilter, workers=64)  # the same every run
+    assert split == balanced_tasks(generation_tasks(plans), workers=64)  # the same every run
     whole = [s for task in plain for s in task_structures(task)]
     assert [s for task in split for s in task_structures(task)] == whole

@@ -14,10 +14,8 @@ from .tasks import GenerationTask, selection_plans, task_structures
 
 __all__ = ["balanced_tasks", "estimate_structures", "estimate_task"]
 
-#: Knuth probes per task when balancing the partition
-BALANCE_PROBES = 8
-#: partitions per worker the balancing aims at (so no worker idles at the end)
-PARTS_PER_WORKER = 4
+#: partitions per worker the generation tree is cut into, at least (so no worker idles at the end)
+PARTS_PER_WORKER = 16
 
 
 def estimate_structures(
@@ -60,28 +58,24 @@ def estimate_task(task: GenerationTask, prefilter: SkeletonPatterns, *, probes: 
     return estimate / probes
 
 
-def balanced_tasks(
-    tasks: Iterable[GenerationTask], prefilter: SkeletonPatterns, *, workers: int, seed: int = 0
-) -> list[GenerationTask]:
-    """The tasks with the large ones split into their subtrees, in tree order, so that each
-    holds at most about 1/(PARTS_PER_WORKER x workers) of the estimated total and no worker is
-    left with one long partition at the end. Splitting a task into its children in order keeps
-    the concatenated output, and its order, exactly the same. The estimates use a fixed seed,
-    so the partition is the same on every run."""
-    rng = random.Random(seed)
-    sized = [(task, estimate_task(task, prefilter, probes=BALANCE_PROBES, rng=rng)) for task in tasks]
-    total = sum(size for _, size in sized)
-    budget = total / (PARTS_PER_WORKER * workers) if total else 0.0
-    out: list[GenerationTask] = []
-    stack = list(reversed(sized))
-    while stack:
-        task, size = stack.pop()
-        if budget and size > budget and task.part.size < task.plan.n - 1:
-            below = [GenerationTask(task.plan, child) for child in _children_of(task.part, task.plan)]
-            sizes = [estimate_task(child, prefilter, probes=BALANCE_PROBES, rng=rng) for child in below]
-            stack.extend(reversed(list(zip(below, sizes, strict=True))))
-            continue
-        out.append(task)
+def balanced_tasks(tasks: Iterable[GenerationTask], *, workers: int) -> list[GenerationTask]:
+    """The tasks cut one tree level deeper, all of them, until there are at least
+    PARTS_PER_WORKER per worker (or nothing is left to cut): many small partitions, so no
+    worker is left with one long one at the end. Cutting a task into its children in order
+    keeps the concatenated output, and its order, exactly the same, and the cut depends only on
+    the worker count. (Splitting by Knuth estimates instead cost as much as the generation
+    itself and missed the heavy subtrees: docs/solver.md.)"""
+    out = list(tasks)
+    while len(out) < PARTS_PER_WORKER * workers:
+        deeper: list[GenerationTask] = []
+        for task in out:
+            if task.part.size < task.plan.n - 1:
+                deeper += [GenerationTask(task.plan, child) for child in _children_of(task.part, task.plan)]
+            else:
+                deeper.append(task)
+        if len(deeper) == len(out):
+            break
+        out = deeper
     return out
 
 

@@ -84,9 +84,9 @@ def isomer_smiles(
     With ``options.workers`` > 1, or a ``runner`` (:mod:`elucidate.parallel`, a Dask cluster:
     :mod:`elucidate.cluster`), the generation tree is cut into subtrees (:mod:`.tasks`) that
     workers grow independently; results are read in task order, so the output, and its order,
-    is the same for any number of workers and wherever they run. Subtrees estimated to be large
-    are split further (:func:`~.estimate.balanced_tasks`) so that no worker is left with one
-    long partition at the end.
+    is the same for any number of workers and wherever they run. For many workers the tree is
+    cut deeper (:func:`~.estimate.balanced_tasks`) so that no worker is left with one long
+    partition at the end.
     """
     if not formula.counts:
         raise ElucidateError("empty formula")
@@ -101,7 +101,7 @@ def isomer_smiles(
             yield from task_smiles(task, options.kekule, compiled, counts, prefilter)
         return
     with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
-        tasks = balanced_tasks(generation_tasks(plans), prefilter, workers=work.workers)
+        tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
         jobs = (WorkerJob(task, options.kekule, options.selection) for task in tasks)
         for smiles, rem in work.map(run_job, jobs):
             for label, n in rem.items():
