@@ -24,8 +24,7 @@ from elucidate import load_case
 from elucidate.evidence import TECHNIQUES
 from elucidate.formula import parse_formula
 from elucidate.generator import GeneratorOptions
-from elucidate.generator.estimate import balanced_tasks
-from elucidate.generator.tasks import WorkerJob, generation_tasks, run_job, selection_plans
+from elucidate.generator.tasks import WorkerJob, balanced_tasks, generation_tasks, run_job, selection_plans
 from elucidate.solver import hard_selection, solve
 
 ROOT = Path(__file__).resolve().parent.parent

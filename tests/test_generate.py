@@ -375,8 +375,7 @@ def test_required_ring_pruned_in_growth_equals_filtering(formula: str, max_rings
 def test_balanced_partition_splits_large_subtrees_and_keeps_the_output(formula: str) -> None:
     # splitting tasks into their subtrees for many workers changes neither the structures nor
     # their order (self-consistency with the unsplit tree)
-    from elucidate.generator.estimate import balanced_tasks
-    from elucidate.generator.tasks import generation_tasks, selection_plans, task_structures
+    from elucidate.generator.tasks import balanced_tasks, generation_tasks, selection_plans, task_structures
 
     plans, _ = selection_plans(parse_formula(formula), GeneratorOptions())
     plain = list(generation_tasks(plans))

@@ -4,19 +4,15 @@ from __future__ import annotations
 
 import math
 import random
-from collections.abc import Iterable, Iterator
 
 from ..formula import Formula
 from .options import GeneratorOptions
-from .plans import Plan
 from .selection import SkeletonPatterns
-from .skeletons import PartialGraph, children, root_graph
-from .tasks import GenerationTask, selection_plans, task_structures
+from .skeletons import root_graph
+from .tasks import GenerationTask, plan_children, selection_plans, task_structures
 
-__all__ = ["balanced_tasks", "estimate_structures", "estimate_task"]
+__all__ = ["estimate_structures", "estimate_task"]
 
-#: partitions per worker the generation tree is cut into, at least (so no worker idles at the end)
-PARTS_PER_WORKER = 16
 #: batches of walks the estimate may take at most (the first batch always)
 MAX_BATCHES = 16
 #: further batches are walked while the estimate's standard error is above this share of it
@@ -73,34 +69,9 @@ def _walk(task: GenerationTask, prefilter: SkeletonPatterns, rng: random.Random)
     weight = 1.0
     part = task.part
     while part.size < plan.n:
-        below = list(_children_of(part, plan))
+        below = list(plan_children(part, plan))
         if not below:
             return 0.0
         weight *= len(below)
         part = below[rng.randrange(len(below))]
     return weight * sum(1 for _ in task_structures(GenerationTask(plan, part), prefilter))
-
-
-def balanced_tasks(tasks: Iterable[GenerationTask], *, workers: int) -> list[GenerationTask]:
-    """The tasks cut one tree level deeper, all of them, until there are at least
-    PARTS_PER_WORKER per worker (or nothing is left to cut): many small partitions, so no
-    worker is left with one long one at the end. Cutting a task into its children in order
-    keeps the concatenated output, and its order, exactly the same, and the cut depends only on
-    the worker count. (Splitting by Knuth estimates instead cost as much as the generation
-    itself and missed the heavy subtrees: docs/solver.md.)"""
-    out = list(tasks)
-    while len(out) < PARTS_PER_WORKER * workers:
-        deeper: list[GenerationTask] = []
-        for task in out:
-            if task.part.size < task.plan.n - 1:
-                deeper += [GenerationTask(task.plan, child) for child in _children_of(task.part, task.plan)]
-            else:
-                deeper.append(task)
-        if len(deeper) == len(out):
-            break
-        out = deeper
-    return out
-
-
-def _children_of(part: PartialGraph, plan: Plan) -> Iterator[PartialGraph]:
-    return children(part, sorted(plan.bounds, reverse=True), plan.rings_max, cycles=plan.cycles)

@@ -30,11 +30,11 @@ from contextlib import nullcontext
 from ..errors import ElucidateError
 from ..formula import Formula
 from ..parallel import Runner, local_runner
-from .estimate import balanced_tasks
 from .labelling import Structure
 from .options import GeneratorOptions
 from .tasks import (
     WorkerJob,
+    balanced_tasks,
     compiled_selection,
     generation_tasks,
     run_job,
@@ -85,7 +85,7 @@ def isomer_smiles(
     :mod:`elucidate.cluster`), the generation tree is cut into subtrees (:mod:`.tasks`) that
     workers grow independently; results are read in task order, so the output, and its order,
     is the same for any number of workers and wherever they run. For many workers the tree is
-    cut deeper (:func:`~.estimate.balanced_tasks`) so that no worker is left with one long
+    cut deeper (:func:`~.tasks.balanced_tasks`) so that no worker is left with one long
     partition at the end.
     """
     if not formula.counts:

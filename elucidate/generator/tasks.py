@@ -8,7 +8,7 @@ many there are.
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -18,18 +18,21 @@ from .labelling import SkeletonPatterns, SkeletonTest, Structure, allowed_alone,
 from .options import GeneratorOptions
 from .plans import Plan, valence_plans
 from .selection import CompiledSelection, Selection
-from .skeletons import PartialGraph, frontier, grow
+from .skeletons import PartialGraph, children, frontier, grow
 from .smiles import sanitized
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
 __all__ = [
+    "PARTS_PER_WORKER",
     "TASK_DEPTH",
     "GenerationTask",
     "WorkerJob",
+    "balanced_tasks",
     "compiled_selection",
     "generation_tasks",
+    "plan_children",
     "run_job",
     "selection_plans",
     "task_smiles",
@@ -38,6 +41,8 @@ __all__ = [
 
 #: partial-graph size at which the generation tree is cut into independent tasks
 TASK_DEPTH = 6
+#: partitions per worker the generation tree is cut into, at least (so no worker idles at the end)
+PARTS_PER_WORKER = 16
 
 
 @dataclass(frozen=True)
@@ -78,6 +83,32 @@ def generation_tasks(plans: list[Plan]) -> Iterator[GenerationTask]:
     for plan in plans:
         for part in frontier(plan.n, plan.bounds, plan.rings_max, depth=TASK_DEPTH, cycles=plan.cycles):
             yield GenerationTask(plan, part)
+
+
+def balanced_tasks(tasks: Iterable[GenerationTask], *, workers: int) -> list[GenerationTask]:
+    """The tasks cut one tree level deeper, all of them, until there are at least
+    PARTS_PER_WORKER per worker (or nothing is left to cut): many small partitions, so no
+    worker is left with one long one at the end. Cutting a task into its children in order
+    keeps the concatenated output, and its order, exactly the same, and the cut depends only on
+    the worker count. (Splitting by Knuth estimates instead cost as much as the generation
+    itself and missed the heavy subtrees: docs/solver.md.)"""
+    out = list(tasks)
+    while len(out) < PARTS_PER_WORKER * workers:
+        deeper: list[GenerationTask] = []
+        for task in out:
+            if task.part.size < task.plan.n - 1:
+                deeper += [GenerationTask(task.plan, child) for child in plan_children(task.part, task.plan)]
+            else:
+                deeper.append(task)
+        if len(deeper) == len(out):
+            break
+        out = deeper
+    return out
+
+
+def plan_children(part: PartialGraph, plan: Plan) -> Iterator[PartialGraph]:
+    """The children of a partial graph in the plan's generation tree, in tree order."""
+    return children(part, sorted(plan.bounds, reverse=True), plan.rings_max, cycles=plan.cycles)
 
 
 def task_structures(task: GenerationTask, prefilter: SkeletonPatterns = ()) -> Iterator[Structure]:
