@@ -110,8 +110,10 @@ def build_parser() -> argparse.ArgumentParser:
         help="every constitutional isomer of a formula, as canonical SMILES",
         formatter_class=argparse.RawDescriptionHelpFormatter,
         description=(
-            "Stream the canonical SMILES (RDKit) of every constitutional isomer of FORMULA, each once,\n"
-            "one per line. Constitution only: stereoisomers are not distinguished.\n\n"
+            "Stream a canonical SMILES of every constitutional isomer of FORMULA, each once, one per\n"
+            "line. Constitution only: stereoisomers are not distinguished. A structure that cannot be\n"
+            "aromatic is written from its skeleton (the same molecule is written the same way in every\n"
+            "run); the others, and every one with --rdkit-smiles, as RDKit's canonical SMILES.\n\n"
             "Valence states on by default: C, Si 4; N 3, and 5 as nitro / N-oxide written\n"
             "charge-separated ([N+][O-]); P 3, and 5 with P=O or P=S; O 2; S 2, and 4 / 6 with S=O\n"
             "(sulfoxides, sulfones, sulfinic and sulfonic groups; no H on such S); H and halogens 1.\n"
@@ -126,6 +128,9 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--count", action="store_true", help="print only the number of isomers")
     g.add_argument("--json", action="store_true", help="print a JSON object with the formula, count and SMILES list")
     g.add_argument("--kekule", action="store_true", help="count and write every Kekule multigraph separately")
+    g.add_argument(
+        "--rdkit-smiles", action="store_true", help="write every isomer as RDKit's canonical SMILES (slower)"
+    )
     g.add_argument("--no-rings", action="store_true", help="acyclic isomers only")
     g.add_argument("--max-rings", type=int, metavar="N", help="at most N rings (cyclomatic number)")
     g.add_argument(
@@ -473,6 +478,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         lowest_valence=args.lowest_valence,
         selection=selection,
         workers=args.workers,
+        rdkit_smiles=args.rdkit_smiles,
     )
     estimate = estimate_structures(formula, options)
     if estimate > args.limit:

@@ -100,7 +100,9 @@ def _reference(formula, spec):
     limit = spec.get("max_ring_size")
     rules = default_profiles()[spec["profile"]] if "profile" in spec else ()
     kept = []
-    for smiles in isomer_smiles(parse_formula(formula)):
+    # RDKit's SMILES throughout, as the constrained run writes them (a finished-molecule test
+    # needs the RDKit molecule anyway)
+    for smiles in isomer_smiles(parse_formula(formula), GeneratorOptions(rdkit_smiles=True)):
         mol = Chem.MolFromSmiles(smiles)
         if not all(mol.HasSubstructMatch(p) for p in require):
             continue

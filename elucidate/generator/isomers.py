@@ -98,11 +98,11 @@ def isomer_smiles(
             counts.setdefault(label, 0)
     if runner is None and options.workers == 1:
         for task in generation_tasks(plans):
-            yield from task_smiles(task, options.kekule, compiled, counts, prefilter)
+            yield from task_smiles(task, options.kekule, compiled, counts, prefilter, rdkit_smiles=options.rdkit_smiles)
         return
     with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
         tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
-        jobs = (WorkerJob(task, options.kekule, options.selection) for task in tasks)
+        jobs = (WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles) for task in tasks)
         for smiles, rem in work.map(run_job, jobs):
             for label, n in rem.items():
                 counts[label] = counts.get(label, 0) + n

@@ -86,6 +86,8 @@ def structures_on_skeleton(
             perms.append((tuple(inv), tuple(einv)))
     seen: set[tuple[tuple[int, ...], tuple[int, ...]]] | None = set() if group is None else None
     is_carbon = [sym == "C" for sym, _ in labels]
+    heads = [a for a, _ in edges]
+    tails = [b for _, b in edges]
     for colouring in _colourings(n, degree, valence, list(per_label)):
         capacity = [valence[colouring[i]] - degree[i] for i in range(n)]
         if sum(capacity) < 2 * extra_total:
@@ -95,8 +97,9 @@ def structures_on_skeleton(
         stabilizer: list[tuple[int, ...]] = []
         if perms:
             canonical = True
+            pick = colouring.__getitem__
             for vertex_inverse, edge_inverse in perms:
-                image = tuple(colouring[vertex_inverse[j]] for j in range(n))
+                image = tuple(map(pick, vertex_inverse))
                 if image < colouring:
                     canonical = False
                     break
@@ -109,22 +112,24 @@ def structures_on_skeleton(
         need = None
         if counts is not None and counts.types is not None:
             need = ([i for i in range(n) if is_carbon[colouring[i]]], counts.types)
+        # per labelling: the elements, valence states and whether an oxo state needs checking
+        elements = tuple(labels[c][0] for c in colouring)
+        valences = tuple(valence[c] for c in colouring)
+        oxo = any(special[c] for c in colouring)
         for orders in _multiplicities(edges, capacity, extra_total, max_extra, need):
-            if stabilizer and any(tuple(orders[e] for e in einv) < orders for einv in stabilizer):
+            if stabilizer and any(tuple(map(orders.__getitem__, einv)) < orders for einv in stabilizer):
                 continue
             used = [0] * n
             for (a, b), o in zip(edges, orders, strict=True):
                 used[a] += o
                 used[b] += o
-            if any(special[c] for c in colouring) and not _oxo_ok(
-                n, edges, orders, colouring, labels, degree, used, oxo_states
-            ):
+            if oxo and not _oxo_ok(n, edges, orders, colouring, labels, degree, used, oxo_states):
                 continue
             built = Structure(
-                tuple(labels[c][0] for c in colouring),
-                tuple((a, b, o) for (a, b), o in zip(edges, orders, strict=True)),
-                tuple(valence[colouring[i]] - used[i] for i in range(n)),
-                tuple(valence[c] for c in colouring),
+                elements,
+                tuple(zip(heads, tails, orders, strict=True)),
+                tuple(v - u for v, u in zip(valences, used, strict=True)),
+                valences,
             )
             if counts is not None and not counts.structure_ok(built):
                 continue  # pure Python: before the RDKit test below
@@ -219,22 +224,28 @@ class SkeletonTest:
         return all(mol.HasSubstructMatch(kekule) for _, _, kekule in self.patterns if kekule is not None)
 
 
-def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> Iterator[tuple[int, ...]]:
+def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> list[tuple[int, ...]]:
+    """Every assignment of the labels (``counts`` of each) to the vertices that covers each
+    vertex's degree, in lexicographic order (collected in a list: a chain of nested generators
+    costs more than the list)."""
     current = [0] * n
     remaining = counts[:]
+    out: list[tuple[int, ...]] = []
+    labels = range(len(remaining))
 
-    def place(i: int) -> Iterator[tuple[int, ...]]:
+    def place(i: int) -> None:
         if i == n:
-            yield tuple(current)
+            out.append(tuple(current))
             return
-        for c, left in enumerate(remaining):
-            if left and valence[c] >= degree[i]:
+        for c in labels:
+            if remaining[c] and valence[c] >= degree[i]:
                 remaining[c] -= 1
                 current[i] = c
-                yield from place(i + 1)
+                place(i + 1)
                 remaining[c] += 1
 
-    yield from place(0)
+    place(0)
+    return out
 
 
 def _multiplicities(
@@ -243,8 +254,9 @@ def _multiplicities(
     extra: int,
     max_extra: int,
     carbon_types: tuple[list[int], tuple[int, int, int, int]] | None = None,
-) -> Iterator[tuple[int, ...]]:
-    """Bond orders (1 to 1 + max_extra) per edge using exactly ``extra`` orders above single.
+) -> list[tuple[int, ...]]:
+    """Bond orders (1 to 1 + max_extra) per edge using exactly ``extra`` orders above single, in
+    the order of the search (collected in a list, cheaper than nested generators).
     ``carbon_types``: (the carbon vertices, carbons wanted with 3, 2, 1, 0 H); once a carbon's
     last edge is placed its H count is final, and a placement that gives more carbons of one H
     count than wanted is cut (hereditary: later edges never change a finished carbon)."""
@@ -281,14 +293,16 @@ def _multiplicities(
         for slot in taken:
             room[slot] += 1
 
-    def place(i: int, left: int) -> Iterator[tuple[int, ...]]:
+    out: list[tuple[int, ...]] = []
+
+    def place(i: int, left: int) -> None:
         if left == 0:
             # every edge from i on stays single: the carbons they close are finished now
             taken: list[int] = []
             ok = not track or all(claim(closing[j], taken) for j in range(i, m))
             release(taken)
             if ok:
-                yield tuple(orders)
+                out.append(tuple(orders))
             return
         if i == m:
             return
@@ -303,14 +317,15 @@ def _multiplicities(
                 orders[i] = 1 + x
             done: list[int] = []
             if not track or claim(closing[i], done):
-                yield from place(i + 1, left - x)
+                place(i + 1, left - x)
             release(done)
             if x:
                 free[a] += x
                 free[b] += x
                 orders[i] = 1
 
-    yield from place(0, extra)
+    place(0, extra)
+    return out
 
 
 def _certificate(

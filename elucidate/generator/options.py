@@ -22,6 +22,9 @@ class GeneratorOptions:
     bonds. ``lowest_valence``: every element at its lowest valence only (N 3, P 3, S 2).
     ``selection``: hard constraints the isomers must pass. ``workers``: processes (the output
     does not depend on it). ``table``: the element table (default: the shipped one).
+    ``rdkit_smiles``: every isomer written as RDKit's canonical SMILES; by default a SMILES
+    written from the skeleton (:mod:`.writer`, canonical within elucidate) is used for every
+    structure that cannot be aromatic, and RDKit's for the rest.
     """
 
     kekule: bool = False
@@ -31,6 +34,7 @@ class GeneratorOptions:
     selection: Selection | None = None
     workers: int = WORKERS
     table: ElementTable | None = None
+    rdkit_smiles: bool = False
 
     def __post_init__(self) -> None:
         if self.max_bond_order not in (1, 2, 3):

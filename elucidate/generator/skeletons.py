@@ -6,10 +6,11 @@ produced exactly once, up to isomorphism.
 
 Method. A graph H is grown from its parent G = H - v by adding the vertex v joined to a set S.
 The canonical parent of H is H - m(H), where m(H) is the non-cut vertex of H of smallest degree,
-ties broken by the largest position in nauty's canonical labelling (an isomorphism invariant
-choice, up to automorphism). A child is accepted only if the added vertex lies in the same
-automorphism orbit of H as m(H); accepted children of the same parent that are isomorphic
-(their sets S lie in one orbit of Aut(G)) are merged by their nauty certificate, after the test.
+ties broken first by the largest neighbourhood-degree invariant and then by the largest position
+in nauty's canonical labelling (an isomorphism invariant choice, up to automorphism). A child is
+accepted only if the added vertex lies in the same automorphism orbit of H as m(H); accepted
+children of the same parent that are isomorphic (their sets S lie in one orbit of Aut(G)) are
+merged by their nauty certificate, after the test, when Aut(G) is not trivial.
 McKay's theorem gives exactly one acceptance per isomorphism class. The constraints are
 hereditary (deleting a vertex never raises a degree, never raises the cyclomatic number, keeps a
 dominated degree sequence dominated, and a non-cut vertex keeps the parent
@@ -78,10 +79,6 @@ def nauty_graph(n: int, adj: list[list[int]]) -> pynauty.Graph:
     graph._adjacency_dict = {i: nb for i, nb in enumerate(adj) if nb}
     graph._vertex_coloring = []
     return graph
-
-
-def _dominated(degrees: list[int], bounds: Sequence[int]) -> bool:
-    return all(d <= b for d, b in zip(sorted(degrees, reverse=True), bounds, strict=False))
 
 
 def _checked(n: int, bounds: Sequence[int]) -> list[int]:
@@ -155,41 +152,74 @@ def children(
     k, adj_t, rings = part
     adj = [list(nb) for nb in adj_t]
     top = bounds[0]
-    seen: set[bytes] = set()
     degrees = [len(nb) for nb in adj]
     open_vertices = [u for u in range(k) if degrees[u] < top]
     max_size = min(top, len(open_vertices), max_rings - rings + 1)
+    leaves = degrees.count(1)
+    # a child with a leaf besides the new vertex has a deletion candidate of smaller degree than
+    # a new vertex of degree 2 or more: only sets holding every leaf of the parent can be taken
+    if max_size > 1 and leaves > max_size:
+        max_size = 1
+    # degree-sequence domination depends only on the degrees of the chosen vertices: decided
+    # once per multiset (counting form: for every t, at most as many degrees >= t as bounds >= t)
+    room = [sum(1 for b in bounds if b >= t) for t in range(top + 2)]
+    at_least = [sum(1 for d in degrees if d >= t) for t in range(top + 2)]
+    dominated: dict[tuple[int, ...], bool] = {}
+    # isomorphic accepted children come only from sets in one orbit of Aut(parent); with a
+    # trivial group there are none, so certificates are needed only otherwise
+    symmetric = k > 1 and pynauty.autgrp(nauty_graph(k, adj))[1] > 1
+    seen: set[bytes] = set()
     for size in range(1, max_size + 1):
         for subset in combinations(open_vertices, size):
-            new_degrees = degrees[:]
-            for u in subset:
-                new_degrees[u] += 1
-            new_degrees.append(size)
-            if not _dominated(new_degrees, bounds):
+            if size > 1 and leaves and sum(1 for u in subset if degrees[u] == 1) < leaves:
+                continue  # a leaf (never a cut vertex) has a smaller degree than the new vertex
+            key = tuple(sorted(degrees[u] for u in subset))
+            ok = dominated.get(key)
+            if ok is None:
+                ok = dominated[key] = _dominated_after(key, at_least, room, top)
+            if not ok:
                 continue
+            if size == 1:
+                tied = _leaf_ties(adj, degrees, subset[0])
+                if tied is None:
+                    continue
             child = [nb[:] for nb in adj]
             for u in subset:
                 child[u].append(k)
             child.append(list(subset))
-            if size > 1 and any(len(nb) == 1 for nb in child):
-                continue  # a leaf (never a cut vertex) has a smaller degree than the new vertex
             if cycles and size > 1 and rings + size - 1 == max_rings and not has_cycles(child, cycles):
                 continue
-            # a new leaf: the deletion candidates are the leaves, which are never cut vertices,
-            # so the articulation points are not needed
-            cut = _cut_vertices(child) if size > 1 else set()
-            if not _accept(child, k, cut):
-                continue
-            graph = nauty_graph(k + 1, child)
-            if not _canonical_deletion_ok(child, k, graph, cut):
-                continue
-            # accepted children of one parent are isomorphic only when their sets S lie in
-            # one orbit of Aut(parent): keep one of them
-            cert = pynauty.certificate(graph)
-            if cert in seen:
-                continue
-            seen.add(cert)
+            if size == 1:
+                if tied and not _first_in_orbit(child, k, tied):
+                    continue
+            elif any(len(child[u]) <= size for u in range(k)):
+                # (otherwise every other vertex has a larger degree, and the new vertex is never
+                # a cut vertex, the parent being connected: it is the one deletion candidate)
+                cut = _cut_vertices(child)
+                if not _accept(child, k, cut):
+                    continue
+                if not _canonical_deletion_ok(child, k, cut):
+                    continue
+            if symmetric:
+                cert = pynauty.certificate(nauty_graph(k + 1, child))
+                if cert in seen:
+                    continue
+                seen.add(cert)
             yield PartialGraph(k + 1, tuple(tuple(nb) for nb in child), rings + size - 1)
+
+
+def _dominated_after(degrees: tuple[int, ...], at_least: list[int], room: list[int], top: int) -> bool:
+    """Whether the parent's degree sequence, with the vertices of these degrees raised by one
+    and a new vertex of degree ``len(degrees)``, stays dominated by the bounds: for every t, no
+    more degrees >= t than bounds >= t (``at_least`` and ``room``, indexed by t)."""
+    size = len(degrees)
+    if size > top:
+        return False
+    for t in range(1, top + 1):
+        count = at_least[t] + (1 if t <= size else 0) + sum(1 for d in degrees if d == t - 1)
+        if count > room[t]:
+            return False
+    return sum(1 for d in degrees if d == top) == 0
 
 
 def has_cycles(adj: list[list[int]], lengths: Sequence[int]) -> bool:
@@ -289,7 +319,12 @@ def _accept(adj: list[list[int]], v: int, cut: set[int]) -> bool:
     return v not in cut and all(len(nb) >= dv or u in cut for u, nb in enumerate(adj) if u != v)
 
 
-def _canonical_deletion_ok(adj: list[list[int]], v: int, graph: pynauty.Graph, cut: set[int]) -> bool:
+def _canonical_deletion_ok(adj: list[list[int]], v: int, cut: set[int]) -> bool:
+    """Whether the new vertex ``v`` lies in the orbit of m(H): among the non-cut vertices of
+    smallest degree, those with the largest neighbourhood invariant (:func:`_invariant`), and of
+    those the one with the largest position in nauty's canonical labelling. Every step is an
+    isomorphism invariant, so m(H) is defined up to automorphism, as McKay's method needs; the
+    invariant decides most cases without calling nauty."""
     candidates = [u for u in range(len(adj)) if u not in cut]
     low = min(len(adj[u]) for u in candidates)
     candidates = [u for u in candidates if len(adj[u]) == low]
@@ -297,6 +332,45 @@ def _canonical_deletion_ok(adj: list[list[int]], v: int, graph: pynauty.Graph, c
         return False
     if len(candidates) == 1:
         return True
+    score = {u: _invariant(adj, u) for u in candidates}
+    best = max(score.values())
+    if score[v] != best:
+        return False
+    tied = [u for u in candidates if score[u] == best and u != v]
+    return not tied or _first_in_orbit(adj, v, tied)
+
+
+def _leaf_ties(adj: list[list[int]], degrees: list[int], u: int) -> list[int] | None:
+    """For the child that adds a leaf v at ``u``: None when another leaf has a larger invariant
+    (v is not m(H)), else the other leaves whose invariant equals v's (empty: v is m(H)). The
+    same test as :func:`_canonical_deletion_ok`, on the parent's adjacency, without building
+    the child."""
+    k = len(adj)
+
+    def degree(x: int) -> int:
+        return degrees[x] + (x == u) if x < k else 1
+
+    def around(p: int) -> tuple[int, int]:  # the invariant of a leaf hanging on p in the child
+        total = sum(degree(x) for x in adj[p]) + (1 if p == u else 0)
+        return degree(p), total
+
+    mine = around(u)
+    tied = []
+    for w in range(k):
+        if w != u and degrees[w] == 1:
+            theirs = around(adj[w][0])
+            if theirs > mine:
+                return None
+            if theirs == mine:
+                tied.append(w)
+    return tied
+
+
+def _first_in_orbit(adj: list[list[int]], v: int, tied: list[int]) -> bool:
+    """Whether ``v`` is in the orbit of the vertex of ``tied + [v]`` with the largest position in
+    nauty's canonical labelling."""
+    candidates = [*tied, v]
+    graph = nauty_graph(len(adj), adj)
     _, _, _, orbits, _ = pynauty.autgrp(graph)
     if len({orbits[u] for u in candidates}) == 1:
         return True
@@ -304,6 +378,17 @@ def _canonical_deletion_ok(adj: list[list[int]], v: int, graph: pynauty.Graph, c
     position = {u: i for i, u in enumerate(labels)}
     chosen = max(candidates, key=lambda u: position[u])
     return orbits[chosen] == orbits[v]
+
+
+def _invariant(adj: list[list[int]], u: int) -> tuple[int, int]:
+    """The degrees around ``u``: the sum of its neighbours' degrees, and the sum of theirs."""
+    first = 0
+    second = 0
+    for w in adj[u]:
+        first += len(adj[w])
+        for x in adj[w]:
+            second += len(adj[x])
+    return first, second
 
 
 def automorphisms(n: int, edges: Sequence[tuple[int, int]], *, limit: int = 5000) -> list[tuple[int, ...]] | None:

@@ -16,10 +16,11 @@ from ..elements import default_elements
 from ..formula import Formula
 from .labelling import SkeletonPatterns, SkeletonTest, Structure, allowed_alone, structures_on_skeleton
 from .options import GeneratorOptions
-from .plans import Plan, valence_plans
+from .plans import Plan, default_valence_states, valence_plans
 from .selection import CompiledSelection, Selection
 from .skeletons import PartialGraph, children, frontier, grow
 from .smiles import sanitized
+from .writer import Template
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
@@ -60,6 +61,7 @@ class WorkerJob:
     task: GenerationTask
     kekule: bool
     selection: Selection | None
+    rdkit_smiles: bool = False
 
 
 def selection_plans(formula: Formula, options: GeneratorOptions) -> tuple[list[Plan], SkeletonPatterns]:
@@ -135,15 +137,30 @@ def task_smiles(
     compiled: CompiledSelection | None,
     removed: dict[str, int],
     prefilter: SkeletonPatterns = (),
+    *,
+    rdkit_smiles: bool = False,
 ) -> Iterator[str]:
     """SMILES of one task, Kekulé forms merged (unless ``kekule``) and filtered by ``compiled``;
-    ``removed`` counts what each constraint removed."""
+    ``removed`` counts what each constraint removed. Unless ``rdkit_smiles``, a structure that
+    needs no RDKit molecule (no finished-molecule test, no charge-separated atom and, when Kekulé
+    forms are merged, no possible aromatic ring) is written from its skeleton (:mod:`.writer`)."""
     from .._rdkit import Chem, quiet_rdkit
 
     current: tuple[tuple[int, int], ...] | None = None
     seen: set[str] = set()
+    own = not rdkit_smiles and compiled is None
+    states = default_valence_states()
+    charged = {label for label in task.plan.labels if (st := states.get(label)) is not None and st.charge_separated}
+    template: Template | None = None
     with quiet_rdkit():
         for s in task_structures(task, prefilter):
+            if own and not (charged and any(label in charged for label in zip(s.elements, s.valences, strict=True))):
+                edges = tuple((a, b) for a, b, _ in s.bonds)
+                if template is None or template.edges != edges:
+                    template = Template(len(s.elements), edges)
+                if kekule or not template.may_be_aromatic(s.elements, s.hydrogens, s.valences):
+                    yield template.write(s.elements, s.bonds, s.hydrogens)
+                    continue
             mol = sanitized(s, kekule=kekule)
             # a molecule with no aromatic atom has no other Kekulé form: its constraints are
             # tested before its SMILES is written, and it needs no merging
@@ -193,5 +210,9 @@ def run_job(job: WorkerJob) -> tuple[list[str], dict[str, int]]:
     """A worker process's work: the SMILES of one task and what each constraint removed."""
     removed: dict[str, int] = {}
     prefilter = job.selection.skeleton_patterns() if job.selection is not None else ()
-    smiles = list(task_smiles(job.task, job.kekule, compiled_selection(job.selection), removed, prefilter))
+    smiles = list(
+        task_smiles(
+            job.task, job.kekule, compiled_selection(job.selection), removed, prefilter, rdkit_smiles=job.rdkit_smiles
+        )
+    )
     return smiles, removed

@@ -10,10 +10,13 @@ from ..formula import Formula
 from ..generator.groups import GroupTable
 from ..generator.options import GeneratorOptions
 
-__all__ = ["ADVICE_PROBES", "ADVISED_FORMULAS", "group_estimates", "size_advice"]
+__all__ = ["ADVICE_BATCHES", "ADVICE_PROBES", "ADVISED_FORMULAS", "group_estimates", "size_advice"]
 
-#: Knuth walks per group estimate: a quick look, not the estimate the limit is checked with
-ADVICE_PROBES = 8
+#: Knuth walks per batch and batches at most per group estimate: a quick look (at most 64
+#: walks), not the estimate the limit is checked with; a group whose walks all dead-end reads 0
+#: and is not named (aromatic rings in highly unsaturated formulas, often)
+ADVICE_PROBES = 16
+ADVICE_BATCHES = 4
 #: skipped formulas that get per-group advice (the best-fitting ones; each costs about a second)
 ADVISED_FORMULAS = 2
 #: groups named in the advice at most
@@ -65,7 +68,7 @@ def group_estimates(formula: Formula, options: GeneratorOptions, groups: GroupTa
         if name in taken or not could_hold(groups[name].smarts, formula):
             continue
         trial = replace(options, selection=replace(sel, require=(*sel.require, name)))
-        size = estimate_structures(formula, trial, probes=ADVICE_PROBES)
+        size = estimate_structures(formula, trial, probes=ADVICE_PROBES, batches=ADVICE_BATCHES)
         if size > 0:
             out.append((name, size))
     out.sort(key=lambda item: (item[1], item[0]))

@@ -181,7 +181,8 @@ def _solve(
     generated = 0
     found: list[FoundCandidate] = []
     estimate_options = GeneratorOptions(selection=selection)
-    options = GeneratorOptions(selection=selection)
+    # candidates are named by RDKit's canonical SMILES (suspects, ties and reports compare them)
+    options = GeneratorOptions(selection=selection, rdkit_smiles=True)
     advised = 0
     derived = []
     for done, m in enumerate(hypotheses, start=1):
@@ -211,11 +212,10 @@ def _solve(
                 kept.append(KeptFormula(cand.formula, m, cand.score, 0, why, cand.demoted_by, cand.demotion))
                 notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
                 continue
-            estimate = estimate_structures(cand.formula, estimate_options)
-            over = estimate > limit
             # Formulas are worked in order of fit. Once one is skipped for size, a formula fitting
             # worse is not enumerated unless asked: its shortlist could not hold the answer the
-            # skipped formula may hold, and minutes spent on it would mislead.
+            # skipped formula may hold, and minutes spent on it would mislead. (Nor is its size
+            # estimated: the estimate of a large space costs seconds.)
             held = (
                 not worse_formulas
                 and not result.poor_cluster
@@ -223,8 +223,9 @@ def _solve(
                 and fit is not None
                 and fit < (skipped.ranking_score or 0.0) / sc.worse_than_skipped
             )
+            estimate = 0.0 if held else estimate_structures(cand.formula, estimate_options)
+            over = estimate > limit
             if over or held:
-                size = f"about {estimate:,.0f} structures estimated"
                 if over:
                     advice = (
                         size_advice(cand.formula, estimate_options, g, limit)
@@ -232,12 +233,12 @@ def _solve(
                         else "declare groups (infrared.require / forbid) or raise --limit"
                     )
                     advised += 1
-                    why = f"{size}, above the limit {limit:,}: {advice}"
+                    why = f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: {advice}"
                 else:
                     assert skipped is not None
                     why = (
-                        f"{size}; it ranks below {skipped.formula} on the isotope fit, and {skipped.formula} was "
-                        "skipped for size, so its structures alone would mislead (--worse-formulas enumerates it)"
+                        f"it ranks below {skipped.formula} on the isotope fit, and {skipped.formula} was skipped "
+                        "for size, so its structures alone would mislead (--worse-formulas enumerates it)"
                     )
                 kept.append(KeptFormula(cand.formula, m, cand.score, 0, why, cand.demoted_by, cand.demotion))
                 notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
