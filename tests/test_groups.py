@@ -266,3 +266,24 @@ def test_element_needs_are_met_by_every_molecule_with_the_group(group, isomer_co
         for atom in mol.GetAtoms():
             have[atom.GetAtomicNum()] = have.get(atom.GetAtomicNum(), 0) + 1
         assert all(have.get(z, 0) >= n for z, n in need.items()), Chem.MolToSmiles(mol)
+
+
+def test_groups_ruled_out_by_a_formula_never_match_its_molecules(isomer_corpus):
+    # names_for(formula) leaves out the groups whose atoms need elements the formula lacks; the
+    # solver then never tests them, so each left-out group must match no molecule of that
+    # formula (reference positives of every group and the isomer corpus, matched by RDKit)
+    from rdkit.Chem import rdMolDescriptors
+
+    from elucidate import parse_formula
+
+    smiles = [s for positives, _ in CASES.values() for s in positives] + list(isomer_corpus)
+    left_out = 0
+    for text in smiles:
+        mol = Chem.MolFromSmiles(text)
+        formula = parse_formula(rdMolDescriptors.CalcMolFormula(mol))
+        kept = set(GROUPS.names_for(formula))
+        for name in GROUPS.names:
+            if name not in kept:
+                left_out += 1
+                assert not mol.HasSubstructMatch(GROUPS[name].pattern), (name, text)
+    assert left_out > 0

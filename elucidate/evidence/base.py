@@ -60,7 +60,8 @@ def make_subject(
     formula_demotion: float = 0.0,
     demoted_by: str | None = None,
 ) -> Subject:
-    present = frozenset(name for name in groups.names if mol.HasSubstructMatch(groups[name].pattern))
+    # groups whose atoms need elements the formula lacks cannot match: not tried
+    present = frozenset(name for name in groups.names_for(formula) if mol.HasSubstructMatch(groups[name].pattern))
     return Subject(smiles, mol, formula, present, molecular_ion, isotope_score, formula_demotion, demoted_by)
 
 

@@ -18,8 +18,9 @@ from ..yamlnodes import Located, as_choice, as_int, as_str, mapping, read_yaml_f
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
+    from ..formula import Formula
 
-__all__ = ["PI_CLASSES", "Group", "GroupTable", "default_groups", "load_groups", "min_pi_bonds"]
+__all__ = ["PI_CLASSES", "Group", "GroupTable", "could_hold", "default_groups", "load_groups", "min_pi_bonds"]
 
 _NAME = re.compile(r"^[a-z][a-z0-9_]*$")
 _ELEMENT = re.compile(r"#\d+")
@@ -115,6 +116,11 @@ class GroupTable:
     def names(self) -> tuple[str, ...]:
         return tuple(self.groups)
 
+    def names_for(self, formula: Formula) -> tuple[str, ...]:
+        """The groups a molecule of ``formula`` could have: every group but those
+        :func:`could_hold` rules out by their atoms' elements (computed once per formula)."""
+        return _names_for(self, formula)
+
     def validate(self) -> None:
         for name, group in self.groups.items():
             if not _NAME.match(name) or group.name != name:
@@ -196,3 +202,39 @@ def min_pi_bonds(required: Iterable[str], groups: GroupTable, *, oxo: int = 0) -
 @lru_cache(maxsize=1)
 def default_groups() -> GroupTable:
     return load_groups()
+
+
+@lru_cache(maxsize=256)
+def _names_for(table: GroupTable, formula: Formula) -> tuple[str, ...]:
+    return tuple(name for name in table.names if could_hold(table[name].smarts, formula))
+
+
+_BRACKET = re.compile(r"\[([^\]]*)\]")
+_ELEMENT_TOKEN = re.compile(r"#(\d+)|([A-Z][a-z]?)|([cnops])")
+
+
+def could_hold(smarts: str, formula: Formula) -> bool:
+    """False when some bracket atom of the SMARTS names only elements the formula lacks (e.g. the
+    halogen of ``[CX4][F,Cl,Br,I]`` in a hydrocarbon). Permissive: a token it cannot read (a
+    recursive or negated primitive) never makes a group impossible."""
+    from .._rdkit import Chem
+    from ..elements import default_elements
+
+    periodic = Chem.GetPeriodicTable()
+    known = set(default_elements().symbols)
+    present = {s for s, n in formula.counts if n}
+    for atom in _BRACKET.findall(smarts):
+        if "$" in atom or "!" in atom:
+            continue
+        named = set()
+        for number, symbol, aromatic in _ELEMENT_TOKEN.findall(atom.split(";")[0]):
+            if number:
+                named.add(periodic.GetElementSymbol(int(number)))
+            elif symbol in known:
+                named.add(symbol)
+            elif aromatic:
+                named.add(aromatic.upper())
+        named.discard("H")  # an H count primitive, not an atom
+        if named and not named & present:
+            return False
+    return True

@@ -3,14 +3,20 @@ group would bring it under the limit, from Knuth estimates of the space with tha
 
 from __future__ import annotations
 
-import re
 from dataclasses import replace
 
 from ..formula import Formula
-from ..generator.groups import GroupTable
+from ..generator.groups import GroupTable, could_hold
 from ..generator.options import GeneratorOptions
 
-__all__ = ["ADVICE_BATCHES", "ADVICE_PROBES", "ADVISED_FORMULAS", "group_estimates", "size_advice"]
+__all__ = [
+    "ADVICE_BATCHES",
+    "ADVICE_PROBES",
+    "ADVISED_FORMULAS",
+    "could_hold",
+    "group_estimates",
+    "size_advice",
+]
 
 #: Knuth walks per batch and batches at most per group estimate: a quick look (at most 64
 #: walks), not the estimate the limit is checked with; a group whose walks all dead-end reads 0
@@ -21,37 +27,6 @@ ADVICE_BATCHES = 4
 ADVISED_FORMULAS = 2
 #: groups named in the advice at most
 ADVICE_SHOWN = 4
-
-
-_BRACKET = re.compile(r"\[([^\]]*)\]")
-_ELEMENT_TOKEN = re.compile(r"#(\d+)|([A-Z][a-z]?)|([cnops])")
-
-
-def could_hold(smarts: str, formula: Formula) -> bool:
-    """False when some bracket atom of the SMARTS names only elements the formula lacks (e.g. the
-    halogen of ``[CX4][F,Cl,Br,I]`` in a hydrocarbon). Permissive: a token it cannot read (a
-    recursive or negated primitive) never makes a group impossible."""
-    from .._rdkit import Chem
-    from ..elements import default_elements
-
-    periodic = Chem.GetPeriodicTable()
-    known = set(default_elements().symbols)
-    present = {s for s, n in formula.counts if n}
-    for atom in _BRACKET.findall(smarts):
-        if "$" in atom or "!" in atom:
-            continue
-        named = set()
-        for number, symbol, aromatic in _ELEMENT_TOKEN.findall(atom.split(";")[0]):
-            if number:
-                named.add(periodic.GetElementSymbol(int(number)))
-            elif symbol in known:
-                named.add(symbol)
-            elif aromatic:
-                named.add(aromatic.upper())
-        named.discard("H")  # an H count primitive, not an atom
-        if named and not named & present:
-            return False
-    return True
 
 
 def group_estimates(formula: Formula, options: GeneratorOptions, groups: GroupTable) -> list[tuple[str, float]]:
