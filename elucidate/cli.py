@@ -11,7 +11,7 @@ import json
 import os
 import re
 import sys
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 from contextlib import nullcontext
 from dataclasses import replace
 from pathlib import Path
@@ -442,7 +442,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         Selection,
         default_groups,
         default_profiles,
-        estimate_structures,
+        estimate_space,
         isomer_smiles,
     )
 
@@ -480,15 +480,17 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         workers=args.workers,
         rdkit_smiles=args.rdkit_smiles,
     )
-    estimate = estimate_structures(formula, options)
-    if estimate > args.limit:
+    space = estimate_space(formula, options)
+    if space.over(args.limit):
         raise ElucidateError(
-            f"{formula}: about {estimate:,.0f} structures to test estimated (Knuth's tree-size estimate "
-            f"of the space walked, before the constraints are tested), above the limit of {args.limit:,.0f}; "
-            "narrow the question (--require, --max-rings, --max-bond-order) or raise the limit with --limit N"
+            f"{formula}: about {space.structures:,.0f} structures to test and {space.nodes:,.0f} partial "
+            "skeletons to grow estimated (Knuth's tree-size estimate of the space walked, before the "
+            f"constraints are tested), above the limit of {args.limit:,.0f} structures (or 10 times as many "
+            "partial skeletons); narrow the question (--require, --max-rings, --max-bond-order) or raise "
+            "the limit with --limit N"
         )
     with _cluster(args.scheduler) or nullcontext() as runner:
-        stream = isomer_smiles(formula, options, removed=removed, runner=runner)
+        stream: Iterator[str] = isomer_smiles(formula, options, removed=removed, runner=runner)
         if args.sort or args.json:
             stream = iter(sorted(stream))
         if args.json:
@@ -505,7 +507,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
             out.write("\n")
             return 0
         count = 0
-        with _progress(err, estimate) as bar:
+        with _progress(err, space.structures) as bar:
             for smiles in stream:
                 count += 1
                 bar.update(1)

@@ -312,6 +312,31 @@ def test_knuth_estimate_is_the_right_order_of_magnitude(formula):
     assert estimate_structures(f) == estimate  # fixed seed: same formula, same estimate
 
 
+@pytest.mark.parametrize("formula", ["C7H16", "C6H12O", "C7H8O", "C5H5N"])
+def test_knuth_node_estimate_is_near_the_tree_size(formula):
+    # the same walks estimate the generation tree's nodes (D. E. Knuth, Math. Comp. 29, 1975:
+    # the sum of the partial products is an unbiased estimate of the node count); the exact
+    # count is the partial graphs at every depth, listed by the tree itself
+    from elucidate.generator import estimate_space
+    from elucidate.generator.skeletons import frontier
+    from elucidate.generator.tasks import selection_plans
+
+    plans, _ = selection_plans(parse_formula(formula), GeneratorOptions())
+    exact = sum(sum(1 for _ in frontier(p.n, p.bounds, p.rings_max, depth=d)) for p in plans for d in range(1, p.n + 1))
+    nodes = estimate_space(parse_formula(formula)).nodes
+    assert exact / 2 <= nodes <= exact * 2, (exact, nodes)
+
+
+def test_a_space_of_dead_ends_is_over_the_limit_by_its_nodes():
+    # C13H5NO with a benzene ring and an amide required: nearly every walk dead-ends, so the
+    # structures read 0, but the tree is vast; the node estimate puts it over any usual limit
+    from elucidate.generator import estimate_space
+
+    sel = Selection(require=("amide", "aromatic_ring"), profile="stable")
+    space = estimate_space(parse_formula("C13H5NO"), GeneratorOptions(selection=sel))
+    assert space.structures < 1000 and space.nodes > 1e8 and space.over(200_000)
+
+
 @pytest.mark.parametrize("formula", ["C6H6", "C7H16", "C5H8O", "C4H4N2"])
 def test_certificate_fallback_for_large_groups_gives_the_same_isomers(formula, monkeypatch):
     # skeletons with more automorphisms than the listing limit are deduplicated by nauty

@@ -185,28 +185,53 @@ MS_ONLY_100 = (
 
 
 def test_a_formula_skipped_for_size_is_named_first_with_advice_and_worse_ones_wait(cli, tmp_path):
-    # C8H4 (M 100) has 5,308 structures to test (Knuth estimate about 1,800); with --limit 1000
-    # it is skipped, and the formula ranked below it (C7O, demoted by Kind & Fiehn) is held back
-    # unless asked
+    # C8H4 (M 100) has 5,308 structures to test (Knuth estimate about 1,800); with --limit 3000
+    # its enumeration stops at the limit and it is skipped, with advice, and the formula ranked
+    # below it (C7O, demoted by Kind & Fiehn) is held back unless asked
     case = tmp_path / "ms100.yaml"
     case.write_text(MS_ONLY_100, encoding="utf-8")
-    text = cli("solve", str(case), "--limit", "1000", "--details", "0").out
+    text = cli("solve", str(case), "--limit", "3000", "--details", "0").out
     notes = [line for line in text.splitlines() if line.startswith("note:")]
     first_table = text.index("formulas kept")
     assert notes and all(text.index(n) < first_table for n in notes)
     assert any(
-        "C8H4 (M 100) not enumerated" in n and "above the limit 1,000" in n and "alkyne (about" in n for n in notes
+        "C8H4 (M 100) not enumerated" in n
+        and "more than 3,000 structures to test" in n
+        and ("requiring one of these groups" in n or "no single group" in n)
+        for n in notes
     )
     assert any("C7O (M 100) not enumerated" in n and "ranks below C8H4" in n for n in notes)
-    data = cli("solve", str(case), "--limit", "1000", "--json").json()
+    data = cli("solve", str(case), "--limit", "3000", "--json").json()
     held = {f["formula"]: f for f in data["formulas"]}
     assert held["C7O"]["structures"] == 0 and "--worse-formulas" in held["C7O"]["skipped"]
-    asked = cli("solve", str(case), "--limit", "1000", "--json", "--worse-formulas").json()
+    asked = cli("solve", str(case), "--limit", "3000", "--json", "--worse-formulas").json()
     assert {f["formula"]: f for f in asked["formulas"]}["C7O"]["structures"] > 0
     # the case can ask for the same in its solve section
-    case.write_text(MS_ONLY_100 + "solve:\n  worse_formulas: true\n  limit: 1000\n", encoding="utf-8")
+    case.write_text(MS_ONLY_100 + "solve:\n  worse_formulas: true\n  limit: 3000\n", encoding="utf-8")
     stored = cli("solve", str(case), "--json").json()
     assert {f["formula"]: f for f in stored["formulas"]}["C7O"]["structures"] > 0
+
+
+@pytest.mark.parametrize("workers", [1, 2])
+def test_the_limit_holds_while_enumerating_when_the_estimate_is_too_low(tmp_path, monkeypatch, workers):
+    # Knuth's estimate reads far too low where its random walks dead-end; the limit must then
+    # still stop the enumeration (every formula estimated 0 here on purpose; C5H8O2 has far
+    # more than 1,000 structures to test, C6H12O and C7H16 fewer)
+    import elucidate.generator as generator
+    from elucidate import load_case
+    from elucidate.solver import solve
+
+    case_file = tmp_path / "ms100.yaml"
+    case_file.write_text(MS_ONLY_100, encoding="utf-8")
+    monkeypatch.setattr(generator, "estimate_structures", lambda *args, **kwargs: 0.0)
+    solution = solve(load_case(case_file), limit=1000, workers=workers)
+    kept = {str(k.formula): k for k in solution.formulas}
+    assert kept["C6H12O"].structures > 0 and kept["C6H12O"].skipped is None
+    stopped = kept["C5H8O2"]
+    assert stopped.structures == 0 and "more than 1,000 structures to test" in (stopped.skipped or "")
+    # no part of its space is ranked, and the worse formulas are held behind it, as for any skip
+    assert not any(str(c.formula) == "C5H8O2" for c in solution.candidates)
+    assert all("ranks below C5H8O2" in (kept[f].skipped or "") for f in ("C8H4", "C7O"))
 
 
 def test_group_advice_names_only_groups_the_formula_can_hold():

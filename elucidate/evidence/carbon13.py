@@ -77,13 +77,6 @@ def _ranks(mol: Mol) -> list[int]:
     return list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
 
 
-def _split_geminal(mol: Mol) -> Mol:
-    """A copy in which one of each pair of identical geminal groups on a C=C whose other end is
-    unsymmetric, and one of each pair of diastereotopic groups on an sp3 carbon
-    (:func:`_split_diastereotopic`), carries an isotope label, so ranking tells the pair apart."""
-    return _split_diastereotopic(_split_amide_nitrogen(_split_alkene_ends(mol)))
-
-
 def _split_amide_nitrogen(mol: Mol) -> Mol:
     """The two identical groups on the N of a tertiary amide lie cis and trans to the C=O, and
     rotation about the C-N bond is slow on the NMR time scale at room temperature (common
@@ -151,16 +144,19 @@ def _split_alkene_ends(mol: Mol) -> Mol:
     return work
 
 
-def _split_diastereotopic(mol: Mol) -> Mol:
+def _split_diastereotopic(mol: Mol, ranks: Sequence[int] | None = None) -> Mol:
     """A copy in which one of each pair of identical acyclic groups on one sp3 carbon carries an
     isotope label when the two are diastereotopic: marking one of them makes that carbon a
     stereocentre in a molecule with a second stereocentre (the isopropyl methyls beside a
     stereocentre, the gem-dimethyl bridge of camphor). Enantiotopic pairs (one stereocentre
-    only) stay one class, as they are in an achiral solvent."""
+    only) stay one class, as they are in an achiral solvent. ``ranks``: the molecule's ranks,
+    when known; the molecule itself is returned when nothing is split."""
     from .._rdkit import Chem
 
-    work = Chem.RWMol(mol)
-    ranks = _ranks(work)
+    ranks = _ranks(mol) if ranks is None else ranks
+    if len(set(ranks)) == len(ranks):
+        return mol  # no two atoms alike: no pair of identical groups anywhere
+    work = mol
     for atom in mol.GetAtoms():
         if atom.GetAtomicNum() != 6 or atom.GetIsAromatic() or atom.GetDegree() + atom.GetTotalNumHs() != 4:
             continue
@@ -184,8 +180,15 @@ def _split_diastereotopic(mol: Mol) -> Mol:
 
 def symmetry_ranks(mol: Mol) -> list[int]:
     """The symmetry class of every atom as the spectrum shows it: constitutional equivalence,
-    with the alkene-end, amide-N and diastereotopic splits of :func:`_split_geminal`."""
-    return _ranks(_split_geminal(mol))
+    with one of each pair of identical groups labelled apart where the spectrum tells them apart:
+    geminal groups on an alkene end (:func:`_split_alkene_ends`), the groups on a tertiary
+    amide N (:func:`_split_amide_nitrogen`) and diastereotopic groups
+    (:func:`_split_diastereotopic`). The ranks are computed once when the last split changes
+    nothing."""
+    step = _split_amide_nitrogen(_split_alkene_ends(mol))
+    ranks = _ranks(step)
+    final = _split_diastereotopic(step, ranks)
+    return ranks if final is step else _ranks(final)
 
 
 def carbon_classes(mol: Mol, ranks: Sequence[int] | None = None) -> list[tuple[int, str, int]]:

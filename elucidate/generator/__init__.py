@@ -12,7 +12,7 @@ vocabulary (:mod:`.groups`), the selection of required / forbidden groups, SMART
 
 from __future__ import annotations
 
-from .estimate import estimate_structures
+from .estimate import SpaceEstimate, estimate_space, estimate_structures
 from .groups import Group, GroupTable, default_groups, load_groups
 from .isomers import count_isomers, isomer_smiles, structures
 from .labelling import Structure
@@ -28,10 +28,12 @@ __all__ = [
     "GroupTable",
     "Profiles",
     "Selection",
+    "SpaceEstimate",
     "Structure",
     "count_isomers",
     "default_groups",
     "default_profiles",
+    "estimate_space",
     "estimate_structures",
     "isomer_smiles",
     "load_groups",

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 import random
+from dataclasses import dataclass
 
 from ..formula import Formula
 from .options import GeneratorOptions
@@ -11,12 +12,30 @@ from .selection import SkeletonPatterns
 from .skeletons import PartialGraph, root_graph
 from .tasks import GenerationTask, plan_children, selection_plans, task_structures
 
-__all__ = ["estimate_structures", "estimate_task"]
+__all__ = ["NODES_PER_STRUCTURE", "SpaceEstimate", "estimate_space", "estimate_structures", "estimate_task"]
 
 #: batches of walks the estimate may take at most (the first batch always)
 MAX_BATCHES = 16
 #: further batches are walked while the estimate's standard error is above this share of it
 MAX_RELATIVE_ERROR = 0.33
+#: partial skeletons a limit of one structure allows (growing a node costs about a tenth of
+#: building and scoring a structure): a space whose walks mostly dead-end can hold few
+#: structures and still take hours to grow
+NODES_PER_STRUCTURE = 10
+
+
+@dataclass(frozen=True)
+class SpaceEstimate:
+    """Knuth's estimates of one space: the structures (multigraphs built, before the
+    constraints are tested) and the nodes of the generation tree (partial skeletons grown)."""
+
+    structures: float
+    nodes: float
+
+    def over(self, limit: float) -> bool:
+        """Whether the space is above ``limit`` structures, or above NODES_PER_STRUCTURE times
+        as many partial skeletons."""
+        return self.structures > limit or self.nodes > NODES_PER_STRUCTURE * limit
 
 
 def estimate_structures(
@@ -27,7 +46,20 @@ def estimate_structures(
     seed: int = 0,
     batches: int = MAX_BATCHES,
 ) -> float:
-    """Estimated number of multigraph structures, by Knuth's tree-size estimator.
+    """Estimated number of multigraph structures (:func:`estimate_space`'s structures)."""
+    return estimate_space(formula, options, probes=probes, seed=seed, batches=batches).structures
+
+
+def estimate_space(
+    formula: Formula,
+    options: GeneratorOptions | None = None,
+    *,
+    probes: int = 32,
+    seed: int = 0,
+    batches: int = MAX_BATCHES,
+) -> SpaceEstimate:
+    """Estimated number of multigraph structures and of generation-tree nodes, by Knuth's
+    tree-size estimator.
 
     D. E. Knuth, "Estimating the efficiency of backtrack programs", Math. Comp. 29, 121-136
     (1975): walk from the root of the generation tree to a leaf choosing a child uniformly at
@@ -41,10 +73,12 @@ def estimate_structures(
     """
     plans, prefilter = selection_plans(formula, options or GeneratorOptions())
     rng = random.Random(seed)
-    return sum(
-        estimate_task(GenerationTask(plan, root_graph()), prefilter, probes=probes, rng=rng, batches=batches)
-        for plan in plans
-    )
+    structures = nodes = 0.0
+    for plan in plans:
+        s, n = _estimate(GenerationTask(plan, root_graph()), prefilter, probes=probes, rng=rng, batches=batches)
+        structures += s
+        nodes += n
+    return SpaceEstimate(structures, nodes)
 
 
 def estimate_task(
@@ -52,44 +86,56 @@ def estimate_task(
 ) -> float:
     """Knuth's estimate of the structures below one task (its subtree of the generation tree):
     the mean of ``probes`` walks, and of further batches of ``probes`` walks (up to
-    ``batches`` in all, MAX_BATCHES by default) while every walk so far has dead-ended or the mean's standard error is
-    above MAX_RELATIVE_ERROR of it. The
-    walks' values are heavy-tailed where most walks dead-end (highly unsaturated formulas,
-    pushed constraints): a fixed 32 walks put C9H2N2O at about 4,500 structures where 256 put
-    it near 2.7 million, and the size limit then let it through."""
+    ``batches`` in all, MAX_BATCHES by default) while every walk so far has dead-ended or the
+    mean's standard error is above MAX_RELATIVE_ERROR of it. The walks' values are heavy-tailed
+    where most walks dead-end (highly unsaturated formulas, pushed constraints): a fixed 32
+    walks put C9H2N2O at about 4,500 structures where 256 put it near 2.7 million, and the size
+    limit then let it through."""
+    return _estimate(task, prefilter, probes=probes, rng=rng, batches=batches)[0]
+
+
+def _estimate(
+    task: GenerationTask, prefilter: SkeletonPatterns, *, probes: int, rng: random.Random, batches: int
+) -> tuple[float, float]:
+    """(structures, nodes) below one task, as :func:`estimate_task` walks."""
     plan = task.plan
     if plan.n == 1:
-        return float(sum(1 for _ in task_structures(task, prefilter)))
+        return float(sum(1 for _ in task_structures(task, prefilter))), 1.0
     values: list[float] = []
+    nodes: list[float] = []
     # the walks share their first steps: each node's children are listed once
     below: dict[PartialGraph, list[PartialGraph]] = {}
     for _ in range(batches):
         for _ in range(probes):
-            values.append(_walk(task, prefilter, rng, below))
+            value, count = _walk(task, prefilter, rng, below)
+            values.append(value)
+            nodes.append(count)
         mean = sum(values) / len(values)
         if mean == 0:
             continue  # every walk dead-ended so far: the heaviest tail of all
         variance = sum((v - mean) ** 2 for v in values) / (len(values) - 1) if len(values) > 1 else 0.0
         if math.sqrt(variance / len(values)) <= MAX_RELATIVE_ERROR * mean:
             break
-    return sum(values) / len(values)
+    return sum(values) / len(values), sum(nodes) / len(nodes)
 
 
 def _walk(
     task: GenerationTask, prefilter: SkeletonPatterns, rng: random.Random, below: dict[PartialGraph, list[PartialGraph]]
-) -> float:
+) -> tuple[float, float]:
     """One random root-to-leaf walk below the task: the product of the branching factors times
-    the structures on the skeleton reached (0 at a dead end). ``below``: children already
-    listed, by node."""
+    the structures on the skeleton reached (0 at a dead end), and the sum of the partial
+    products (the nodes). ``below``: children already listed, by node."""
     plan = task.plan
     weight = 1.0
+    nodes = 1.0
     part = task.part
     while part.size < plan.n:
         options = below.get(part)
         if options is None:
             options = below[part] = list(plan_children(part, plan))
         if not options:
-            return 0.0
+            return 0.0, nodes
         weight *= len(options)
+        nodes += weight
         part = options[rng.randrange(len(options))]
-    return weight * sum(1 for _ in task_structures(GenerationTask(plan, part), prefilter))
+    return weight * sum(1 for _ in task_structures(GenerationTask(plan, part), prefilter)), nodes

@@ -24,7 +24,7 @@ each element (plain graph counting). Constitution only: no stereochemistry.
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Generator, Iterator
 from contextlib import nullcontext
 
 from ..errors import ElucidateError
@@ -33,6 +33,8 @@ from ..parallel import Runner, local_runner
 from .labelling import Structure
 from .options import GeneratorOptions
 from .tasks import (
+    StructureBudget,
+    TooManyStructures,
     WorkerJob,
     balanced_tasks,
     compiled_selection,
@@ -74,7 +76,8 @@ def isomer_smiles(
     *,
     removed: dict[str, int] | None = None,
     runner: Runner | None = None,
-) -> Iterator[str]:
+    budget: int | None = None,
+) -> Generator[str, None, None]:
     """Canonical SMILES of every constitutional isomer of ``formula`` that passes the options'
     selection, each once. ``removed``, when given, is filled with how many generated structures
     each constraint removed (the first constraint a structure breaks is the one counted).
@@ -87,6 +90,11 @@ def isomer_smiles(
     is the same for any number of workers and wherever they run. For many workers the tree is
     cut deeper (:func:`~.tasks.balanced_tasks`) so that no worker is left with one long
     partition at the end.
+
+    ``budget``: at most this many structures (multigraphs built, before the constraints are
+    tested) may be taken; past it :class:`~.tasks.TooManyStructures` is raised, at a point that
+    depends on the partition (only the exception is certain, not the SMILES before it). Each
+    worker's job stops on its own past the budget, so no partition runs away.
     """
     if not formula.counts:
         raise ElucidateError("empty formula")
@@ -97,16 +105,23 @@ def isomer_smiles(
         for label in compiled.labels:
             counts.setdefault(label, 0)
     if runner is None and options.workers == 1:
+        left = StructureBudget(budget) if budget is not None else None
         for task in generation_tasks(plans):
-            yield from task_smiles(task, options.kekule, compiled, counts, prefilter, rdkit_smiles=options.rdkit_smiles)
+            yield from task_smiles(
+                task, options.kekule, compiled, counts, prefilter, rdkit_smiles=options.rdkit_smiles, budget=left
+            )
         return
     with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
         tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
-        jobs = (WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles) for task in tasks)
-        for smiles, rem in work.map(run_job, jobs):
-            for label, n in rem.items():
+        jobs = (WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget) for task in tasks)
+        taken = 0
+        for result in work.map(run_job, jobs):
+            taken += result.taken
+            if budget is not None and (result.over or taken > budget):
+                raise TooManyStructures(budget)
+            for label, n in result.removed.items():
                 counts[label] = counts.get(label, 0) + n
-            yield from smiles
+            yield from result.smiles
 
 
 def count_isomers(formula: Formula, options: GeneratorOptions = _DEFAULT) -> int:

@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from ..elements import default_elements
+from ..errors import ElucidateError
 from ..formula import Formula
 from .labelling import SkeletonPatterns, SkeletonTest, Structure, allowed_alone, structures_on_skeleton
 from .options import GeneratorOptions
@@ -29,6 +30,9 @@ __all__ = [
     "PARTS_PER_WORKER",
     "TASK_DEPTH",
     "GenerationTask",
+    "JobResult",
+    "StructureBudget",
+    "TooManyStructures",
     "WorkerJob",
     "balanced_tasks",
     "compiled_selection",
@@ -54,14 +58,49 @@ class GenerationTask:
     part: PartialGraph
 
 
+class TooManyStructures(ElucidateError):
+    """More structures to test than the budget allows (raised while generating)."""
+
+    def __init__(self, limit: int) -> None:
+        super().__init__(f"more than {limit:,} structures to test")
+        self.limit = limit
+
+
+class StructureBudget:
+    """How many structures (each multigraph built, before the constraints are tested: what the
+    Knuth estimate estimates) generation may take before it stops."""
+
+    def __init__(self, limit: int) -> None:
+        self.limit = limit
+        self.taken = 0
+
+    def take(self) -> None:
+        """Count one structure; :class:`TooManyStructures` once past the limit."""
+        self.taken += 1
+        if self.taken > self.limit:
+            raise TooManyStructures(self.limit)
+
+
 @dataclass(frozen=True)
 class WorkerJob:
-    """What a worker process needs to run one task."""
+    """What a worker process needs to run one task; ``budget``: structures it may take."""
 
     task: GenerationTask
     kekule: bool
     selection: Selection | None
     rdkit_smiles: bool = False
+    budget: int | None = None
+
+
+@dataclass(frozen=True)
+class JobResult:
+    """A task's SMILES, what each constraint removed, the structures taken, and whether the
+    job's budget ran out (then the SMILES are not all there)."""
+
+    smiles: list[str]
+    removed: dict[str, int]
+    taken: int
+    over: bool
 
 
 def selection_plans(formula: Formula, options: GeneratorOptions) -> tuple[list[Plan], SkeletonPatterns]:
@@ -139,11 +178,13 @@ def task_smiles(
     prefilter: SkeletonPatterns = (),
     *,
     rdkit_smiles: bool = False,
+    budget: StructureBudget | None = None,
 ) -> Iterator[str]:
     """SMILES of one task, Kekulé forms merged (unless ``kekule``) and filtered by ``compiled``;
     ``removed`` counts what each constraint removed. Unless ``rdkit_smiles``, a structure that
     needs no RDKit molecule (no finished-molecule test, no charge-separated atom and, when Kekulé
-    forms are merged, no possible aromatic ring) is written from its skeleton (:mod:`.writer`)."""
+    forms are merged, no possible aromatic ring) is written from its skeleton (:mod:`.writer`).
+    ``budget`` counts every structure taken and stops the work past its limit."""
     from .._rdkit import Chem, quiet_rdkit
 
     current: tuple[tuple[int, int], ...] | None = None
@@ -154,6 +195,8 @@ def task_smiles(
     template: Template | None = None
     with quiet_rdkit():
         for s in task_structures(task, prefilter):
+            if budget is not None:
+                budget.take()
             if own and not (charged and any(label in charged for label in zip(s.elements, s.valences, strict=True))):
                 edges = tuple((a, b) for a, b, _ in s.bonds)
                 if template is None or template.edges != edges:
@@ -206,13 +249,19 @@ def compiled_selection(selection: Selection | None) -> CompiledSelection | None:
     return compiled if compiled.tests else None
 
 
-def run_job(job: WorkerJob) -> tuple[list[str], dict[str, int]]:
-    """A worker process's work: the SMILES of one task and what each constraint removed."""
+def run_job(job: WorkerJob) -> JobResult:
+    """A worker process's work: the SMILES of one task, what each constraint removed, and the
+    structures taken against the job's budget."""
     removed: dict[str, int] = {}
     prefilter = job.selection.skeleton_patterns() if job.selection is not None else ()
-    smiles = list(
-        task_smiles(
-            job.task, job.kekule, compiled_selection(job.selection), removed, prefilter, rdkit_smiles=job.rdkit_smiles
+    budget = StructureBudget(job.budget) if job.budget is not None else None
+    compiled = compiled_selection(job.selection)
+    try:
+        smiles = list(
+            task_smiles(
+                job.task, job.kekule, compiled, removed, prefilter, rdkit_smiles=job.rdkit_smiles, budget=budget
+            )
         )
-    )
-    return smiles, removed
+    except TooManyStructures:
+        return JobResult([], removed, budget.taken if budget is not None else 0, True)
+    return JobResult(smiles, removed, budget.taken if budget is not None else 0, False)

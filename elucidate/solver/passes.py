@@ -20,7 +20,7 @@ import heapq
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, cast
 
 from ..evidence import Assessment, Bounded, Subject, Technique, make_subject
 from ..parallel import Runner
@@ -119,11 +119,24 @@ def evaluate_in_passes(
     return Outcome(last, combined, tuple(found), True, combined.log_likelihood)
 
 
+_BOUNDED: dict[type, bool] = {}
+
+
+def _is_bounded(technique: Technique) -> bool:
+    """Whether the technique gives a floor (an isinstance test of a runtime protocol costs tens
+    of microseconds, so it is made once per technique class)."""
+    kind = type(technique)
+    known = _BOUNDED.get(kind)
+    if known is None:
+        known = _BOUNDED[kind] = isinstance(technique, Bounded)
+    return known
+
+
 def _floor(technique: Technique, subject: Subject, evaluator: Evaluator) -> float:
     """What the technique's floor costs the candidate's log-likelihood at least (0 or more)."""
-    if not isinstance(technique, Bounded):
+    if not _is_bounded(technique):
         return 0.0
-    against, unexplained = technique.floor(subject, evaluator.case)
+    against, unexplained = cast(Bounded, technique).floor(subject, evaluator.case)
     w = evaluator.scoring.techniques[technique.weight_key]
     return w.weight * (min(against, w.against_cap) + min(unexplained, w.unexplained_cap))
 

@@ -163,7 +163,9 @@ def _solve(
     watch: Sequence[str],
     progress: Progress,
 ) -> Solution:
-    from ..generator import GeneratorOptions, estimate_structures, isomer_smiles
+    from ..generator import GeneratorOptions, SpaceEstimate, estimate_space, isomer_smiles
+    from ..generator.estimate import NODES_PER_STRUCTURE
+    from ..generator.tasks import TooManyStructures
 
     g = groups or default_groups()
     sc = scoring or default_scoring()
@@ -223,8 +225,9 @@ def _solve(
                 and fit is not None
                 and fit < (skipped.ranking_score or 0.0) / sc.worse_than_skipped
             )
-            estimate = 0.0 if held else estimate_structures(cand.formula, estimate_options)
-            over = estimate > limit
+            space = SpaceEstimate(0.0, 0.0) if held else estimate_space(cand.formula, estimate_options)
+            estimate = space.structures
+            over = space.over(limit)
             if over or held:
                 if over:
                     advice = (
@@ -233,7 +236,13 @@ def _solve(
                         else "declare groups (infrared.require / forbid) or raise --limit"
                     )
                     advised += 1
-                    why = f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: {advice}"
+                    if estimate > limit:
+                        why = f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: {advice}"
+                    else:
+                        why = (
+                            f"about {estimate:,.0f} structures but about {space.nodes:,.0f} partial skeletons to "
+                            f"grow estimated, above the {NODES_PER_STRUCTURE * limit:,} the limit allows: {advice}"
+                        )
                 else:
                     assert skipped is not None
                     why = (
@@ -248,11 +257,34 @@ def _solve(
             local: dict[str, int] = {}
             before = len(found)
             parallel = runner if runner.workers > 1 else None
-            for smiles in isomer_smiles(cand.formula, options, removed=local, runner=parallel):
-                found.append(FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by))
-                if len(found) % PROGRESS_EVERY == 0:
-                    progress("generation", len(found), None)
+            # the limit also holds while enumerating: an estimate whose walks dead-ended (often
+            # in aromatic spaces) may read far too low, and the work must not run away
+            over = False
+            try:
+                for smiles in isomer_smiles(cand.formula, options, removed=local, runner=parallel, budget=limit):
+                    found.append(FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by))
+                    if len(found) % PROGRESS_EVERY == 0:
+                        progress("generation", len(found), None)
+            except TooManyStructures:
+                over = True
             progress("generation", len(found), None)
+            if over:
+                del found[before:]  # a part of a space would mislead
+                advice = (
+                    size_advice(cand.formula, estimate_options, g, limit)
+                    if advised < ADVISED_FORMULAS
+                    else "declare groups (infrared.require / forbid) or raise --limit"
+                )
+                advised += 1
+                why = (
+                    f"more than {limit:,} structures to test, above the limit (the estimate, about "
+                    f"{estimate:,.0f}, was too low): {advice}"
+                )
+                kept.append(KeptFormula(cand.formula, m, cand.score, 0, why, cand.demoted_by, cand.demotion))
+                notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
+                if skipped is None and fit is not None:
+                    skipped = cand
+                continue
             count = len(found) - before
             for label, n in local.items():
                 removed[label] = removed.get(label, 0) + n
