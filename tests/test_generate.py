@@ -337,6 +337,17 @@ def test_a_space_of_dead_ends_is_over_the_limit_by_its_nodes():
     assert space.structures < 1000 and space.nodes > 1e8 and space.over(200_000)
 
 
+@pytest.mark.parametrize("workers", [1, 2])
+def test_a_budget_stops_growth_that_builds_no_structure(workers):
+    # the same dead-end space: growing its skeletons builds almost no structure, so only the
+    # partial skeletons counted against the budget (10 per structure) can stop it
+    from elucidate.generator.tasks import TooManyStructures
+
+    sel = Selection(require=("amide", "aromatic_ring"), profile="stable")
+    with pytest.raises(TooManyStructures):
+        list(isomer_smiles(parse_formula("C13H5NO"), GeneratorOptions(selection=sel, workers=workers), budget=500))
+
+
 @pytest.mark.parametrize("formula", ["C6H6", "C7H16", "C5H8O", "C4H4N2"])
 def test_certificate_fallback_for_large_groups_gives_the_same_isomers(formula, monkeypatch):
     # skeletons with more automorphisms than the listing limit are deduplicated by nauty

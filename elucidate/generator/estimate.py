@@ -10,7 +10,7 @@ from ..formula import Formula
 from .options import GeneratorOptions
 from .selection import SkeletonPatterns
 from .skeletons import PartialGraph, root_graph
-from .tasks import GenerationTask, plan_children, selection_plans, task_structures
+from .tasks import NODES_PER_STRUCTURE, GenerationTask, plan_children, selection_plans, task_structures
 
 __all__ = ["NODES_PER_STRUCTURE", "SpaceEstimate", "estimate_space", "estimate_structures", "estimate_task"]
 
@@ -18,10 +18,6 @@ __all__ = ["NODES_PER_STRUCTURE", "SpaceEstimate", "estimate_space", "estimate_s
 MAX_BATCHES = 16
 #: further batches are walked while the estimate's standard error is above this share of it
 MAX_RELATIVE_ERROR = 0.33
-#: partial skeletons a limit of one structure allows (growing a node costs about a tenth of
-#: building and scoring a structure): a space whose walks mostly dead-end can hold few
-#: structures and still take hours to grow
-NODES_PER_STRUCTURE = 10
 
 
 @dataclass(frozen=True)

@@ -19,7 +19,7 @@ connected), so pruning children that break them loses nothing.
 
 from __future__ import annotations
 
-from collections.abc import Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from itertools import combinations
 from typing import NamedTuple
 
@@ -128,19 +128,35 @@ def _descend(
 
 
 def grow(
-    part: PartialGraph, n: int, bounds: Sequence[int], max_rings: int, *, cycles: Sequence[int] = ()
+    part: PartialGraph,
+    n: int,
+    bounds: Sequence[int],
+    max_rings: int,
+    *,
+    cycles: Sequence[int] = (),
+    visit: Callable[[], None] | None = None,
 ) -> Iterator[Skeleton]:
-    """Every finished n-vertex skeleton below the partial graph ``part``."""
-    yield from _grow(part, n, _checked(n, bounds), max_rings, tuple(cycles))
+    """Every finished n-vertex skeleton below the partial graph ``part``; ``visit`` is called
+    once per node of the tree grown (a work budget may raise from it)."""
+    yield from _grow(part, n, _checked(n, bounds), max_rings, tuple(cycles), visit)
 
 
-def _grow(part: PartialGraph, n: int, bounds: list[int], max_rings: int, cycles: tuple[int, ...]) -> Iterator[Skeleton]:
+def _grow(
+    part: PartialGraph,
+    n: int,
+    bounds: list[int],
+    max_rings: int,
+    cycles: tuple[int, ...],
+    visit: Callable[[], None] | None,
+) -> Iterator[Skeleton]:
+    if visit is not None:
+        visit()
     k, adj, _ = part
     if k == n:
         yield Skeleton(n, tuple(sorted((a, b) for a in range(n) for b in adj[a] if a < b)))
         return
     for child in children(part, bounds, max_rings, cycles=cycles):
-        yield from _grow(child, n, bounds, max_rings, cycles)
+        yield from _grow(child, n, bounds, max_rings, cycles, visit)
 
 
 def children(

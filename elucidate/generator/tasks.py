@@ -27,6 +27,7 @@ if TYPE_CHECKING:
     from .._rdkit import Mol
 
 __all__ = [
+    "NODES_PER_STRUCTURE",
     "PARTS_PER_WORKER",
     "TASK_DEPTH",
     "GenerationTask",
@@ -48,6 +49,10 @@ __all__ = [
 TASK_DEPTH = 6
 #: partitions per worker the generation tree is cut into, at least (so no worker idles at the end)
 PARTS_PER_WORKER = 16
+#: partial skeletons a limit of one structure allows (growing a node costs about a tenth of
+#: building and scoring a structure): a space whose walks mostly dead-end can hold few
+#: structures and still take hours to grow
+NODES_PER_STRUCTURE = 10
 
 
 @dataclass(frozen=True)
@@ -59,25 +64,34 @@ class GenerationTask:
 
 
 class TooManyStructures(ElucidateError):
-    """More structures to test than the budget allows (raised while generating)."""
+    """More structures to test, or partial skeletons to grow, than the budget allows (raised
+    while generating)."""
 
     def __init__(self, limit: int) -> None:
-        super().__init__(f"more than {limit:,} structures to test")
+        super().__init__(f"more than {limit:,} structures to test (or {NODES_PER_STRUCTURE} times as many skeletons)")
         self.limit = limit
 
 
 class StructureBudget:
     """How many structures (each multigraph built, before the constraints are tested: what the
-    Knuth estimate estimates) generation may take before it stops."""
+    Knuth estimate estimates) generation may take, and how many partial skeletons it may grow
+    (NODES_PER_STRUCTURE per structure of the limit), before it stops."""
 
     def __init__(self, limit: int) -> None:
         self.limit = limit
         self.taken = 0
+        self.grown = 0
 
     def take(self) -> None:
         """Count one structure; :class:`TooManyStructures` once past the limit."""
         self.taken += 1
         if self.taken > self.limit:
+            raise TooManyStructures(self.limit)
+
+    def grow(self) -> None:
+        """Count one partial skeleton; :class:`TooManyStructures` once past its limit."""
+        self.grown += 1
+        if self.grown > NODES_PER_STRUCTURE * self.limit:
             raise TooManyStructures(self.limit)
 
 
@@ -152,9 +166,11 @@ def plan_children(part: PartialGraph, plan: Plan) -> Iterator[PartialGraph]:
     return children(part, sorted(plan.bounds, reverse=True), plan.rings_max, cycles=plan.cycles)
 
 
-def task_structures(task: GenerationTask, prefilter: SkeletonPatterns = ()) -> Iterator[Structure]:
+def task_structures(
+    task: GenerationTask, prefilter: SkeletonPatterns = (), *, budget: StructureBudget | None = None
+) -> Iterator[Structure]:
     """Every structure below one task (multigraphs, Kekulé forms apart) that meets the plan's
-    declared counts."""
+    declared counts; ``budget`` counts the partial skeletons grown."""
     plan = task.plan
     if plan.n == 1:
         ((sym, v),) = plan.labels
@@ -164,7 +180,8 @@ def task_structures(task: GenerationTask, prefilter: SkeletonPatterns = ()) -> I
                 yield alone
         return
     test = SkeletonTest(prefilter, plan.labels) if prefilter else None  # once per task, reused per skeleton
-    for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max, cycles=plan.cycles):
+    visit = budget.grow if budget is not None else None
+    for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max, cycles=plan.cycles, visit=visit):
         yield from structures_on_skeleton(
             size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test, counts=plan.count_test
         )
@@ -194,7 +211,7 @@ def task_smiles(
     charged = {label for label in task.plan.labels if (st := states.get(label)) is not None and st.charge_separated}
     template: Template | None = None
     with quiet_rdkit():
-        for s in task_structures(task, prefilter):
+        for s in task_structures(task, prefilter, budget=budget):
             if budget is not None:
                 budget.take()
             if own and not (charged and any(label in charged for label in zip(s.elements, s.valences, strict=True))):

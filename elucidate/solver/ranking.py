@@ -128,9 +128,11 @@ def solve(
     runner: Runner | None = None,
     progress: Progress | None = None,
 ) -> Solution:
-    """Solve one case. ``limit``: largest estimated structure space per formula that is
-    enumerated; ``max_formulas``: formulas kept per molecular-ion hypothesis (the best by
-    isotope fit, and only those within the scoring table's ``formula_cut`` of the best fit);
+    """Solve one case. ``limit``: largest structure space per formula that is enumerated
+    (estimated first, with 10 partial skeletons allowed per structure, and counted while
+    enumerating: a formula past it is dropped and named); ``max_formulas``: formulas kept per
+    molecular-ion hypothesis (the best by isotope fit, and only those within the scoring table's
+    ``formula_cut`` of the best fit);
     ``workers``: processes for generation and scoring (the result does not depend on it);
     ``worse_formulas``: also enumerate formulas ranked below a formula skipped for size (by more
     than the scoring table's ``worse_than_skipped`` factor), which are otherwise named and left;
@@ -164,8 +166,7 @@ def _solve(
     progress: Progress,
 ) -> Solution:
     from ..generator import GeneratorOptions, SpaceEstimate, estimate_space, isomer_smiles
-    from ..generator.estimate import NODES_PER_STRUCTURE
-    from ..generator.tasks import TooManyStructures
+    from ..generator.tasks import NODES_PER_STRUCTURE, TooManyStructures
 
     g = groups or default_groups()
     sc = scoring or default_scoring()
@@ -277,8 +278,8 @@ def _solve(
                 )
                 advised += 1
                 why = (
-                    f"more than {limit:,} structures to test, above the limit (the estimate, about "
-                    f"{estimate:,.0f}, was too low): {advice}"
+                    f"more than {limit:,} structures to test or {NODES_PER_STRUCTURE * limit:,} partial skeletons to "
+                    f"grow, above the limit (the estimate, about {estimate:,.0f}, was too low): {advice}"
                 )
                 kept.append(KeptFormula(cand.formula, m, cand.score, 0, why, cand.demoted_by, cand.demotion))
                 notes.append(f"{cand.formula} (M {m}) not enumerated: {why}")
