@@ -161,6 +161,7 @@ class Template:
         write(root)
         self.format = "".join(pieces).format
         self._cycle_edges = self._cyclic_edges(adj)
+        self._degree = [len(row) for row in adj]
 
     def _other(self, j: int, v: int) -> int:
         a, b = self.edges[j]
@@ -187,10 +188,7 @@ class Template:
         carbon: the only structures RDKit's aromaticity model can call aromatic."""
         if not self._cycle_edges:
             return False
-        degree = [0] * self.n
-        for a, b in self.edges:
-            degree[a] += 1
-            degree[b] += 1
+        degree = self._degree
         # an atom that could be aromatic: not carbon, or carrying a multiple bond
         able = [e != "C" or v - h > d for e, h, v, d in zip(elements, hydrogens, valences, degree, strict=True)]
         parent = list(range(self.n))

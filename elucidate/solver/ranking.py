@@ -38,6 +38,7 @@ from .suspects import assess_suspect
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
+    from ..formula import Formula
 
 __all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "solve"]
 
@@ -187,6 +188,16 @@ def _solve(
     # candidates are named by RDKit's canonical SMILES (suspects, ties and reports compare them)
     options = GeneratorOptions(selection=selection, rdkit_smiles=True)
     advised = 0
+
+    def advise(formula: Formula) -> str:
+        """Group advice for a formula skipped for size (per-group estimates for the first
+        ADVISED_FORMULAS such formulas only: each costs seconds)."""
+        nonlocal advised
+        advised += 1
+        if advised > ADVISED_FORMULAS:
+            return "declare groups (infrared.require / forbid) or raise --limit"
+        return size_advice(formula, estimate_options, g, limit)
+
     derived = []
     for done, m in enumerate(hypotheses, start=1):
         query = case_query(case, m)
@@ -231,12 +242,7 @@ def _solve(
             over = space.over(limit)
             if over or held:
                 if over:
-                    advice = (
-                        size_advice(cand.formula, estimate_options, g, limit)
-                        if advised < ADVISED_FORMULAS
-                        else "declare groups (infrared.require / forbid) or raise --limit"
-                    )
-                    advised += 1
+                    advice = advise(cand.formula)
                     if estimate > limit:
                         why = f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: {advice}"
                     else:
@@ -271,12 +277,7 @@ def _solve(
             progress("generation", len(found), None)
             if over:
                 del found[before:]  # a part of a space would mislead
-                advice = (
-                    size_advice(cand.formula, estimate_options, g, limit)
-                    if advised < ADVISED_FORMULAS
-                    else "declare groups (infrared.require / forbid) or raise --limit"
-                )
-                advised += 1
+                advice = advise(cand.formula)
                 why = (
                     f"more than {limit:,} structures to test or {NODES_PER_STRUCTURE * limit:,} partial skeletons to "
                     f"grow, above the limit (the estimate, about {estimate:,.0f}, was too low): {advice}"
