@@ -14,7 +14,8 @@ from collections.abc import Iterator
 from typing import TypeAlias
 
 from rdkit import Chem, RDLogger
-from rdkit.Chem import Descriptors, rdMolDescriptors
+from rdkit.Chem import Descriptors, rdDepictor, rdMolDescriptors
+from rdkit.Chem.Draw import rdMolDraw2D
 
 __all__ = [
     "Atom",
@@ -27,7 +28,9 @@ __all__ = [
     "mol_from_smarts",
     "mol_from_smiles",
     "quiet_rdkit",
+    "rdDepictor",
     "rdMolDescriptors",
+    "rdMolDraw2D",
 ]
 
 #: a molecule (aromaticity perceived unless said otherwise, hydrogens implicit)

@@ -18,25 +18,33 @@ from pathlib import Path
 from typing import TYPE_CHECKING, TextIO
 
 from . import __version__
-from .case import Case, FormulaSpec, base_peak_problem, intensity_problem, load_case, mz_problem
+from .case import Case, FormulaSpec, base_peak_problem, intensity_problem, load_case, mz_problem, parse_case
 from .defaults import EXACT_MASS_KINDS, FORMULAS_PER_ION, ISOMERS_LIMIT, RATIO_LEVELS, SOLVER_LIMIT, WORKERS
 from .elements import default_elements
 from .errors import ElucidateError
 from .formula import parse_formula
 from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
 from .progress import TerminalProgress
+from .reports.documents import REPORT_FORMATS
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
-from .yamlnodes import parse_range_text
+from .reports.layout import text_table
+from .runs import text_sha256
+from .yamlnodes import parse_range_text, read_text_file, read_yaml_file
 
 if TYPE_CHECKING:
     from tqdm import tqdm
 
     from .cluster import DaskRunner
+    from .runs import RunRecord
+    from .spectra import ImportedSpectrum
 
 __all__ = ["EXIT_NOTHING_SURVIVES", "build_parser", "main"]
 
 #: exit code of ``solve`` when no candidate survives (the report still says why)
 EXIT_NOTHING_SURVIVES = 3
+#: environment variables naming the runs folder and the cache file (the options override them)
+RUNS_ENV = "ELUCIDATE_RUNS"
+CACHE_ENV = "ELUCIDATE_CACHE"
 
 _DESCRIPTION = """\
 Structure elucidation from routine evidence (EI mass spectrum, IR, UV-Vis, 13C counts).
@@ -254,6 +262,91 @@ def build_parser() -> argparse.ArgumentParser:
             "(default: the case's solve.worse_formulas, else they are named and left)"
         ),
     )
+    v.add_argument(
+        "--runs",
+        metavar="DIR",
+        help=f"folder for the run record (default: ${RUNS_ENV}, else runs/ beside the case file)",
+    )
+    v.add_argument("--no-record", action="store_true", help="write no run record")
+    v.add_argument(
+        "--cache",
+        metavar="PATH",
+        help=f"the candidate cache file (default: ${CACHE_ENV}, else candidates.sqlite in the user's cache folder)",
+    )
+    v.add_argument("--no-cache", action="store_true", help="neither read nor fill the candidate cache")
+
+    h = sub.add_parser("history", help="list the recorded runs of a case (every revision of its id)")
+    h.add_argument("case", metavar="CASE", help="case file (its id selects the runs)")
+    h.add_argument("--runs", metavar="DIR", help=f"runs folder (default: ${RUNS_ENV}, else runs/ beside the case)")
+    h.add_argument("--json", action="store_true", help="print a JSON list instead of text")
+
+    d = sub.add_parser(
+        "diff",
+        help="what changed between two runs: evidence, eliminations, rank movements, components",
+        description=(
+            "Compare two run records (A then B), or the last two runs of a case file. Shows the evidence\n"
+            "added, removed or changed, the formulas and counts per constraint, each candidate of A's\n"
+            "shortlist that left B's and why (its rank, or the constraint that eliminates it), the rank\n"
+            "movements and how the components of the leaders changed."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    d.add_argument("first", metavar="A|CASE", help="a run record, or a case file for its last two runs")
+    d.add_argument("second", metavar="B", nargs="?", help="the later run record")
+    d.add_argument("--runs", metavar="DIR", help="runs folder when a case file is given")
+    d.add_argument("--top", type=int, default=10, metavar="N", help="shortlist places compared (default 10)")
+    d.add_argument("--json", action="store_true", help="print a JSON object instead of text")
+
+    r = sub.add_parser(
+        "report",
+        help="a report of a run: self-contained HTML, Markdown, or the shortlist as CSV or SDF",
+        description=(
+            "Write a report of a run record (or of a case file's last run): HTML with the evidence,\n"
+            "the formulas with observed against simulated isotope clusters, the shortlist as a\n"
+            "structure grid, the evidence per candidate, observed against predicted EI ions, the\n"
+            "elimination funnel, the provenance and the cautions; Markdown with the same tables; or\n"
+            "the shortlist as CSV or SDF. The format follows -o's suffix unless --format is given."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    r.add_argument("source", metavar="RUN|CASE", help="a run record, or a case file for its last run")
+    r.add_argument("-o", "--output", metavar="FILE", help="write here (default: standard output)")
+    r.add_argument("--format", choices=sorted(REPORT_FORMATS), help="html, markdown, csv or sdf (default: html)")
+    r.add_argument("--runs", metavar="DIR", help="runs folder when a case file is given")
+
+    n = sub.add_parser("new", help="write a commented case-file template (never overwrites a file)")
+    n.add_argument("path", metavar="FILE", help="the new case file (.yaml)")
+    n.add_argument("--id", dest="case_id", metavar="ID", help="the unknown's id (default: the file name)")
+    n.add_argument("--title", metavar="TEXT", default="", help="a title")
+    n.add_argument("--molecular-ion", type=int, metavar="M", help="pre-fill the nominal m/z of M+.")
+    n.add_argument("--from", dest="spectrum", metavar="SPECTRUM", help="pre-fill peaks or bands from a spectrum file")
+    n.add_argument("--kind", choices=["ir", "ms"], help="what the spectrum is, when its file does not say")
+
+    m = sub.add_parser(
+        "import",
+        help="pick peaks or bands from a JCAMP-DX or two-column CSV spectrum, for pasting or a new case",
+        description=(
+            "Read an IR or EI mass spectrum (JCAMP-DX .jdx/.dx, or CSV x,y) and print the case-file lines:\n"
+            "mass_spec peaks (m/z: % of base peak) or infrared bands (cm-1 with strength). IR in\n"
+            "transmittance is turned into absorbance; bands are maxima above a prominence threshold.\n"
+            "Profile mass spectra are centroided. The method is printed with the result."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    m.add_argument("spectrum", metavar="FILE", help="the spectrum file")
+    m.add_argument("--kind", choices=["ir", "ms"], help="what the spectrum is, when its file does not say")
+    m.add_argument(
+        "--prominence",
+        type=float,
+        default=0.05,
+        metavar="F",
+        help="peak prominence threshold, a fraction (default 0.05)",
+    )
+    m.add_argument(
+        "--min-percent", type=float, default=0.1, metavar="P", help="MS: drop peaks below P %% of base (default 0.1)"
+    )
+    m.add_argument("-o", "--output", metavar="CASE", help="write a new case file with these peaks or bands")
+    m.add_argument("--id", dest="case_id", metavar="ID", help="the new case's id (default: the file name)")
     return parser
 
 
@@ -388,22 +481,27 @@ def _why(text: str, query: FormulaQuery, out: TextIO, ranked: Sequence[str]) -> 
 
 def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     failures = 0
-    seen: dict[str, str] = {}
+    seen: dict[str, list[tuple[str, str]]] = {}  # id -> (path, text hash) of the files checked
     for path in args.cases:
         try:
-            case = load_case(path)
+            text = read_text_file(path)
+            case = parse_case(text, file=path)
         except ElucidateError as exc:
             err.write(f"error: {exc}\n")
             failures += 1
             continue
-        if case.id in seen:
-            err.write(
-                f"error: {path}: id: {case.id!r} is already used by {seen[case.id]} (ids are unique per unknown)\n"
-            )
-            failures += 1
-            continue
-        seen[case.id] = path
-        out.write(f"ok: {path} ({case.id})\n")
+        digest = text_sha256(text)
+        earlier = seen.setdefault(case.id, [])
+        # revisions of one unknown keep its id and add evidence: the normal case, named as such
+        copy = next((p for p, d in earlier if d == digest), None)
+        if copy is not None:
+            note = f", the same text as {copy}"
+        elif earlier:
+            note = f", another revision of the unknown in {earlier[0][0]}"
+        else:
+            note = ""
+        earlier.append((path, digest))
+        out.write(f"ok: {path} ({case.id}{note})\n")
     if failures:
         err.write(f"{failures} of {len(args.cases)} case file(s) invalid\n")
     return 1 if failures else 0
@@ -525,7 +623,9 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
 
 def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
+    from .cache import CandidateCache, default_cache_path
     from .reports.solution_report import solve_json, solve_text
+    from .runs import case_runs, make_record, runs_folder, write_record
     from .solver import solve
 
     for option in ("top", "details"):
@@ -537,12 +637,35 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         raise ElucidateError("--limit must be 1 or more")
     if args.workers < 1:
         raise ElucidateError("--workers must be 1 or more")
-    case = load_case(args.case)
+    if args.no_record and args.runs:
+        raise ElucidateError("--runs and --no-record contradict each other: give one")
+    if args.no_cache and args.cache:
+        raise ElucidateError("--cache and --no-cache contradict each other: give one")
+    text = read_text_file(args.case)  # the exact text solved is the text recorded
+    case = parse_case(text, file=args.case)
     # the command line overrides the case's own solve section, which overrides the defaults
     formulas = args.formulas or case.solve.formulas or FORMULAS_PER_ION
     limit = int(args.limit) if args.limit is not None else (case.solve.limit or SOLVER_LIMIT)
     worse = bool(args.worse_formulas or case.solve.worse_formulas)
-    with TerminalProgress(err) as progress, _cluster(args.scheduler) or nullcontext() as runner:
+    folder = None if args.no_record else runs_folder(args.case, args.runs or os.environ.get(RUNS_ENV) or None)
+    problems: list[str] = []
+    earlier = case_runs(folder, case.id, problems=problems) if folder is not None else []
+    for problem in problems:
+        err.write(f"warning: skipped in the runs folder: {problem}\n")
+    previous = earlier[-1] if earlier else None
+    # the previous run's shortlist is followed: the record says where each went, and why
+    watch = [c["smiles"] for c in previous.shortlist] if previous is not None else []
+    cache_path = None if args.no_cache else (args.cache or os.environ.get(CACHE_ENV) or default_cache_path())
+
+    def warn(message: str) -> None:
+        err.write(f"warning: {message}\n")
+
+    cache = None if cache_path is None else CandidateCache(cache_path, warn=warn)
+    with (
+        TerminalProgress(err) as progress,
+        _cluster(args.scheduler) or nullcontext() as runner,
+        cache or nullcontext(),
+    ):
         solution = solve(
             case,
             limit=limit,
@@ -550,15 +673,252 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
             workers=args.workers,
             worse_formulas=worse,
             shortlist=args.top,
+            watch=watch,
             runner=runner,
             progress=progress,
+            cache=cache,
         )
+    result = solve_json(solution, top=args.top)
     if args.json:
-        json.dump(solve_json(solution, top=args.top), out, indent=1)
+        json.dump(result, out, indent=1)
         out.write("\n")
     else:
         out.write(solve_text(solution, top=args.top, details=args.details))
-    return 0 if solution.candidates else EXIT_NOTHING_SURVIVES
+    code = 0 if solution.candidates else EXIT_NOTHING_SURVIVES
+    if folder is not None:
+        options = {
+            "top": args.top,
+            "formulas": formulas,
+            "limit": limit,
+            "worse_formulas": worse,
+            "workers": args.workers,
+            "scheduler": args.scheduler,
+            "cache": None if cache_path is None else str(cache_path),
+        }
+        record = make_record(
+            case_path=str(Path(args.case).resolve()),
+            case_text=text,
+            case_id=case.id,
+            title=case.title,
+            version=__version__,
+            options=options,
+            result=result,
+            followed=[f.as_dict() for f in solution.followed],
+            previous=previous.name if previous is not None else None,
+        )
+        try:
+            path = write_record(record, folder)
+        except ElucidateError as exc:
+            err.write(f"error: {exc} (the result above is not recorded; --runs DIR or --no-record)\n")
+            return 1
+        err.write(f"run recorded: {path}\n")
+    return code
+
+
+def _case_id(path: str) -> str:
+    """A case file's id, read without validating the rest (its history is wanted even while the
+    file is being edited)."""
+    root = read_yaml_file(path)
+    node = root.value.get("id") if isinstance(root.value, dict) else None
+    if node is None or not isinstance(node.value, str) or not node.value.strip():
+        raise ElucidateError("a case file needs an id (text)", file=path, key="id")
+    return str(node.value)
+
+
+def _cmd_history(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
+    from .runs import case_runs, revisions, runs_folder
+
+    case_id = _case_id(args.case)
+    folder = runs_folder(args.case, args.runs or os.environ.get(RUNS_ENV) or None)
+    problems: list[str] = []
+    records = case_runs(folder, case_id, problems=problems)
+    for problem in problems:
+        err.write(f"warning: skipped: {problem}\n")
+    numbers = revisions(records)
+    current = text_sha256(read_text_file(args.case))
+    rows = []
+    for r in records:
+        result = r.result
+        top = r.shortlist[0] if r.shortlist else None
+        rows.append(
+            {
+                "record": r.name,
+                "created_utc": r.created,
+                "revision": numbers[r.case_sha256],
+                "current_text": r.case_sha256 == current,
+                "evidence": list(result.get("evidence", [])),
+                "formulas": [f["formula"] for f in result.get("formulas", []) if not f.get("skipped")],
+                "candidates": result.get("candidate_count", 0),
+                "top": None if top is None else {"smiles": top["smiles"], "score": top["score"]},
+                "version": r.data["tool"].get("version"),
+            }
+        )
+    if args.json:
+        json.dump({"case_id": case_id, "runs_folder": str(folder), "runs": rows}, out, indent=1)
+        out.write("\n")
+        return 0
+    out.write(f"case {case_id}: {len(rows)} run(s) in {folder}\n")
+    if not rows:
+        out.write("  none yet (elucidate solve records each run)\n")
+        return 0
+    table = [["record", "UTC", "rev", "evidence", "formulas", "candidates", "top candidate"]]
+    for row in rows:
+        top = row["top"]
+        rev = f"{row['revision']}{'*' if row['current_text'] else ''}"
+        table.append(
+            [
+                row["record"],
+                row["created_utc"][:19].replace("T", " "),
+                rev,
+                ", ".join(row["evidence"]) or "formula only",
+                " ".join(row["formulas"]) or "-",
+                f"{row['candidates']:,}",
+                "-" if top is None else f"{top['smiles']} ({top['score']:.3f})",
+            ]
+        )
+    out.write("\n".join("  " + line for line in text_table(table, [False, False, True, False, False, True, False])))
+    out.write(
+        "\n  rev: revision of the case text (a new revision each time the file changed); * = the file as it is now\n"
+    )
+    return 0
+
+
+def _last_run(path: str, runs: str | None) -> RunRecord:
+    """The record given, or the last recorded run of the case file given."""
+    from .runs import case_runs, read_record, runs_folder
+
+    if path.endswith(".json"):
+        return read_record(path)
+    case_id = _case_id(path)
+    folder = runs_folder(path, runs or os.environ.get(RUNS_ENV) or None)
+    records = case_runs(folder, case_id)
+    if not records:
+        raise ElucidateError(f"case {case_id} has no recorded run in {folder} (elucidate solve records one)")
+    return records[-1]
+
+
+def _cmd_report(args: argparse.Namespace, out: TextIO) -> int:
+    from .reports.documents import report_csv, report_html, report_markdown, report_sdf
+
+    record = _last_run(args.source, args.runs)
+    kind = args.format
+    if kind is None and args.output:
+        suffix = Path(args.output).suffix.lower()
+        kind = next((name for name, ends in REPORT_FORMATS.items() if suffix in ends), None)
+        if kind is None:
+            known = ", ".join(e for ends in REPORT_FORMATS.values() for e in ends)
+            raise ElucidateError(
+                f"-o {args.output}: unknown report suffix {suffix or '(none)'!r}; use {known} or --format"
+            )
+    writers = {"html": report_html, "markdown": report_markdown, "csv": report_csv, "sdf": report_sdf}
+    text = writers[kind or "html"](record)
+    if not args.output:
+        out.write(text)
+        return 0
+    target = Path(args.output)
+    try:
+        target.write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise ElucidateError(f"cannot write the report: {exc.strerror}", file=str(target)) from exc
+    out.write(f"report written: {target}\n")
+    return 0
+
+
+def _write_new_case(path: str, text: str, out: TextIO, case_id: str) -> None:
+    target = Path(path)
+    try:
+        with target.open("x", encoding="utf-8") as handle:  # "x": never overwrite
+            handle.write(text)
+    except FileExistsError as exc:
+        raise ElucidateError("already exists; elucidate never overwrites a file", file=path) from exc
+    except OSError as exc:
+        raise ElucidateError(f"cannot write: {exc.strerror}", file=path) from exc
+    out.write(f"case file written: {target} (id {case_id}); fill it in, then elucidate check {target}\n")
+
+
+def _new_case_id(path: str, given: str | None) -> str:
+    if Path(path).suffix.lower() not in (".yaml", ".yml"):
+        raise ElucidateError(f"{path}: a case file ends in .yaml or .yml")
+    return given or Path(path).stem.lower()
+
+
+def _imported(path: str, kind: str | None, prominence: float = 0.05, min_percent: float = 0.1) -> ImportedSpectrum:
+    from .spectra import pick, read_spectrum
+
+    trace = read_spectrum(path, kind=kind)
+    try:
+        return pick(trace, source=path, prominence=prominence, min_percent=min_percent)
+    except ElucidateError as exc:
+        raise exc.in_file(path) from exc
+
+
+def _cmd_new(args: argparse.Namespace, out: TextIO) -> int:
+    from .template import case_template
+
+    case_id = _new_case_id(args.path, args.case_id)
+    if args.molecular_ion is not None and mz_problem(args.molecular_ion, what="--molecular-ion"):
+        raise ElucidateError(str(mz_problem(args.molecular_ion, what="--molecular-ion")))
+    spectrum = _imported(args.spectrum, args.kind) if args.spectrum else None
+    text = case_template(
+        case_id,
+        title=args.title,
+        molecular_ion=args.molecular_ion,
+        peaks=spectrum.peaks if spectrum is not None else None,
+        bands=spectrum.bands if spectrum is not None else (),
+        source=args.spectrum,
+    )
+    _write_new_case(args.path, text, out, case_id)
+    return 0
+
+
+def _cmd_import(args: argparse.Namespace, out: TextIO) -> int:
+    from .spectra import bands_text, peaks_text
+    from .template import case_template
+
+    if args.min_percent < 0 or args.min_percent >= 100:
+        raise ElucidateError("--min-percent must be from 0 to below 100")
+    spectrum = _imported(args.spectrum, args.kind, args.prominence, args.min_percent)
+    if args.output:
+        case_id = _new_case_id(args.output, args.case_id)
+        text = case_template(case_id, peaks=spectrum.peaks, bands=spectrum.bands, source=args.spectrum)
+        _write_new_case(args.output, text, out, case_id)
+        return 0
+    out.write(f"# {args.spectrum}: {spectrum.method}\n")
+    if spectrum.kind == "ms":
+        out.write(f"# {len(spectrum.peaks)} peaks; paste under mass_spec: and set molecular_ion\n")
+        out.write(peaks_text(spectrum))
+    else:
+        out.write(f"# {len(spectrum.bands)} bands; paste under infrared:\n")
+        out.write(bands_text(spectrum))
+    return 0
+
+
+def _cmd_diff(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
+    from .reports.run_diff import diff_json, diff_records, diff_text
+    from .runs import case_runs, read_record, runs_folder
+
+    if args.top < 1:
+        raise ElucidateError("--top must be 1 or more")
+    if args.second is not None:
+        first, second = read_record(args.first), read_record(args.second)
+    else:
+        if args.first.endswith(".json"):
+            raise ElucidateError("give two run records (A B), or a case file for its last two runs")
+        case_id = _case_id(args.first)
+        folder = runs_folder(args.first, args.runs or os.environ.get(RUNS_ENV) or None)
+        records = case_runs(folder, case_id)
+        if len(records) < 2:
+            raise ElucidateError(
+                f"case {case_id} has {len(records)} recorded run(s) in {folder}; diff needs two (solve it again)"
+            )
+        first, second = records[-2], records[-1]
+    result = diff_records(first, second, top=args.top)
+    if args.json:
+        json.dump(diff_json(result), out, indent=1)
+        out.write("\n")
+    else:
+        out.write(diff_text(result))
+    return 0
 
 
 def _cluster(address: str | None) -> DaskRunner | None:
@@ -604,6 +964,16 @@ def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: Te
             return _cmd_isomers(args, out, err)
         if args.command == "solve":
             return _cmd_solve(args, out, err)
+        if args.command == "history":
+            return _cmd_history(args, out, err)
+        if args.command == "diff":
+            return _cmd_diff(args, out, err)
+        if args.command == "report":
+            return _cmd_report(args, out)
+        if args.command == "new":
+            return _cmd_new(args, out)
+        if args.command == "import":
+            return _cmd_import(args, out)
     except ElucidateError as exc:
         err.write(f"error: {exc}\n")
         return 1

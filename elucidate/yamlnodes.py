@@ -33,6 +33,7 @@ __all__ = [
     "mapping",
     "parse_range_text",
     "parse_yaml",
+    "read_text_file",
     "read_yaml_file",
 ]
 
@@ -83,23 +84,27 @@ class Located:
         return node
 
 
-def read_yaml_file(path: str | Path) -> Located:
-    """Read and compose a YAML file; never modifies it."""
+def read_text_file(path: str | Path) -> str:
+    """The UTF-8 text of a file (a byte-order mark dropped); never modifies it."""
     name = str(path)
     try:
         data = Path(path).read_bytes()
     except FileNotFoundError as exc:
         raise ElucidateError("file not found", file=name) from exc
     except IsADirectoryError as exc:
-        raise ElucidateError("is a directory, expected a YAML file", file=name) from exc
+        raise ElucidateError("is a directory, expected a text file", file=name) from exc
     except OSError as exc:
         raise ElucidateError(f"cannot read file: {exc.strerror}", file=name) from exc
     try:
-        text = data.decode("utf-8-sig")
+        return data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         line = data[: exc.start].count(b"\n") + 1
         raise ElucidateError("not UTF-8 text (save the file as UTF-8)", file=name, line=line) from exc
-    return parse_yaml(text, file=name)
+
+
+def read_yaml_file(path: str | Path) -> Located:
+    """Read and compose a YAML file; never modifies it."""
+    return parse_yaml(read_text_file(path), file=str(path))
 
 
 def parse_yaml(text: str, *, file: str = "<text>") -> Located:

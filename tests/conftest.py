@@ -47,6 +47,16 @@ def cli() -> Callable[..., CliResult]:
     return _run_cli
 
 
+@pytest.fixture(autouse=True)
+def _private_runs_and_cache(tmp_path_factory: pytest.TempPathFactory, monkeypatch: pytest.MonkeyPatch) -> Path:
+    """Every test gets its own runs folder and candidate cache, so no test writes beside the demo
+    cases or into the user's cache (tests of those places set the options themselves)."""
+    place = tmp_path_factory.mktemp("loop")
+    monkeypatch.setenv("ELUCIDATE_RUNS", str(place / "runs"))
+    monkeypatch.setenv("ELUCIDATE_CACHE", str(place / "candidates.sqlite"))
+    return place
+
+
 @pytest.fixture(scope="session")
 def project_root() -> Path:
     return Path(__file__).resolve().parent.parent

@@ -32,12 +32,18 @@ def test_check_reports_each_bad_file_and_fails(cli, tmp_path, cases_dir):
     assert "Traceback" not in res.err
 
 
-def test_check_duplicate_ids(cli, tmp_path, cases_dir):
-    a, b = tmp_path / "a.yaml", tmp_path / "b.yaml"
+def test_check_accepts_revisions_of_one_unknown(cli, tmp_path, cases_dir):
+    """Revisions of one unknown share its id (common practice: one id per sample, evidence added
+    over time); check names them as revisions, and a byte-identical copy as a copy."""
+    a, b, c = tmp_path / "a.yaml", tmp_path / "b.yaml", tmp_path / "c.yaml"
     shutil.copy(cases_dir / "cr-0417-a.yaml", a)
     shutil.copy(cases_dir / "cr-0417-a.yaml", b)
-    res = cli("check", str(a), str(b))
-    assert res.code == 1 and "already used" in res.err
+    c.write_text(a.read_text() + "uv_vis:\n  lambda_max: 264\n")
+    res = cli("check", str(a), str(b), str(c))
+    assert res.code == 0, res.err
+    lines = res.out.splitlines()
+    assert lines[1] == f"ok: {b} (cr-0417-a, the same text as {a})"
+    assert lines[2] == f"ok: {c} (cr-0417-a, another revision of the unknown in {a})"
 
 
 def test_formulas_text_table_and_caution(cli, cases_dir):
@@ -217,4 +223,5 @@ def test_solve_draws_a_bar_per_stage_on_a_terminal_and_keeps_stdout_json() -> No
     assert f"{data['candidate_count']}/{data['candidate_count']}" in bars  # scoring ran to the end
     piped = io.StringIO()
     assert main(["solve", case, "--json"], stdout=io.StringIO(), stderr=piped) == 0
-    assert piped.getvalue() == ""  # not a terminal: quiet
+    # not a terminal: no bar, only the line naming the run record
+    assert [line.split(":")[0] for line in piped.getvalue().splitlines()] == ["run recorded"]

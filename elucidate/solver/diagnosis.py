@@ -9,7 +9,11 @@ from dataclasses import replace
 from ..generator.selection import Selection
 from .records import KeptFormula
 
-__all__ = ["why_empty"]
+__all__ = ["DIAGNOSIS_BUDGET", "why_empty"]
+
+#: structures built at most per formula for one test of a constraint or pair (the test stops at
+#: the first survivor; one that would need more is named as not decided)
+DIAGNOSIS_BUDGET = 5_000
 
 
 def why_empty(
@@ -18,9 +22,13 @@ def why_empty(
     selection: Selection,
     generated: int,
     hypotheses: Sequence[int],
+    limit: int,
 ) -> tuple[str, ...]:
-    """Lines explaining an empty shortlist."""
-    from ..generator import GeneratorOptions, count_isomers
+    """Lines explaining an empty shortlist. Each test of a constraint alone or of a pair stops at
+    the first structure that survives it, and is left undecided past :data:`DIAGNOSIS_BUDGET`
+    (or ``limit``, when lower) structures per formula."""
+    from ..generator import GeneratorOptions, isomer_smiles
+    from ..generator.tasks import TooManyStructures
 
     if not kept:
         return (
@@ -46,8 +54,11 @@ def why_empty(
         declared.append(("declared NMR counts", selection.count_test.label))
     formulas = [k.formula for k in kept if not k.skipped]
     bare = Selection(profile=selection.profile)
+    budget = min(limit, DIAGNOSIS_BUDGET)
+    undecided: list[str] = []
 
-    def survivors(parts: Sequence[tuple[str, str]]) -> int:
+    def survivors(parts: Sequence[tuple[str, str]]) -> bool | None:
+        """Whether any structure survives ``parts`` (None: not known within the limit)."""
         spec: dict[str, tuple[str, ...]] = {"require": (), "forbid": (), "require_smarts": (), "forbid_smarts": ()}
         for key, value in parts:
             if key in spec:
@@ -60,18 +71,35 @@ def why_empty(
             forbid_smarts=spec["forbid_smarts"],
             counts=selection.counts if any(key == "declared NMR counts" for key, _ in parts) else None,
         )
-        return sum(count_isomers(f, GeneratorOptions(selection=sel)) for f in formulas)
+        try:
+            return any(
+                next(iter(isomer_smiles(f, GeneratorOptions(selection=sel), budget=budget)), None) for f in formulas
+            )
+        except TooManyStructures:
+            return None
 
     alone = {d: survivors([d]) for d in declared}
     for d, n in alone.items():
-        if n == 0:
+        if n is False:
             lines.append(f"{d[0]} {d[1]} alone leaves no structure of {', '.join(map(str, formulas))}")
+        elif n is None:
+            undecided.append(f"{d[0]} {d[1]}")
     for i, a in enumerate(declared):
         for b in declared[i + 1 :]:
-            if alone[a] and alone[b] and survivors([a, b]) == 0:
+            if not (alone[a] and alone[b]):
+                continue
+            both = survivors([a, b])
+            if both is False:
                 lines.append(
                     f"{a[0]} {a[1]} and {b[0]} {b[1]} contradict each other for {', '.join(map(str, formulas))}"
                 )
+            elif both is None:
+                undecided.append(f"{a[0]} {a[1]} with {b[0]} {b[1]}")
+    if undecided:
+        lines.append(
+            f"not decided within {budget:,} structures per formula whether any structure passes: "
+            + "; ".join(undecided)
+        )
     if not lines:
         lines.append(
             f"all {generated} generated structures were removed by the plausibility profile {selection.profile!r}"

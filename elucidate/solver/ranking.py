@@ -38,6 +38,7 @@ from .suspects import assess_suspect
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
+    from ..cache import CandidateCache
     from ..formula import Formula
 
 __all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "solve"]
@@ -128,6 +129,7 @@ def solve(
     watch: Sequence[str] = (),
     runner: Runner | None = None,
     progress: Progress | None = None,
+    cache: CandidateCache | None = None,
 ) -> Solution:
     """Solve one case. ``limit``: largest structure space per formula that is enumerated
     (estimated first, with 10 partial skeletons allowed per structure, and counted while
@@ -138,16 +140,28 @@ def solve(
     ``worse_formulas``: also enumerate formulas ranked below a formula skipped for size (by more
     than the scoring table's ``worse_than_skipped`` factor), which are otherwise named and left;
     ``shortlist``: the places ranked exactly (0: every candidate; the rest are scored only as far
-    as needed to show they rank lower, :mod:`.passes`); ``watch``: SMILES whose exact rank is
-    wanted too, like the case's suspects; ``runner``: where generation and scoring run (a Dask
-    cluster: :class:`elucidate.cluster.DaskRunner`; default: ``workers`` local processes);
-    ``progress``: told how far each stage has got (:mod:`elucidate.progress`)."""
+    as needed to show they rank lower, :mod:`.passes`); ``watch``: SMILES whose exact rank (or
+    eliminating constraint) is wanted too, like the case's suspects (``Solution.followed``);
+    ``runner``: where generation and scoring run (a Dask cluster:
+    :class:`elucidate.cluster.DaskRunner`; default: ``workers`` local processes);
+    ``progress``: told how far each stage has got (:mod:`elucidate.progress`); ``cache``: where
+    generated candidate sets are kept between runs (:mod:`elucidate.cache`)."""
     if shortlist < 0:
         raise ElucidateError(f"shortlist must be 0 (every candidate) or more, got {shortlist}")
     work = runner if runner is not None else local_runner(workers)
     try:
         return _solve(
-            case, limit, max_formulas, work, groups, scoring, worse_formulas, shortlist, watch, progress or silent
+            case,
+            limit,
+            max_formulas,
+            work,
+            groups,
+            scoring,
+            worse_formulas,
+            shortlist,
+            watch,
+            progress or silent,
+            cache,
         )
     finally:
         if runner is None:
@@ -165,6 +179,7 @@ def _solve(
     shortlist: int,
     watch: Sequence[str],
     progress: Progress,
+    cache: CandidateCache | None,
 ) -> Solution:
     from ..generator import GeneratorOptions, SpaceEstimate, estimate_space, isomer_smiles
     from ..generator.tasks import NODES_PER_STRUCTURE, TooManyStructures
@@ -237,6 +252,20 @@ def _solve(
                 and fit is not None
                 and fit < (skipped.ranking_score or 0.0) / sc.worse_than_skipped
             )
+            key = cache.key(str(cand.formula), repr(options)) if cache is not None and not held else None
+            hit = cache.get(key) if cache is not None and key is not None else None
+            if hit is not None and hit.tested <= limit:  # generated before under the same hard constraints
+                found += [
+                    FoundCandidate(s, cand.formula, m, cand.score, cand.demotion, cand.demoted_by) for s in hit.smiles
+                ]
+                for label, n in hit.removed.items():
+                    removed[label] = removed.get(label, 0) + n
+                generated += hit.tested
+                kept.append(
+                    KeptFormula(cand.formula, m, cand.score, len(hit.smiles), None, cand.demoted_by, cand.demotion)
+                )
+                progress("generation", len(found), None)
+                continue
             space = SpaceEstimate(0.0, 0.0) if held else estimate_space(cand.formula, estimate_options)
             estimate = space.structures
             over = space.over(limit)
@@ -288,6 +317,8 @@ def _solve(
                     skipped = cand
                 continue
             count = len(found) - before
+            if cache is not None and key is not None:
+                cache.put(key, str(cand.formula), [f.smiles for f in found[before:]], local)
             for label, n in local.items():
                 removed[label] = removed.get(label, 0) + n
             generated += count + sum(local.values())
@@ -326,8 +357,11 @@ def _solve(
         assess_suspect(text, case, candidates, kept, hypotheses, compiled, evaluator, applied)
         for text in (case.structure.suspects if case.structure else ())
     )
+    followed = tuple(
+        assess_suspect(text, case, candidates, kept, hypotheses, compiled, evaluator, applied) for text in watch
+    )
     readings = {t.reading_key: t.read(case) for t in every if t.reading_key is not None}
-    empty = why_empty(kept, removed, selection, generated, hypotheses) if not candidates else ()
+    empty = why_empty(kept, removed, selection, generated, hypotheses, limit) if not candidates else ()
     return Solution(
         case,
         hypotheses,
@@ -345,6 +379,7 @@ def _solve(
         tuple(untried),
         len(found),
         scored.passes,
+        followed,
     )
 
 

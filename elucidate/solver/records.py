@@ -178,6 +178,8 @@ class Solution:
     candidate_count: int = 0
     #: the scoring passes: techniques, candidates run, candidates settled (:mod:`.passes`)
     scoring_passes: tuple[PassCount, ...] = ()
+    #: each SMILES of ``solve(watch=...)``: its rank, or the constraint that eliminates it
+    followed: tuple[SuspectResult, ...] = ()
 
 
 @dataclass(frozen=True)

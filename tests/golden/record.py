@@ -63,7 +63,9 @@ def full_commands() -> list[list[str]]:
 
 def run(argv: list[str]) -> dict[str, object]:
     out, err = io.StringIO(), io.StringIO()
-    code = main(argv, stdout=out, stderr=err)
+    # outputs only: no run record, no cache (test_golden.py adds the same options)
+    extra = ["--no-record", "--no-cache"] if argv[0] == "solve" else []
+    code = main(argv + extra, stdout=out, stderr=err)
     return {"argv": argv, "code": code, "stdout": out.getvalue(), "stderr": err.getvalue()}
 
 

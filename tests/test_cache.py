@@ -1,0 +1,145 @@
+"""The candidate cache (elucidate.cache): reruns read generated sets back, and a bad cache file
+never breaks a run.
+
+Reference: SQLite's own file format and locking (sqlite.org, "Database File Format" and "File
+Locking And Concurrency"): the header string "SQLite format 3", ``PRAGMA integrity_check``, the
+``application_id`` and ``user_version`` header fields. The equality checks compare against a run
+without the cache (the program's own reference path).
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import sqlite3
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from elucidate.cache import CACHE_SCHEMA, CandidateCache
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "cases" / "cr-0509-i.yaml"
+
+
+@pytest.fixture
+def demo(tmp_path: Path) -> Path:
+    case = tmp_path / "unknown.yaml"
+    shutil.copy(DEMO, case)
+    return case
+
+
+def _solve(cli, case: Path, cache: Path | None):
+    extra = ["--cache", str(cache)] if cache is not None else ["--no-cache"]
+    return cli("solve", str(case), "--json", "--top", "5", "--no-record", *extra)
+
+
+def _no_generation(monkeypatch: pytest.MonkeyPatch) -> None:
+    import elucidate.generator as generator
+
+    def refuse(*args: object, **kwargs: object) -> None:
+        raise AssertionError("generated again")
+
+    monkeypatch.setattr(generator, "isomer_smiles", refuse)
+
+
+def _entries(cache: Path) -> int:
+    with sqlite3.connect(cache) as db:
+        return int(db.execute("SELECT COUNT(*) FROM sets").fetchone()[0])
+
+
+def test_a_rerun_with_new_soft_evidence_is_scored_from_the_cache(cli, demo, tmp_path, monkeypatch):
+    cache = tmp_path / "c.sqlite"
+    cold = _solve(cli, demo, cache)
+    assert cold.code == 0, cold.err
+    entries = _entries(cache)
+    assert entries == len([f for f in cold.json()["formulas"] if not f["skipped"]])
+    demo.write_text(demo.read_text().replace("lambda_max: 252", "lambda_max: 258"))  # soft: UV only
+    with monkeypatch.context() as patched:
+        _no_generation(patched)
+        warm = _solve(cli, demo, cache)
+    assert warm.code == 0, warm.err
+    assert warm.out == _solve(cli, demo, None).out  # identical to a run without the cache
+    assert _entries(cache) == entries
+
+
+def test_a_new_hard_constraint_generates_again(cli, demo, tmp_path):
+    cache = tmp_path / "c.sqlite"
+    assert _solve(cli, demo, cache).code == 0
+    before = _entries(cache)
+    demo.write_text(demo.read_text().replace("structure:\n", 'structure:\n  forbid_smarts: ["[CH3]c"]\n'))
+    res = _solve(cli, demo, cache)
+    assert res.code == 0, res.err
+    assert _entries(cache) > before  # the forbidden SMARTS shaped generation: a new key
+
+
+@pytest.mark.parametrize(
+    ("make", "what"),
+    [
+        (lambda p: p.write_bytes(b"\x00garbage, not SQLite" * 50), "not a usable elucidate cache"),
+        (lambda p: sqlite3.connect(p).execute("CREATE TABLE accounts (x)").connection.commit(), "another program"),
+    ],
+    ids=["corrupt", "foreign"],
+)
+def test_a_corrupt_or_foreign_file_is_set_aside_and_rebuilt(cli, demo, tmp_path, make, what):
+    cache = tmp_path / "c.sqlite"
+    make(cache)
+    original = cache.read_bytes()
+    res = _solve(cli, demo, cache)
+    assert res.code == 0 and "Traceback" not in res.err
+    assert what in res.err and "set aside" in res.err
+    [aside] = tmp_path.glob("c.sqlite.unusable-*")
+    assert aside.read_bytes() == original  # kept for inspection, never deleted
+    assert cache.read_bytes()[:16] == b"SQLite format 3\x00" and _entries(cache) > 0
+
+
+def test_a_cache_from_a_newer_version_is_left_alone(cli, demo, tmp_path):
+    cache = tmp_path / "c.sqlite"
+    assert _solve(cli, demo, cache).code == 0
+    with sqlite3.connect(cache) as db:
+        db.execute(f"PRAGMA user_version = {CACHE_SCHEMA + 1}")
+    original = cache.read_bytes()
+    res = _solve(cli, demo, cache)
+    assert res.code == 0
+    assert "newer elucidate" in res.err and "not used this run" in res.err
+    assert cache.read_bytes() == original
+
+
+def test_a_damaged_entry_is_generated_again(tmp_path):
+    seen: list[str] = []
+    cache = CandidateCache(tmp_path / "c.sqlite", warn=seen.append)
+    key = cache.key("C2H6O", "selection")
+    cache.put(key, "C2H6O", ["CCO", "COC"], {"profile": 0})
+    entry = cache.get(key)
+    assert entry is not None and entry.smiles == ("CCO", "COC") and entry.tested == 2
+    with sqlite3.connect(tmp_path / "c.sqlite") as db:
+        db.execute("UPDATE sets SET count = 5")
+    assert cache.get(key) is None
+    assert "cannot be read" in seen[-1]
+    cache.close()
+
+
+def test_keys_differ_by_formula_and_by_generation():
+    cache = CandidateCache(Path("unused.sqlite"))
+    assert cache.key("C2H6O", "a") == cache.key("C2H6O", "a")
+    assert cache.key("C2H6O", "a") != cache.key("C2H6O", "b")
+    assert cache.key("C2H6O", "a") != cache.key("C3H8O", "a")
+
+
+def test_two_processes_solving_at_once_share_the_cache(demo, tmp_path):
+    cache = tmp_path / "c.sqlite"
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    argv = [sys.executable, "-m", "elucidate", "solve", str(demo), "--json", "--no-record", "--cache", str(cache)]
+    procs = [subprocess.Popen(argv, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env) for _ in "ab"]
+    outs = [p.communicate(timeout=600) for p in procs]
+    assert [p.returncode for p in procs] == [0, 0], [e for _, e in outs]
+    assert outs[0][0] == outs[1][0]
+    assert not any("warning" in e for _, e in outs)
+    with sqlite3.connect(cache) as db:
+        assert db.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
+        keys = db.execute("SELECT COUNT(*), COUNT(DISTINCT key) FROM sets").fetchone()
+    assert keys[0] == keys[1] > 0
+    third = subprocess.run(argv, capture_output=True, text=True, env=env, timeout=600)
+    assert third.returncode == 0 and third.stdout == outs[0][0]
