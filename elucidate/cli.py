@@ -347,6 +347,22 @@ def build_parser() -> argparse.ArgumentParser:
     )
     m.add_argument("-o", "--output", metavar="CASE", help="write a new case file with these peaks or bands")
     m.add_argument("--id", dest="case_id", metavar="ID", help="the new case's id (default: the file name)")
+
+    x = sub.add_parser(
+        "next",
+        help="which cheap measurement would best split the shortlist of a case's last run",
+        description=(
+            "Rank the measurements a lab can make cheaply (13C count, DEPT, a band in a named IR\n"
+            "region, a UV maximum, an exact mass, a D2O shake, a 1H integral pattern) by the expected\n"
+            "information gain over the score-weighted shortlist of a run, and say what each outcome\n"
+            "would leave. Measurements the case already holds are left out."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    x.add_argument("source", metavar="CASE|RUN", help="a case file (its last run) or a run record")
+    x.add_argument("--runs", metavar="DIR", help="runs folder when a case file is given")
+    x.add_argument("--top", type=int, default=5, metavar="N", help="measurements shown (default 5)")
+    x.add_argument("--json", action="store_true", help="print a JSON list instead of text")
     return parser
 
 
@@ -783,18 +799,26 @@ def _cmd_history(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     return 0
 
 
-def _last_run(path: str, runs: str | None) -> RunRecord:
-    """The record given, or the last recorded run of the case file given."""
-    from .runs import case_runs, read_record, runs_folder
+def _case_records(path: str, runs: str | None, need: int) -> list[RunRecord]:
+    """The recorded runs of the case file at ``path``, oldest first; at least ``need`` of them."""
+    from .runs import case_runs, runs_folder
 
-    if path.endswith(".json"):
-        return read_record(path)
     case_id = _case_id(path)
     folder = runs_folder(path, runs or os.environ.get(RUNS_ENV) or None)
     records = case_runs(folder, case_id)
-    if not records:
-        raise ElucidateError(f"case {case_id} has no recorded run in {folder} (elucidate solve records one)")
-    return records[-1]
+    if len(records) < need:
+        raise ElucidateError(
+            f"case {case_id} has {len(records)} recorded run(s) in {folder}, {need} needed "
+            "(elucidate solve records one)"
+        )
+    return records
+
+
+def _last_run(path: str, runs: str | None) -> RunRecord:
+    """The record given, or the last recorded run of the case file given."""
+    from .runs import read_record
+
+    return read_record(path) if path.endswith(".json") else _case_records(path, runs, 1)[-1]
 
 
 def _cmd_report(args: argparse.Namespace, out: TextIO) -> int:
@@ -893,9 +917,39 @@ def _cmd_import(args: argparse.Namespace, out: TextIO) -> int:
     return 0
 
 
+def _cmd_next(args: argparse.Namespace, out: TextIO) -> int:
+    from .advice_next import rank_measurements
+    from .reports.documents import run_case
+
+    if args.top < 1:
+        raise ElucidateError("--top must be 1 or more")
+    record = _last_run(args.source, args.runs)
+    ranked = rank_measurements(record.shortlist, run_case(record))[: args.top]
+    if args.json:
+        data = [
+            {
+                "measurement": m.name,
+                "bits": round(m.bits, 6),
+                "outcomes": [
+                    {"outcome": o, "probability": round(p, 6), "candidates": list(c)} for o, p, c in m.outcomes
+                ],
+            }
+            for m in ranked
+        ]
+        json.dump({"run": record.name, "shortlist": len(record.shortlist), "measurements": data}, out, indent=1)
+        out.write("\n")
+        return 0
+    out.write(f"what to measure next for {record.case_id} (run {record.name}, shortlist of {len(record.shortlist)}):\n")
+    if not ranked:
+        out.write("  nothing cheap splits the shortlist: every measurement listed would give the same outcome\n")
+    for number, m in enumerate(ranked, start=1):
+        out.write(f"  {number}. {m.name}: {m.bits:.2f} bits expected; {m.describe()}\n")
+    return 0
+
+
 def _cmd_diff(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     from .reports.run_diff import diff_json, diff_records, diff_text
-    from .runs import case_runs, read_record, runs_folder
+    from .runs import read_record
 
     if args.top < 1:
         raise ElucidateError("--top must be 1 or more")
@@ -904,14 +958,7 @@ def _cmd_diff(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     else:
         if args.first.endswith(".json"):
             raise ElucidateError("give two run records (A B), or a case file for its last two runs")
-        case_id = _case_id(args.first)
-        folder = runs_folder(args.first, args.runs or os.environ.get(RUNS_ENV) or None)
-        records = case_runs(folder, case_id)
-        if len(records) < 2:
-            raise ElucidateError(
-                f"case {case_id} has {len(records)} recorded run(s) in {folder}; diff needs two (solve it again)"
-            )
-        first, second = records[-2], records[-1]
+        first, second = _case_records(args.first, args.runs, 2)[-2:]
     result = diff_records(first, second, top=args.top)
     if args.json:
         json.dump(diff_json(result), out, indent=1)
@@ -974,6 +1021,8 @@ def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: Te
             return _cmd_new(args, out)
         if args.command == "import":
             return _cmd_import(args, out)
+        if args.command == "next":
+            return _cmd_next(args, out)
     except ElucidateError as exc:
         err.write(f"error: {exc}\n")
         return 1

@@ -1,6 +1,6 @@
 """The README's walk of one demo unknown through the working loop, command by command:
 new (from the imported mass spectrum) -> solve (MS only) -> import the IR and declare groups ->
-solve -> add UV and a 13C count -> solve (from the cache) -> diff -> report -> history.
+solve -> add UV and a 13C count -> solve (from the cache) -> diff -> report -> next -> history.
 
 The answer checked at the end is 4'-methylacetophenone, the compound the invented demo data of
 cases/cr-0509-i.yaml was made from (its spectra in cases/spectra/ are invented too); the
@@ -55,6 +55,11 @@ def test_the_readme_walk(cli, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -
 
     report = cli("report", "unknown.yaml", "-o", "unknown.html")
     assert report.code == 0 and (tmp_path / "unknown.html").read_text().count("<svg") > 3
+
+    advice = cli("next", "unknown.yaml", "--json")
+    assert advice.code == 0, advice.err
+    names = [m["measurement"] for m in advice.json()["measurements"]]
+    assert names and "a 13C spectrum (signal count)" not in names  # the case holds a 13C count
 
     history = cli("history", "unknown.yaml", "--json").json()["runs"]
     assert [r["revision"] for r in history] == [1, 2, 3]

@@ -18,18 +18,21 @@ import io
 from collections.abc import Mapping, Sequence
 from typing import Any
 
+from ..advice_next import rank_measurements
 from ..case import Case, parse_case
 from ..errors import ElucidateError
 from ..runs import RunRecord
 from .layout import CAUTION
 
-__all__ = ["REPORT_FORMATS", "report_csv", "report_html", "report_markdown", "report_sdf"]
+__all__ = ["REPORT_FORMATS", "report_csv", "report_html", "report_markdown", "report_sdf", "run_case"]
 
 #: output formats by name, and the file suffixes that select them
 REPORT_FORMATS = {"html": (".html", ".htm"), "markdown": (".md",), "csv": (".csv",), "sdf": (".sdf",)}
 #: candidates drawn in the structure grid, and given a mass-spectrum comparison
 GRID = 12
 SPECTRA = 3
+#: measurements suggested in the report
+NEXT_SHOWN = 3
 
 _STYLE = """
 body{font-family:sans-serif;margin:1.5em;color:#222;max-width:72em}
@@ -41,7 +44,7 @@ th{background:#eee}td.n{text-align:right}.caution{background:#fff3cd;border:1px 
 """
 
 
-def _case(record: RunRecord) -> Case | None:
+def run_case(record: RunRecord) -> Case | None:
     """The case as run, read with this version's loader (None if it no longer reads)."""
     try:
         return parse_case(record.case_text, file=str(record.data["case"].get("path", "case")))
@@ -245,7 +248,7 @@ def _techniques(shortlist: Sequence[Mapping[str, Any]]) -> list[str]:
 def report_html(record: RunRecord, *, top: int = GRID) -> str:
     """The run as one self-contained HTML page."""
     result = record.result
-    case = _case(record)
+    case = run_case(record)
     shortlist = record.shortlist
     title = f"{record.case_id}: {record.data['case'].get('title', '')}"
     out = [
@@ -302,6 +305,11 @@ def report_html(record: RunRecord, *, top: int = GRID) -> str:
     if any(spectra):
         out.append("<h2>Mass spectrum against predicted ions</h2>")
         out += [s for s in spectra if s]
+    advice = rank_measurements(shortlist[:top], case)[:NEXT_SHOWN]
+    if advice:
+        out.append("<h2>What to measure next</h2>")
+        rows = [[m.name, f"{m.bits:.2f}", m.describe()] for m in advice]
+        out.append(_table(["measurement", "expected bits", "what each outcome would leave"], rows, [False, True]))
     suspects = result.get("suspects", [])
     if suspects:
         out.append("<h2>Suspects</h2>")
@@ -331,7 +339,7 @@ def _md_table(head: Sequence[str], rows: Sequence[Sequence[object]]) -> list[str
 def report_markdown(record: RunRecord, *, top: int = GRID) -> str:
     """The run for a lab notebook: the same sections as the HTML page, without pictures."""
     result = record.result
-    case = _case(record)
+    case = run_case(record)
     shortlist = record.shortlist
     lines = [f"# {record.case_id}: {record.data['case'].get('title', '')}", "", f"> {CAUTION}", "", "## Evidence", ""]
     lines += _md_table(["technique", "as given"], _evidence_rows(case))
