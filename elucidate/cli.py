@@ -1,7 +1,9 @@
-"""Command line: ``elucidate check``, ``formulas``, ``isomers`` and ``solve``.
+"""Command line: ``elucidate check``, ``formulas``, ``isomers``, ``solve``, and the working loop
+around it: ``history``, ``diff``, ``report``, ``next``, ``import`` and ``new``.
 
 Thin layer over the pure core: it parses arguments, reads case files, calls the engine and prints.
-Exit codes: 0 success, 1 invalid input (a case file or value; the message says where), 2 usage.
+Exit codes: 0 success, 1 invalid input (a case file or value; the message says where), 2 usage,
+3 ``solve`` found no candidate.
 """
 
 from __future__ import annotations
