@@ -942,7 +942,9 @@ def _cmd_next(args: argparse.Namespace, out: TextIO) -> int:
         out.write("\n")
         return 0
     out.write(f"what to measure next for {record.case_id} (run {record.name}, shortlist of {len(record.shortlist)}):\n")
-    if not ranked:
+    if not record.shortlist:
+        out.write("  the run has no candidate: see why in its report (elucidate report), then revise the constraints\n")
+    elif not ranked:
         out.write("  nothing cheap splits the shortlist: every measurement listed would give the same outcome\n")
     for number, m in enumerate(ranked, start=1):
         out.write(f"  {number}. {m.name}: {m.bits:.2f} bits expected; {m.describe()}\n")
