@@ -3,7 +3,7 @@ around it: ``history``, ``diff``, ``report``, ``next``, ``import`` and ``new``.
 
 Thin layer over the pure core: it parses arguments, reads case files, calls the engine and prints.
 Exit codes: 0 success, 1 invalid input (a case file or value; the message says where), 2 usage,
-3 ``solve`` found no candidate.
+3 ``solve`` found no candidate, 4 refused as too large (above the size limit).
 """
 
 from __future__ import annotations
@@ -23,7 +23,7 @@ from . import __version__
 from .case import Case, FormulaSpec, base_peak_problem, intensity_problem, load_case, mz_problem, parse_case
 from .defaults import EXACT_MASS_KINDS, FORMULAS_PER_ION, ISOMERS_LIMIT, RATIO_LEVELS, SOLVER_LIMIT, WORKERS
 from .elements import default_elements
-from .errors import ElucidateError
+from .errors import ElucidateError, TooLarge
 from .formula import parse_formula
 from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
 from .progress import TerminalProgress
@@ -40,10 +40,13 @@ if TYPE_CHECKING:
     from .runs import RunRecord
     from .spectra import ImportedSpectrum
 
-__all__ = ["EXIT_NOTHING_SURVIVES", "build_parser", "main"]
+__all__ = ["EXIT_NOTHING_SURVIVES", "EXIT_TOO_LARGE", "build_parser", "main"]
 
 #: exit code of ``solve`` when no candidate survives (the report still says why)
 EXIT_NOTHING_SURVIVES = 3
+#: exit code when the question is refused as too large (isomers over --limit; solve when every
+#: formula was above the limit)
+EXIT_TOO_LARGE = 4
 #: environment variables naming the runs folder and the cache file (the options override them)
 RUNS_ENV = "ELUCIDATE_RUNS"
 CACHE_ENV = "ELUCIDATE_CACHE"
@@ -571,6 +574,13 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if args.formula is None:
         raise ElucidateError("give a formula, e.g. elucidate isomers C7H8O")
     formula = parse_formula(args.formula)
+    if args.limit < 1:
+        raise ElucidateError("--limit must be 1 or more")
+    if formula.dbe().denominator != 1:
+        raise ElucidateError(
+            f"{formula} has a half-integer DBE ({float(formula.dbe()):g}): no neutral closed-shell molecule has this "
+            "formula (a radical or an ion); check the H count"
+        )
     groups = default_groups()
     for name in [*args.require, *args.forbid]:
         groups[name]  # unknown names raise with the list of known ones
@@ -598,7 +608,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     )
     space = estimate_space(formula, options)
     if space.over(args.limit):
-        raise ElucidateError(
+        raise TooLarge(
             f"{formula}: about {space.structures:,.0f} structures to test and {space.nodes:,.0f} partial "
             "skeletons to grow estimated (Knuth's tree-size estimate of the space walked, before the "
             f"constraints are tested), above the limit of {args.limit:,.0f} structures (or 10 times as many "
@@ -702,7 +712,8 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         out.write("\n")
     else:
         out.write(solve_text(solution, top=args.top, details=args.details))
-    code = 0 if solution.candidates else EXIT_NOTHING_SURVIVES
+    every_skipped = bool(solution.formulas) and all(k.skipped for k in solution.formulas)
+    code = 0 if solution.candidates else EXIT_TOO_LARGE if every_skipped else EXIT_NOTHING_SURVIVES
     if folder is not None:
         options = {
             "top": args.top,
@@ -1027,6 +1038,9 @@ def _dispatch(args: argparse.Namespace, parser: argparse.ArgumentParser, out: Te
             return _cmd_import(args, out)
         if args.command == "next":
             return _cmd_next(args, out)
+    except TooLarge as exc:
+        err.write(f"error: {exc}\n")
+        return EXIT_TOO_LARGE
     except ElucidateError as exc:
         err.write(f"error: {exc}\n")
         return 1

@@ -7,7 +7,7 @@ working, and it carries where the problem is: the file, the 1-based line and the
 
 from __future__ import annotations
 
-__all__ = ["ElucidateError"]
+__all__ = ["ElucidateError", "TooLarge"]
 
 
 class ElucidateError(ValueError):
@@ -42,3 +42,7 @@ class ElucidateError(ValueError):
             where = f"line {self.line}: "
         key = f"{self.key}: " if self.key else ""
         return f"{where}{key}{self.message}"
+
+
+class TooLarge(ElucidateError):
+    """A question refused because its space is above the size limit (the command line exits 4)."""

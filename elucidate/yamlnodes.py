@@ -134,6 +134,12 @@ def parse_yaml(text: str, *, file: str = "<text>") -> Located:
             ) from exc
         except yaml.YAMLError as exc:
             raise ElucidateError(f"not valid YAML: {exc}", file=file) from exc
+        except RecursionError as exc:  # the YAML composer recurses once per nesting level
+            raise ElucidateError(
+                f"values nested too deeply to read (a case file needs a few levels; more than {_MAX_DEPTH} "
+                "are refused)",
+                file=file,
+            ) from exc
         if root is None:
             raise ElucidateError("the file is empty, expected a YAML mapping", file=file, line=1)
         converter = _Converter(loader, file)
@@ -217,7 +223,7 @@ class _Converter:
             value = self.loader.construct_object(node, deep=True)
         except (yaml.YAMLError, ValueError, OverflowError, TypeError) as exc:
             raise ElucidateError(
-                f"cannot read value {node.value!r}",
+                f"cannot read value {_shown(node.value)}",
                 file=self.file,
                 line=node.start_mark.line + 1,
                 key=key or None,
@@ -226,6 +232,40 @@ class _Converter:
 
 
 # ---------------------------------------------------------------- typed readers
+
+
+#: characters of a value echoed in a message; a longer one is shortened and its length given
+_SHOWN = 60
+#: characters that look like a hyphen or minus but are not, named in messages
+_DASHES = {
+    "\u2010": "HYPHEN",
+    "\u2011": "NON-BREAKING HYPHEN",
+    "\u2012": "FIGURE DASH",
+    "\u2013": "EN DASH",
+    "\u2014": "EM DASH",
+    "\u2212": "MINUS SIGN",
+    "\ufe63": "SMALL HYPHEN-MINUS",
+    "\uff0d": "FULLWIDTH HYPHEN-MINUS",
+}
+
+
+def _shown(value: Any) -> str:
+    text = repr(value)
+    if len(text) <= _SHOWN:
+        return text
+    return f"{text[: _SHOWN - 10]}...{text[-6:]} ({len(str(value)):,} characters)"
+
+
+def _dash_hint(value: Any) -> str:
+    """Names a dash character that is not the ASCII hyphen-minus a range needs."""
+    if not isinstance(value, str):
+        return ""
+    for char in value:
+        if char in _DASHES:
+            return (
+                f" (the character {char!r} is U+{ord(char):04X} {_DASHES[char]}, not the hyphen-minus '-': write 0-20)"
+            )
+    return ""
 
 
 def _describe(value: Any) -> str:
@@ -237,7 +277,7 @@ def _describe(value: Any) -> str:
         return "a mapping"
     if isinstance(value, list):
         return "a list"
-    return repr(value)
+    return _shown(value)
 
 
 def _comma_hint(value: Any) -> str:
@@ -361,7 +401,7 @@ def as_range(loc: Located, *, what: str = "a count or range such as 0-40") -> tu
         return value, value
     parsed = parse_range_text(value) if isinstance(value, str) else None
     if parsed is None:
-        raise loc.error(f"expected {what}; got {_describe(value)}")
+        raise loc.error(f"expected {what}; got {_describe(value)}{_dash_hint(value)}")
     low, high = parsed
     if low > high:
         raise loc.error(f"range {value!r}: the low end {low} exceeds the high end {high}")
@@ -380,5 +420,7 @@ def as_choice(loc: Located, choices: Sequence[str], *, what: str = "one of") -> 
     value = loc.value
     text = str(value) if isinstance(value, (str, int, float)) and not isinstance(value, bool) else None
     if text is None or text not in choices:
-        raise loc.error(f"expected {what} {', '.join(choices)}; got {_describe(value)}")
+        starts = [c for c in choices if text and c.lower().startswith(text.lower())]
+        hint = f" (did you mean {starts[0]!r}?)" if len(starts) == 1 else ""
+        raise loc.error(f"expected {what} {', '.join(choices)}; got {_describe(value)}{hint}")
     return text

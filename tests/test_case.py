@@ -320,3 +320,29 @@ def test_infrared_group_names_are_checked_against_the_vocabulary():
     with pytest.raises(ElucidateError, match="did you mean 'alcohol'") as info:
         parse_case(GOOD + "infrared:\n  require: [ketone, alcohl]\n", file="unk.yaml")
     assert info.value.key == "infrared.require[1]" and info.value.line == 12
+
+
+@pytest.mark.parametrize(
+    ("tail", "words"),
+    [
+        # the characters are named by their Unicode names (The Unicode Standard, U+2013, U+2212)
+        ("formula:\n  elements: {C: 0–20, H: 0-30}\n", "U+2013 EN DASH, not the hyphen-minus '-': write 0-20"),
+        ("formula:\n  elements: {C: 0−20, H: 0-30}\n", "U+2212 MINUS SIGN"),
+        ("infrared:\n  bands:\n    - {at: 1700, strength: s}\n", "got 's' (did you mean 'strong'?)"),
+        ("infrared:\n  bands:\n    - {at: 1700, strength: med}\n", "(did you mean 'medium'?)"),
+        ("notes: " + "[" * 3000 + "]" * 3000 + "\n", "values nested too deeply to read"),
+    ],
+)
+def test_careless_input_gets_a_named_cause(tail, words):
+    head = "schema: 1\nid: a\ntitle: t\nmass_spec:\n  molecular_ion: 134\n  peaks: {134: 100}\n"
+    with pytest.raises(ElucidateError) as info:
+        parse_case(head + tail, file="c.yaml")
+    assert words in str(info.value)
+
+
+def test_a_huge_number_is_refused_with_its_length_not_echoed():
+    text = "schema: 1\nid: a\ntitle: t\nmass_spec:\n  molecular_ion: " + "9" * 5000 + "\n  peaks: {134: 100}\n"
+    with pytest.raises(ElucidateError) as info:
+        parse_case(text, file="c.yaml")
+    message = str(info.value)
+    assert "(5,000 characters)" in message and len(message) < 300

@@ -195,13 +195,13 @@ def test_isomers_bad_input(cli, argv, message):
 
 def test_isomers_refuses_large_spaces_with_the_estimate(cli):
     res = cli("isomers", "C10H12O", "--count")
-    assert res.code == 1
+    assert res.code == 4  # refused as too large: its own exit code (README)
     assert "estimated" in res.err and "--limit" in res.err
 
 
 def test_isomers_limit_can_be_raised(cli):
     res = cli("isomers", "C6H6", "--limit", "10", "--count")
-    assert res.code == 1 and "--limit" in res.err
+    assert res.code == 4 and "--limit" in res.err
     assert cli("isomers", "C6H6", "--limit", "1000", "--count").out.strip() == "217"
 
 
@@ -225,3 +225,15 @@ def test_solve_draws_a_bar_per_stage_on_a_terminal_and_keeps_stdout_json() -> No
     assert main(["solve", case, "--json"], stdout=io.StringIO(), stderr=piped) == 0
     # not a terminal: no bar, only the line naming the run record
     assert [line.split(":")[0] for line in piped.getvalue().splitlines()] == ["run recorded"]
+
+
+@pytest.mark.parametrize(
+    ("argv", "message"),
+    [
+        (("isomers", "C3H7", "--count"), "half-integer DBE (0.5)"),  # DBE = C - H/2 + N/2 + 1 (IUPAC Gold Book)
+        (("isomers", "C3H8", "--limit", "0"), "--limit must be 1 or more"),
+    ],
+)
+def test_isomers_refuses_impossible_questions(cli, argv, message):
+    res = cli(*argv)
+    assert res.code == 1 and message in res.err and res.out == ""

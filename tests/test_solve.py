@@ -156,7 +156,9 @@ def test_the_case_can_store_its_solve_options_and_the_command_line_overrides_the
     text = Path(DEMO).read_text().replace("structure:\n", "solve: {formulas: 1, limit: 5}\nstructure:\n")
     case = tmp_path / "c.yaml"
     case.write_text(text.replace("  require: [ketone, aromatic_ring]\n", ""))
-    stored = cli("solve", str(case), "--json").json()
+    res = cli("solve", str(case), "--json")
+    assert res.code == 4  # every formula above the limit: refused as too large (README exit codes)
+    stored = res.json()
     assert len(stored["formulas"]) == 1 and "above the limit 5" in stored["formulas"][0]["skipped"]
     overridden = cli("solve", str(case), "--json", "--formulas", "2").json()
     assert len(overridden["formulas"]) == 2
