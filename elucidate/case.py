@@ -11,7 +11,7 @@ from __future__ import annotations
 import difflib
 import math
 import re
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -240,15 +240,22 @@ def isotope_span(limits: Mapping[str, tuple[int, int]]) -> int:
 
 
 def mz_problem(mz: object, *, what: str = "m/z") -> str | None:
-    """What is wrong with a peak's m/z (a whole, positive nominal value), or None."""
+    """What is wrong with a peak's m/z (a whole, positive nominal value up to MAX_MZ), or None."""
     if isinstance(mz, bool) or not isinstance(mz, int) or mz < 1:
         hint = " (nominal m/z only: round to a whole number)" if isinstance(mz, float) else ""
         return f"expected a whole, positive {what}; got {mz!r}{hint}"
+    if mz > MAX_MZ:
+        shown = f"{mz}" if mz < 10**12 else f"a number of {len(str(mz))} digits"
+        return f"expected {what} from 1 to {MAX_MZ:,} (the range this version reads); got {shown}"
     return None
 
 
 #: what a peak intensity is
 INTENSITY = "an intensity from 0 to 100 (% of base peak)"
+#: the largest nominal m/z read, and the most peaks in one spectrum (low-resolution EI of small
+#: organic molecules: m/z 1-5000 is far beyond what the formula stage handles)
+MAX_MZ = 5000
+MAX_PEAKS = 1000
 
 
 def intensity_problem(value: object) -> str | None:
@@ -277,8 +284,10 @@ def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
     if "ionization" in body:
         ionization = as_choice(body["ionization"], IONIZATIONS, what="an ionization method this version handles:")
     molecular_ion: int | None = None
-    if "molecular_ion" in body and body["molecular_ion"].value is not None:
+    if "molecular_ion" in body:
         m = body["molecular_ion"]
+        if m.value is None:
+            raise m.error("no value; write the nominal m/z of M+. (e.g. 134), or unknown when it is not seen")
         if m.value == "unknown":
             molecular_ion = None
         else:
@@ -313,6 +322,11 @@ def _mass_spec(loc: Located) -> tuple[MassSpec, dict[str, Located]]:
         ploc = body["peaks"]
         if not isinstance(ploc.value, dict):
             raise ploc.error("expected a mapping of m/z to intensity (% of base peak), e.g. {120: 30, 105: 100}")
+        if len(ploc.value) > MAX_PEAKS:
+            raise ploc.error(
+                f"{len(ploc.value):,} peaks; a low-resolution EI spectrum is read as at most {MAX_PEAKS:,} peaks "
+                "(keep those above the noise, e.g. 0.1 % of the base peak)"
+            )
         for mz, vloc in ploc.value.items():
             problem = mz_problem(mz, what="m/z as the key")
             if problem is not None:
@@ -385,7 +399,21 @@ def _names(loc: Located, what: str) -> tuple[str, ...]:
         if not _GROUP.match(name):
             raise item.error(f"{name!r} is not a group name (lower case letters, digits and _)")
         out.append(name)
+    _no_repeats(loc, out)
     return tuple(out)
+
+
+def _no_repeats(loc: Located, values: Sequence[object], *, what: str = "") -> None:
+    """A list whose entry repeats an earlier one is an error naming both lines (a repeat is
+    usually a slip that hides the entry meant)."""
+    items = loc.value if isinstance(loc.value, list) else []
+    first: dict[object, int] = {}
+    for i, value in enumerate(values):
+        if value in first:
+            earlier = items[first[value]].line if first[value] < len(items) else loc.line
+            item = items[i] if i < len(items) else loc
+            raise item.error(f"{what or repr(value)} is listed twice (first on line {earlier}); give it once")
+        first[value] = i
 
 
 def _infrared(loc: Located) -> Infrared:
@@ -422,6 +450,8 @@ def _infrared(loc: Located) -> Infrared:
     both = sorted(set(require) & set(forbid))
     if both:
         raise body["forbid"].error(f"{both[0]!r} is both required and forbidden")
+    if "bands" in body:
+        _no_repeats(body["bands"], [b.at for b in bands], what="a band at this wavenumber")
     return Infrared(tuple(bands), require, forbid)
 
 
@@ -696,13 +726,25 @@ def _structure(loc: Located) -> StructureSpec:
         if texts:
             from ._rdkit import mol_from_smarts, mol_from_smiles
 
+            same: list[str] = []  # what makes two entries the same: the text, or the molecule
             for item, text in texts:
                 mol = mol_from_smiles(text) if key == "suspects" else mol_from_smarts(text)
                 if mol is None:
                     kind = "SMILES" if key == "suspects" else "SMARTS"
                     raise item.error(f"RDKit cannot read {text!r} as {kind}")
+                same.append(_canonical_smiles(mol) if key == "suspects" else text)
+            _no_repeats(body[key], same, what="this structure" if key == "suspects" else "")
         out[key] = tuple(t for _, t in texts)
+    both = sorted(set(out.get("require_smarts", ())) & set(out.get("forbid_smarts", ())))
+    if both:
+        raise body["forbid_smarts"].error(f"{both[0]!r} is both required and forbidden")
     return StructureSpec(out.get("require_smarts", ()), out.get("forbid_smarts", ()), out.get("suspects", ()))
+
+
+def _canonical_smiles(mol: object) -> str:
+    from ._rdkit import Chem
+
+    return str(Chem.MolToSmiles(mol))
 
 
 # ------------------------------------------------------------------ the case

@@ -31,7 +31,7 @@ from .reports.documents import REPORT_FORMATS
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
 from .reports.layout import text_table
 from .runs import text_sha256
-from .yamlnodes import parse_range_text, read_text_file, read_yaml_file
+from .yamlnodes import MAX_YAML_BYTES, parse_range_text, read_text_file, read_yaml_file
 
 if TYPE_CHECKING:
     from tqdm import tqdm
@@ -505,7 +505,7 @@ def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     seen: dict[str, list[tuple[str, str]]] = {}  # id -> (path, text hash) of the files checked
     for path in args.cases:
         try:
-            text = read_text_file(path)
+            text = read_text_file(path, max_bytes=MAX_YAML_BYTES)
             case = parse_case(text, file=path)
         except ElucidateError as exc:
             err.write(f"error: {exc}\n")
@@ -669,7 +669,7 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         raise ElucidateError("--runs and --no-record contradict each other: give one")
     if args.no_cache and args.cache:
         raise ElucidateError("--cache and --no-cache contradict each other: give one")
-    text = read_text_file(args.case)  # the exact text solved is the text recorded
+    text = read_text_file(args.case, max_bytes=MAX_YAML_BYTES)  # the exact text solved is the text recorded
     case = parse_case(text, file=args.case)
     # the command line overrides the case's own solve section, which overrides the defaults
     formulas = args.formulas or case.solve.formulas or FORMULAS_PER_ION
@@ -764,7 +764,7 @@ def _cmd_history(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     for problem in problems:
         err.write(f"warning: skipped: {problem}\n")
     numbers = revisions(records)
-    current = text_sha256(read_text_file(args.case))
+    current = text_sha256(read_text_file(args.case, max_bytes=MAX_YAML_BYTES))
     rows = []
     for r in records:
         result = r.result

@@ -21,6 +21,7 @@ import yaml
 from .errors import ElucidateError
 
 __all__ = [
+    "MAX_YAML_BYTES",
     "Located",
     "as_bool",
     "as_choice",
@@ -84,9 +85,24 @@ class Located:
         return node
 
 
-def read_text_file(path: str | Path) -> str:
-    """The UTF-8 text of a file (a byte-order mark dropped); never modifies it."""
+#: the largest case file read (a case file is a few kB; this leaves room for long notes)
+MAX_YAML_BYTES = 1_000_000
+
+
+def read_text_file(path: str | Path, *, max_bytes: int | None = None) -> str:
+    """The UTF-8 text of a file (a byte-order mark dropped), refused above ``max_bytes``
+    before it is read; never modifies it."""
     name = str(path)
+    try:
+        size = Path(path).stat().st_size
+    except OSError:
+        size = 0  # the read below says what is wrong
+    if max_bytes is not None and size > max_bytes:
+        raise ElucidateError(
+            f"the file is {size:,} bytes; a case file is read up to {max_bytes:,} bytes (move long notes or "
+            "spectra out of it: elucidate import reads spectra from their own files)",
+            file=name,
+        )
     try:
         data = Path(path).read_bytes()
     except FileNotFoundError as exc:
@@ -103,8 +119,8 @@ def read_text_file(path: str | Path) -> str:
 
 
 def read_yaml_file(path: str | Path) -> Located:
-    """Read and compose a YAML file; never modifies it."""
-    return parse_yaml(read_text_file(path), file=str(path))
+    """Read and compose a YAML file of at most :data:`MAX_YAML_BYTES`; never modifies it."""
+    return parse_yaml(read_text_file(path, max_bytes=MAX_YAML_BYTES), file=str(path))
 
 
 def parse_yaml(text: str, *, file: str = "<text>") -> Located:

@@ -346,3 +346,41 @@ def test_a_huge_number_is_refused_with_its_length_not_echoed():
         parse_case(text, file="c.yaml")
     message = str(info.value)
     assert "(5,000 characters)" in message and len(message) < 300
+
+
+_HEAD = "schema: 1\nid: a\ntitle: t\n"
+_MS = "mass_spec:\n  molecular_ion: 134\n  peaks: {134: 100}\n"
+
+
+@pytest.mark.parametrize(
+    ("text", "line", "words"),
+    [
+        (_HEAD + "mass_spec:\n  molecular_ion:\n  peaks: {134: 100}\n", 5, "no value; write the nominal m/z"),
+        (_HEAD + "mass_spec:\n  molecular_ion: unknown\n  peaks: {99999999999999999999: 100}\n", 6,
+         "from 1 to 5,000 (the range this version reads); got a number of 20 digits"),
+        (_HEAD + _MS + "infrared:\n  require: [ketone, aromatic_ring, ketone]\n", 8, "'ketone' is listed twice"),
+        (_HEAD + _MS + "infrared:\n  bands: [1715, 1600, 1715]\n", 8, "a band at this wavenumber is listed twice"),
+        (_HEAD + _MS + 'structure:\n  suspects: ["CCO", "OCC"]\n', 8, "this structure is listed twice"),
+        (_HEAD + _MS + 'structure:\n  require_smarts: ["C=O"]\n  forbid_smarts: ["C=O"]\n', 9,
+         "'C=O' is both required and forbidden"),
+    ],
+)  # fmt: skip
+def test_contradictions_repeats_and_out_of_range_values_are_named(text, line, words):
+    with pytest.raises(ElucidateError) as info:
+        parse_case(text, file="c.yaml")
+    assert words in str(info.value)
+    assert info.value.line == line
+
+
+def test_too_many_peaks_are_refused_before_any_work():
+    peaks = ", ".join(f"{mz}: 1" for mz in range(1, 1200)) + ", 1200: 100"
+    with pytest.raises(ElucidateError, match=r"1,200 peaks; .* at most 1,000 peaks"):
+        parse_case(_HEAD + f"mass_spec:\n  molecular_ion: unknown\n  peaks: {{{peaks}}}\n", file="c.yaml")
+
+
+def test_an_oversized_case_file_is_refused_before_it_is_read(tmp_path, cli):
+    path = tmp_path / "big.yaml"
+    path.write_text(_HEAD + _MS + "notes: " + "x" * 1_200_000 + "\n")
+    for command in ("check", "solve"):
+        res = cli(command, str(path))
+        assert res.code == 1 and "a case file is read up to 1,000,000 bytes" in res.err and str(path) in res.err
