@@ -501,12 +501,15 @@ def _why(text: str, query: FormulaQuery, out: TextIO, ranked: Sequence[str]) -> 
 
 
 def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
+    from .solver import preflight
+
     failures = 0
     seen: dict[str, list[tuple[str, str]]] = {}  # id -> (path, text hash) of the files checked
     for path in args.cases:
         try:
             text = read_text_file(path, max_bytes=MAX_YAML_BYTES)
             case = parse_case(text, file=path)
+            preflight(case)  # what solve checks before any work, so check passes only what solve takes
         except ElucidateError as exc:
             err.write(f"error: {exc}\n")
             failures += 1

@@ -237,3 +237,15 @@ def test_solve_draws_a_bar_per_stage_on_a_terminal_and_keeps_stdout_json() -> No
 def test_isomers_refuses_impossible_questions(cli, argv, message):
     res = cli(*argv)
     assert res.code == 1 and message in res.err and res.out == ""
+
+
+def test_check_runs_what_solve_checks_before_any_work(cli, tmp_path):
+    """A case with neither a molecular ion nor peaks loads, but solve cannot start: check says so
+    with the same message and exit code."""
+    case = tmp_path / "c.yaml"
+    case.write_text("schema: 1\nid: c\ntitle: t\nformula:\n  elements: {C: 0-10, H: 0-20}\n")
+    checked = cli("check", str(case))
+    solved = cli("solve", str(case), "--no-record", "--no-cache")
+    assert checked.code == solved.code == 1
+    message = "mass_spec: no molecular ion and no peaks"
+    assert message in checked.err and message in solved.err

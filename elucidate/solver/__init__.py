@@ -16,7 +16,7 @@ from .hypotheses import (
     molecular_ion_hypotheses,
     rank_hypotheses,
 )
-from .ranking import PROFILE, hard_selection, solve
+from .ranking import PROFILE, hard_selection, preflight, solve
 from .records import FoundCandidate, KeptFormula, Ranked, Solution, SuspectResult, UntriedFormula
 from .scoring import ScoringTable, default_scoring, load_scoring
 
@@ -37,6 +37,7 @@ __all__ = [
     "load_scoring",
     "losses_for_m",
     "molecular_ion_hypotheses",
+    "preflight",
     "rank_hypotheses",
     "solve",
 ]

@@ -41,7 +41,7 @@ if TYPE_CHECKING:
     from ..cache import CandidateCache
     from ..formula import Formula
 
-__all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "solve"]
+__all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "preflight", "solve"]
 
 #: the plausibility profile the solver applies
 PROFILE = "stable"
@@ -166,6 +166,17 @@ def solve(
     finally:
         if runner is None:
             work.close()
+
+
+def preflight(case: Case, *, groups: GroupTable | None = None) -> None:
+    """Every check :func:`solve` makes on a case before it derives formulas or enumerates: the
+    molecular-ion hypotheses, the formula query of each, and the hard constraints compiled. It
+    raises the :class:`~elucidate.errors.ElucidateError` solve would (``elucidate check`` runs it)."""
+    g = groups or default_groups()
+    considered = considered_hypotheses(case)
+    for m in molecular_ion_hypotheses(case, considered):
+        case_query(case, m)
+    hard_selection(case, [cls() for cls in TECHNIQUES]).compile(g)
 
 
 def _solve(
