@@ -249,3 +249,27 @@ def test_check_runs_what_solve_checks_before_any_work(cli, tmp_path):
     assert checked.code == solved.code == 1
     message = "mass_spec: no molecular ion and no peaks"
     assert message in checked.err and message in solved.err
+
+
+def test_more_13c_signals_than_carbons_is_refused_by_check_and_solve(cli, tmp_path):
+    # each 13C signal needs its own carbon, and M 150 holds at most 150 // 12 = 12 carbons (common practice)
+    case = tmp_path / "c.yaml"
+    case.write_text(
+        "schema: 1\nid: c\ntitle: t\nmass_spec:\n  molecular_ion: 150\n  peaks: {150: 100}\nnmr:\n  c13_signals: 40\n"
+    )
+    for command in ("check", "solve"):
+        res = cli(command, str(case), *(["--no-record", "--no-cache"] if command == "solve" else []))
+        assert res.code == 1 and "nmr.c13_signals: 40 13C signals need at least 40 carbons" in res.err
+        assert "allow at most 12" in res.err
+
+
+def test_an_odd_molecular_ion_with_nitrogen_excluded_names_the_nitrogen_rule(cli, tmp_path):
+    # nitrogen rule: an odd nominal mass needs an odd number of N (McLafferty & Turecek, 4th ed., ch. 3)
+    case = tmp_path / "c.yaml"
+    case.write_text(
+        "schema: 1\nid: c\ntitle: t\nmass_spec:\n  molecular_ion: 135\n  peaks: {135: 40, 136: 4, 120: 100}\n"
+        "formula:\n  elements: {C: 0-12, H: 0-30, O: 0-3}\n"
+    )
+    res = cli("solve", str(case), "--no-record", "--no-cache")
+    assert res.code == 3
+    assert "M 135 is odd: by the nitrogen rule" in res.out and "formula.elements excludes N" in res.out

@@ -174,9 +174,33 @@ def preflight(case: Case, *, groups: GroupTable | None = None) -> None:
     raises the :class:`~elucidate.errors.ElucidateError` solve would (``elucidate check`` runs it)."""
     g = groups or default_groups()
     considered = considered_hypotheses(case)
-    for m in molecular_ion_hypotheses(case, considered):
+    masses = molecular_ion_hypotheses(case, considered)
+    for m in masses:
         case_query(case, m)
     hard_selection(case, [cls() for cls in TECHNIQUES]).compile(g)
+    signals = case.nmr.c13_signals if case.nmr is not None else None
+    if signals is not None and masses:
+        # each signal needs a carbon of its own, and a carbon weighs 12 (nominal)
+        most = max(min(case_query(case, m).elements.get("C", (0, 0))[1], m // 12) for m in masses)
+        if signals > most:
+            raise ElucidateError(
+                f"{signals} 13C signals need at least {signals} carbons, but the molecular ion "
+                f"({', '.join(map(str, masses))}) and formula.elements allow at most {most}",
+                file=case.path,
+                key="nmr.c13_signals",
+            )
+
+
+def formula_stage_hints(case: Case, hypotheses: Sequence[int]) -> tuple[str, ...]:
+    """Why no formula may survive for a molecular ion, where a rule says so outright."""
+    hints = []
+    for m in hypotheses:
+        if m % 2 == 1 and case_query(case, m).elements.get("N", (0, 0))[1] == 0:
+            hints.append(
+                f"M {m} is odd: by the nitrogen rule a closed-shell molecule of odd nominal mass has an odd number "
+                "of nitrogen atoms, and formula.elements excludes N (allow N, or check the molecular ion)"
+            )
+    return tuple(hints)
 
 
 def _solve(
@@ -196,6 +220,7 @@ def _solve(
     from ..generator.tasks import NODES_PER_STRUCTURE, TooManyStructures
 
     g = groups or default_groups()
+    preflight(case, groups=g)
     sc = scoring or default_scoring()
     every = [cls() for cls in TECHNIQUES]
     applied = [t for t in every if t.applies(case)]
@@ -373,6 +398,8 @@ def _solve(
     )
     readings = {t.reading_key: t.read(case) for t in every if t.reading_key is not None}
     empty = why_empty(kept, removed, selection, generated, hypotheses, limit) if not candidates else ()
+    if not candidates and not kept:
+        empty += formula_stage_hints(case, hypotheses)
     return Solution(
         case,
         hypotheses,
