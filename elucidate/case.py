@@ -405,15 +405,13 @@ def _names(loc: Located, what: str) -> tuple[str, ...]:
 
 def _no_repeats(loc: Located, values: Sequence[object], *, what: str = "") -> None:
     """A list whose entry repeats an earlier one is an error naming both lines (a repeat is
-    usually a slip that hides the entry meant)."""
-    items = loc.value if isinstance(loc.value, list) else []
-    first: dict[object, int] = {}
-    for i, value in enumerate(values):
+    usually a slip that hides the entry meant); ``values``: what each item of the list ``loc``
+    (already read with ``as_list``) stands for."""
+    first: dict[object, Located] = {}
+    for item, value in zip(loc.value, values, strict=True):
         if value in first:
-            earlier = items[first[value]].line if first[value] < len(items) else loc.line
-            item = items[i] if i < len(items) else loc
-            raise item.error(f"{what or repr(value)} is listed twice (first on line {earlier}); give it once")
-        first[value] = i
+            raise item.error(f"{what or repr(value)} is listed twice (first on line {first[value].line}); give it once")
+        first[value] = item
 
 
 def _infrared(loc: Located) -> Infrared:

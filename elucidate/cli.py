@@ -656,7 +656,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     from .cache import CandidateCache, default_cache_path
     from .reports.solution_report import solve_json, solve_text
-    from .runs import case_runs, make_record, runs_folder, write_record
+    from .runs import case_runs, make_record, write_record
     from .solver import solve
 
     for option in ("top", "details"):
@@ -678,7 +678,7 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     formulas = args.formulas or case.solve.formulas or FORMULAS_PER_ION
     limit = int(args.limit) if args.limit is not None else (case.solve.limit or SOLVER_LIMIT)
     worse = bool(args.worse_formulas or case.solve.worse_formulas)
-    folder = None if args.no_record else runs_folder(args.case, args.runs or os.environ.get(RUNS_ENV) or None)
+    folder = None if args.no_record else _runs_folder(args.case, args.runs)
     problems: list[str] = []
     earlier = case_runs(folder, case.id, problems=problems) if folder is not None else []
     for problem in problems:
@@ -758,12 +758,10 @@ def _case_id(path: str) -> str:
 
 
 def _cmd_history(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
-    from .runs import case_runs, revisions, runs_folder
+    from .runs import revisions
 
-    case_id = _case_id(args.case)
-    folder = runs_folder(args.case, args.runs or os.environ.get(RUNS_ENV) or None)
     problems: list[str] = []
-    records = case_runs(folder, case_id, problems=problems)
+    case_id, folder, records = _case_records(args.case, args.runs, 0, problems=problems)
     for problem in problems:
         err.write(f"warning: skipped: {problem}\n")
     numbers = revisions(records)
@@ -815,26 +813,36 @@ def _cmd_history(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     return 0
 
 
-def _case_records(path: str, runs: str | None, need: int) -> list[RunRecord]:
-    """The recorded runs of the case file at ``path``, oldest first; at least ``need`` of them."""
-    from .runs import case_runs, runs_folder
+def _runs_folder(case_path: str, option: str | None) -> Path:
+    """The runs folder of a case: --runs, else $ELUCIDATE_RUNS, else runs/ beside the case."""
+    from .runs import runs_folder
+
+    return runs_folder(case_path, option or os.environ.get(RUNS_ENV) or None)
+
+
+def _case_records(
+    path: str, runs: str | None, need: int, *, problems: list[str] | None = None
+) -> tuple[str, Path, list[RunRecord]]:
+    """The id, runs folder and recorded runs (oldest first, at least ``need``) of the case file
+    at ``path``; unreadable files in the folder are named in ``problems`` when given."""
+    from .runs import case_runs
 
     case_id = _case_id(path)
-    folder = runs_folder(path, runs or os.environ.get(RUNS_ENV) or None)
-    records = case_runs(folder, case_id)
+    folder = _runs_folder(path, runs)
+    records = case_runs(folder, case_id, problems=problems)
     if len(records) < need:
         raise ElucidateError(
             f"case {case_id} has {len(records)} recorded run(s) in {folder}, {need} needed "
             "(elucidate solve records one)"
         )
-    return records
+    return case_id, folder, records
 
 
 def _last_run(path: str, runs: str | None) -> RunRecord:
     """The record given, or the last recorded run of the case file given."""
     from .runs import read_record
 
-    return read_record(path) if path.endswith(".json") else _case_records(path, runs, 1)[-1]
+    return read_record(path) if path.endswith(".json") else _case_records(path, runs, 1)[2][-1]
 
 
 def _cmd_report(args: argparse.Namespace, out: TextIO) -> int:
@@ -976,7 +984,7 @@ def _cmd_diff(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     else:
         if args.first.endswith(".json"):
             raise ElucidateError("give two run records (A B), or a case file for its last two runs")
-        first, second = _case_records(args.first, args.runs, 2)[-2:]
+        first, second = _case_records(args.first, args.runs, 2)[2][-2:]
     result = diff_records(first, second, top=args.top)
     if args.json:
         json.dump(diff_json(result), out, indent=1)

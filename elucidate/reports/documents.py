@@ -241,6 +241,23 @@ def _provenance(record: RunRecord) -> list[tuple[str, str]]:
     return rows
 
 
+FORMULA_HEAD = ["formula", "M", "isotope fit", "candidates", "note"]
+
+
+def _formula_rows(result: Mapping[str, Any]) -> list[list[object]]:
+    rows: list[list[object]] = []
+    for f in result.get("formulas", []):
+        fit = "-" if f.get("isotope_score") is None else f"{f['isotope_score']:.3f}"
+        rows.append([f["formula"], f["molecular_ion"], fit, f.get("structures", 0), f.get("skipped") or ""])
+    return rows
+
+
+def _scores(candidate: Mapping[str, Any], names: Sequence[str]) -> list[str]:
+    """The candidate's component score per technique, "-" where it has none."""
+    comps = candidate.get("components", {})
+    return [f"{comps[n]['score']:.2f}" if n in comps else "-" for n in names]
+
+
 def _techniques(shortlist: Sequence[Mapping[str, Any]]) -> list[str]:
     return list(dict.fromkeys(name for c in shortlist for name in c.get("components", {})))
 
@@ -266,11 +283,7 @@ def report_html(record: RunRecord, *, top: int = GRID) -> str:
     for note in result.get("notes", []):
         out.append(f"<p>Note: {_esc(note)}</p>")
     out.append("<h2>Formulas</h2>")
-    rows = []
-    for f in result.get("formulas", []):
-        fit = "-" if f.get("isotope_score") is None else f"{f['isotope_score']:.3f}"
-        rows.append([f["formula"], f["molecular_ion"], fit, f.get("structures", 0), f.get("skipped") or ""])
-    out.append(_table(["formula", "M", "isotope fit", "candidates", "note"], rows, [False, True, True, True]))
+    out.append(_table(FORMULA_HEAD, _formula_rows(result), [False, True, True, True]))
     plots = [
         _isotope_plot(case, f["formula"], int(f["molecular_ion"]))
         for f in result.get("formulas", [])[:4]
@@ -292,8 +305,7 @@ def report_html(record: RunRecord, *, top: int = GRID) -> str:
     names = _techniques(shortlist[:top])
     rows = []
     for c in shortlist[:top]:
-        comps = c.get("components", {})
-        scores = [f"{comps[n]['score']:.2f}" if n in comps else "-" for n in names]
+        scores = _scores(c, names)
         rows.append(
             [c["rank_label"], c["smiles"], c["inchikey"], f"{c['score']:.3f}", *scores, "; ".join(c["reasons"])]
         )
@@ -344,20 +356,14 @@ def report_markdown(record: RunRecord, *, top: int = GRID) -> str:
     lines = [f"# {record.case_id}: {record.data['case'].get('title', '')}", "", f"> {CAUTION}", "", "## Evidence", ""]
     lines += _md_table(["technique", "as given"], _evidence_rows(case))
     lines += ["", "## Formulas", ""]
-    rows = [
-        [f["formula"], f["molecular_ion"], "-" if f.get("isotope_score") is None else f"{f['isotope_score']:.3f}",
-         f.get("structures", 0), f.get("skipped") or ""]
-        for f in result.get("formulas", [])
-    ]  # fmt: skip
-    lines += _md_table(["formula", "M", "isotope fit", "candidates", "note"], rows)
+    lines += _md_table(FORMULA_HEAD, _formula_rows(result))
     lines += ["", "## Elimination funnel", ""]
     lines += _md_table(["step", "structures"], _funnel(result))
     lines += ["", f"## Shortlist ({min(top, len(shortlist))} of {result.get('candidate_count', 0):,})", ""]
     names = _techniques(shortlist[:top])
     rows = []
     for c in shortlist[:top]:
-        comps = c.get("components", {})
-        scores = [f"{comps[n]['score']:.2f}" if n in comps else "-" for n in names]
+        scores = _scores(c, names)
         rows.append([c["rank_label"], f"`{c['smiles']}`", f"{c['score']:.3f}", *scores, "; ".join(c["reasons"][:2])])
     lines += _md_table(["rank", "SMILES", "score", *names, "reasons"], rows) if rows else ["No candidate survives."]
     lines += ["", "## Provenance", ""]
