@@ -5,7 +5,10 @@
 1. enumeration alone, direct (numpy) vs python-constraint, side by side at the same masses;
 2. the whole `formulas` computation (enumerate, filter, score, rank) with the default element
    limits and an isotope cluster, for M up to 500 (target: under 1 s each);
-3. the command line as a new process (`python -m elucidate formulas M --json`), start-up included.
+3. the command line as a new process (`python -m elucidate formulas M --json`), start-up included;
+4. peak memory (RSS) of the largest composition space the documented maximum allows
+   (MAX_COMPOSITIONS), each in a fresh process beside the same process importing only, and the
+   time to refuse a space just above it.
 """
 
 from __future__ import annotations
@@ -67,6 +70,57 @@ def main() -> None:
         )
         runs.append(time.perf_counter() - t0)
     print(f"  {statistics.median(runs):.3f}")
+    largest_space()
+
+
+#: wide element limits a careless case could declare (every range above a typical unknown's)
+WIDE = {"C": (0, 120), "H": (0, 250), "N": (0, 40), "O": (0, 40), "S": (0, 10), "Cl": (0, 6)}
+
+_CHILD = """
+import resource, sys, time
+from elucidate import FormulaQuery, derive_formulas
+from elucidate.errors import TooLarge
+mass, work = int(sys.argv[1]), sys.argv[2]
+limits = {limits!r}
+t0 = time.perf_counter()
+kept = total = -1
+if work == "derive":
+    r = derive_formulas(FormulaQuery(mass, limits, (0, 20)), top=20)
+    kept, total = r.kept_count, r.total
+elif work == "explain":
+    r = derive_formulas(FormulaQuery(mass, limits, (0, 20)), top=20, keep_rejected=True)
+    kept, total = r.kept_count, r.total
+elif work == "refuse":
+    try:
+        derive_formulas(FormulaQuery(mass, limits, (0, 20)))
+    except TooLarge:
+        pass
+print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, time.perf_counter() - t0, kept, total)
+"""
+
+
+def largest_space() -> None:
+    from elucidate.formula_search.search import MAX_COMPOSITIONS, composition_count
+
+    counts = {m: composition_count(m, WIDE) for m in range(1000, 1600)}
+    allowed = max((n, m) for m, n in counts.items() if n <= MAX_COMPOSITIONS)[1]
+    above = min(m for m, n in counts.items() if n > MAX_COMPOSITIONS)
+    print(
+        f"\n4. largest allowed composition space: M {allowed}, {counts[allowed]:,} compositions "
+        f"(maximum {MAX_COMPOSITIONS:,}); limits {WIDE}"
+    )
+    print(f"{'work':>22} {'peak RSS MB':>12} {'seconds':>9} {'kept':>8}")
+    code = _CHILD.format(limits=WIDE)
+    for label, mass, work in (
+        ("import only", allowed, "none"),
+        ("derive formulas", allowed, "derive"),
+        ("derive + explain", allowed, "explain"),
+        (f"refuse M {above}", above, "refuse"),
+    ):
+        done = subprocess.run([sys.executable, "-c", code, str(mass), work], check=True, capture_output=True, text=True)
+        rss_kb, sec, kept, _ = done.stdout.split()
+        shown = kept if int(kept) >= 0 else "-"
+        print(f"{label:>22} {int(rss_kb) / 1024:>12.0f} {float(sec):>9.2f} {shown:>8}")
 
 
 if __name__ == "__main__":

@@ -134,6 +134,8 @@ class FormulaSpec:
     dbe: tuple[int, int] | None = None
     element_ratios: str = ELEMENT_RATIOS
     enforce_ratios: bool = False  # the element-ratio rules eliminate instead of demoting
+    #: the line of ``elements`` in the case file (for checks made after loading)
+    elements_line: int | None = field(default=None, compare=False, repr=False)
 
 
 @dataclass(frozen=True)
@@ -389,7 +391,8 @@ def _formula_spec(loc: Located, table: ElementTable) -> tuple[FormulaSpec, dict[
         dbe = known.dbe(table)
         if not dbe_range[0] <= dbe <= dbe_range[1]:
             raise body["known"].error(f"{known} has DBE {dbe}, outside formula.dbe {dbe_range[0]}-{dbe_range[1]}")
-    return FormulaSpec(known, elements, dbe_range, ratios, enforce), body
+    line = body["elements"].line if "elements" in body else None
+    return FormulaSpec(known, elements, dbe_range, ratios, enforce, line), body
 
 
 def _names(loc: Located, what: str) -> tuple[str, ...]:

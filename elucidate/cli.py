@@ -26,6 +26,7 @@ from .elements import default_elements
 from .errors import ElucidateError, TooLarge
 from .formula import parse_formula
 from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
+from .formula_search.search import check_space
 from .progress import TerminalProgress
 from .reports.documents import REPORT_FORMATS
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
@@ -503,13 +504,17 @@ def _why(text: str, query: FormulaQuery, out: TextIO, ranked: Sequence[str]) -> 
 def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     from .solver import preflight
 
-    failures = 0
+    failures = too_large = 0
     seen: dict[str, list[tuple[str, str]]] = {}  # id -> (path, text hash) of the files checked
     for path in args.cases:
         try:
             text = read_text_file(path, max_bytes=MAX_YAML_BYTES)
             case = parse_case(text, file=path)
             preflight(case)  # what solve checks before any work, so check passes only what solve takes
+        except TooLarge as exc:
+            err.write(f"error: {exc}\n")
+            too_large += 1
+            continue
         except ElucidateError as exc:
             err.write(f"error: {exc}\n")
             failures += 1
@@ -528,13 +533,24 @@ def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         out.write(f"ok: {path} ({case.id}{note})\n")
     if failures:
         err.write(f"{failures} of {len(args.cases)} case file(s) invalid\n")
-    return 1 if failures else 0
+    if too_large:
+        err.write(f"{too_large} of {len(args.cases)} case file(s) refused as too large\n")
+    # bad input outranks a refusal for size: fix the input first
+    return 1 if failures else EXIT_TOO_LARGE if too_large else 0
 
 
 def _cmd_formulas(args: argparse.Namespace, out: TextIO) -> int:
     query, case = _query(args)
     if args.top is not None and args.top < 0:
         raise ElucidateError("--top must be 0 (all) or more")
+    try:
+        check_space(query.nominal_mass, query.elements)
+    except TooLarge as exc:
+        if case is not None and not args.elements:
+            raise TooLarge(
+                exc.message, file=case.path, line=case.formula.elements_line, key="formula.elements"
+            ) from exc
+        raise TooLarge(f"--elements: {exc.message}" if args.elements else exc.message) from exc
     if args.why:
         ranked = [str(c.formula) for c in derive_formulas(query).kept]
         _why(args.why, query, out, ranked)
@@ -567,6 +583,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         estimate_space,
         isomer_smiles,
     )
+    from .generator.tasks import beyond_generator
 
     if args.list_groups:
         groups = default_groups()
@@ -609,6 +626,9 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         workers=args.workers,
         rdkit_smiles=args.rdkit_smiles,
     )
+    heavy = beyond_generator(formula)
+    if heavy is not None:
+        raise TooLarge(f"{formula}: {heavy}")
     space = estimate_space(formula, options)
     if space.over(args.limit):
         raise TooLarge(

@@ -8,9 +8,19 @@ import numpy as np
 import pytest
 
 from elucidate import FormulaQuery, ObservedCluster, check_formula, default_elements, derive_formulas, parse_formula
+from elucidate.errors import TooLarge
 from elucidate.formula import Formula
 from elucidate.formula_search.rules import default_rules
-from elucidate.formula_search.search import RULES, enumerate_compositions, first_failure_codes, search_symbols
+from elucidate.formula_search.search import (
+    EXPLAINED_PER_RULE,
+    MAX_COMPOSITIONS,
+    RULES,
+    check_space,
+    composition_count,
+    enumerate_compositions,
+    first_failure_codes,
+    search_symbols,
+)
 
 TABLE = default_elements()
 DEFAULTS = dict(default_rules().default_elements)
@@ -36,6 +46,41 @@ def test_enumeration_equals_brute_force(mass):
     assert set(enumerate_compositions(mass, SMALL)) == brute_force(mass, SMALL)
 
 
+# limits without C or without H take the other route (the last element solved by division)
+ODD_LIMITS = [
+    {"N": (0, 9), "O": (0, 9), "S": (0, 3)},
+    {"C": (1, 8), "O": (0, 5), "Cl": (0, 3)},
+    {"H": (2, 20), "O": (0, 5), "Br": (1, 2)},
+    {"C": (2, 3), "H": (5, 6), "O": (1, 1)},
+]
+
+
+@pytest.mark.parametrize("limits", ODD_LIMITS + [SMALL])
+@pytest.mark.parametrize("mass", [0, 16, 44, 46, 78, 112, 156])
+def test_bounded_enumeration_and_count_equal_brute_force(mass, limits):
+    expected = brute_force(mass, limits)
+    assert set(enumerate_compositions(mass, limits)) == expected
+    assert composition_count(mass, limits) == len(expected)
+
+
+def test_count_of_hydrocarbon_formulas():
+    # 12 C + H = 142 (common practice: nominal masses 12 and 1): with H <= 22 only C10H22 and
+    # C11H10; with H unbounded every C from 0 to 11
+    assert composition_count(142, {"C": (0, 40), "H": (0, 22)}) == 2
+    assert composition_count(142, {"C": (0, 40), "H": (0, 200)}) == 12
+
+
+def test_space_above_the_maximum_is_refused_before_any_row_is_built():
+    wide = {"C": (0, 120), "H": (0, 250), "N": (0, 40), "O": (0, 40), "S": (0, 10), "Cl": (0, 6)}
+    n = composition_count(1500, wide)
+    assert n > MAX_COMPOSITIONS
+    with pytest.raises(TooLarge, match=f"allow {n:,} compositions of nominal mass 1500.*widest: N 0-40, O 0-40"):
+        check_space(1500, wide)
+    with pytest.raises(TooLarge):
+        derive_formulas(FormulaQuery(1500, wide, (0, 20)))
+    assert check_space(120, DEFAULTS) == len(enumerate_compositions(120, DEFAULTS))
+
+
 @pytest.mark.parametrize("mass", [58, 112, 151])
 def test_constraint_method_equals_direct(mass):
     direct = enumerate_compositions(mass, DEFAULTS, method="direct")
@@ -59,7 +104,10 @@ def test_vectorized_filters_agree_with_reference(mass, level):
 def test_result_accounts_for_every_composition():
     result = derive_formulas(FormulaQuery(120, DEFAULTS, (0, 20)), keep_rejected=True)
     assert result.kept_count + sum(result.rejected_counts.values()) == result.total
-    assert len(result.rejected) == sum(result.rejected_counts.values())
+    # each rule explains its first EXPLAINED_PER_RULE rejections; the counts cover them all
+    for rule, n in result.rejected_counts.items():
+        assert sum(c.rejected_by == rule for c in result.rejected) == min(n, EXPLAINED_PER_RULE)
+    assert result.rejected_counts["dbe_negative"] > EXPLAINED_PER_RULE  # the cap is exercised here
     assert all(c.reason for c in result.rejected)
 
 

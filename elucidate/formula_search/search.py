@@ -12,27 +12,29 @@ prints both timings side by side; the direct method is kept as default because i
 
 from __future__ import annotations
 
-import itertools
 import math
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
 
 import numpy as np
 
 from ..elements import ElementTable, default_elements
-from ..errors import ElucidateError
+from ..errors import ElucidateError, TooLarge
 from ..formula import Formula, ppm_error
 from .isotopes import ClusterFit, ClusterReading, chi2_matrix, cluster_matrix, fit_cluster, read_cluster
 from .query import FormulaQuery
 from .rules import FormulaRules, RuleOf13, default_rules, kind_fiehn, nitrogen_rule, rule_of_13, senior_rules
 
 __all__ = [
+    "MAX_COMPOSITIONS",
     "RULES",
     "Candidate",
     "FormulaResult",
     "check_formula",
+    "check_space",
     "composition_array",
+    "composition_count",
     "derive_formulas",
     "enumerate_compositions",
     "first_failure_codes",
@@ -42,6 +44,8 @@ __all__ = [
 #: filter names in the order they are applied
 RULES = ("dbe_negative", "nitrogen_rule", "senior", "dbe_range", "element_ratios", "exact_mass")
 METHODS = ("direct", "constraint")
+#: rejected compositions explained per rule (the counts cover them all)
+EXPLAINED_PER_RULE = 1_000
 #: isotope-fit scores closer than this rank as equal (then parsimony decides)
 SCORE_STEP = 0.01
 
@@ -113,72 +117,154 @@ class FormulaResult:
 # ------------------------------------------------------------------ enumeration
 
 
-#: largest search grid (heteroatom combinations x carbon counts) the engine will build
-MAX_GRID = 50_000_000
+#: the most compositions of one nominal mass the engine enumerates, filters and ranks (the
+#: documented maximum composition space; bench/bench_formulas.py prints the peak memory there).
+#: Element limits allowing more are refused, with the count, before any row is built.
+MAX_COMPOSITIONS = 2_000_000
+#: cells (rows x carbon counts) of the hydrogen solve done at once, so memory stays bounded
+_CHUNK_CELLS = 4_000_000
 
 
 def search_symbols(limits: Mapping[str, tuple[int, int]], table: ElementTable) -> list[str]:
-    """The limited elements in element-table order (the columns of a composition array); refuses
-    limits whose search grid exceeds :data:`MAX_GRID`."""
+    """The limited elements in element-table order (the columns of a composition array)."""
     for sym in limits:
         table[sym]  # raises with the list of known elements
-    symbols = [s for s in table.symbols if s in limits]
-    size = 1
-    for s in symbols:
-        if s != "H" or "C" not in symbols:
-            size *= limits[s][1] - limits[s][0] + 1
-    if size > MAX_GRID:
-        raise ElucidateError(
-            f"element limits too wide: {size:,} combinations to search (at most {MAX_GRID:,}); "
-            "narrow the ranges of the rarer elements"
+    return [s for s in table.symbols if s in limits]
+
+
+def _ways(masses: Sequence[int], ranges: Sequence[tuple[int, int]], top: int) -> np.ndarray:
+    """How many count vectors (element i between ``ranges[i]``) have each total nominal mass
+    0..top: a bounded-knapsack count by dynamic programming, O(top) per element (sliding sums
+    along each residue class). Floats: exact below 2**53, and anything larger is refused anyway."""
+    ways = np.zeros(top + 1)
+    ways[0] = 1.0
+    for w, (lo, hi) in zip(masses, ranges, strict=True):
+        new = np.zeros(top + 1)
+        for r in range(min(w, top + 1)):
+            seq = ways[r::w]
+            prefix = np.concatenate(([0.0], np.cumsum(seq)))
+            k = np.arange(seq.shape[0])
+            upper = k - lo + 1  # sum of seq[k-hi .. k-lo]
+            lower = np.maximum(k - hi, 0)
+            top_i = np.clip(upper, 0, None)
+            new[r::w] = np.where(upper > 0, prefix[top_i] - prefix[np.minimum(lower, top_i)], 0.0)
+        ways = new
+    return ways
+
+
+def composition_count(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable | None = None) -> int:
+    """How many compositions within ``limits`` have nominal mass ``mass``, counted without
+    building them (so a question too large to answer is refused in milliseconds)."""
+    t = table or default_elements()
+    symbols = search_symbols(limits, t)
+    if mass < 0:
+        return 0
+    ways = _ways([t[s].nominal_mass for s in symbols], [limits[s] for s in symbols], mass)
+    return round(float(ways[mass]))
+
+
+def check_space(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable | None = None) -> int:
+    """The composition count of ``mass`` within ``limits``; raises :class:`TooLarge` above
+    :data:`MAX_COMPOSITIONS`, naming the count and what to narrow."""
+    n = composition_count(mass, limits, table)
+    if n > MAX_COMPOSITIONS:
+        widest = sorted((s for s in limits if s not in ("C", "H")), key=lambda s: limits[s][0] - limits[s][1])
+        hint = f" (widest: {', '.join(f'{s} {limits[s][0]}-{limits[s][1]}' for s in widest[:3])})" if widest else ""
+        raise TooLarge(
+            f"these element limits allow {n:,} compositions of nominal mass {mass}, above the "
+            f"{MAX_COMPOSITIONS:,} the formula search takes; "
+            f"narrow the ranges of the rarer elements{hint}"
         )
-    return symbols
+    return n
+
+
+def _bounded_grid(
+    masses: Sequence[int], ranges: Sequence[tuple[int, int]], low: int, high: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """Every count vector (one column per element) whose nominal mass lies in [low, high], and its
+    mass. Built element by element; a partial vector is kept only when some completion reaches
+    the window (read from the suffix counts), so no intermediate array outgrows the answer."""
+    k = len(masses)
+    if high < 0 or low > high:
+        return np.zeros((0, k), dtype=np.int64), np.zeros(0, dtype=np.int64)
+    low = max(low, 0)
+    # reach[j][x] > 0: elements j.. can add exactly x (x <= high)
+    reach = [np.zeros(high + 1) for _ in range(k + 1)]
+    reach[k][0] = 1.0
+    for j in range(k - 1, -1, -1):
+        reach[j] = _ways(masses[j:], ranges[j:], high)
+    rows = np.zeros((1, 0), dtype=np.int64)
+    mass = np.zeros(1, dtype=np.int64)
+    for j in range(k):
+        lo, hi = ranges[j]
+        hi = min(hi, high // masses[j])
+        counts = np.arange(lo, hi + 1, dtype=np.int64)
+        if counts.shape[0] == 0:
+            return np.zeros((0, k), dtype=np.int64), np.zeros(0, dtype=np.int64)
+        new_mass = (mass[:, None] + counts[None, :] * masses[j]).ravel()
+        # some completion by the remaining elements lands in [low, high]
+        hit = np.concatenate(([0.0], np.cumsum(reach[j + 1] > 0)))
+        a = np.clip(low - new_mass, 0, high + 1)
+        b = np.clip(high - new_mass + 1, 0, high + 1)
+        keep = (new_mass <= high) & (hit[b] > hit[a])
+        idx = np.nonzero(keep)[0]
+        parent, which = np.divmod(idx, counts.shape[0])
+        rows = np.concatenate((rows[parent], counts[which][:, None]), axis=1)
+        mass = new_mass[idx]
+    return rows, mass
 
 
 def _direct(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> np.ndarray:
     symbols = search_symbols(limits, table)
-    if "H" not in symbols or "C" not in symbols:
-        return _brute(mass, limits, table, symbols)
+    check_space(mass, limits, table)
+    k = len(symbols)
+    if k == 0:
+        return np.zeros((1 if mass == 0 else 0, 0), dtype=np.int64)
+    out = np.zeros((0, k), dtype=np.int64)
+    solve_ch = "C" in symbols and "H" in symbols and table["H"].nominal_mass == 1
+    if not solve_ch:
+        # the last element is solved by division; the others form a bounded grid
+        last = symbols[-1]
+        w = table[last].nominal_mass
+        lo, hi = limits[last]
+        masses = [table[s].nominal_mass for s in symbols[:-1]]
+        grid, gm = _bounded_grid(masses, [limits[s] for s in symbols[:-1]], mass - hi * w, mass - lo * w)
+        rest = mass - gm
+        ok = (rest % w == 0) & (rest // w >= lo) & (rest // w <= hi)
+        return np.concatenate((grid[ok], (rest[ok] // w)[:, None]), axis=1)
     others = [s for s in symbols if s not in ("C", "H")]
-    masses = np.array([table[s].nominal_mass for s in others], dtype=np.int64)
-    ranges = [range(limits[s][0], limits[s][1] + 1) for s in others]
-    if others:
-        grid = np.array(list(itertools.product(*ranges)), dtype=np.int64).reshape(-1, len(others))
-    else:
-        grid = np.zeros((1, 0), dtype=np.int64)
-    rest = mass - grid @ masses
-    keep = rest >= 0
-    grid, rest = grid[keep], rest[keep]
     c_lo, c_hi = limits["C"]
     h_lo, h_hi = limits["H"]
+    wc = table["C"].nominal_mass
+    grid, gm = _bounded_grid(
+        [table[s].nominal_mass for s in others],
+        [limits[s] for s in others],
+        mass - wc * c_hi - h_hi,
+        mass - wc * c_lo - h_lo,
+    )
     cs = np.arange(c_lo, c_hi + 1, dtype=np.int64)
-    hs = rest[:, None] - table["C"].nominal_mass * cs[None, :]
-    if table["H"].nominal_mass != 1:  # pragma: no cover - a hand-made table
-        return _brute(mass, limits, table, symbols)
-    ok = (hs >= h_lo) & (hs <= h_hi)
-    rows, cols = np.nonzero(ok)
-    out = np.zeros((rows.shape[0], len(symbols)), dtype=np.int64)
-    ci, hi = symbols.index("C"), symbols.index("H")
-    out[:, ci] = cs[cols]
-    out[:, hi] = hs[rows, cols]
-    for j, s in enumerate(others):
-        out[:, symbols.index(s)] = grid[rows, j]
-    return out
-
-
-def _brute(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable, symbols: list[str]) -> np.ndarray:
-    masses = [table[s].nominal_mass for s in symbols]
-    found = []
-    for combo in itertools.product(*(range(limits[s][0], limits[s][1] + 1) for s in symbols)):
-        if sum(n * m for n, m in zip(combo, masses, strict=True)) == mass:
-            found.append(combo)
-    return np.array(found, dtype=np.int64).reshape(-1, len(symbols))
+    ci, hi_col = symbols.index("C"), symbols.index("H")
+    other_cols = [symbols.index(s) for s in others]
+    step = max(1, _CHUNK_CELLS // max(1, cs.shape[0]))
+    parts = [out]
+    for start in range(0, grid.shape[0], step):
+        sub, rest = grid[start : start + step], mass - gm[start : start + step]
+        hs = rest[:, None] - wc * cs[None, :]
+        rows, cols = np.nonzero((hs >= h_lo) & (hs <= h_hi))
+        part = np.zeros((rows.shape[0], k), dtype=np.int64)
+        part[:, ci] = cs[cols]
+        part[:, hi_col] = hs[rows, cols]
+        if other_cols:
+            part[:, other_cols] = sub[rows]
+        parts.append(part)
+    return np.concatenate(parts, axis=0)
 
 
 def _constraint(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> np.ndarray:
     import constraint  # python-constraint2
 
     symbols = search_symbols(limits, table)
+    check_space(mass, limits, table)
     problem = constraint.Problem()
     for s in symbols:
         problem.addVariable(s, list(range(limits[s][0], limits[s][1] + 1)))
@@ -396,7 +482,8 @@ def derive_formulas(
     the nearest SCORE_STEP (best first), then |ppm error| when an exact mass is given, then
     parsimony (fewest atoms beyond C, H, N, O; fewest heteroatoms; most carbons), then
     composition order (the element table's order), so ties never depend on anything but the
-    input. With ``keep_rejected`` every rejected composition is returned with its rule and reason.
+    input. With ``keep_rejected`` rejected compositions are returned with their rule and reason,
+    the first :data:`EXPLAINED_PER_RULE` of each rule (``rejected_counts`` counts them all).
     """
     t = table or default_elements()
     r = rules or default_rules()
@@ -407,7 +494,11 @@ def derive_formulas(
     counts = {rule: int(np.count_nonzero(failed == i)) for i, rule in enumerate(RULES)}
     rejected: list[Candidate] = []
     if keep_rejected:
-        for row in arr[failed >= 0]:
+        # the first EXPLAINED_PER_RULE of each rule in composition order (counts stay complete)
+        shown = np.zeros(arr.shape[0], dtype=bool)
+        for i in range(len(RULES)):
+            shown[np.nonzero(failed == i)[0][:EXPLAINED_PER_RULE]] = True
+        for row in arr[shown]:
             formula = Formula.of(dict(zip(symbols, map(int, row), strict=True)))
             verdict = check_formula(formula, query, table=t, rules=r)
             if verdict is None:  # pragma: no cover - vectorized filter and reference disagree

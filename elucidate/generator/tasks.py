@@ -53,6 +53,18 @@ PARTS_PER_WORKER = 16
 #: building and scoring a structure): a space whose walks mostly dead-end can hold few
 #: structures and still take hours to grow
 NODES_PER_STRUCTURE = 10
+#: heavier formulas are refused before their space is estimated: the estimate's walks alone
+#: take seconds per formula there (8.6 s for C30H30N4O4, 38 heavy atoms), and no space of that
+#: size fits the structure limits a run can enumerate (docs/generator.md)
+MAX_HEAVY_ATOMS = 40
+
+
+def beyond_generator(formula: Formula) -> str | None:
+    """Why the generator will not take ``formula`` at all (too many heavy atoms), or None."""
+    heavy = sum(n for s, n in formula.items() if s != "H")
+    if heavy > MAX_HEAVY_ATOMS:
+        return f"{heavy} heavy atoms, above the {MAX_HEAVY_ATOMS} the structure generator takes"
+    return None
 
 
 @dataclass(frozen=True)

@@ -100,7 +100,9 @@ def formulas_text(result: FormulaResult, *, title: str | None = None, explain: b
         for rule in RULES:
             group = [c for c in result.rejected if c.rejected_by == rule]
             if group:
-                lines.append(f"  {RULE_LABELS[rule]} ({len(group)}):")
+                total = result.rejected_counts.get(rule, len(group))
+                more = f", the first {len(group):,} shown" if total > len(group) else ""
+                lines.append(f"  {RULE_LABELS[rule]} ({total:,}{more}):")
                 for c in group:
                     lines.append(f"    {c.formula}: {c.reason}")
     lines.append("")

@@ -20,9 +20,10 @@ from typing import TYPE_CHECKING
 
 from ..case import CARBON_KINDS, Case
 from ..defaults import FORMULAS_PER_ION, SHORTLIST, SOLVER_LIMIT, WORKERS
-from ..errors import ElucidateError
+from ..errors import ElucidateError, TooLarge
 from ..evidence import TECHNIQUES, Assessment, Technique
 from ..formula_search import Candidate, case_query, derive_formulas
+from ..formula_search.search import check_space
 from ..generator.counts import CountTest
 from ..generator.groups import GroupTable, default_groups
 from ..generator.selection import Selection
@@ -176,7 +177,13 @@ def preflight(case: Case, *, groups: GroupTable | None = None) -> None:
     considered = considered_hypotheses(case)
     masses = molecular_ion_hypotheses(case, considered)
     for m in masses:
-        case_query(case, m)
+        query = case_query(case, m)
+        try:
+            check_space(m, query.elements)
+        except TooLarge as exc:
+            raise TooLarge(
+                exc.message, file=case.path, line=case.formula.elements_line, key="formula.elements"
+            ) from exc
     hard_selection(case, [cls() for cls in TECHNIQUES]).compile(g)
     signals = case.nmr.c13_signals if case.nmr is not None else None
     if signals is not None and masses:
@@ -217,7 +224,7 @@ def _solve(
     cache: CandidateCache | None,
 ) -> Solution:
     from ..generator import GeneratorOptions, SpaceEstimate, estimate_space, isomer_smiles
-    from ..generator.tasks import NODES_PER_STRUCTURE, TooManyStructures
+    from ..generator.tasks import NODES_PER_STRUCTURE, TooManyStructures, beyond_generator
 
     g = groups or default_groups()
     preflight(case, groups=g)
@@ -302,11 +309,14 @@ def _solve(
                 )
                 progress("generation", len(found), None)
                 continue
-            space = SpaceEstimate(0.0, 0.0) if held else estimate_space(cand.formula, estimate_options)
+            heavy = None if held else beyond_generator(cand.formula)
+            space = SpaceEstimate(0.0, 0.0) if held or heavy else estimate_space(cand.formula, estimate_options)
             estimate = space.structures
-            over = space.over(limit)
+            over = space.over(limit) or heavy is not None
             if over or held:
-                if over:
+                if heavy is not None:
+                    why = heavy
+                elif over:
                     advice = advise(cand.formula)
                     if estimate > limit:
                         why = f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: {advice}"
