@@ -14,6 +14,7 @@ import re
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .defaults import ELEMENT_RATIOS, EXACT_MASS_KINDS, EXACT_MASS_OF, PPM_TOLERANCE, RATIO_LEVELS
 from .elements import ElementTable, default_elements
@@ -34,6 +35,9 @@ from .yamlnodes import (
     parse_yaml,
     read_yaml_file,
 )
+
+if TYPE_CHECKING:
+    from ._rdkit import Mol
 
 __all__ = [
     "CARBON_KINDS",
@@ -225,6 +229,8 @@ class Case:
     nmr: Nmr | None = None
     structure: StructureSpec | None = None
     solve: SolveOptions = field(default_factory=lambda: SolveOptions())
+    #: things the file says that are allowed but worth a second look, each placed by file:line: key
+    warnings: tuple[str, ...] = field(default=(), compare=False)
 
 
 # ------------------------------------------------------------------ sections
@@ -716,6 +722,40 @@ def _solve_options(loc: Located) -> SolveOptions:
     return SolveOptions(formulas, limit, worse)
 
 
+def _no_contradiction(body: Mapping[str, Located]) -> None:
+    """A required group or SMARTS that implies a forbidden one (every structure with a ketone
+    has C=O) leaves nothing to find: an error naming both lines, before any work. The test
+    (:func:`~elucidate.generator.implication.pattern_implies`) only reports what it proves."""
+    from ._rdkit import mol_from_smarts
+    from .generator.groups import default_groups
+    from .generator.implication import pattern_implies
+
+    groups = default_groups()
+    sides: dict[str, list[tuple[str, Mol, Located]]] = {"require": [], "forbid": []}
+    for section, key, side in (
+        ("infrared", "require", "require"),
+        ("infrared", "forbid", "forbid"),
+        ("structure", "require_smarts", "require"),
+        ("structure", "forbid_smarts", "forbid"),
+    ):
+        if section not in body or not isinstance(body[section].value, dict) or key not in body[section].value:
+            continue
+        for item in body[section].value[key].value:
+            if key in ("require", "forbid"):
+                sides[side].append((f"group {item.value}", groups[item.value].pattern, item))
+            else:
+                mol = mol_from_smarts(item.value)
+                assert mol is not None  # the section loader has read it
+                sides[side].append((f"SMARTS {item.value}", mol, item))
+    for need, need_mol, need_item in sides["require"]:
+        for ban, ban_mol, ban_item in sides["forbid"]:
+            if pattern_implies(need_mol, ban_mol):
+                raise ban_item.error(
+                    f"forbids {ban}, but every structure with the required {need} (line {need_item.line}, "
+                    f"{need_item.key}) matches it: nothing could survive; drop one of the two"
+                )
+
+
 def _structure(loc: Located) -> StructureSpec:
     body = mapping(loc, ["require_smarts", "forbid_smarts", "suspects"])
     out: dict[str, tuple[str, ...]] = {}
@@ -767,6 +807,7 @@ def _case(root: Located, table: ElementTable) -> Case:
     title = as_str(body["title"], what="a title (free text)") if "title" in body else ""
     notes = as_str(body["notes"], what="free text", allow_empty=True) if "notes" in body else ""
     ms = ms_body = None
+    warnings: list[str] = []
     if "mass_spec" in body:
         ms, ms_body = _mass_spec(body["mass_spec"])
     spec = FormulaSpec()
@@ -777,6 +818,8 @@ def _case(root: Located, table: ElementTable) -> Case:
     uv_vis = _uv_vis(body["uv_vis"]) if "uv_vis" in body else None
     nmr = _nmr(body["nmr"]) if "nmr" in body else None
     structure = _structure(body["structure"]) if "structure" in body else None
+    if infrared is not None or structure is not None:
+        _no_contradiction(body)
     solve_options = _solve_options(body["solve"]) if "solve" in body else SolveOptions()
 
     # ---- cross-checks between sections
@@ -795,6 +838,14 @@ def _case(root: Located, table: ElementTable) -> Case:
                         f"{spec.known} is {ppm:+.1f} ppm from mass_spec.exact_mass "
                         f"{ms.exact_mass} (tolerance {ms.mass_tolerance_ppm:g} ppm)"
                     )
+        if ms.molecular_ion is not None and ms.peaks and ms.molecular_ion not in ms.peaks:
+            mloc = ms_body["molecular_ion"]
+            warnings.append(
+                f"{mloc.file}:{mloc.line}: {mloc.key}: no peak at m/z {ms.molecular_ion} in mass_spec.peaks: "
+                "its isotope cluster cannot be compared and the formulas are ranked by parsimony alone. "
+                "Fine when M+ is absent from the EI spectrum and known otherwise (e.g. CI); "
+                "else check the value"
+            )
         if ms.molecular_ion is not None and ms.peaks:
             if spec.known is not None:
                 limits = {s: (n, n) for s, n in spec.known.counts}
@@ -857,6 +908,7 @@ def _case(root: Located, table: ElementTable) -> Case:
         nmr=nmr,
         structure=structure,
         solve=solve_options,
+        warnings=tuple(warnings),
     )
 
 

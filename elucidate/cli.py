@@ -531,6 +531,8 @@ def _cmd_check(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
             note = ""
         earlier.append((path, digest))
         out.write(f"ok: {path} ({case.id}{note})\n")
+        for warning in case.warnings:
+            err.write(f"warning: {warning}\n")
     if failures:
         err.write(f"{failures} of {len(args.cases)} case file(s) invalid\n")
     if too_large:

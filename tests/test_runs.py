@@ -184,7 +184,11 @@ def test_diff_names_the_constraint_that_eliminated_the_leader(cli, demo, tmp_pat
     ]
     first = d["moves"][0]
     assert first["smiles"] == "CC(=O)c1ccc(C)cc1" and first["rank_a"] == "1" and first["rank_b"] is None
-    assert first["verdict"] == "eliminated by forbid SMARTS Cc1ccc(cc1)C(C)=O"
+    # the whole molecule matches: every atom of its SMILES is named
+    assert first["verdict"] == (
+        "eliminated by forbid SMARTS Cc1ccc(cc1)C(C)=O: a match at atoms C8, C7, C6, C5, C4, C10, C9, C2, C1, O3 "
+        "(numbered from 1 in the order of its SMILES)"
+    )
     moved = {m["smiles"]: m for m in d["moves"]}
     assert moved["CC(=O)c1cccc(C)c1"]["rank_b"] == "1="  # the meta isomer moves up
     counts = {c["label"]: (c["a"], c["b"]) for c in d["counts"]}

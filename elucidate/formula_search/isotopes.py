@@ -159,11 +159,15 @@ class ObservedCluster:
         max_offset: int = 8,
         complete_above: float | None = None,
     ) -> ObservedCluster | None:
-        """Build the cluster, or ``None`` when M itself is not in the peak list."""
+        """Build the cluster, or ``None`` when there is nothing to compare: M itself is not in the
+        peak list, or no peak above it is and the list does not claim to be complete (a fit would
+        then read 1 for every formula without having compared anything)."""
         m = peaks.get(nominal_mass)
         if not m:
             return None
         ratios = {k: peaks[nominal_mass + k] / m * 100.0 for k in range(1, max_offset + 1) if nominal_mass + k in peaks}
+        if not ratios and complete_above is None:
+            return None
         threshold = min(peaks.values()) if peaks else 0.0
         return cls(nominal_mass, float(m), ratios, float(threshold), complete_above)
 
@@ -250,6 +254,8 @@ class ClusterReading:
     notes: tuple[str, ...]
     #: the best-read heavy-atom set (empty: none), None when the M+2 pattern could not be read
     heavy_counts: Mapping[str, int] | None = None
+    #: the pattern reads as a heavy-atom set the element limits rule out (also in ``notes``)
+    excluded_reading: str | None = None
 
 
 def _label(counts: Mapping[str, int]) -> str:
@@ -280,10 +286,11 @@ def read_cluster(
     notes: list[str] = []
     best: tuple[float, str] = (-1.0, "none")
     scores: list[tuple[float, str, dict[str, int]]] = []
+    excluded: list[tuple[float, str, str]] = []  # sets the element limits rule out: fit, label, why
+    conflict: str | None = None
     even = {k: v for k, v in observed.ratios.items() if k % 2 == 0}
     for heavy in heavy_sets:
-        if allowed is not None and any(allowed.get(s, (0, 0))[1] < n for s, n in heavy.items()):
-            continue
+        beyond = [s for s, n in heavy.items() if allowed is not None and allowed.get(s, (0, 0))[1] < n]
         pattern = isotope_pattern(Formula.of({"C": 6, **heavy}), t, max_offset=8)
         chi2 = 0.0
         used = 0
@@ -300,7 +307,12 @@ def read_cluster(
             sigma = tolerance.sigma(pred, observed.m_intensity) + 0.5  # skeleton unknown: looser
             chi2 += ((obs - pred) / sigma) ** 2
             used += 1
-        if used:
+        if used and beyond:
+            assert allowed is not None
+            most = {sym: allowed.get(sym, (0, 0))[1] for sym in beyond}
+            why = ", ".join(f"excludes {sym}" if n == 0 else f"allows at most {n} {sym}" for sym, n in most.items())
+            excluded.append((float(np.exp(-0.5 * chi2)), _label(heavy), why))
+        elif used:
             scores.append((float(np.exp(-0.5 * chi2)), _label(heavy), dict(heavy)))
     heavy_counts: dict[str, int] = {}
     if scores:
@@ -311,6 +323,16 @@ def read_cluster(
             best = (best[0], f"{scores[0][1]} (or {scores[1][1]})")
         if 2 in observed.ratios:
             notes.append(f"M+2 = {observed.ratios[2]:.1f} % of M+: best read as {best[1]}")
+            # a pattern the element limits rule out, read far better than any they allow
+            if excluded:
+                fit, label, why = min(excluded, key=lambda e: (-e[0], e[1]))
+                if fit > 0.5 and fit > 4 * best[0]:
+                    conflict = (
+                        f"M+2 = {observed.ratios[2]:.1f} % of M+ reads as {label} (fit {fit:.2f}), but "
+                        f"formula.elements {why}; the best reading it allows is {best[1]} (fit {best[0]:.2f}): "
+                        "widen formula.elements, or check the peak list"
+                    )
+                    notes.append(conflict)
     else:
         notes.append("no M+2 peak listed: halogens and sulfur cannot be read from the cluster")
 
@@ -336,4 +358,6 @@ def read_cluster(
                 f"M+1 = {observed.ratios[1]:.1f} % of M+: about {carbon:.1f} C at {per_c:.2f} % per C "
                 f"(range {low}-{high}; H, N and O add a little)"
             )
-    return ClusterReading(best[1], best[0], carbon, c_range, tuple(notes), heavy_counts if scores else None)
+    return ClusterReading(
+        best[1], best[0], carbon, c_range, tuple(notes), heavy_counts if scores else None, excluded_reading=conflict
+    )

@@ -6,14 +6,15 @@ and filtering.
 
 from __future__ import annotations
 
-from collections.abc import Callable
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, TypeAlias
 
 from ..errors import ElucidateError
 from ..smarts import compiled_smarts
 from .counts import CountTest
 from .groups import GroupTable, default_groups
+from .implication import pattern_implies
 from .plausibility import default_profiles
 
 if TYPE_CHECKING:
@@ -80,15 +81,30 @@ class Selection:
         both = sorted(set(self.require) & set(self.forbid))
         if both:
             raise ElucidateError(f"group {both[0]!r} is both required and forbidden")
+        needed = [(f"group {n}", g[n].pattern) for n in self.require]
+        needed += [(f"SMARTS {t}", compiled_smarts(t)) for t in self.require_smarts]
+        banned = [(f"group {n}", g[n].pattern) for n in self.forbid]
+        banned += [(f"SMARTS {t}", compiled_smarts(t)) for t in self.forbid_smarts]
+        for need, need_mol in needed:
+            for ban, ban_mol in banned:
+                if pattern_implies(need_mol, ban_mol):
+                    raise ElucidateError(
+                        f"every structure with the required {need} matches the forbidden {ban}: nothing could survive"
+                    )
         tests: list[tuple[str, MolTest]] = []  # (label, passes)
+        reasons: dict[str, Callable[[Mol], str]] = {}  # label -> what a structure breaking it has or lacks
         for name in self.require:
             tests.append((f"require {name}", _has(g[name].pattern)))
+            reasons[f"require {name}"] = _absent(f"no {name} group")
         for name in self.forbid:
             tests.append((f"forbid {name}", _lacks(g[name].pattern)))
+            reasons[f"forbid {name}"] = _present(f"a {name} group", g[name].pattern)
         for text in self.require_smarts:
             tests.append((f"require SMARTS {text}", _has(compiled_smarts(text))))
+            reasons[f"require SMARTS {text}"] = _absent("no match anywhere in it")
         for text in self.forbid_smarts:
             tests.append((f"forbid SMARTS {text}", _lacks(compiled_smarts(text))))
+            reasons[f"forbid SMARTS {text}"] = _present("a match", compiled_smarts(text))
         if self.max_ring_size is not None:
             if self.max_ring_size < 3:
                 raise ElucidateError(f"largest ring size must be 3 or more, got {self.max_ring_size}")
@@ -96,13 +112,33 @@ class Selection:
             tests.append(
                 (f"largest ring {limit}", lambda mol: all(len(r) <= limit for r in mol.GetRingInfo().AtomRings()))
             )
+            reasons[f"largest ring {limit}"] = _largest_ring
         test = self.count_test
         if test is not None and not pushed_counts:
             tests.append((test.label, test.mol_ok))
+            reasons[test.label] = _absent("its carbon and hydrogen counts differ from the declared ones")
         if self.profile is not None:
             for rule in default_profiles()[self.profile]:
                 tests.append((f"implausible {rule.name}", _not(rule.matches)))
-        return CompiledSelection(tuple(tests))
+                reasons[f"implausible {rule.name}"] = _absent(rule.reason)
+        return CompiledSelection(tuple(tests), reasons)
+
+
+def _largest_ring(mol: Mol) -> str:
+    return f"it has a ring of {max(len(r) for r in mol.GetRingInfo().AtomRings())} atoms"
+
+
+def _absent(words: str) -> Callable[[Mol], str]:
+    return lambda mol: words
+
+
+def _present(what: str, pattern: Mol) -> Callable[[Mol], str]:
+    def where(mol: Mol) -> str:
+        atoms = mol.GetSubstructMatch(pattern)
+        named = ", ".join(f"{mol.GetAtomWithIdx(i).GetSymbol()}{i + 1}" for i in atoms)
+        return f"{what} at atoms {named} (numbered from 1 in the order of its SMILES)" if atoms else f"{what} in it"
+
+    return where
 
 
 def _has(pattern: Mol) -> MolTest:
@@ -120,6 +156,15 @@ def _not(test: MolTest) -> MolTest:
 @dataclass(frozen=True)
 class CompiledSelection:
     tests: tuple[tuple[str, MolTest], ...]
+    #: label -> why a structure breaks it, in the structure's terms (what it has or lacks)
+    reasons: Mapping[str, Callable[[Mol], str]] = field(default_factory=dict)
+
+    def reason(self, label: str, mol: Mol) -> str:
+        """Why ``mol``, which breaks the constraint ``label``, breaks it: what it lacks, or
+        where it holds what is forbidden (atoms numbered from 1 in the order of the SMILES as
+        given), words the label itself does not repeat."""
+        explain = self.reasons.get(label)
+        return explain(mol) if explain is not None else "it breaks this constraint"
 
     @property
     def labels(self) -> tuple[str, ...]:

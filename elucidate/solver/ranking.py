@@ -237,7 +237,7 @@ def _solve(
     hypotheses = molecular_ion_hypotheses(case, considered)
     untried: list[UntriedFormula] = []
     kept: list[KeptFormula] = []
-    notes: list[str] = []
+    notes: list[str] = list(case.warnings)
     # the declared NMR counts prune before structures are built: not counted (generator.md)
     removed: dict[str, int] = dict.fromkeys(selection.compile(g, pushed_counts=True).labels, 0)
     generated = 0
@@ -268,6 +268,8 @@ def _solve(
                 "only (raise --formulas)"
             )
             untried += [UntriedFormula(c.formula, m, why) for c in result.kept[len(chosen) :]]
+        if result.reading is not None and result.reading.excluded_reading is not None:
+            notes.append(f"M {m}: {result.reading.excluded_reading}")
         derived.append((m, result, chosen))
         progress("formulas", done, len(hypotheses))
     for m, result, chosen in derived:

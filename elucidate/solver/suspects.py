@@ -73,9 +73,7 @@ def assess_suspect(
         return SuspectResult(text, smiles, fstr, None, "formula", why, score, components)
     failed = compiled.first_failure(mol)
     if failed is not None:
-        return SuspectResult(
-            text, smiles, fstr, None, failed, f"breaks the declared constraint: {failed}", score, components
-        )
+        return SuspectResult(text, smiles, fstr, None, failed, compiled.reason(failed, mol), score, components)
     if match.skipped:
         return SuspectResult(
             text, smiles, fstr, None, None, f"{fstr} was not enumerated ({match.skipped})", score, components

@@ -1,0 +1,167 @@
+"""Whether one SMARTS pattern implies another: every molecule matching the first matches the
+second. Used to refuse a case that requires one and forbids the other before anything is
+generated (nothing could survive).
+
+The test is sound and deliberately incomplete: it answers True only when it can prove the
+implication by mapping the second pattern onto the first, atom by atom and bond by bond, where
+each atom of the second is a plain conjunction of primitives (``C``, ``[#6]``, ``[CH2]``,
+``[OX1]``...) that the mapped atom of the first requires too, and each bond's allowed orders
+include all the first's bond allows. A pattern it cannot read that way (alternatives, negations,
+recursive SMARTS, ring primitives) is never called implied; a missed contradiction only costs
+a run that ends empty, a false one would refuse a good case.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from .._rdkit import Mol
+
+__all__ = ["pattern_implies"]
+
+_ALL_ORDERS = frozenset({"1", "2", "3", "ar"})
+_BOND_ORDERS = {
+    "-": frozenset({"1"}),
+    "=": frozenset({"2"}),
+    "#": frozenset({"3"}),
+    ":": frozenset({"ar"}),
+    "": frozenset({"1", "ar"}),  # SMARTS: an unwritten bond is single or aromatic
+    "~": _ALL_ORDERS,
+}
+# element primitives (Daylight SMARTS): upper case aliphatic, lower case aromatic
+_ELEMENT = re.compile(r"^(Cl|Br|[BCNOSPFI]|[cnosp]|se|as)$")
+_NUMBER = {"B": 5, "C": 6, "N": 7, "O": 8, "F": 9, "P": 15, "S": 16, "Cl": 17, "Br": 35, "I": 53, "Se": 34, "As": 33}
+
+
+def _split(text: str, sep: str) -> list[str] | None:
+    """``text`` split on ``sep`` outside parentheses (recursive SMARTS), None if unbalanced."""
+    parts, depth, start = [], 0, 0
+    for i, ch in enumerate(text):
+        if ch == "(":
+            depth += 1
+        elif ch == ")":
+            depth -= 1
+            if depth < 0:
+                return None
+        elif ch == sep and depth == 0:
+            parts.append(text[start:i])
+            start = i + 1
+    if depth:
+        return None
+    parts.append(text[start:])
+    return parts
+
+
+def _primitive(p: str) -> set[str] | None:
+    """The normalized facts one primitive states (an element is its atomic number plus
+    aliphatic A or aromatic a), or None when it is not a plain positive primitive."""
+    if not p or p.startswith(("!", "$")):
+        return None
+    if _ELEMENT.match(p):
+        aromatic = p[0].islower()
+        return {f"#{_NUMBER[p[0].upper() + p[1:]]}", "a" if aromatic else "A"}
+    m = re.fullmatch(r"#(\d+)", p)
+    if m:
+        return {f"#{int(m.group(1))}"}
+    m = re.fullmatch(r"([HDX])(\d*)", p)
+    if m:
+        return {f"{m.group(1)}{m.group(2) or '1'}"}
+    if p in ("A", "a"):
+        return {p}
+    if p == "*":
+        return set()
+    return {p}  # another primitive (v2, +0...): implied only by the same text
+
+
+def _atom_facts(smarts: str, *, required_only: bool) -> set[str] | None:
+    """What an atom SMARTS requires of every atom it matches: the primitives of its top-level
+    conjunction. With ``required_only`` (the implying pattern) parts that are alternatives are
+    skipped (they require nothing certain); without it (the implied pattern) any part that is not
+    a plain conjunction makes the atom unreadable (None)."""
+    body = smarts[1:-1] if smarts.startswith("[") and smarts.endswith("]") else smarts
+    if not body:
+        return None
+    facts: set[str] = set()
+    parts = _split(body, ";")
+    if parts is None:
+        return None
+    for part in parts:
+        if len(_split(part, ",") or ["", ""]) > 1:  # alternatives (or unbalanced): nothing certain
+            if required_only:
+                continue
+            return None
+        conj = _split(part, "&")
+        if conj is None:
+            return None
+        for piece in conj:
+            if "(" in piece or "!" in piece:  # recursive SMARTS or a negation: nothing certain
+                if required_only:
+                    continue
+                return None
+            for p in re.findall(r"Cl|Br|se|as|#\d+|[A-Z][a-z]?\d*|[a-z]\d*|\*|[^A-Za-z#*]+\d*", piece) or [piece]:
+                got = _primitive(p)
+                if got is None:
+                    if required_only:
+                        continue
+                    return None
+                facts |= got
+    return facts
+
+
+def _bond_orders(bond: Any) -> frozenset[str] | None:
+    """The bond orders a query bond allows, or None for one this test cannot read (typed Any:
+    RDKit's stubs mistype ``Bond.GetSmarts``)."""
+    return _BOND_ORDERS.get(str(bond.GetSmarts()))
+
+
+def pattern_implies(p: Mol, f: Mol) -> bool:
+    """True when every molecule matching the query ``p`` provably matches the query ``f``."""
+    p_atoms = [_atom_facts(a.GetSmarts(), required_only=True) or set() for a in p.GetAtoms()]
+    f_atoms = [_atom_facts(a.GetSmarts(), required_only=False) for a in f.GetAtoms()]
+    if not f_atoms or any(facts is None for facts in f_atoms):
+        return False
+    p_bonds: dict[tuple[int, int], frozenset[str]] = {}
+    for b in p.GetBonds():
+        orders = _bond_orders(b) or _ALL_ORDERS
+        i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
+        p_bonds[(i, j)] = p_bonds[(j, i)] = orders
+    f_bonds: list[tuple[int, int, frozenset[str]]] = []
+    for b in f.GetBonds():
+        f_orders = _bond_orders(b)
+        if f_orders is None:
+            return False
+        f_bonds.append((b.GetBeginAtomIdx(), b.GetEndAtomIdx(), f_orders))
+
+    def atom_ok(fi: int, pi: int) -> bool:
+        need = f_atoms[fi]
+        assert need is not None
+        return need <= p_atoms[pi]
+
+    image: list[int] = []
+
+    def extend() -> bool:
+        fi = len(image)
+        if fi == len(f_atoms):
+            return True
+        for pi in range(len(p_atoms)):
+            if pi in image or not atom_ok(fi, pi):
+                continue
+            ok = True
+            for a, b, orders in f_bonds:
+                if max(a, b) != fi:
+                    continue
+                other = image[min(a, b)]
+                have = p_bonds.get((other, pi))
+                if have is None or not have <= orders:
+                    ok = False
+                    break
+            if ok:
+                image.append(pi)
+                if extend():
+                    return True
+                image.pop()
+        return False
+
+    return extend()
