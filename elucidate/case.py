@@ -253,7 +253,9 @@ def mz_problem(mz: object, *, what: str = "m/z") -> str | None:
         hint = " (nominal m/z only: round to a whole number)" if isinstance(mz, float) else ""
         return f"expected a whole, positive {what}; got {mz!r}{hint}"
     if mz > MAX_MZ:
-        shown = f"{mz}" if mz < 10**12 else f"a number of {len(str(mz))} digits"
+        # str() of an int past Python's digit limit raises: count digits from the bit length
+        digits = len(str(mz)) if mz < 10**100 else int(mz.bit_length() * math.log10(2)) + 1
+        shown = f"{mz}" if mz < 10**12 else f"a number of {'about ' if mz >= 10**100 else ''}{digits} digits"
         return f"expected {what} from 1 to {MAX_MZ:,} (the range this version reads); got {shown}"
     return None
 

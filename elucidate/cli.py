@@ -20,7 +20,16 @@ from pathlib import Path
 from typing import TYPE_CHECKING, TextIO
 
 from . import __version__
-from .case import Case, FormulaSpec, base_peak_problem, intensity_problem, load_case, mz_problem, parse_case
+from .case import (
+    MAX_MZ,
+    Case,
+    FormulaSpec,
+    base_peak_problem,
+    intensity_problem,
+    load_case,
+    mz_problem,
+    parse_case,
+)
 from .defaults import EXACT_MASS_KINDS, FORMULAS_PER_ION, ISOMERS_LIMIT, RATIO_LEVELS, SOLVER_LIMIT, WORKERS
 from .elements import default_elements
 from .errors import ElucidateError, TooLarge
@@ -431,8 +440,15 @@ def _query(args: argparse.Namespace) -> tuple[FormulaQuery, Case | None]:
     rules = default_rules()
     case: Case | None = None
     target = args.target.strip()
+    if args.molecular_ion is not None and mz_problem(args.molecular_ion, what="--molecular-ion"):
+        raise ElucidateError(str(mz_problem(args.molecular_ion, what="--molecular-ion")))
     if re.fullmatch(r"[0-9]+", target):
-        mass = int(target)
+        # a nominal mass has a few digits; thousands of them would not even convert to int
+        mass = int(target) if len(target) <= 12 else MAX_MZ + 1
+        problem = mz_problem(mass, what="M")
+        if problem is not None:
+            shown = target if len(target) <= 12 else f"a number of {len(target):,} digits"
+            raise ElucidateError(f"expected M from 1 to {MAX_MZ:,} (the range this version reads); got {shown}")
         if args.molecular_ion is not None:
             raise ElucidateError("give the mass once: either M as the first argument or --molecular-ion with a case")
         query = formula_query(mass, formula=FormulaSpec(), mass_spec=None, rules=rules)

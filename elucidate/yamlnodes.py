@@ -266,7 +266,10 @@ _DASHES = {
 
 
 def _shown(value: Any) -> str:
-    text = repr(value)
+    try:
+        text = repr(value)
+    except ValueError:  # an integer past Python's digit limit for str()
+        return "a number of thousands of digits"
     if len(text) <= _SHOWN:
         return text
     return f"{text[: _SHOWN - 10]}...{text[-6:]} ({len(str(value)):,} characters)"
@@ -371,12 +374,15 @@ def as_number(
     value = loc.value
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         raise loc.error(f"expected {what}; got {_describe(value)}{_comma_hint(value)}")
-    number = float(value)
+    try:
+        number = float(value)
+    except OverflowError:  # an integer beyond any float (hundreds of digits)
+        raise loc.error(f"expected {what}; got {_shown(value)}") from None
     if not math.isfinite(number):
-        raise loc.error(f"expected {what}; got {value!r}")
+        raise loc.error(f"expected {what}; got {_shown(value)}")
     too_low = minimum is not None and (number <= minimum if exclusive_minimum else number < minimum)
     if too_low or (maximum is not None and number > maximum):
-        raise loc.error(f"expected {what}; got {value!r}")
+        raise loc.error(f"expected {what}; got {_shown(value)}")
     return number
 
 
@@ -394,7 +400,7 @@ def as_int(
     if isinstance(value, bool) or not isinstance(value, int):
         raise loc.error(f"expected {what}; got {_describe(value)}{_comma_hint(value)}")
     if (minimum is not None and value < minimum) or (maximum is not None and value > maximum):
-        raise loc.error(f"expected {what}; got {value!r}")
+        raise loc.error(f"expected {what}; got {_shown(value)}")
     return value
 
 
@@ -413,7 +419,7 @@ def as_range(loc: Located, *, what: str = "a count or range such as 0-40") -> tu
     value = loc.value
     if isinstance(value, int) and not isinstance(value, bool):
         if value < 0:
-            raise loc.error(f"expected {what}; got {value!r} (counts cannot be negative)")
+            raise loc.error(f"expected {what}; got {_shown(value)} (counts cannot be negative)")
         return value, value
     parsed = parse_range_text(value) if isinstance(value, str) else None
     if parsed is None:

@@ -152,12 +152,23 @@ def _ways(masses: Sequence[int], ranges: Sequence[tuple[int, int]], top: int) ->
     return ways
 
 
+def _within_mass(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable) -> dict[str, tuple[int, int]]:
+    """The limits with each upper bound cut to what the mass can hold (a careless 0-10**20 range
+    must cost nothing); a lower bound above it leaves an empty range (low > high)."""
+    out = {}
+    for sym, (lo, hi) in limits.items():
+        w = table[sym].nominal_mass
+        out[sym] = (lo, min(hi, max(mass, 0) // w)) if w > 0 else (lo, hi)
+    return out
+
+
 def composition_count(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTable | None = None) -> int:
     """How many compositions within ``limits`` have nominal mass ``mass``, counted without
     building them (so a question too large to answer is refused in milliseconds)."""
     t = table or default_elements()
     symbols = search_symbols(limits, t)
-    if mass < 0:
+    limits = _within_mass(mass, limits, t)
+    if mass < 0 or any(lo > hi for lo, hi in limits.values()):
         return 0
     ways = _ways([t[s].nominal_mass for s in symbols], [limits[s] for s in symbols], mass)
     return round(float(ways[mass]))
@@ -218,6 +229,9 @@ def _direct(mass: int, limits: Mapping[str, tuple[int, int]], table: ElementTabl
     symbols = search_symbols(limits, table)
     check_space(mass, limits, table)
     k = len(symbols)
+    limits = _within_mass(mass, limits, table)
+    if any(lo > hi for lo, hi in limits.values()) or mass < 0:
+        return np.zeros((0, k), dtype=np.int64)
     if k == 0:
         return np.zeros((1 if mass == 0 else 0, 0), dtype=np.int64)
     out = np.zeros((0, k), dtype=np.int64)
@@ -265,6 +279,7 @@ def _constraint(mass: int, limits: Mapping[str, tuple[int, int]], table: Element
 
     symbols = search_symbols(limits, table)
     check_space(mass, limits, table)
+    limits = _within_mass(mass, limits, table)
     problem = constraint.Problem()
     for s in symbols:
         problem.addVariable(s, list(range(limits[s][0], limits[s][1] + 1)))
