@@ -16,7 +16,7 @@ import yaml
 from elucidate.case import parse_case
 from elucidate.evidence import TECHNIQUES, Nmr
 from elucidate.solver import solve
-from elucidate.solver.passes import technique_passes
+from elucidate.solver.passes import pass_order, technique_passes
 
 HERE = Path(__file__).parent / "reference_cases"
 #: small spaces with every kind of evidence between them (NMR, fragments, IR, UV)
@@ -75,7 +75,7 @@ def test_random_cases_give_the_shortlist_of_full_scoring(seed: int) -> None:
     assert quick.scoring_passes[0].scored == quick.candidate_count
 
 
-def test_passes_run_cheapest_first_and_each_technique_once() -> None:
+def test_passes_start_cheapest_first_and_hold_each_technique_once() -> None:
     techniques = [cls() for cls in TECHNIQUES]
     passes = technique_passes(techniques)
     numbers = [group[0].scoring_pass for group in passes]
@@ -84,6 +84,39 @@ def test_passes_run_cheapest_first_and_each_technique_once() -> None:
     # the expensive techniques come after the cheap ones (common practice: cost measured in bench/)
     by_name = {t.name: t.scoring_pass for t in techniques}
     assert by_name["nmr"] > by_name["infrared"] and by_name["fragments"] > by_name["strain"]
+
+
+@pytest.mark.parametrize(
+    ("parts", "threshold", "costs", "order"),
+    [
+        # hand-checked: each candidate runs passes until its running sum is below -5; costs
+        # 1, 10, 5. Order (2, 1, 0) costs 5 + 15 + 5 + 16 = 41, the least of the six orders
+        # ((0, 1, 2): 49; (0, 2, 1): 44; (1, 0, 2) and (1, 2, 0): 46; (2, 0, 1): 42)
+        ([(-1, -9, -9), (-2, -9, -1), (-1, -9, -8), (-1, -1, -1)], -5.0, [1, 10, 5], (2, 1, 0)),
+        # equal costs: (1, 0, 2) and (1, 2, 0) both cost 30; the first in permutation order wins
+        ([(-1, -9, -9), (-2, -9, -1), (-1, -9, -8), (-1, -1, -1)], -5.0, [5, 5, 5], (1, 0, 2)),
+        # nothing settles anything: every order costs the same, the first stays
+        ([(-1, -1, -1)], -5.0, [3, 2, 1], (0, 1, 2)),
+        # a sum exactly at the threshold does not settle (the bound must fall below it)
+        ([(-5.0, -6.0)], -5.0, [1, 1], (1, 0)),
+        ([], -5.0, [1, 1], (0, 1)),
+    ],
+)
+def test_pass_order_is_the_cheapest_on_the_candidates_seen(parts, threshold, costs, order) -> None:
+    assert pass_order(parts, threshold, costs) == order
+
+
+def test_an_nmr_case_runs_its_nmr_pass_first_with_the_shortlist_unchanged() -> None:
+    # menthone with 13C and DEPT: on the spread first batch the NMR pass settles most for its
+    # cost, so it moves ahead of the cheap pass; the shortlist is still that of full scoring
+    case = parse_case((HERE / "menthone.yaml").read_text(encoding="utf-8"))
+    quick = solve(case, shortlist=5, workers=1)
+    full = solve(case, shortlist=0)
+    assert quick.scoring_passes[0].techniques == ("nmr",)
+    assert [c.as_dict() for c in quick.candidates] == [c.as_dict() for c in full.candidates[: len(quick.candidates)]]
+    assert sum(p.settled for p in quick.scoring_passes) == quick.candidate_count
+    # the order is chosen from scores, not times: the same for any number of workers
+    assert solve(case, shortlist=5, workers=2).scoring_passes == quick.scoring_passes
 
 
 @pytest.mark.parametrize(

@@ -111,7 +111,10 @@ class Technique(Protocol):
     for evidence about the formula (the isotope cluster), ``"structure"`` for evidence about the
     structure; ``reading_key``: the JSON key of its reading, or None if it has none;
     ``scoring_pass``: when the solver runs it, cheapest first (0: on every candidate; a later
-    pass only on candidates whose best possible total can still reach the shortlist).
+    pass only on candidates whose best possible total can still reach the shortlist), the order
+    the solver starts with; ``cost``: its mean time per candidate, relative (microseconds on the
+    machine ``bench/bench_scoring_cost.py`` was run on), by which the solver may reorder the
+    passes once it has seen how many candidates each pass settles (docs/solver.md).
     """
 
     name: str
@@ -120,6 +123,7 @@ class Technique(Protocol):
     stage: Literal["formula", "structure"]
     reading_key: str | None
     scoring_pass: int
+    cost: float
 
     def applies(self, case: Case) -> bool:
         """Whether the case holds data this technique can use."""

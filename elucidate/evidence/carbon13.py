@@ -215,6 +215,7 @@ class Carbon13:
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
     scoring_pass: int = 0
+    cost: float = 60  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: Carbon13Table | None = None) -> None:
         self.table = table or default_carbon13()

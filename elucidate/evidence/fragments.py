@@ -469,6 +469,7 @@ class Fragments:
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
     scoring_pass: int = 2
+    cost: float = 2000  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(
         self,

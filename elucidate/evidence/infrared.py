@@ -274,6 +274,7 @@ class Infrared:
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = "ir_reading"
     scoring_pass: int = 0
+    cost: float = 60  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: IRTable | None = None) -> None:
         self.table = table or default_infrared()

@@ -23,6 +23,7 @@ class IsotopeFit:
     stage: Literal["formula", "structure"] = "formula"
     reading_key: str | None = None
     scoring_pass: int = 0
+    cost: float = 5  # µs per candidate, bench/bench_scoring_cost.py
 
     def applies(self, case: Case) -> bool:
         return case.mass_spec is not None and bool(case.mass_spec.peaks)

@@ -120,6 +120,7 @@ class Nmr:
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = "nmr_reading"
     scoring_pass: int = 1
+    cost: float = 2700  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, tables: NmrTables | None = None) -> None:
         self.tables = tables or default_nmr_tables()

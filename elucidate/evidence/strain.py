@@ -139,6 +139,7 @@ class Strain:
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
     scoring_pass: int = 0
+    cost: float = 120  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: StrainTable | None = None) -> None:
         self.table = table or default_strain()

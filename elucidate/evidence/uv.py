@@ -615,6 +615,7 @@ class UvVis:
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
     scoring_pass: int = 0
+    cost: float = 180  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: UVTable | None = None) -> None:
         self.table = table or default_uv()

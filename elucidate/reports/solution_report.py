@@ -131,11 +131,11 @@ def solve_text(solution: Solution, *, top: int = 10, details: int = 3) -> str:
 
 
 def _pass_lines(solution: Solution) -> list[str]:
-    """How far each candidate was scored: the passes, cheapest first."""
+    """How far each candidate was scored: the passes, in the order they ran."""
     passes = solution.scoring_passes
     if not passes or not solution.candidate_count:
         return []
-    lines = [f"scoring of {solution.candidate_count:,} candidates, cheapest evidence first:"]
+    lines = [f"scoring of {solution.candidate_count:,} candidates, passes in the order chosen for least work:"]
     for number, p in enumerate(passes, start=1):
         last = number == len(passes)
         what = "scored in full" if last else "settled (cannot reach the shortlist)"

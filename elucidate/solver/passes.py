@@ -1,7 +1,8 @@
 """Scoring in passes with bounds: the shortlist that full scoring gives, for less work.
 
-Each technique runs in one scoring pass (its ``scoring_pass``, cheapest first). Candidates are
-scored in batches of a fixed size, watched ones (suspects) first, then in generation order.
+Each technique runs in one scoring pass (its ``scoring_pass``). Candidates are scored in
+batches of a fixed size, watched ones (suspects) first, then a batch spread evenly over the
+generation order, then the rest in generation order.
 After each batch the threshold T is the log-likelihood of the shortlist's last place among the
 candidates scored in full so far (or the lowest watched candidate's, when lower). In a later
 batch, after each pass, a candidate's upper bound is its score so far less what the later
@@ -11,12 +12,22 @@ the shortlist and is scored no further (branch and bound). T only rises, and eve
 at or above the final T has been scored in full, so the shortlist, the ranks and the ties are
 those of full scoring.
 
-The batches and their thresholds do not depend on the number of workers or where they run, so
-the counts of what each pass settled are the same for any runner too."""
+The passes start cheapest first. Once the threshold is first known (after the first batches,
+scored in full), the passes are put in the order that settles candidates for the least work:
+the order whose passes, run on the candidates scored so far until their running sum falls
+below the threshold expected at the end (the total of the candidate ranked at the shortlist's
+share of all candidates among those scored so far), would have cost least, by the techniques'
+``cost`` (:func:`pass_order`). With 13C and DEPT declared the NMR pass often settles most and
+moves first (carvone, camphor, menthone; not linalool). The order only changes the work: the
+bounds still hold, so the shortlist is that of full scoring whatever the order.
+
+The batches, their thresholds and the order do not depend on the number of workers or where they
+run, so the counts of what each pass settled are the same for any runner too."""
 
 from __future__ import annotations
 
 import heapq
+import itertools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -39,6 +50,7 @@ __all__ = [
     "Scored",
     "Scoring",
     "evaluate_in_passes",
+    "pass_order",
     "score_candidates",
     "technique_passes",
 ]
@@ -82,12 +94,18 @@ class Outcome:
 
 
 def evaluate_in_passes(
-    evaluator: Evaluator, candidate: FoundCandidate, mol: Mol, techniques: Sequence[Technique], threshold: float
+    evaluator: Evaluator,
+    candidate: FoundCandidate,
+    mol: Mol,
+    techniques: Sequence[Technique],
+    threshold: float,
+    order: Sequence[int] | None = None,
 ) -> Outcome:
     """Run the passes on one candidate until its bound falls below ``threshold`` (-inf: every
-    pass; +inf: pass 0 only). The bound after a pass is the score so far less what the later
+    pass; +inf: the first pass only), in ``order`` (indices into :func:`technique_passes`;
+    None: cheapest first). The bound after a pass is the score so far less what the later
     techniques' floors (:class:`~elucidate.evidence.Bounded`) already cost, capped and weighted
-    as in the score."""
+    as in the score. ``Outcome.last_pass`` is a position in that order."""
     subject = make_subject(
         candidate.smiles,
         mol,
@@ -100,7 +118,8 @@ def evaluate_in_passes(
     )
     keys = {t.name: t.weight_key for t in techniques}
     position = {t.name: i for i, t in enumerate(techniques)}
-    passes = technique_passes(techniques)
+    grouped = technique_passes(techniques)
+    passes = [grouped[k] for k in order] if order is not None else grouped
     last = len(passes) - 1
     found: list[Assessment] = []
     owed = [0.0] * len(passes)  # what each pass's floors already cost, in log-likelihood
@@ -145,7 +164,8 @@ def _floor(technique: Technique, subject: Subject, evaluator: Evaluator) -> floa
 class _Job:
     evaluator: Evaluator
     items: tuple[FoundCandidate, ...]
-    thresholds: tuple[float, ...]  # per item: +inf stops after pass 0, -inf scores in full
+    thresholds: tuple[float, ...]  # per item: +inf stops after the first pass, -inf scores in full
+    order: tuple[int, ...]  # the passes, as indices into technique_passes
 
 
 def _run_job(job: _Job) -> list[Outcome]:
@@ -154,7 +174,7 @@ def _run_job(job: _Job) -> list[Outcome]:
     techniques = job.evaluator.techniques()
     with quiet_rdkit():
         return [
-            evaluate_in_passes(job.evaluator, item, Chem.MolFromSmiles(item.smiles), techniques, limit)
+            evaluate_in_passes(job.evaluator, item, Chem.MolFromSmiles(item.smiles), techniques, limit, job.order)
             for item, limit in zip(job.items, job.thresholds, strict=True)
         ]
 
@@ -177,9 +197,16 @@ def score_candidates(
     (0: every candidate) or rank at or above a ``watched`` one is scored in full."""
     techniques = evaluator.techniques()
     passes = technique_passes(techniques)
-    names = [tuple(t.name for t in group) for group in passes]
+    sequence = tuple(range(len(passes)))  # the pass order, as indices into passes
+    seen: list[tuple[float, ...]] = []  # per candidate scored in full before the order is set: each pass's part
     n = len(found)
-    order = sorted(watched) + [i for i in range(n) if i not in watched]
+    # watched first, then an even spread over the generation order (a sample of the whole space
+    # for the threshold and the pass order: the first candidates generated are much alike),
+    # then the rest in generation order
+    rest = [i for i in range(n) if i not in watched]
+    spread = rest[:: max(1, len(rest) // BATCH)][:BATCH]
+    taken = set(spread)
+    order = sorted(watched) + spread + [i for i in rest if i not in taken]
     settled = [0] * len(passes)
     best: list[float] = []  # min-heap of the best `shortlist` levels scored in full
     lowest_watched = math.inf
@@ -192,7 +219,7 @@ def score_candidates(
         position += len(batch)
         limits = {i: -math.inf if i in watched else threshold for i in batch}
         jobs = [
-            _Job(evaluator, tuple(found[i] for i in part), tuple(limits[i] for i in part))
+            _Job(evaluator, tuple(found[i] for i in part), tuple(limits[i] for i in part), sequence)
             for part in _split(batch, runner.workers)
         ]
         outcomes = [o for part in runner.map(_run_job, jobs) for o in part]
@@ -202,6 +229,8 @@ def score_candidates(
                 continue
             level = round(outcome.combined.log_likelihood, 6)
             full[i] = (outcome.combined, outcome.assessments)
+            if threshold == -math.inf:
+                seen.append(_pass_parts(outcome.assessments, passes, evaluator))
             if i in watched:
                 lowest_watched = min(lowest_watched, level)
                 unscored_watched -= 1
@@ -212,11 +241,60 @@ def score_candidates(
                     heapq.heapreplace(best, level)
         progress("scoring", position, n)
         if shortlist and len(best) == shortlist and not unscored_watched:
+            if threshold == -math.inf:
+                # set once, from the candidates scored in full so far (all passes ran on them,
+                # and they count as settled by the last pass whatever the order), against the
+                # threshold expected at the end: the sample's total at the shortlist's share of
+                # all candidates (T rises as more are scored, so today's T would settle too few)
+                totals = sorted((sum(p) for p in seen), reverse=True)
+                expected = totals[min(len(totals) - 1, shortlist * len(totals) // n)]
+                sequence = pass_order(seen, min(expected, lowest_watched), [_cost(g) for g in passes])
             threshold = max(threshold, min(best[0], lowest_watched))
             full = {i: s for i, s in full.items() if round(s[0].log_likelihood, 6) >= threshold}
     counts = []
     remaining = n
-    for k, group in enumerate(names):
-        counts.append(PassCount(group, remaining, settled[k]))
-        remaining -= settled[k]
+    for slot, k in enumerate(sequence):
+        counts.append(PassCount(tuple(t.name for t in passes[k]), remaining, settled[slot]))
+        remaining -= settled[slot]
     return Scoring(full, threshold, tuple(counts))
+
+
+def _cost(group: Sequence[Technique]) -> float:
+    return sum(t.cost for t in group)
+
+
+def _pass_parts(
+    assessments: Sequence[Assessment], passes: Sequence[Sequence[Technique]], evaluator: Evaluator
+) -> tuple[float, ...]:
+    """Each pass's part of a fully scored candidate's log-likelihood (the parts add up to it)."""
+    keys = {t.name: t.weight_key for group in passes for t in group}
+    parts = []
+    for group in passes:
+        names = {t.name for t in group}
+        parts.append(combine([a for a in assessments if a.technique in names], keys, evaluator.scoring).log_likelihood)
+    return tuple(parts)
+
+
+def pass_order(parts: Sequence[Sequence[float]], threshold: float, costs: Sequence[float]) -> tuple[int, ...]:
+    """The order of the passes that would have cost least on the candidates seen: ``parts``
+    holds each candidate's log-likelihood part per pass; in a given order a candidate runs pass
+    after pass until the sum of its parts so far falls below ``threshold`` (later parts are 0 or
+    less, so it could no longer reach it), and each pass run costs ``costs[k]``. Every order is
+    tried (there are a handful of passes); ties go to the earliest in the lexicographic order of
+    the permutations, so the first order wins when nothing settles."""
+    first = tuple(range(len(costs)))
+    if not parts or len(costs) > 6:
+        return first
+    best, best_cost = first, math.inf
+    for sequence in itertools.permutations(first):
+        total = 0.0
+        for p in parts:
+            running = 0.0
+            for k in sequence:
+                total += costs[k]
+                running += p[k]
+                if running < threshold - EPSILON:
+                    break
+        if total < best_cost - 1e-9:
+            best, best_cost = sequence, total
+    return best
