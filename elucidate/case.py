@@ -728,9 +728,9 @@ def _no_contradiction(body: Mapping[str, Located]) -> None:
     """A required group or SMARTS that implies a forbidden one (every structure with a ketone
     has C=O) leaves nothing to find: an error naming both lines, before any work. The test
     (:func:`~elucidate.generator.implication.pattern_implies`) only reports what it proves."""
-    from ._rdkit import mol_from_smarts
     from .generator.groups import default_groups
-    from .generator.implication import pattern_implies
+    from .generator.implication import first_implied
+    from .smarts import compiled_smarts
 
     groups = default_groups()
     sides: dict[str, list[tuple[str, Mol, Located]]] = {"require": [], "forbid": []}
@@ -745,17 +745,16 @@ def _no_contradiction(body: Mapping[str, Located]) -> None:
         for item in body[section].value[key].value:
             if key in ("require", "forbid"):
                 sides[side].append((f"group {item.value}", groups[item.value].pattern, item))
-            else:
-                mol = mol_from_smarts(item.value)
-                assert mol is not None  # the section loader has read it
-                sides[side].append((f"SMARTS {item.value}", mol, item))
-    for need, need_mol, need_item in sides["require"]:
-        for ban, ban_mol, ban_item in sides["forbid"]:
-            if pattern_implies(need_mol, ban_mol):
-                raise ban_item.error(
-                    f"forbids {ban}, but every structure with the required {need} (line {need_item.line}, "
-                    f"{need_item.key}) matches it: nothing could survive; drop one of the two"
-                )
+            else:  # the section loader has read it
+                sides[side].append((f"SMARTS {item.value}", compiled_smarts(item.value), item))
+    pair = first_implied([m for _, m, _ in sides["require"]], [m for _, m, _ in sides["forbid"]])
+    if pair is not None:
+        need, _, need_item = sides["require"][pair[0]]
+        ban, _, ban_item = sides["forbid"][pair[1]]
+        raise ban_item.error(
+            f"forbids {ban}, but every structure with the required {need} (line {need_item.line}, "
+            f"{need_item.key}) matches it: nothing could survive; drop one of the two"
+        )
 
 
 def _structure(loc: Located) -> StructureSpec:

@@ -118,7 +118,7 @@ def _set(data: Any, path: tuple[Any, ...], value: Any) -> Any:
     return data
 
 
-def _numbers_in(data: Any, path: tuple[Any, ...] = ()) -> list[tuple[Any, ...]]:
+def _numbers_in(data: Any) -> list[tuple[Any, ...]]:
     return [p for p in _paths(data) if isinstance(_get(data, p), (int, float)) and not isinstance(_get(data, p), bool)]
 
 

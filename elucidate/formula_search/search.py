@@ -132,23 +132,30 @@ def search_symbols(limits: Mapping[str, tuple[int, int]], table: ElementTable) -
     return [s for s in table.symbols if s in limits]
 
 
+def _add_element(ways: np.ndarray, w: int, lo: int, hi: int) -> np.ndarray:
+    """The counts by total nominal mass after one more element of mass ``w`` taken ``lo`` to
+    ``hi`` times: sliding sums along each residue class mod ``w`` (O(len(ways)))."""
+    top = ways.shape[0] - 1
+    new = np.zeros(top + 1)
+    for r in range(min(w, top + 1)):
+        seq = ways[r::w]
+        prefix = np.concatenate(([0.0], np.cumsum(seq)))
+        k = np.arange(seq.shape[0])
+        upper = k - lo + 1  # sum of seq[k-hi .. k-lo]
+        lower = np.maximum(k - hi, 0)
+        top_i = np.clip(upper, 0, None)
+        new[r::w] = np.where(upper > 0, prefix[top_i] - prefix[np.minimum(lower, top_i)], 0.0)
+    return new
+
+
 def _ways(masses: Sequence[int], ranges: Sequence[tuple[int, int]], top: int) -> np.ndarray:
     """How many count vectors (element i between ``ranges[i]``) have each total nominal mass
-    0..top: a bounded-knapsack count by dynamic programming, O(top) per element (sliding sums
-    along each residue class). Floats: exact below 2**53, and anything larger is refused anyway."""
+    0..top: a bounded-knapsack count by dynamic programming, O(top) per element. Floats: exact
+    below 2**53, and anything larger is refused anyway."""
     ways = np.zeros(top + 1)
     ways[0] = 1.0
     for w, (lo, hi) in zip(masses, ranges, strict=True):
-        new = np.zeros(top + 1)
-        for r in range(min(w, top + 1)):
-            seq = ways[r::w]
-            prefix = np.concatenate(([0.0], np.cumsum(seq)))
-            k = np.arange(seq.shape[0])
-            upper = k - lo + 1  # sum of seq[k-hi .. k-lo]
-            lower = np.maximum(k - hi, 0)
-            top_i = np.clip(upper, 0, None)
-            new[r::w] = np.where(upper > 0, prefix[top_i] - prefix[np.minimum(lower, top_i)], 0.0)
-        ways = new
+        ways = _add_element(ways, w, lo, hi)
     return ways
 
 
@@ -199,11 +206,12 @@ def _bounded_grid(
     if high < 0 or low > high:
         return np.zeros((0, k), dtype=np.int64), np.zeros(0, dtype=np.int64)
     low = max(low, 0)
-    # reach[j][x] > 0: elements j.. can add exactly x (x <= high)
-    reach = [np.zeros(high + 1) for _ in range(k + 1)]
-    reach[k][0] = 1.0
+    # reach[j][x] > 0: elements j.. can add exactly x (x <= high), built from the last element back
+    reach = [np.zeros(high + 1)]
+    reach[0][0] = 1.0
     for j in range(k - 1, -1, -1):
-        reach[j] = _ways(masses[j:], ranges[j:], high)
+        reach.append(_add_element(reach[-1], masses[j], *ranges[j]))
+    reach.reverse()
     rows = np.zeros((1, 0), dtype=np.int64)
     mass = np.zeros(1, dtype=np.int64)
     for j in range(k):

@@ -14,12 +14,13 @@ a run that ends empty, a false one would refuse a good case.
 from __future__ import annotations
 
 import re
+from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["pattern_implies"]
+__all__ = ["first_implied", "pattern_implies"]
 
 _ALL_ORDERS = frozenset({"1", "2", "3", "ar"})
 _BOND_ORDERS = {
@@ -165,3 +166,13 @@ def pattern_implies(p: Mol, f: Mol) -> bool:
         return False
 
     return extend()
+
+
+def first_implied(required: Sequence[Mol], forbidden: Sequence[Mol]) -> tuple[int, int] | None:
+    """The first (required, forbidden) pair of indices where the required pattern provably
+    implies the forbidden one (nothing could then survive), or None."""
+    for i, need in enumerate(required):
+        for j, ban in enumerate(forbidden):
+            if pattern_implies(need, ban):
+                return i, j
+    return None

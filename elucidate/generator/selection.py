@@ -14,7 +14,7 @@ from ..errors import ElucidateError
 from ..smarts import compiled_smarts
 from .counts import CountTest
 from .groups import GroupTable, default_groups
-from .implication import pattern_implies
+from .implication import first_implied
 from .plausibility import default_profiles
 
 if TYPE_CHECKING:
@@ -85,12 +85,12 @@ class Selection:
         needed += [(f"SMARTS {t}", compiled_smarts(t)) for t in self.require_smarts]
         banned = [(f"group {n}", g[n].pattern) for n in self.forbid]
         banned += [(f"SMARTS {t}", compiled_smarts(t)) for t in self.forbid_smarts]
-        for need, need_mol in needed:
-            for ban, ban_mol in banned:
-                if pattern_implies(need_mol, ban_mol):
-                    raise ElucidateError(
-                        f"every structure with the required {need} matches the forbidden {ban}: nothing could survive"
-                    )
+        pair = first_implied([m for _, m in needed], [m for _, m in banned])
+        if pair is not None:
+            need, ban = needed[pair[0]][0], banned[pair[1]][0]
+            raise ElucidateError(
+                f"every structure with the required {need} matches the forbidden {ban}: nothing could survive"
+            )
         tests: list[tuple[str, MolTest]] = []  # (label, passes)
         reasons: dict[str, Callable[[Mol], str]] = {}  # label -> what a structure breaking it has or lacks
         for name in self.require:
