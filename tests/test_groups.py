@@ -177,7 +177,7 @@ def _multigraph(structure):
 
 
 def _pi_by_class(structure, mol):
-    counts = dict.fromkeys(("aromatic", "aliphatic", "carbon", "hetero"), 0)
+    counts = dict.fromkeys(("aromatic", "aliphatic", "aliphatic_cc", "aliphatic_cx", "carbon", "hetero"), 0)
     for a, b, o in structure.bonds:
         ends = [mol.GetAtomWithIdx(a), mol.GetAtomWithIdx(b)]
         carbon = [x for x in ends if x.GetAtomicNum() == 6]
@@ -189,6 +189,7 @@ def _pi_by_class(structure, mol):
             counts["aromatic"] += o - 1
         elif not any(x.GetIsAromatic() for x in ends):
             counts["aliphatic"] += o - 1
+            counts["aliphatic_cc" if len(carbon) == 2 else "aliphatic_cx"] += o - 1
     return counts
 
 
@@ -226,6 +227,10 @@ def test_pi_bond_bound_is_implied_by_the_group(group, structure_corpus):
         ((), 2, 2),  # two N(V) atoms: two oxo bonds
         (("aromatic_ring", "ketone"), 0, 4),  # disjoint classes add up
         (("ketone", "ester"), 0, 1),  # one class: the larger bound only (a keto ester may share nothing, but need not)
+        (("ketone", "alkene"), 0, 2),  # C=O and C=C: disjoint parts of `aliphatic` add up
+        (("nitrile", "alkyne"), 0, 4),  # C#N and C#C
+        (("alkene", "alkyne"), 0, 2),  # one part: the larger bound only
+        (("aromatic_ring", "ketone", "alkene"), 0, 5),
         (("aromatic_ring", "carbonyl"), 0, 3),  # `carbon` overlaps `aromatic`
         (("alkyne", "carbonyl"), 0, 2),
         (("nitro", "alkene"), 1, 3),  # the nitro group's N=O are its oxo bonds: not counted twice

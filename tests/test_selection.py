@@ -68,6 +68,8 @@ CORPUS = [
     ("C8H8", dict(require=("aromatic_ring", "alkene"))),
     ("C8H8", dict(require=("alkyne",))),
     ("C5H6O", dict(require=("ketone", "alkene"))),
+    ("C6H8O", dict(require=("ketone", "alkene"))),  # C=O and C=C add up: at most 1 ring
+    ("C5H5N", dict(require=("nitrile", "alkyne"))),  # C#N and C#C add up: no ring
     ("C4H4O", dict(require=("alkyne", "carbonyl"))),
     ("C4H5N", dict(require=("nitrile", "alkene"))),
     ("C3H5NO", dict(require=("amide", "alkene"))),

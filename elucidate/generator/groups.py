@@ -26,7 +26,7 @@ _NAME = re.compile(r"^[a-z][a-z0-9_]*$")
 _ELEMENT = re.compile(r"#\d+")
 
 #: classes of π bonds (see groups.yaml and :func:`min_pi_bonds`)
-PI_CLASSES = ("aromatic", "aliphatic", "carbon", "hetero")
+PI_CLASSES = ("aromatic", "aliphatic", "aliphatic_cc", "aliphatic_cx", "carbon", "hetero")
 
 
 @dataclass(frozen=True)
@@ -189,14 +189,18 @@ def min_pi_bonds(required: Iterable[str], groups: GroupTable, *, oxo: int = 0) -
 
     Classes: ``aromatic`` (a bond with an aromatic carbon end) and ``aliphatic`` (a bond with a
     carbon end, both ends non-aromatic) are disjoint and make up ``carbon`` (a bond with a carbon
-    end); ``hetero`` (no carbon end, as every oxo bond) is disjoint from all three. So the bound
-    is max(aromatic + aliphatic, carbon) + max(hetero, oxo)."""
+    end); ``aliphatic`` is made of the disjoint ``aliphatic_cc`` (both ends carbon) and
+    ``aliphatic_cx`` (the other end another element); ``hetero`` (no carbon end, as every oxo
+    bond) is disjoint from all of them. A class holds at least its own bound and at least the
+    sum of its parts' bounds: max(aromatic + max(aliphatic, aliphatic_cc + aliphatic_cx),
+    carbon) + max(hetero, oxo)."""
     best = dict.fromkeys(PI_CLASSES, 0)
     for name in required:
         bound = groups[name].pi_bonds
         if bound is not None:
             best[bound[1]] = max(best[bound[1]], bound[0])
-    return max(best["aromatic"] + best["aliphatic"], best["carbon"]) + max(best["hetero"], oxo)
+    aliphatic = max(best["aliphatic"], best["aliphatic_cc"] + best["aliphatic_cx"])
+    return max(best["aromatic"] + aliphatic, best["carbon"]) + max(best["hetero"], oxo)
 
 
 @lru_cache(maxsize=1)
