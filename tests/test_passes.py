@@ -149,3 +149,53 @@ def test_nmr_floor_never_exceeds_the_assessment(smiles: str, signals: list, floo
     full = technique.assess(subject, case)
     assert full.against >= against - 1e-9 and full.unexplained >= unexplained - 1e-9
     assert math.isfinite(full.against)
+
+
+@pytest.mark.parametrize(
+    "smiles",
+    # menthone, its isomers of other shapes, and C10H18O structures far from its spectra
+    ["CC(C)C1CCC(C)CC1=O", "CC(C)C1CC(C)CCC1=O", "CCCCCCCCCC=O", "CC1(C)C2CCC1(C)C(O)C2", "C=CC(C)(O)CCC=C(C)C"],
+)
+def test_the_first_part_of_the_nmr_assessment_is_a_lower_bound(smiles: str) -> None:
+    # the solver stops after the 13C part when it already settles a candidate: sound only if
+    # the 1H part never lowers what the 13C part found (self-consistency)
+    from elucidate._rdkit import Chem
+    from elucidate.evidence import make_subject
+    from elucidate.formula import parse_formula
+    from elucidate.generator.groups import default_groups
+
+    case = parse_case((HERE / "menthone.yaml").read_text(encoding="utf-8"))
+    mol = Chem.MolFromSmiles(smiles)
+    subject = make_subject(smiles, mol, parse_formula("C10H18O"), default_groups(), 154)
+    technique = Nmr()
+    partial = technique.begin(subject, case)
+    full = technique.assess(subject, case)
+    assert full == technique.finish(subject, case, technique.begin(subject, case))
+    assert case.nmr is not None and case.nmr.h1  # the case has a 1H part to add
+    assert full.against >= partial.against and full.unexplained >= partial.unexplained
+    assert partial.against > 0 or smiles.startswith("CC(C)C1CCC(C)CC1=O")
+
+
+def test_the_nmr_pass_stops_after_its_13c_part_with_the_shortlist_unchanged(monkeypatch) -> None:
+    # menthone, 423 candidates: the first 256 are scored in full (they set the threshold); of
+    # the rest, those settled by their 13C part alone never run their 1H part; the shortlist is
+    # still that of full scoring
+    case = parse_case((HERE / "menthone.yaml").read_text(encoding="utf-8"))
+    full = solve(case, shortlist=0)
+    calls = {"begin": 0, "finish": 0}
+    begin, finish = Nmr.begin, Nmr.finish
+
+    def counted_begin(self, subject, case):
+        calls["begin"] += 1
+        return begin(self, subject, case)
+
+    def counted_finish(self, subject, case, partial):
+        calls["finish"] += 1
+        return finish(self, subject, case, partial)
+
+    monkeypatch.setattr(Nmr, "begin", counted_begin)
+    monkeypatch.setattr(Nmr, "finish", counted_finish)
+    quick = solve(case, shortlist=5, workers=1)
+    assert [c.as_dict() for c in quick.candidates] == [c.as_dict() for c in full.candidates[: len(quick.candidates)]]
+    assert calls["begin"] == quick.candidate_count == 423
+    assert calls["finish"] <= calls["begin"] - 50, calls  # measured: 116 stopped after the 13C part

@@ -24,7 +24,7 @@ from ..generator.groups import GroupTable
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Assessment", "Bounded", "Reading", "Subject", "Technique", "make_subject"]
+__all__ = ["Assessment", "Bounded", "Partial", "Reading", "Staged", "Subject", "Technique", "make_subject"]
 
 
 @dataclass(frozen=True)
@@ -154,4 +154,30 @@ class Bounded(Protocol):
     def floor(self, subject: Subject, case: Case) -> tuple[float, float]:
         """Lower bounds of the ``against`` and ``unexplained`` that :meth:`Technique.assess`
         would give ``subject`` (0, 0 when nothing cheap is known)."""
+        ...
+
+
+@dataclass(frozen=True)
+class Partial:
+    """The first, cheaper part of an assessment: lower bounds of the ``against`` and
+    ``unexplained`` the whole assessment gives, and what the technique needs to finish it (its
+    own, opaque to the solver)."""
+
+    against: float
+    unexplained: float
+    state: Any = None
+
+
+@runtime_checkable
+class Staged(Protocol):
+    """A technique whose assessment comes in two parts, the first cheaper and a lower bound of
+    the whole (the solver may stop after it when the candidate can no longer reach the
+    shortlist). ``finish(subject, case, begin(subject, case))`` is ``assess(subject, case)``."""
+
+    def begin(self, subject: Subject, case: Case) -> Partial:
+        """The first part of the assessment of ``subject``."""
+        ...
+
+    def finish(self, subject: Subject, case: Case, partial: Partial) -> Assessment | None:
+        """The whole assessment, from the first part."""
         ...

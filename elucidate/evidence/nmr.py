@@ -28,9 +28,9 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
 from ..case import CARBON_KINDS, MULTIPLICITIES, C13Signal, Case, H1Signal
-from .base import Assessment, Reading, Subject
+from .base import Assessment, Partial, Reading, Subject
 from .carbon13 import carbon_classes
-from .nmr_predict import CarbonShift, ProtonShift, predict_nmr
+from .nmr_predict import CarbonShift, NmrPrediction, ProtonShift
 from .nmr_tables import AssignmentCosts, NmrTables, default_nmr_tables
 
 if TYPE_CHECKING:
@@ -339,26 +339,34 @@ class Nmr:
         return held, against, costs.overlap * shared
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
+        return self.finish(subject, case, self.begin(subject, case))
+
+    def begin(self, subject: Subject, case: Case) -> Partial:
+        """The 13C part (prediction and assignment): the 1H part only adds to it."""
+        assert case.nmr is not None
+        prediction = NmrPrediction(subject.mol, self.tables, ranks=subject.symmetry_ranks)
+        against = unexplained = 0.0
+        rows: list = []
+        if case.nmr.c13:
+            against, unexplained, rows = self._carbon(case.nmr.c13, prediction.c13)
+        return Partial(against, unexplained, (prediction, rows))
+
+    def finish(self, subject: Subject, case: Case, partial: Partial) -> Assessment:
         assert case.nmr is not None
         nmr = case.nmr
-        carbons, protons = predict_nmr(
-            subject.mol, self.tables, c13=bool(nmr.c13), h1=bool(nmr.h1), ranks=subject.symmetry_ranks
-        )
-        against = unexplained = 0.0
+        prediction, carbon_rows = partial.state
+        against, unexplained = partial.against, partial.unexplained
         reasons: list[str] = []
         detail: dict[str, Any] = {}
         if nmr.c13:
-            a, u, rows = self._carbon(nmr.c13, carbons)
-            against += a
-            unexplained += u
-            detail["c13"] = rows
-            reasons.append(_summary("13C", rows, "ppm", len(carbons)))
+            detail["c13"] = carbon_rows
+            reasons.append(_summary("13C", carbon_rows, "ppm", len(prediction.c13)))
         if nmr.h1:
-            a, u, rows, notes = self._proton(nmr.h1, protons)
+            a, u, rows, notes = self._proton(nmr.h1, prediction.h1)
             against += a
             unexplained += u
             detail["h1"] = rows
-            reasons.append(_summary("1H", rows, "ppm", len(protons)))
+            reasons.append(_summary("1H", rows, "ppm", len(prediction.h1)))
             reasons += notes
         return Assessment(self.name, against, unexplained, tuple(reasons), detail)
 

@@ -31,6 +31,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import cached_property, lru_cache
 from typing import TYPE_CHECKING
 
 from ..smarts import compiled_smarts
@@ -40,7 +41,7 @@ from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["CarbonShift", "ProtonShift", "predict_c13", "predict_h1", "predict_nmr"]
+__all__ = ["CarbonShift", "NmrPrediction", "ProtonShift", "predict_c13", "predict_h1", "predict_nmr"]
 
 _TYPES = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
 _ALKYL_NAMES = ("methyl", "ch2", "ch", "cq", "ch2n")
@@ -80,7 +81,8 @@ class _Context:
     def __init__(self, mol: Mol, tables: NmrTables) -> None:
         self.mol = mol
         self.tables = tables
-        self._matches: list[dict[int, list[tuple[int, ...]]] | None] = [None] * len(tables.c13.substituents)
+        # atom -> the substituent kinds with a match starting there, in table order, with those matches
+        self._firsts: dict[int, list[tuple[str, list[tuple[int, ...]]]]] | None = None
         self._names: dict[tuple[int, int], str] = {}
         self._starts: dict[str, frozenset[int]] = {}
         ri = mol.GetRingInfo()
@@ -123,27 +125,35 @@ class _Context:
         return (min(a, b), max(a, b)) in self.ring_bonds
 
     def name(self, atom: int, seen_from: int) -> str:
-        """The substituent kind starting at ``atom``, hanging on ``seen_from``."""
+        """The substituent kind starting at ``atom``, hanging on ``seen_from``: the first in table
+        order with a match from ``atom`` that does not run through ``seen_from``."""
         key = (atom, seen_from)
-        if key not in self._names:
+        found = self._names.get(key)
+        if found is None:
             found = "other"
-            for k, (name, _) in enumerate(self.tables.c13.substituents):
-                if any(seen_from not in m[1:] for m in self._by_first(k).get(atom, ())):
+            for name, matches in self._first_atoms().get(atom, ()):
+                if any(seen_from not in m[1:] for m in matches):
                     found = name
                     break
             self._names[key] = found
-        return self._names[key]
-
-    def _by_first(self, k: int) -> dict[int, list[tuple[int, ...]]]:
-        """Matches of substituent pattern k by their first atom (searched on first use)."""
-        found = self._matches[k]
-        if found is None:
-            found = {}
-            pattern = compiled_smarts(self.tables.c13.substituents[k][1])
-            for match in self.mol.GetSubstructMatches(pattern, uniquify=False):
-                found.setdefault(match[0], []).append(match)
-            self._matches[k] = found
         return found
+
+    def _first_atoms(self) -> dict[int, list[tuple[str, list[tuple[int, ...]]]]]:
+        """Every substituent pattern's matches by their first atom (searched once per molecule;
+        a pattern that needs an element the molecule lacks is not searched)."""
+        if self._firsts is None:
+            present = set(self.z)
+            firsts: dict[int, list[tuple[str, list[tuple[int, ...]]]]] = {}
+            for name, pattern, needs in _substituent_patterns(self.tables):
+                if not needs <= present:
+                    continue
+                by_first: dict[int, list[tuple[int, ...]]] = {}
+                for match in self.mol.GetSubstructMatches(pattern, uniquify=False):
+                    by_first.setdefault(match[0], []).append(match)
+                for atom, matches in by_first.items():
+                    firsts.setdefault(atom, []).append((name, matches))
+            self._firsts = firsts
+        return self._firsts
 
     def starts(self, smarts: str) -> frozenset[int]:
         """The atoms a SMARTS matches with its atom 0 (cached per molecule)."""
@@ -155,6 +165,18 @@ class _Context:
 
     def same_ring(self, a: int, b: int, c: int | None = None) -> bool:
         return any(a in r and b in r and (c is None or c in r) for r in self.atom_rings)
+
+
+@lru_cache(maxsize=8)
+def _substituent_patterns(tables: NmrTables) -> tuple[tuple[str, Mol, frozenset[int]], ...]:
+    """The substituent patterns in table order, compiled, each with the elements every match
+    needs (query atoms that stand for one element only)."""
+    out = []
+    for name, smarts in tables.c13.substituents:
+        pattern = compiled_smarts(smarts)
+        needs = frozenset(a.GetAtomicNum() for a in pattern.GetAtoms() if a.GetAtomicNum())
+        out.append((name, pattern, needs))
+    return tuple(out)
 
 
 def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:
@@ -395,6 +417,26 @@ def _carbon(ctx: _Context, i: int) -> tuple[float, float, str]:
     return shift, unc, "sp C (no scheme)"
 
 
+class NmrPrediction:
+    """One molecule's predicted 13C and 1H signals, each computed on first use; both share one
+    pass over the molecule's substituents and its symmetry ranks (:func:`symmetry_ranks`, when
+    known)."""
+
+    def __init__(self, mol: Mol, tables: NmrTables | None = None, *, ranks: Sequence[int] | None = None) -> None:
+        self._ctx = _Context(mol, tables or default_nmr_tables())
+        self._ranks = symmetry_ranks(mol) if ranks is None else ranks
+
+    @cached_property
+    def c13(self) -> list[CarbonShift]:
+        """One predicted 13C signal per carbon symmetry class, in order of first atom."""
+        return _predict_c13(self._ctx, self._ranks)
+
+    @cached_property
+    def h1(self) -> list[ProtonShift]:
+        """One predicted 1H signal per class of equivalent hydrogens, in order of first atom."""
+        return _predict_h1(self._ctx, self._ranks)
+
+
 def predict_nmr(
     mol: Mol,
     tables: NmrTables | None = None,
@@ -405,9 +447,8 @@ def predict_nmr(
 ) -> tuple[list[CarbonShift], list[ProtonShift]]:
     """The 13C and 1H predictions asked for (an empty list for the other), sharing one pass over
     the molecule's substituents and symmetry; ``ranks``: its :func:`symmetry_ranks`, when known."""
-    ctx = _Context(mol, tables or default_nmr_tables())
-    ranks = symmetry_ranks(mol) if ranks is None else ranks
-    return (_predict_c13(ctx, ranks) if c13 else []), (_predict_h1(ctx, ranks) if h1 else [])
+    prediction = NmrPrediction(mol, tables, ranks=ranks)
+    return (prediction.c13 if c13 else []), (prediction.h1 if h1 else [])
 
 
 def predict_c13(mol: Mol, tables: NmrTables | None = None) -> list[CarbonShift]:

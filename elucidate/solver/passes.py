@@ -7,8 +7,10 @@ After each batch the threshold T is the log-likelihood of the shortlist's last p
 candidates scored in full so far (or the lowest watched candidate's, when lower). In a later
 batch, after each pass, a candidate's upper bound is its score so far less what the later
 techniques' floors (:class:`~elucidate.evidence.Bounded`) already cost; every component is 0
-or less, so the later passes cannot raise it. A candidate whose bound is below T cannot reach
-the shortlist and is scored no further (branch and bound). T only rises, and every candidate
+or less, so the later passes cannot raise it. A technique that assesses in two parts
+(:class:`~elucidate.evidence.Staged`: NMR, 13C then 1H) is bounded after its first part too.
+A candidate whose bound is below T cannot reach the shortlist and is scored no further
+(branch and bound). T only rises, and every candidate
 at or above the final T has been scored in full, so the shortlist, the ranks and the ties are
 those of full scoring.
 
@@ -33,7 +35,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, cast
 
-from ..evidence import Assessment, Bounded, Subject, Technique, make_subject
+from ..evidence import Assessment, Bounded, Staged, Subject, Technique, make_subject
 from ..parallel import Runner
 from ..progress import Progress, silent
 from .records import FoundCandidate, PassCount
@@ -105,7 +107,9 @@ def evaluate_in_passes(
     pass; +inf: the first pass only), in ``order`` (indices into :func:`technique_passes`;
     None: cheapest first). The bound after a pass is the score so far less what the later
     techniques' floors (:class:`~elucidate.evidence.Bounded`) already cost, capped and weighted
-    as in the score. ``Outcome.last_pass`` is a position in that order."""
+    as in the score. A two-part technique (:class:`~elucidate.evidence.Staged`) is bounded the
+    same way after its first part, and not finished when that settles the candidate.
+    ``Outcome.last_pass`` is a position in that order."""
     subject = make_subject(
         candidate.smiles,
         mol,
@@ -122,16 +126,36 @@ def evaluate_in_passes(
     passes = [grouped[k] for k in order] if order is not None else grouped
     last = len(passes) - 1
     found: list[Assessment] = []
-    owed = [0.0] * len(passes)  # what each pass's floors already cost, in log-likelihood
+    bounding = -math.inf < threshold < math.inf
+    # what each later pass's floors already cost, in log-likelihood (computed once, when needed)
+    owed: list[float] | None = None
+
+    def later(k: int) -> float:
+        nonlocal owed
+        if owed is None:
+            owed = [0.0] + [sum(_floor(t, subject, evaluator) for t in group) for group in passes[1:]]
+        return sum(owed[k + 1 :])
+
     for k, group in enumerate(passes):
-        found += [a for a in (t.assess(subject, evaluator.case) for t in group) if a is not None]
+        for t in group:
+            if bounding and _is_staged(t):
+                # a two-part technique: stop after its first part when that already settles
+                staged = cast(Staged, t)
+                partial = staged.begin(subject, evaluator.case)
+                first = Assessment(t.name, partial.against, partial.unexplained)
+                bound = combine([*found, first], keys, evaluator.scoring).log_likelihood - later(k)
+                if bound < threshold - EPSILON:
+                    return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
+                assessment = staged.finish(subject, evaluator.case, partial)
+            else:
+                assessment = t.assess(subject, evaluator.case)
+            if assessment is not None:
+                found.append(assessment)
         if k == last:
             found.sort(key=lambda a: position[a.technique])  # report order, as full scoring gives
             break
         combined = combine(found, keys, evaluator.scoring)
-        if k == 0 and threshold > -math.inf:
-            owed = [0.0] + [sum(_floor(t, subject, evaluator) for t in later) for later in passes[1:]]
-        bound = combined.log_likelihood - sum(owed[k + 1 :])
+        bound = combined.log_likelihood - (later(k) if bounding else 0.0)
         if bound < threshold - EPSILON:
             return Outcome(k, combined, tuple(found), False, bound)
     combined = combine(found, keys, evaluator.scoring)
@@ -139,6 +163,7 @@ def evaluate_in_passes(
 
 
 _BOUNDED: dict[type, bool] = {}
+_STAGED: dict[type, bool] = {}
 
 
 def _is_bounded(technique: Technique) -> bool:
@@ -148,6 +173,15 @@ def _is_bounded(technique: Technique) -> bool:
     known = _BOUNDED.get(kind)
     if known is None:
         known = _BOUNDED[kind] = isinstance(technique, Bounded)
+    return known
+
+
+def _is_staged(technique: Technique) -> bool:
+    """Whether the technique assesses in two parts (tested once per technique class)."""
+    kind = type(technique)
+    known = _STAGED.get(kind)
+    if known is None:
+        known = _STAGED[kind] = isinstance(technique, Staged)
     return known
 
 
