@@ -199,3 +199,45 @@ def test_the_nmr_pass_stops_after_its_13c_part_with_the_shortlist_unchanged(monk
     assert [c.as_dict() for c in quick.candidates] == [c.as_dict() for c in full.candidates[: len(quick.candidates)]]
     assert calls["begin"] == quick.candidate_count == 423
     assert calls["finish"] <= calls["begin"] - 50, calls  # measured: 116 stopped after the 13C part
+
+
+@pytest.mark.slow
+def test_the_pass_order_is_chosen_again_when_the_threshold_passes_the_one_it_was_chosen_for(monkeypatch) -> None:
+    # alpha-terpineol: every candidate of the spread first batch has its NMR part at the cap,
+    # so on that sample no order settles more and the cheap pass stays first; once T rises
+    # above the sample's best (better candidates scored since), the order is chosen again on
+    # the same sample against T and the NMR pass moves first (measured: 0 of 6,926 settled by
+    # the cheap pass when it stayed first)
+    import elucidate.solver.passes as passes
+
+    calls: list[tuple[float, tuple[int, ...]]] = []
+    chosen = passes.pass_order
+
+    def spy(parts, threshold, costs):
+        order = chosen(parts, threshold, costs)
+        calls.append((threshold, order))
+        return order
+
+    monkeypatch.setattr(passes, "pass_order", spy)
+    case = parse_case((HERE / "alpha-terpineol.yaml").read_text(encoding="utf-8"))
+    solution = solve(case, workers=1)
+    assert len(calls) >= 2
+    assert [t for t, _ in calls] == sorted(t for t, _ in calls)  # chosen again only as T rises
+    assert calls[0][1] == (0, 1, 2)  # the first order: cheapest first
+    assert solution.scoring_passes[0].techniques == ("nmr",)
+    counts = solution.scoring_passes
+    assert counts[0].scored == solution.candidate_count
+    assert sum(p.settled for p in counts) == solution.candidate_count
+    assert counts[-1].complete <= counts[-1].settled and not any(p.complete for p in counts[:-1])
+
+
+def test_the_report_says_what_each_pass_ran_on_settled_and_scored_in_full() -> None:
+    from elucidate.reports.solution_report import solve_text
+
+    case = parse_case((HERE / "menthone.yaml").read_text(encoding="utf-8"))
+    solution = solve(case, shortlist=5, workers=1)
+    text = solve_text(solution)
+    counts = solution.scoring_passes
+    last = counts[-1]
+    assert f"ran on {counts[0].scored:,}, settled (cannot reach the shortlist): {counts[0].settled:,}" in text
+    assert f"scored in full: {last.complete:,}" in text

@@ -33,7 +33,7 @@ from ..formula import Formula
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
 from ..yamlnodes import as_bool, as_choice, as_int, as_list, as_number, as_range, as_str, mapping, read_yaml_file
-from .base import Assessment, Reading, Subject
+from .base import Assessment, Partial, Reading, Subject
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
@@ -489,11 +489,35 @@ class Fragments:
         return {}
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
+        return self.finish(subject, case, self.begin(subject, case))
+
+    def begin(self, subject: Subject, case: Case) -> Partial:
+        """The rule-predicted ions and the strong ones absent from the spectrum (the whole
+        ``against``); the peaks the graph's pieces explain, which only lower ``unexplained``
+        from its bound, are left to :meth:`finish`."""
+        assert case.mass_spec is not None
+        t = self.table
+        peaks = case.mass_spec.peaks
+        m = subject.molecular_ion
+        predicted = predict_ions(subject.mol, table=t, elements=self.elements)
+        scored = [mz for mz in peaks if mz >= t.lowest_mz and (m is None or mz < m)]
+        low = min(scored) if scored else 0
+        missing = [
+            ion
+            for mz, ion in predicted.items()
+            if ion.weight >= t.strong_weight
+            and mz >= max(low, t.lowest_mz)
+            and mz not in peaks
+            and (m is None or mz < m)
+        ]
+        return Partial(t.missing_penalty * sum(ion.weight for ion in missing), 0.0, (predicted, missing))
+
+    def finish(self, subject: Subject, case: Case, partial: Partial) -> Assessment:
         assert case.mass_spec is not None
         t = self.table
         peaks = case.mass_spec.peaks
         mol = subject.mol
-        predicted = predict_ions(mol, table=t, elements=self.elements)
+        predicted, missing = partial.state
         skip = _cluster(peaks, subject.molecular_ion)
         scored = {mz: v for mz, v in peaks.items() if mz not in skip and mz >= t.lowest_mz}
         total = sum(scored.values())
@@ -523,16 +547,7 @@ class Fragments:
             {"mz": mz, "intensity": v, "explained_by": found[mz][0] if mz in found else None}
             for mz, v in sorted(scored.items(), key=lambda kv: (-kv[1], kv[0]))
         ]
-        low = min(scored) if scored else 0
-        missing = [
-            ion
-            for mz, ion in predicted.items()
-            if ion.weight >= t.strong_weight
-            and mz >= max(low, t.lowest_mz)
-            and mz not in peaks
-            and (m is None or mz < m)
-        ]
-        against = t.missing_penalty * sum(ion.weight for ion in missing)
+        against = partial.against
         unexplained = t.unexplained_scale * (1.0 - share)
         reasons = [
             (

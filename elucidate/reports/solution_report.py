@@ -137,9 +137,13 @@ def _pass_lines(solution: Solution) -> list[str]:
         return []
     lines = [f"scoring of {solution.candidate_count:,} candidates, passes in the order chosen for least work:"]
     for number, p in enumerate(passes, start=1):
-        last = number == len(passes)
-        what = "scored in full" if last else "settled (cannot reach the shortlist)"
-        lines.append(f"  pass {number} ({', '.join(p.techniques)}): ran on {p.scored:,}, {what}: {p.settled:,}")
+        line = f"  pass {number} ({', '.join(p.techniques)}): ran on {p.scored:,}"
+        stopped = p.settled - p.complete
+        if stopped or number < len(passes):
+            line += f", settled (cannot reach the shortlist): {stopped:,}"
+        if number == len(passes):
+            line += f", scored in full: {p.complete:,}"
+        lines.append(line)
     return lines
 
 

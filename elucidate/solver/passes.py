@@ -19,7 +19,9 @@ scored in full), the passes are put in the order that settles candidates for the
 the order whose passes, run on the candidates scored so far until their running sum falls
 below the threshold expected at the end (the total of the candidate ranked at the shortlist's
 share of all candidates among those scored so far), would have cost least, by the techniques'
-``cost`` (:func:`pass_order`). With 13C and DEPT declared the NMR pass often settles most and
+``cost`` (:func:`pass_order`). When T later rises above that threshold (the sample held nothing
+as good as the best candidates found since), the order is chosen again on the same sample
+against T. With 13C and DEPT declared the NMR pass often settles most and
 moves first (carvone, camphor, menthone; not linalool). The order only changes the work: the
 bounds still hold, so the shortlist is that of full scoring whatever the order.
 
@@ -241,11 +243,15 @@ def score_candidates(
     spread = rest[:: max(1, len(rest) // BATCH)][:BATCH]
     taken = set(spread)
     order = sorted(watched) + spread + [i for i in rest if i not in taken]
-    settled = [0] * len(passes)
+    ran = [0] * len(passes)  # per pass (index into passes): candidates it ran on
+    settled = [0] * len(passes)  # per pass: candidates whose bound fell below T in it
+    complete = 0  # candidates scored in full
     best: list[float] = []  # min-heap of the best `shortlist` levels scored in full
     lowest_watched = math.inf
     unscored_watched = len(watched)  # the threshold waits for every watched level
     threshold = -math.inf
+    target = -math.inf  # the threshold the pass order was chosen for
+    costs = [_cost(g) for g in passes]
     full: dict[int, Scored] = {}
     position = 0
     while position < len(order):
@@ -258,9 +264,12 @@ def score_candidates(
         ]
         outcomes = [o for part in runner.map(_run_job, jobs) for o in part]
         for i, outcome in zip(batch, outcomes, strict=True):
-            settled[outcome.last_pass] += 1
+            for k in sequence[: outcome.last_pass + 1]:
+                ran[k] += 1
             if not outcome.complete:
+                settled[sequence[outcome.last_pass]] += 1
                 continue
+            complete += 1
             level = round(outcome.combined.log_likelihood, 6)
             full[i] = (outcome.combined, outcome.assessments)
             if threshold == -math.inf:
@@ -276,21 +285,32 @@ def score_candidates(
         progress("scoring", position, n)
         if shortlist and len(best) == shortlist and not unscored_watched:
             if threshold == -math.inf:
-                # set once, from the candidates scored in full so far (all passes ran on them,
-                # and they count as settled by the last pass whatever the order), against the
-                # threshold expected at the end: the sample's total at the shortlist's share of
-                # all candidates (T rises as more are scored, so today's T would settle too few)
+                # chosen first from the candidates scored in full so far (all passes ran on
+                # them), against the threshold expected at the end: the sample's total at the
+                # shortlist's share of all candidates (T rises as more are scored, so today's T
+                # would settle too few)
                 totals = sorted((sum(p) for p in seen), reverse=True)
                 expected = totals[min(len(totals) - 1, shortlist * len(totals) // n)]
-                sequence = pass_order(seen, min(expected, lowest_watched), [_cost(g) for g in passes])
+                target = min(expected, lowest_watched)
+                sequence = pass_order(seen, target, costs)
             threshold = max(threshold, min(best[0], lowest_watched))
+            if threshold > target:
+                # T has passed the threshold the order was chosen for (the sample held nothing
+                # as good as the best candidates found since): chosen again on the same sample
+                target = threshold
+                sequence = pass_order(seen, target, costs)
             full = {i: s for i, s in full.items() if round(s[0].log_likelihood, 6) >= threshold}
-    counts = []
-    remaining = n
-    for slot, k in enumerate(sequence):
-        counts.append(PassCount(tuple(t.name for t in passes[k]), remaining, settled[slot]))
-        remaining -= settled[slot]
-    return Scoring(full, threshold, tuple(counts))
+    last = sequence[-1]  # candidates scored in full count as settled by the last pass
+    counts = tuple(
+        PassCount(
+            tuple(t.name for t in passes[k]),
+            ran[k],
+            settled[k] + (complete if k == last else 0),
+            complete if k == last else 0,
+        )
+        for k in sequence
+    )
+    return Scoring(full, threshold, counts)
 
 
 def _cost(group: Sequence[Technique]) -> float:

@@ -144,16 +144,22 @@ class SuspectResult:
 
 @dataclass(frozen=True)
 class PassCount:
-    """One scoring pass: its techniques, how many candidates it ran on, and how many it settled
-    (their bound fell below the shortlist after it, or, in the last pass, they were scored in
-    full)."""
+    """One scoring pass: its techniques, how many candidates it ran on, how many it settled
+    (scoring stopped there: their bound fell below the shortlist in it, or, in the last pass,
+    they were scored in full), and of those, how many were scored in full (the last pass only)."""
 
     techniques: tuple[str, ...]
     scored: int
     settled: int
+    complete: int = 0
 
     def as_dict(self) -> dict[str, object]:
-        return {"techniques": list(self.techniques), "scored": self.scored, "settled": self.settled}
+        return {
+            "techniques": list(self.techniques),
+            "scored": self.scored,
+            "settled": self.settled,
+            "scored_in_full": self.complete,
+        }
 
 
 @dataclass(frozen=True)
