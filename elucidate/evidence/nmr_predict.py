@@ -95,25 +95,32 @@ class _Context:
                 if len(first & second) >= 3:
                     self.bridged |= first | second
         atoms = list(mol.GetAtoms())
-        self.z = [a.GetAtomicNum() for a in atoms]
-        self.hs = [a.GetTotalNumHs() for a in atoms]
+        z = self.z = [a.GetAtomicNum() for a in atoms]
+        hs = self.hs = [a.GetTotalNumHs() for a in atoms]
         self.arom = [a.GetIsAromatic() for a in atoms]
-        self.adj = [[n.GetIdx() for n in a.GetNeighbors() if n.GetAtomicNum() != 1] for a in atoms]
-        self.unsat = [4 - len(self.adj[i]) - self.hs[i] if self.z[i] == 6 else 0 for i in range(len(atoms))]
-        self.sp3c = [self.z[i] == 6 and not self.arom[i] and self.unsat[i] == 0 for i in range(len(atoms))]
+        # neighbours in bond order (the order GetNeighbors gives), from one pass over the bonds
+        adj: list[list[int]] = [[] for _ in atoms]
+        self.adj = adj
         self.double: set[tuple[int, int]] = set()
         self.ring_bonds: set[tuple[int, int]] = set()
         for b in mol.GetBonds():
-            key = (min(b.GetBeginAtomIdx(), b.GetEndAtomIdx()), max(b.GetBeginAtomIdx(), b.GetEndAtomIdx()))
+            i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
+            if z[j] != 1:
+                adj[i].append(j)
+            if z[i] != 1:
+                adj[j].append(i)
+            key = (i, j) if i < j else (j, i)
             if b.GetBondTypeAsDouble() == 2:
                 self.double.add(key)
             if b.IsInRing():
                 self.ring_bonds.add(key)
+        n = len(atoms)
+        self.unsat = [4 - len(adj[i]) - hs[i] if z[i] == 6 else 0 for i in range(n)]
+        self.sp3c = [z[i] == 6 and not self.arom[i] and self.unsat[i] == 0 for i in range(n)]
         terminal_o = [
-            self.z[i] == 8 and len(self.adj[i]) == 1 and self.hs[i] == 0 and not atoms[i].GetFormalCharge()
-            for i in range(len(atoms))
+            z[i] == 8 and len(adj[i]) == 1 and hs[i] == 0 and not atoms[i].GetFormalCharge() for i in range(n)
         ]
-        self.carbonyl_c = [self.z[i] == 6 and any(terminal_o[j] for j in self.adj[i]) for i in range(len(atoms))]
+        self.carbonyl_c = [z[i] == 6 and any(terminal_o[j] for j in adj[i]) for i in range(n)]
         self.benzene_rings = [
             r for r in ri.AtomRings() if len(r) == 6 and all(self.arom[a] and self.z[a] == 6 for a in r)
         ]
