@@ -106,6 +106,37 @@ def test_pass_order_is_the_cheapest_on_the_candidates_seen(parts, threshold, cos
     assert pass_order(parts, threshold, costs) == order
 
 
+def _every_order(parts, threshold, costs):
+    """The definition, by trying every permutation (ties: the first in permutation order)."""
+    import itertools
+
+    best, best_cost = tuple(range(len(costs))), math.inf
+    for sequence in itertools.permutations(range(len(costs))):
+        total = 0.0
+        for p in parts:
+            running = 0.0
+            for k in sequence:
+                total += costs[k]
+                running += p[k]
+                if running < threshold - 1e-6:
+                    break
+        if total < best_cost - 1e-9:
+            best, best_cost = sequence, total
+    return best
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_pass_order_by_sets_equals_trying_every_order(seed: int) -> None:
+    # the dynamic programme over sets of passes run against the brute force over permutations
+    # (self-consistency); parts on a coarse grid so that ties between orders occur
+    rng = random.Random(seed)
+    count = rng.randint(1, 6)
+    parts = [tuple(-rng.randint(0, 8) / 2 for _ in range(count)) for _ in range(rng.randint(1, 30))]
+    costs = [rng.choice([1, 2, 5, 10, 60, 120, 2700]) for _ in range(count)]
+    threshold = -rng.randint(1, 12) / 2
+    assert pass_order(parts, threshold, costs) == _every_order(parts, threshold, costs)
+
+
 def test_an_nmr_case_runs_its_nmr_pass_first_with_the_shortlist_unchanged() -> None:
     # menthone with 13C and DEPT: on the spread first batch the NMR pass settles most for its
     # cost, so it moves ahead of the cheap pass; the shortlist is still that of full scoring

@@ -31,7 +31,6 @@ run, so the counts of what each pass settled are the same for any runner too."""
 from __future__ import annotations
 
 import heapq
-import itertools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -50,6 +49,7 @@ if TYPE_CHECKING:
 __all__ = [
     "BATCH",
     "EPSILON",
+    "MAX_ORDERED_PASSES",
     "Outcome",
     "Scored",
     "Scoring",
@@ -61,6 +61,8 @@ __all__ = [
 
 #: candidates scored in full per batch, between updates of the threshold
 BATCH = 256
+#: passes beyond this many are run in their first order (2^passes sets are searched)
+MAX_ORDERED_PASSES = 12
 #: margin below the threshold before a bound prunes: levels are rounded to 1e-6, and partial
 #: sums add the same components in another order
 EPSILON = 1e-6
@@ -333,22 +335,30 @@ def pass_order(parts: Sequence[Sequence[float]], threshold: float, costs: Sequen
     """The order of the passes that would have cost least on the candidates seen: ``parts``
     holds each candidate's log-likelihood part per pass; in a given order a candidate runs pass
     after pass until the sum of its parts so far falls below ``threshold`` (later parts are 0 or
-    less, so it could no longer reach it), and each pass run costs ``costs[k]``. Every order is
-    tried (there are a handful of passes); ties go to the earliest in the lexicographic order of
-    the permutations, so the first order wins when nothing settles."""
-    first = tuple(range(len(costs)))
-    if not parts or len(costs) > 6:
+    less, so it could no longer reach it), and each pass run costs ``costs[k]``. Whether a
+    candidate runs the next pass depends only on the set of passes run before it, so the best
+    order is found exactly by dynamic programming over those sets (2^passes of them); among
+    orders of equal cost (within 1e-9) the first in the lexicographic order of the
+    permutations is taken, so the first order wins when nothing settles."""
+    import numpy as np
+
+    count = len(costs)
+    first = tuple(range(count))
+    if not parts or count > MAX_ORDERED_PASSES:
         return first
-    best, best_cost = first, math.inf
-    for sequence in itertools.permutations(first):
-        total = 0.0
-        for p in parts:
-            running = 0.0
-            for k in sequence:
-                total += costs[k]
-                running += p[k]
-                if running < threshold - EPSILON:
-                    break
-        if total < best_cost - 1e-9:
-            best, best_cost = sequence, total
-    return best
+    sets = 1 << count
+    members = np.array([[(s >> k) & 1 for s in range(sets)] for k in range(count)], dtype=float)
+    sums = np.asarray(parts, dtype=float).reshape(len(parts), count) @ members  # candidate x set
+    running = (sums >= threshold - EPSILON).sum(axis=0)  # candidates not settled by each set
+    rest = [0.0] * sets  # least cost of the passes still to run, from each set
+    for done in range(sets - 2, -1, -1):
+        rest[done] = min(costs[k] * running[done] + rest[done | 1 << k] for k in range(count) if not done >> k & 1)
+    order: list[int] = []
+    done = 0
+    while done != sets - 1:
+        for k in range(count):
+            if not done >> k & 1 and costs[k] * running[done] + rest[done | 1 << k] <= rest[done] + 1e-9:
+                order.append(k)
+                done |= 1 << k
+                break
+    return tuple(order)
