@@ -214,7 +214,7 @@ class Carbon13:
     label = "13C"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
-    scoring_pass: int = 0
+    scoring_pass: int = 2
     cost: float = 60  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: Carbon13Table | None = None) -> None:

@@ -468,7 +468,7 @@ class Fragments:
     label = "EI"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
-    scoring_pass: int = 2
+    scoring_pass: int = 6
     cost: float = 2000  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(

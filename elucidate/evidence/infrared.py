@@ -273,7 +273,7 @@ class Infrared:
     label = "IR"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = "ir_reading"
-    scoring_pass: int = 0
+    scoring_pass: int = 1
     cost: float = 60  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: IRTable | None = None) -> None:

@@ -119,7 +119,7 @@ class Nmr:
     label = "NMR"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = "nmr_reading"
-    scoring_pass: int = 1
+    scoring_pass: int = 5
     cost: float = 2700  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, tables: NmrTables | None = None) -> None:

@@ -138,7 +138,7 @@ class Strain:
     label = "strain"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
-    scoring_pass: int = 0
+    scoring_pass: int = 3
     cost: float = 120  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: StrainTable | None = None) -> None:

@@ -614,7 +614,7 @@ class UvVis:
     label = "UV"
     stage: Literal["formula", "structure"] = "structure"
     reading_key: str | None = None
-    scoring_pass: int = 0
+    scoring_pass: int = 4
     cost: float = 180  # µs per candidate, bench/bench_scoring_cost.py
 
     def __init__(self, table: UVTable | None = None) -> None:
