@@ -231,7 +231,9 @@ def test_the_limit_holds_while_enumerating_when_the_estimate_is_too_low(tmp_path
 
     case_file = tmp_path / "ms100.yaml"
     case_file.write_text(MS_ONLY_100, encoding="utf-8")
-    monkeypatch.setattr(generator, "estimate_structures", lambda *args, **kwargs: 0.0)
+    # (solve reads estimate_space; patching estimate_structures, as this test once did, left the
+    # real estimate in place, which happened to read C5H8O2 under the limit)
+    monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(0.0, 0.0))
     solution = solve(load_case(case_file), limit=1000, workers=workers)
     kept = {str(k.formula): k for k in solution.formulas}
     assert kept["C6H12O"].structures > 0 and kept["C6H12O"].skipped is None
