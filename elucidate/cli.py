@@ -650,8 +650,7 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     space = estimate_space(formula, options)
     if space.over(args.limit):
         raise TooLarge(
-            f"{formula}: about {space.structures:,.0f} ± {space.error:,.0f} (one standard error) structures to "
-            f"test and {space.nodes:,.0f} partial "
+            f"{formula}: about {space.structures:,.0f} structures to test and {space.nodes:,.0f} partial "
             "skeletons to grow estimated (Knuth's tree-size estimate of the space walked, before the "
             f"constraints are tested), above the limit of {args.limit:,.0f} structures (or 10 times as many "
             "partial skeletons); narrow the question (--require, --max-rings, --max-bond-order) or raise "

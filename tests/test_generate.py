@@ -466,31 +466,3 @@ def test_balanced_partition_splits_large_subtrees_and_keeps_the_output(formula: 
     assert split == balanced_tasks(generation_tasks(plans), workers=64)  # the same every run
     whole = [s for task in plain for s in task_structures(task)]
     assert [s for task in split for s in task_structures(task)] == whole
-
-
-@pytest.mark.parametrize(
-    ("structures", "nodes", "error", "over"),
-    [
-        (150.0, 0.0, 40.0, False),  # within one standard error of the estimate: under 200
-        (150.0, 0.0, 60.0, True),  # one standard error above reaches past 200
-        (250.0, 0.0, 0.0, True),
-        (10.0, 2001.0, 0.0, True),  # above 10 partial skeletons per structure of the limit
-    ],
-)
-def test_a_space_is_over_the_limit_when_its_estimate_plus_one_standard_error_is(structures, nodes, error, over):
-    from elucidate.generator import SpaceEstimate
-
-    assert SpaceEstimate(structures, nodes, error).over(200) is over
-
-
-def test_the_estimate_carries_its_standard_error():
-    # Knuth's walks on C9H12O2 with a required ketone are heavy-tailed: the estimate (about
-    # 200,000 with the default seed) has a standard error above a third of it (measured), and
-    # the space is treated as over a limit of 200,000
-    from elucidate.generator import GeneratorOptions, Selection, estimate_space
-
-    space = estimate_space(parse_formula("C9H12O2"), GeneratorOptions(selection=Selection(require=("ketone",))))
-    assert space.error > 0.3 * space.structures > 0
-    assert space.over(200_000)
-    exact = estimate_space(parse_formula("C4H10"))  # every walk ends on a structure of equal weight
-    assert exact.structures == pytest.approx(2) and exact.error == pytest.approx(0)

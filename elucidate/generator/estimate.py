@@ -23,19 +23,15 @@ MAX_RELATIVE_ERROR = 0.33
 @dataclass(frozen=True)
 class SpaceEstimate:
     """Knuth's estimates of one space: the structures (multigraphs built, before the
-    constraints are tested) and the nodes of the generation tree (partial skeletons grown),
-    with the standard error of the structures' estimate (0 when not known)."""
+    constraints are tested) and the nodes of the generation tree (partial skeletons grown)."""
 
     structures: float
     nodes: float
-    error: float = 0.0
 
     def over(self, limit: float) -> bool:
-        """Whether the space may be above ``limit`` structures (its estimate plus one standard
-        error is: the walks' values are heavy-tailed, so an estimate runs low more often than
-        high, and a space enumerated past the limit costs its whole time for nothing), or
-        above NODES_PER_STRUCTURE times as many partial skeletons."""
-        return self.structures + self.error > limit or self.nodes > NODES_PER_STRUCTURE * limit
+        """Whether the space is above ``limit`` structures, or above NODES_PER_STRUCTURE times
+        as many partial skeletons."""
+        return self.structures > limit or self.nodes > NODES_PER_STRUCTURE * limit
 
 
 def estimate_structures(
@@ -73,13 +69,12 @@ def estimate_space(
     """
     plans, prefilter = selection_plans(formula, options or GeneratorOptions())
     rng = random.Random(seed)
-    structures = nodes = variance = 0.0
+    structures = nodes = 0.0
     for plan in plans:
-        s, n, e = _estimate(GenerationTask(plan, root_graph()), prefilter, probes=probes, rng=rng, batches=batches)
+        s, n = _estimate(GenerationTask(plan, root_graph()), prefilter, probes=probes, rng=rng, batches=batches)
         structures += s
         nodes += n
-        variance += e * e  # the plans' walks are independent
-    return SpaceEstimate(structures, nodes, math.sqrt(variance))
+    return SpaceEstimate(structures, nodes)
 
 
 def estimate_task(
@@ -97,12 +92,11 @@ def estimate_task(
 
 def _estimate(
     task: GenerationTask, prefilter: SkeletonPatterns, *, probes: int, rng: random.Random, batches: int
-) -> tuple[float, float, float]:
-    """(structures, nodes, the structures' standard error) below one task, as
-    :func:`estimate_task` walks."""
+) -> tuple[float, float]:
+    """(structures, nodes) below one task, as :func:`estimate_task` walks."""
     plan = task.plan
     if plan.n == 1:
-        return float(sum(1 for _ in task_structures(task, prefilter))), 1.0, 0.0
+        return float(sum(1 for _ in task_structures(task, prefilter))), 1.0
     values: list[float] = []
     nodes: list[float] = []
     # the walks share their first steps: each node's children are listed once
@@ -118,9 +112,7 @@ def _estimate(
         variance = sum((v - mean) ** 2 for v in values) / (len(values) - 1) if len(values) > 1 else 0.0
         if math.sqrt(variance / len(values)) <= MAX_RELATIVE_ERROR * mean:
             break
-    mean = sum(values) / len(values)
-    variance = sum((v - mean) ** 2 for v in values) / (len(values) - 1) if len(values) > 1 else 0.0
-    return mean, sum(nodes) / len(nodes), math.sqrt(variance / len(values))
+    return sum(values) / len(values), sum(nodes) / len(nodes)
 
 
 def _walk(

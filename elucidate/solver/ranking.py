@@ -322,12 +322,6 @@ def _solve(
                     advice = advise(cand.formula)
                     if estimate > limit:
                         why = f"about {estimate:,.0f} structures estimated, above the limit {limit:,}: {advice}"
-                    elif estimate + space.error > limit:
-                        why = (
-                            f"about {estimate:,.0f} ± {space.error:,.0f} structures estimated (one standard error; "
-                            f"these estimates run low more often than high), so it may pass the limit {limit:,}: "
-                            f"{advice}"
-                        )
                     else:
                         why = (
                             f"about {estimate:,.0f} structures but about {space.nodes:,.0f} partial skeletons to "
