@@ -404,10 +404,9 @@ def _halogens(mol: Mol, mask: int) -> int:
     )
 
 
-def _cluster(peaks: Mapping[int, float], molecular_ion: int | None) -> set[int]:
-    if molecular_ion is None:
-        return set()
-    return {mz for mz in peaks if mz >= molecular_ion}
+def _scored(peaks: Mapping[int, float], molecular_ion: int | None, lowest: int) -> dict[int, float]:
+    """The fragment peaks scored: from ``lowest`` up, below the molecular ion's cluster."""
+    return {mz: v for mz, v in peaks.items() if mz >= lowest and (molecular_ion is None or mz < molecular_ion)}
 
 
 def _isotope_partner(
@@ -500,7 +499,7 @@ class Fragments:
         peaks = case.mass_spec.peaks
         m = subject.molecular_ion
         predicted = predict_ions(subject.mol, table=t, elements=self.elements)
-        scored = [mz for mz in peaks if mz >= t.lowest_mz and (m is None or mz < m)]
+        scored = _scored(peaks, m, t.lowest_mz)
         low = min(scored) if scored else 0
         missing = [
             ion
@@ -518,8 +517,7 @@ class Fragments:
         peaks = case.mass_spec.peaks
         mol = subject.mol
         predicted, missing = partial.state
-        skip = _cluster(peaks, subject.molecular_ion)
-        scored = {mz: v for mz, v in peaks.items() if mz not in skip and mz >= t.lowest_mz}
+        scored = _scored(peaks, subject.molecular_ion, t.lowest_mz)
         total = sum(scored.values())
         pieces: dict[int, Piece] | None = None  # built when a peak needs them
         m = subject.molecular_ion

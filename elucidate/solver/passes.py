@@ -142,7 +142,7 @@ def evaluate_in_passes(
 
     for k, group in enumerate(passes):
         for t in group:
-            if bounding and _is_staged(t):
+            if bounding and _implements(t, Staged):
                 # a two-part technique: stop after its first part when that already settles
                 staged = cast(Staged, t)
                 partial = staged.begin(subject, evaluator.case)
@@ -166,32 +166,23 @@ def evaluate_in_passes(
     return Outcome(last, combined, tuple(found), True, combined.log_likelihood)
 
 
-_BOUNDED: dict[type, bool] = {}
-_STAGED: dict[type, bool] = {}
+_KINDS: dict[tuple[type, type], bool] = {}
 
 
-def _is_bounded(technique: Technique) -> bool:
-    """Whether the technique gives a floor (an isinstance test of a runtime protocol costs tens
-    of microseconds, so it is made once per technique class)."""
-    kind = type(technique)
-    known = _BOUNDED.get(kind)
+def _implements(technique: Technique, protocol: type) -> bool:
+    """Whether the technique implements a runtime protocol (:class:`Bounded`, :class:`Staged`);
+    an isinstance test of a runtime protocol costs tens of microseconds, so it is made once per
+    technique class."""
+    key = (type(technique), protocol)
+    known = _KINDS.get(key)
     if known is None:
-        known = _BOUNDED[kind] = isinstance(technique, Bounded)
-    return known
-
-
-def _is_staged(technique: Technique) -> bool:
-    """Whether the technique assesses in two parts (tested once per technique class)."""
-    kind = type(technique)
-    known = _STAGED.get(kind)
-    if known is None:
-        known = _STAGED[kind] = isinstance(technique, Staged)
+        known = _KINDS[key] = isinstance(technique, protocol)
     return known
 
 
 def _floor(technique: Technique, subject: Subject, evaluator: Evaluator) -> float:
     """What the technique's floor costs the candidate's log-likelihood at least (0 or more)."""
-    if not _is_bounded(technique):
+    if not _implements(technique, Bounded):
         return 0.0
     against, unexplained = cast(Bounded, technique).floor(subject, evaluator.case)
     w = evaluator.scoring.techniques[technique.weight_key]
