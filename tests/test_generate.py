@@ -466,3 +466,23 @@ def test_balanced_partition_splits_large_subtrees_and_keeps_the_output(formula: 
     assert split == balanced_tasks(generation_tasks(plans), workers=64)  # the same every run
     whole = [s for task in plain for s in task_structures(task)]
     assert [s for task in split for s in task_structures(task)] == whole
+
+
+@pytest.mark.parametrize("workers", [1, 2])
+@pytest.mark.parametrize("formula", ["C5H8O2", "C6H10O"])
+def test_within_budget_says_whether_generation_would_run_out(formula, workers):
+    # the count before generating takes exactly the structures generation takes: with no
+    # constraint, every multigraph (Kekulé forms apart), so generation with a budget of that
+    # many runs to the end and with one fewer raises (the same tasks, the same budget per job)
+    from elucidate.generator import within_budget
+    from elucidate.generator.tasks import TooManyStructures
+
+    f = parse_formula(formula)
+    options = GeneratorOptions(workers=workers)
+    taken = sum(1 for _ in structures(f))
+    assert within_budget(f, options, budget=taken)
+    assert sum(1 for _ in isomer_smiles(f, options, budget=taken)) == count_isomers(f)
+    assert not within_budget(f, options, budget=taken - 1)
+    with pytest.raises(TooManyStructures):
+        for _ in isomer_smiles(f, options, budget=taken - 1):
+            pass

@@ -292,3 +292,28 @@ def test_groups_ruled_out_by_a_formula_never_match_its_molecules(isomer_corpus):
                 left_out += 1
                 assert not mol.HasSubstructMatch(GROUPS[name].pattern), (name, text)
     assert left_out > 0
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("group", KEKULE)
+def test_kekule_condition_read_off_the_bond_orders_equals_rdkit(group, structure_corpus):
+    # the generator matches a kekule condition with its bond symbols relaxed once per labelled
+    # skeleton and then reads each multigraph's orders (labelling.SkeletonTest.kekule_ok); RDKit
+    # matching the condition itself on each multigraph (from the package registry) is the reference
+    from elucidate.generator.labelling import SkeletonTest, _relaxed
+
+    g = GROUPS[group]
+    patterns = ((g.shape_pattern, g.skeleton_pattern, g.kekule_pattern),)
+    relaxed = _relaxed(g.kekule_pattern) is not None
+    # only a condition with a recursive query (order-dependent atoms) needs RDKit per multigraph
+    assert relaxed == ("$(" not in g.kekule)
+    outcomes = set()
+    for s, _ in structure_corpus[::3]:  # every third structure: the same formulas, a third of the time
+        labels = sorted(set(s.elements))
+        test = SkeletonTest(patterns, [(sym, 0) for sym in labels])
+        test.bare_ok(len(s.elements), tuple((a, b) for a, b, _ in s.bonds))
+        test.labelled_ok([labels.index(sym) for sym in s.elements])
+        expected = _multigraph(s).HasSubstructMatch(g.kekule_pattern)
+        assert test.kekule_ok([o for _, _, o in s.bonds]) == expected, s
+        outcomes.add(expected)
+    assert outcomes == {True, False}

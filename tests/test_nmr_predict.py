@@ -164,3 +164,47 @@ def test_tables_validate_and_name_their_sources() -> None:
     tables = load_nmr_tables()
     tables.validate()
     assert "Grant" in tables.source and "Pascual" in tables.source
+
+
+@pytest.mark.parametrize(
+    "smiles",
+    # a ketone, an enone, an ester, an amide, an aryl nitrile, a lactone, an aldehyde and an
+    # alkynyl halide: molecules that meet most of the tables' patterns
+    [
+        "CC(=O)CCC(C)C",
+        "CC1=CCC(CC1=O)C(C)=C",
+        "CCOC(=O)c1ccccc1",
+        "CCN(CC)C(=O)c1cccc(C)c1",
+        "N#Cc1ccc(O)cc1",
+        "O=C1CCCO1",
+        "CC(C)=CCCC(C)=CC=O",
+        "ClCC(Br)C#CC",
+    ],
+)
+def test_rooted_pattern_tests_equal_whole_molecule_searches(smiles: str) -> None:
+    # the prediction tests a table pattern at one atom by its first query atom and element
+    # counts before any search (nmr_predict._Context.starts_at, .name); RDKit's search of the
+    # whole molecule (from the package registry) is the reference
+    from elucidate.evidence.nmr_predict import _Context
+
+    tables = default_nmr_tables()
+    mol = Chem.MolFromSmiles(smiles)
+    ctx = _Context(mol, tables)
+    table_smarts = [e.smarts for e in (*tables.c13.carbonyl, *tables.c13.special, *tables.h1.special)]
+    hits = 0
+    for smarts in table_smarts:
+        whole = {m[0] for m in mol.GetSubstructMatches(Chem.MolFromSmarts(smarts), uniquify=False)}
+        for atom in range(mol.GetNumAtoms()):
+            assert ctx.starts_at(smarts, atom) == (atom in whole), (smarts, atom)
+            hits += atom in whole
+    assert hits > 0
+    patterns = [(name, Chem.MolFromSmarts(smarts)) for name, smarts in tables.c13.substituents]
+    for atom in range(mol.GetNumAtoms()):
+        for other in [n.GetIdx() for n in mol.GetAtomWithIdx(atom).GetNeighbors()]:
+            found = [
+                name
+                for name, pattern in patterns
+                if any(m[0] == atom and other not in m[1:] for m in mol.GetSubstructMatches(pattern, uniquify=False))
+            ]
+            expected = found[0] if found else "other"
+            assert ctx.name(atom, other) == expected, (atom, other)

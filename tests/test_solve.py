@@ -244,6 +244,40 @@ def test_the_limit_holds_while_enumerating_when_the_estimate_is_too_low(tmp_path
     assert all("ranks below C5H8O2" in (kept[f].skipped or "") for f in ("C8H4", "C7O"))
 
 
+def test_a_space_estimated_near_the_limit_is_counted_before_it_is_generated(tmp_path, monkeypatch):
+    # every formula estimated at 900 structures on purpose (under the limit of 1,000 but at or
+    # above COUNT_FIRST_SHARE of it): each is counted first, C5H8O2 (far more than 1,000) is
+    # skipped on its count and never generated, C6H12O (fewer) is counted, then generated
+    import elucidate.generator as generator
+    from elucidate import load_case
+    from elucidate.solver import solve
+    from elucidate.solver.ranking import COUNT_FIRST_SHARE
+
+    assert COUNT_FIRST_SHARE * 1000 <= 900
+    case_file = tmp_path / "ms100.yaml"
+    case_file.write_text(MS_ONLY_100, encoding="utf-8")
+    monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(900.0, 0.0))
+    counted, generated = [], []
+    real_count, real_generate = generator.within_budget, generator.isomer_smiles
+
+    def count(formula, *args, **kwargs):
+        counted.append(str(formula))
+        return real_count(formula, *args, **kwargs)
+
+    def generate(formula, *args, **kwargs):
+        generated.append(str(formula))
+        return real_generate(formula, *args, **kwargs)
+
+    monkeypatch.setattr(generator, "within_budget", count)
+    monkeypatch.setattr(generator, "isomer_smiles", generate)
+    solution = solve(load_case(case_file), limit=1000, workers=1)
+    kept = {str(k.formula): k for k in solution.formulas}
+    assert "C5H8O2" in counted and "C5H8O2" not in generated
+    assert "more than 1,000 structures to test" in (kept["C5H8O2"].skipped or "")
+    assert "C6H12O" in counted and "C6H12O" in generated
+    assert kept["C6H12O"].structures > 0 and kept["C6H12O"].skipped is None
+
+
 def test_group_advice_names_only_groups_the_formula_can_hold():
     # C8H4 (no O, no halogen) can hold a C≡C but never a ketone or a halide (IUPAC Gold Book
     # group definitions, groups.yaml); each size given is the Knuth estimate the solver itself

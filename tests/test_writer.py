@@ -120,3 +120,40 @@ def test_ring_closures_reuse_digits_only_after_the_atom() -> None:
     text = template.write(("C",) * 5, tuple((a, b, 1) for a, b in edges), (0, 2, 2, 2, 2))
     mol = Chem.MolFromSmiles(text)
     assert mol is not None and mol.GetNumAtoms() == 5 and mol.GetRingInfo().NumRings() == 2, text
+
+
+def test_cycle_edges_are_the_edges_that_are_not_bridges() -> None:
+    # a bridge is an edge whose removal disconnects its ends (graph theory, common practice):
+    # the template's depth-first low-point reading against removing each edge in turn, on
+    # random connected graphs with up to four extra edges (random.Random(7): reproducible)
+    import random
+
+    def by_removal(n: int, edges: tuple[tuple[int, int], ...]) -> tuple[tuple[int, int], ...]:
+        out = []
+        for j, (a, b) in enumerate(edges):
+            reach, stack = {a}, [a]
+            while stack:
+                v = stack.pop()
+                for k, (x, y) in enumerate(edges):
+                    w = y if x == v else x if y == v else None
+                    if k != j and w is not None and w not in reach:
+                        reach.add(w)
+                        stack.append(w)
+            if b in reach:
+                out.append((a, b))
+        return tuple(out)
+
+    rng = random.Random(7)
+    rings = 0
+    for _ in range(400):
+        n = rng.randint(1, 11)
+        edges = {(rng.randrange(v), v) for v in range(1, n)}
+        for _ in range(rng.randint(0, 4)):
+            a, b = sorted(rng.sample(range(n), 2)) if n > 1 else (0, 0)
+            if a != b:
+                edges.add((a, b))
+        ordered = tuple(sorted(edges))
+        expected = by_removal(n, ordered)
+        assert Template(n, ordered)._cycle_edges == expected, ordered
+        rings += bool(expected)
+    assert rings > 100

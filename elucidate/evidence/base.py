@@ -34,11 +34,20 @@ class Subject:
     smiles: str
     mol: Mol  # aromaticity perceived, hydrogens implicit
     formula: Formula
-    groups: frozenset[str]  # names from the group vocabulary that the structure has
+    group_table: GroupTable  # the group vocabulary :attr:`groups` is read from
     molecular_ion: int | None  # the nominal M it is scored under (None: not known)
     isotope_score: float | None = None  # its formula's isotope-cluster fit (None: no cluster)
     formula_demotion: float = 0.0  # nats: its formula breaks the element-ratio heuristic
     demoted_by: str | None = None  # the rule it breaks
+
+    @cached_property
+    def groups(self) -> frozenset[str]:
+        """The names from the group vocabulary that the structure has (matched on first use: a
+        candidate the solver settles before any technique asks never pays for it; groups whose
+        atoms need elements the formula lacks cannot match and are not tried)."""
+        table = self.group_table
+        mol = self.mol
+        return frozenset(name for name in table.names_for(self.formula) if mol.HasSubstructMatch(table[name].pattern))
 
     @cached_property
     def symmetry_ranks(self) -> list[int]:
@@ -60,9 +69,7 @@ def make_subject(
     formula_demotion: float = 0.0,
     demoted_by: str | None = None,
 ) -> Subject:
-    # groups whose atoms need elements the formula lacks cannot match: not tried
-    present = frozenset(name for name in groups.names_for(formula) if mol.HasSubstructMatch(groups[name].pattern))
-    return Subject(smiles, mol, formula, present, molecular_ion, isotope_score, formula_demotion, demoted_by)
+    return Subject(smiles, mol, formula, groups, molecular_ion, isotope_score, formula_demotion, demoted_by)
 
 
 @dataclass(frozen=True)

@@ -29,9 +29,10 @@ less when scored.
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass
-from functools import cached_property, lru_cache
+from functools import cache, cached_property, lru_cache
 from typing import TYPE_CHECKING
 
 from ..smarts import compiled_smarts
@@ -39,7 +40,7 @@ from .carbon13 import symmetry_ranks
 from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
 
 if TYPE_CHECKING:
-    from .._rdkit import Mol
+    from .._rdkit import Atom, Mol
 
 __all__ = ["CarbonShift", "NmrPrediction", "ProtonShift", "predict_c13", "predict_h1", "predict_nmr"]
 
@@ -81,10 +82,10 @@ class _Context:
     def __init__(self, mol: Mol, tables: NmrTables) -> None:
         self.mol = mol
         self.tables = tables
-        # atom -> the substituent kinds with a match starting there, in table order, with those matches
-        self._firsts: dict[int, list[tuple[str, list[tuple[int, ...]]]]] | None = None
         self._names: dict[tuple[int, int], str] = {}
         self._starts: dict[str, frozenset[int]] = {}
+        # substituent pattern -> its matches by first atom (searched on first need)
+        self._by_first: dict[int, dict[int, list[tuple[int, ...]]]] = {}
         ri = mol.GetRingInfo()
         self.ring_size = [ri.MinAtomRingSize(i) if ri.NumAtomRings(i) else 0 for i in range(mol.GetNumAtoms())]
         self.atom_rings = [set(r) for r in ri.AtomRings()]
@@ -94,10 +95,14 @@ class _Context:
             for second in self.atom_rings[x + 1 :]:
                 if len(first & second) >= 3:
                     self.bridged |= first | second
-        atoms = list(mol.GetAtoms())
+        atoms = self.atoms = list(mol.GetAtoms())
         z = self.z = [a.GetAtomicNum() for a in atoms]
         hs = self.hs = [a.GetTotalNumHs() for a in atoms]
         self.arom = [a.GetIsAromatic() for a in atoms]
+        self.element_count = Counter(z)
+        present = set(z)
+        # the substituent patterns that can match here (none needs an element the molecule lacks)
+        self._patterns = [entry for entry in _substituent_patterns(tables) if entry[2] <= present]
         # neighbours in bond order (the order GetNeighbors gives), from one pass over the bonds
         adj: list[list[int]] = [[] for _ in atoms]
         self.adj = adj
@@ -133,34 +138,35 @@ class _Context:
 
     def name(self, atom: int, seen_from: int) -> str:
         """The substituent kind starting at ``atom``, hanging on ``seen_from``: the first in table
-        order with a match from ``atom`` that does not run through ``seen_from``."""
+        order with a match from ``atom`` that does not run through ``seen_from``. A pattern whose
+        first query atom does not match ``atom`` is passed over without a search; a one-atom
+        pattern whose atom matches is a match."""
         key = (atom, seen_from)
         found = self._names.get(key)
         if found is None:
             found = "other"
-            for name, matches in self._first_atoms().get(atom, ()):
-                if any(seen_from not in m[1:] for m in matches):
+            here = self.atoms[atom]
+            for k, (name, pattern, _, first) in enumerate(self._patterns):
+                if first is not None:
+                    if not first.Match(here):
+                        continue
+                    if pattern.GetNumAtoms() == 1:
+                        found = name
+                        break
+                if any(seen_from not in m[1:] for m in self._matches(k, pattern).get(atom, ())):
                     found = name
                     break
             self._names[key] = found
         return found
 
-    def _first_atoms(self) -> dict[int, list[tuple[str, list[tuple[int, ...]]]]]:
-        """Every substituent pattern's matches by their first atom (searched once per molecule;
-        a pattern that needs an element the molecule lacks is not searched)."""
-        if self._firsts is None:
-            present = set(self.z)
-            firsts: dict[int, list[tuple[str, list[tuple[int, ...]]]]] = {}
-            for name, pattern, needs in _substituent_patterns(self.tables):
-                if not needs <= present:
-                    continue
-                by_first: dict[int, list[tuple[int, ...]]] = {}
-                for match in self.mol.GetSubstructMatches(pattern, uniquify=False):
-                    by_first.setdefault(match[0], []).append(match)
-                for atom, matches in by_first.items():
-                    firsts.setdefault(atom, []).append((name, matches))
-            self._firsts = firsts
-        return self._firsts
+    def _matches(self, k: int, pattern: Mol) -> dict[int, list[tuple[int, ...]]]:
+        """The matches of substituent pattern ``k`` by their first atom (searched once)."""
+        found = self._by_first.get(k)
+        if found is None:
+            found = self._by_first[k] = {}
+            for match in self.mol.GetSubstructMatches(pattern, uniquify=False):
+                found.setdefault(match[0], []).append(match)
+        return found
 
     def starts(self, smarts: str) -> frozenset[int]:
         """The atoms a SMARTS matches with its atom 0 (cached per molecule)."""
@@ -170,25 +176,56 @@ class _Context:
             found = self._starts[smarts] = frozenset(m[0] for m in matches)
         return found
 
+    def starts_at(self, smarts: str, atom: int) -> bool:
+        """Whether the SMARTS matches with its atom 0 on ``atom``: :meth:`starts`, searched only
+        when the molecule has the atoms of each element the pattern names and the first query
+        atom matches ``atom``."""
+        first, single, needs = _query_summary(smarts)
+        if any(self.element_count.get(z, 0) < k for z, k in needs):
+            return False
+        if first is not None:
+            if not first.Match(self.atoms[atom]):
+                return False
+            if single:
+                return True
+        return atom in self.starts(smarts)
+
     def same_ring(self, a: int, b: int, c: int | None = None) -> bool:
         return any(a in r and b in r and (c is None or c in r) for r in self.atom_rings)
 
 
+def _first_atom_query(pattern: Mol) -> Atom | None:
+    """The pattern's atom 0 as a query an atom can be tested against alone; None when it holds
+    a recursive SMARTS (which needs a search of the whole molecule)."""
+    first = pattern.GetAtomWithIdx(0)
+    return None if "$(" in first.GetSmarts() else first
+
+
+@cache
+def _query_summary(smarts: str) -> tuple[Atom | None, bool, tuple[tuple[int, int], ...]]:
+    """A SMARTS's :func:`_first_atom_query`, whether the pattern is that one atom, and how many
+    atoms of each element a match needs at least (query atoms that stand for one element)."""
+    pattern = compiled_smarts(smarts)
+    needs = Counter(a.GetAtomicNum() for a in pattern.GetAtoms() if a.GetAtomicNum())
+    return _first_atom_query(pattern), pattern.GetNumAtoms() == 1, tuple(sorted(needs.items()))
+
+
 @lru_cache(maxsize=8)
-def _substituent_patterns(tables: NmrTables) -> tuple[tuple[str, Mol, frozenset[int]], ...]:
+def _substituent_patterns(tables: NmrTables) -> tuple[tuple[str, Mol, frozenset[int], Atom | None], ...]:
     """The substituent patterns in table order, compiled, each with the elements every match
-    needs (query atoms that stand for one element only)."""
+    needs (query atoms that stand for one element only) and its first atom as a query
+    (:func:`_first_atom_query`)."""
     out = []
     for name, smarts in tables.c13.substituents:
         pattern = compiled_smarts(smarts)
         needs = frozenset(a.GetAtomicNum() for a in pattern.GetAtoms() if a.GetAtomicNum())
-        out.append((name, pattern, needs))
+        out.append((name, pattern, needs, _first_atom_query(pattern)))
     return tuple(out)
 
 
 def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:
     for entry in entries:
-        if atom in ctx.starts(entry.smarts):
+        if ctx.starts_at(entry.smarts, atom):
             return entry
     return None
 

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from .estimate import SpaceEstimate, estimate_space, estimate_structures
 from .groups import Group, GroupTable, default_groups, load_groups
-from .isomers import count_isomers, isomer_smiles, structures
+from .isomers import count_isomers, isomer_smiles, structures, within_budget
 from .labelling import Structure
 from .options import GeneratorOptions
 from .plausibility import Profiles, default_profiles, load_profiles
@@ -40,4 +40,5 @@ __all__ = [
     "load_profiles",
     "structures",
     "to_smiles",
+    "within_budget",
 ]

@@ -38,6 +38,7 @@ from .tasks import (
     WorkerJob,
     balanced_tasks,
     compiled_selection,
+    count_job,
     generation_tasks,
     run_job,
     selection_plans,
@@ -45,7 +46,7 @@ from .tasks import (
     task_structures,
 )
 
-__all__ = ["count_isomers", "isomer_smiles", "structures"]
+__all__ = ["count_isomers", "isomer_smiles", "structures", "within_budget"]
 
 _DEFAULT = GeneratorOptions()
 
@@ -122,6 +123,36 @@ def isomer_smiles(
             for label, n in result.removed.items():
                 counts[label] = counts.get(label, 0) + n
             yield from result.smiles
+
+
+def within_budget(
+    formula: Formula, options: GeneratorOptions = _DEFAULT, *, budget: int, runner: Runner | None = None
+) -> bool:
+    """Whether :func:`isomer_smiles` with this ``budget`` runs to the end rather than raising
+    :class:`~.tasks.TooManyStructures`, found by taking the same structures and partial
+    skeletons (the same tasks, the same budget per job) without writing any SMILES or testing
+    any finished molecule: a count that costs a small part of generating them."""
+    if not formula.counts:
+        raise ElucidateError("empty formula")
+    plans, prefilter = selection_plans(formula, options)
+    if runner is None and options.workers == 1:
+        left = StructureBudget(budget)
+        try:
+            for task in generation_tasks(plans):
+                for _ in task_structures(task, prefilter, budget=left):
+                    left.take()
+        except TooManyStructures:
+            return False
+        return True
+    with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
+        tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
+        jobs = (WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget) for task in tasks)
+        taken = 0
+        for result in work.map(count_job, jobs):
+            taken += result.taken
+            if result.over or taken > budget:
+                return False
+    return True
 
 
 def count_isomers(formula: Formula, options: GeneratorOptions = _DEFAULT) -> int:

@@ -10,6 +10,7 @@ valence; a higher valence state needs its oxo bond (:class:`~.plans.ValenceState
 
 from __future__ import annotations
 
+import re
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -20,7 +21,7 @@ from .selection import SkeletonPatterns
 from .skeletons import automorphisms
 
 if TYPE_CHECKING:
-    from .._rdkit import BondType, RWMol
+    from .._rdkit import BondType, Mol, RWMol
 
 __all__ = ["SkeletonPatterns", "SkeletonTest", "Structure", "allowed_alone", "structures_on_skeleton"]
 
@@ -86,6 +87,7 @@ def structures_on_skeleton(
             perms.append((tuple(inv), tuple(einv)))
     seen: set[tuple[tuple[int, ...], tuple[int, ...]]] | None = set() if group is None else None
     is_carbon = [sym == "C" for sym, _ in labels]
+    kekule_ok = test.kekule_ok if test is not None and test.kekule else None
     heads = [a for a, _ in edges]
     tails = [b for _, b in edges]
     for colouring in _colourings(n, degree, valence, list(per_label)):
@@ -117,6 +119,8 @@ def structures_on_skeleton(
         valences = tuple(valence[c] for c in colouring)
         oxo = any(special[c] for c in colouring)
         for orders in _multiplicities(edges, capacity, extra_total, max_extra, need):
+            if kekule_ok is not None and not kekule_ok(orders):
+                continue  # cheapest first: mostly a few lookups (SkeletonTest.kekule_ok)
             if stabilizer and any(tuple(map(orders.__getitem__, einv)) < orders for einv in stabilizer):
                 continue
             used = [0] * n
@@ -132,8 +136,6 @@ def structures_on_skeleton(
                 valences,
             )
             if counts is not None and not counts.structure_ok(built):
-                continue  # pure Python: before the RDKit test below
-            if test is not None and test.kekule and not test.kekule_ok(orders):
                 continue
             if seen is not None:
                 key = _certificate(n, edges, colouring, orders)
@@ -175,10 +177,52 @@ def _oxo_ok(
 _BOND_TYPES: dict[int, BondType] = {}
 
 
+#: a query atom that depends on neither bond orders nor hydrogens: any atom or one element,
+#: optionally with heavy-atom degrees (as RDKit writes it back)
+_ORDER_FREE_ATOM = re.compile(r"^(\*|\[(#\d+|\*)([;&]D\d(,D\d)*)?\])$")
+#: a bracket atom of a written SMARTS, or one character
+_SMARTS_TOKEN = re.compile(r"\[[^\]]*\]|.")
+_BOND_ORDER = {"-": 1, "=": 2, "#": 3, "~": None}
+#: matches of a relaxed pattern beyond which the RDKit test is used instead
+_MAX_RELAXED_MATCHES = 10_000
+
+
+def _relaxed(pattern: Mol) -> tuple[Mol, tuple[tuple[int, int, int], ...]] | None:
+    """A ``kekule`` pattern split into what the labelled skeleton decides and what the bond
+    orders decide: the pattern with every bond written ``~`` (any bond), and the order each of
+    its bonds asks for ((atom, atom, order) for -, = and #). A multigraph matches the pattern
+    exactly when some match of the relaxed pattern on its skeleton has those orders. None when
+    an atom query could depend on the bond orders or hydrogens (anything beyond an element and
+    heavy-atom degrees, such as a recursive SMARTS) or a bond is not one of - = # ~: such a
+    pattern is tested by RDKit on each multigraph."""
+    from .._rdkit import Chem
+
+    if not all(_ORDER_FREE_ATOM.match(atom.GetSmarts()) for atom in pattern.GetAtoms()):
+        return None
+    wanted = []
+    for bond in pattern.GetBonds():
+        symbol = Chem.Bond.GetSmarts(bond)
+        if symbol not in _BOND_ORDER:
+            return None
+        order = _BOND_ORDER[symbol]
+        if order is not None:
+            wanted.append((bond.GetBeginAtomIdx(), bond.GetEndAtomIdx(), order))
+    written = "".join(
+        "~" if token in _BOND_ORDER else token for token in _SMARTS_TOKEN.findall(Chem.MolToSmarts(pattern))
+    )
+    relaxed = Chem.MolFromSmarts(written)
+    same = relaxed is not None and [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in relaxed.GetBonds()] == [
+        (b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in pattern.GetBonds()
+    ]
+    return (relaxed, tuple(wanted)) if same else None
+
+
 class SkeletonTest:
     """Necessary conditions of required groups on a skeleton (``skeleton`` in groups.yaml): the
     bare-graph form once per skeleton, the labelled form once per element labelling, on one
-    RDKit molecule per skeleton whose atomic numbers are rewritten."""
+    RDKit molecule per skeleton whose atomic numbers are rewritten. A ``kekule`` condition that
+    only its bond symbols tie to the bond orders (:func:`_relaxed`) is matched once per
+    labelling and then read off each multigraph's orders without RDKit."""
 
     def __init__(self, patterns: SkeletonPatterns, labels: Sequence[tuple[str, int]]) -> None:
         from .._rdkit import Chem
@@ -187,9 +231,13 @@ class SkeletonTest:
         self.kekule = any(kekule is not None for _, _, kekule in patterns)
         if self.kekule and not _BOND_TYPES:
             _BOND_TYPES.update({1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE})
+        self.relaxed = [_relaxed(kekule) if kekule is not None else None for _, _, kekule in patterns]
         table = Chem.GetPeriodicTable()
         self.numbers = [table.GetAtomicNumber(sym) for sym, _ in labels]
         self.mol: RWMol | None = None
+        # per kekule condition of the current labelling: the (edge, order) sets of which one
+        # must hold, or None where RDKit tests each multigraph (found on first need)
+        self._orders: list[list[tuple[tuple[int, int], ...]] | None] | None = None
 
     def bare_ok(self, n: int, edges: Sequence[tuple[int, int]]) -> bool:
         from .._rdkit import Chem
@@ -203,6 +251,7 @@ class SkeletonTest:
             mol.AddBond(a, b, Chem.BondType.SINGLE)
         mol.UpdatePropertyCache(strict=False)
         self.mol = mol
+        self._orders = None
         return all(mol.HasSubstructMatch(shape) for shape, _, _ in self.patterns)
 
     def labelled_ok(self, colouring: Sequence[int]) -> bool:
@@ -212,6 +261,7 @@ class SkeletonTest:
         assert mol is not None, "bare_ok first"
         for i, c in enumerate(colouring):
             mol.GetAtomWithIdx(i).SetAtomicNum(self.numbers[c])
+        self._orders = None
         return all(mol.HasSubstructMatch(labelled) for _, labelled, _ in self.patterns)
 
     def kekule_ok(self, orders: Sequence[int]) -> bool:
@@ -219,9 +269,41 @@ class SkeletonTest:
         every ``kekule`` condition; call after :meth:`labelled_ok` for the same labelling."""
         mol = self.mol
         assert mol is not None, "bare_ok first"
-        for i, o in enumerate(orders):
-            mol.GetBondWithIdx(i).SetBondType(_BOND_TYPES[o])
-        return all(mol.HasSubstructMatch(kekule) for _, _, kekule in self.patterns if kekule is not None)
+        if self._orders is None:
+            self._orders = [self._order_sets(k) for k in range(len(self.patterns))]
+        typed = False
+        for (_, _, kekule), sets in zip(self.patterns, self._orders, strict=True):
+            if kekule is None:
+                continue
+            if sets is not None:
+                if not any(all(orders[e] == o for e, o in wanted) for wanted in sets):
+                    return False
+                continue
+            if not typed:
+                for i, o in enumerate(orders):
+                    mol.GetBondWithIdx(i).SetBondType(_BOND_TYPES[o])
+                typed = True
+            if not mol.HasSubstructMatch(kekule):
+                return False
+        return True
+
+    def _order_sets(self, k: int) -> list[tuple[tuple[int, int], ...]] | None:
+        """The (edge, order) sets of kekule condition ``k`` on the current labelled skeleton,
+        one per match of its relaxed pattern (edges are bond indices, in the skeleton's edge
+        order); None when RDKit must test each multigraph."""
+        relaxed = self.relaxed[k]
+        mol = self.mol
+        assert mol is not None
+        if relaxed is None:
+            return None
+        pattern, wanted = relaxed
+        matches = mol.GetSubstructMatches(pattern, uniquify=False, maxMatches=_MAX_RELAXED_MATCHES)
+        if len(matches) >= _MAX_RELAXED_MATCHES:
+            return None
+        sets = set()
+        for match in matches:
+            sets.add(tuple((mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in wanted))
+        return sorted(sets)
 
 
 def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> list[tuple[int, ...]]:

@@ -22,7 +22,8 @@ class GeneratorOptions:
     bonds. ``lowest_valence``: every element at its lowest valence only (N 3, P 3, S 2).
     ``selection``: hard constraints the isomers must pass. ``workers``: processes (the output
     does not depend on it). ``table``: the element table (default: the shipped one).
-    ``rdkit_smiles``: every isomer written as RDKit's canonical SMILES; by default a SMILES
+    ``rdkit_smiles``: every isomer written as RDKit's canonical SMILES (a structure that cannot
+    be aromatic reaches RDKit as the string written from its skeleton); by default the string
     written from the skeleton (:mod:`.writer`, canonical within elucidate) is used for every
     structure that cannot be aromatic, and RDKit's for the rest.
     """

@@ -210,10 +210,13 @@ def task_smiles(
     budget: StructureBudget | None = None,
 ) -> Iterator[str]:
     """SMILES of one task, Kekulé forms merged (unless ``kekule``) and filtered by ``compiled``;
-    ``removed`` counts what each constraint removed. Unless ``rdkit_smiles``, a structure that
-    needs no RDKit molecule (no finished-molecule test, no charge-separated atom and, when Kekulé
-    forms are merged, no possible aromatic ring) is written from its skeleton (:mod:`.writer`).
-    ``budget`` counts every structure taken and stops the work past its limit."""
+    ``removed`` counts what each constraint removed. A structure with no charge-separated atom
+    and no possible aromatic ring is written from its skeleton (:mod:`.writer`); that string is
+    the output unless ``rdkit_smiles`` or ``compiled`` asks for RDKit, which then reads it (the
+    molecule the finished-molecule tests run on) and writes its canonical SMILES. Every other
+    structure is built atom by atom as an RDKit molecule (in Kekulé form, when ``kekule`` and
+    nothing asks for RDKit, it too is written from its skeleton). ``budget`` counts every
+    structure taken and stops the work past its limit."""
     from .._rdkit import Chem, quiet_rdkit
 
     current: tuple[tuple[int, int], ...] | None = None
@@ -226,12 +229,25 @@ def task_smiles(
         for s in task_structures(task, prefilter, budget=budget):
             if budget is not None:
                 budget.take()
-            if own and not (charged and any(label in charged for label in zip(s.elements, s.valences, strict=True))):
+            if not (charged and any(label in charged for label in zip(s.elements, s.valences, strict=True))):
                 edges = tuple((a, b) for a, b, _ in s.bonds)
                 if template is None or template.edges != edges:
                     template = Template(len(s.elements), edges)
-                if kekule or not template.may_be_aromatic(s.elements, s.hydrogens, s.valences):
+                if own and kekule:
                     yield template.write(s.elements, s.bonds, s.hydrogens)
+                    continue
+                if not template.may_be_aromatic(s.elements, s.hydrogens, s.valences):
+                    written = template.write(s.elements, s.bonds, s.hydrogens)
+                    if own:
+                        yield written
+                        continue
+                    # no aromatic atom, so no other Kekulé form: RDKit reads the written string
+                    # (cheaper than building the molecule atom by atom), the finished-molecule
+                    # tests run on it, and RDKit writes its canonical SMILES
+                    parsed = Chem.MolFromSmiles(written)
+                    if compiled is not None and _rejected(compiled, parsed, removed):
+                        continue
+                    yield Chem.MolToSmiles(parsed)
                     continue
             mol = sanitized(s, kekule=kekule)
             # a molecule with no aromatic atom has no other Kekulé form: its constraints are
@@ -276,6 +292,23 @@ def compiled_selection(selection: Selection | None) -> CompiledSelection | None:
         return None
     compiled = selection.compile(pushed_counts=True)
     return compiled if compiled.tests else None
+
+
+def count_job(job: WorkerJob) -> JobResult:
+    """A worker process's count of the structures one task takes against the job's budget
+    (what :func:`run_job` would take, with no SMILES written and no constraint tested on a
+    finished molecule)."""
+    prefilter = job.selection.skeleton_patterns() if job.selection is not None else ()
+    budget = StructureBudget(job.budget) if job.budget is not None else None
+    taken = 0
+    try:
+        for _ in task_structures(job.task, prefilter, budget=budget):
+            taken += 1
+            if budget is not None:
+                budget.take()
+    except TooManyStructures:
+        return JobResult([], {}, budget.taken if budget is not None else taken, True)
+    return JobResult([], {}, taken, False)
 
 
 def run_job(job: WorkerJob) -> JobResult:

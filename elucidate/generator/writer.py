@@ -87,9 +87,15 @@ class Template:
         tree: list[list[tuple[int, int]]] = [[] for _ in range(n)]  # children with their edge
         closures: list[list[int]] = [[] for _ in range(n)]  # ring-closure edges at each atom
         used = [False] * len(self.edges)
+        # the edges on a cycle (not bridges): every ring closure, and each tree edge below which
+        # some ring closure reaches its upper end or higher (lowest discovery number reached)
+        found = [0] * n
+        cyclic: list[int] = []
 
-        def visit(v: int) -> None:
+        def visit(v: int, number: int) -> tuple[int, int]:
             seen[v] = True
+            found[v] = low = number
+            number += 1
             for w, j in adj[v]:
                 if used[j]:
                     continue
@@ -97,12 +103,18 @@ class Template:
                 if seen[w]:
                     closures[v].append(j)
                     closures[w].append(j)
+                    cyclic.append(j)
+                    low = min(low, found[w])
                 else:
                     tree[v].append((w, j))
-                    visit(w)
+                    below, number = visit(w, number)
+                    if below <= found[v]:
+                        cyclic.append(j)
+                    low = min(low, below)
+            return low, number
 
         root = min(range(n), key=lambda v: (len(adj[v]), v))
-        visit(root)
+        visit(root, 0)
         # branches: smaller subtrees first, in parentheses; the largest continues the main chain
         size = [1] * n
 
@@ -160,28 +172,12 @@ class Template:
 
         write(root)
         self.format = "".join(pieces).format
-        self._cycle_edges = self._cyclic_edges(adj)
+        self._cycle_edges = tuple(self.edges[j] for j in sorted(cyclic))
         self._degree = [len(row) for row in adj]
 
     def _other(self, j: int, v: int) -> int:
         a, b = self.edges[j]
         return b if a == v else a
-
-    def _cyclic_edges(self, adj: list[list[tuple[int, int]]]) -> tuple[tuple[int, int], ...]:
-        """The edges on a cycle (not bridges): an edge is a bridge exactly when removing it
-        disconnects its ends."""
-        out = []
-        for j, (a, b) in enumerate(self.edges):
-            stack, reach = [a], {a}
-            while stack:
-                v = stack.pop()
-                for w, k in adj[v]:
-                    if k != j and w not in reach:
-                        reach.add(w)
-                        stack.append(w)
-            if b in reach:
-                out.append((a, b))
-        return tuple(out)
 
     def may_be_aromatic(self, elements: Sequence[str], hydrogens: Sequence[int], valences: Sequence[int]) -> bool:
         """Whether some cycle consists of atoms that each carry a multiple bond or are not

@@ -90,7 +90,8 @@ def technique_passes(techniques: Sequence[Technique]) -> list[list[Technique]]:
 @dataclass(frozen=True)
 class Outcome:
     """How far one candidate was scored: the last pass run, its score so far, its assessments
-    so far, whether it was scored in full, and its upper bound (its score if in full)."""
+    so far, whether it was scored in full, and an upper bound of its score (the score itself if
+    in full; for a settled candidate, the first bound found below the threshold)."""
 
     last_pass: int
     combined: Combined
@@ -147,7 +148,9 @@ def evaluate_in_passes(
                 staged = cast(Staged, t)
                 partial = staged.begin(subject, evaluator.case)
                 first = Assessment(t.name, partial.against, partial.unexplained)
-                bound = combine([*found, first], keys, evaluator.scoring).log_likelihood - later(k)
+                bound = combine([*found, first], keys, evaluator.scoring).log_likelihood
+                if bound >= threshold - EPSILON:  # the later floors (0 or more) only lower it
+                    bound -= later(k)
                 if bound < threshold - EPSILON:
                     return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
                 assessment = staged.finish(subject, evaluator.case, partial)
@@ -159,7 +162,9 @@ def evaluate_in_passes(
             found.sort(key=lambda a: position[a.technique])  # report order, as full scoring gives
             break
         combined = combine(found, keys, evaluator.scoring)
-        bound = combined.log_likelihood - (later(k) if bounding else 0.0)
+        bound = combined.log_likelihood
+        if bounding and bound >= threshold - EPSILON:
+            bound -= later(k)
         if bound < threshold - EPSILON:
             return Outcome(k, combined, tuple(found), False, bound)
     combined = combine(found, keys, evaluator.scoring)

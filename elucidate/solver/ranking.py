@@ -48,6 +48,11 @@ __all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "preflig
 PROFILE = "stable"
 #: structures between two progress reports during generation
 PROGRESS_EVERY = 500
+#: a space estimated at this share of the limit or more is first counted against the limit
+#: (:func:`~elucidate.generator.within_budget`: labelling alone, a small part of the cost of
+#: writing and testing each structure), so that a space the estimate put under the limit but
+#: which is over it costs the count, not the generation of the limit's worth of structures
+COUNT_FIRST_SHARE = 0.25
 
 
 def hard_selection(case: Case, techniques: Sequence[Technique]) -> Selection:
@@ -223,7 +228,7 @@ def _solve(
     progress: Progress,
     cache: CandidateCache | None,
 ) -> Solution:
-    from ..generator import GeneratorOptions, SpaceEstimate, estimate_space, isomer_smiles
+    from ..generator import GeneratorOptions, SpaceEstimate, estimate_space, isomer_smiles, within_budget
     from ..generator.tasks import NODES_PER_STRUCTURE, TooManyStructures, beyond_generator
 
     g = groups or default_groups()
@@ -342,13 +347,19 @@ def _solve(
             before = len(found)
             parallel = runner if runner.workers > 1 else None
             # the limit also holds while enumerating: an estimate whose walks dead-ended (often
-            # in aromatic spaces) may read far too low, and the work must not run away
-            over = False
+            # in aromatic spaces, or in a heavy tail) may read far too low, and the work must
+            # not run away; near the limit the space is counted first
+            over = estimate >= COUNT_FIRST_SHARE * limit and not within_budget(
+                cand.formula, options, budget=limit, runner=parallel
+            )
             try:
-                for smiles in isomer_smiles(cand.formula, options, removed=local, runner=parallel, budget=limit):
-                    found.append(FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by))
-                    if len(found) % PROGRESS_EVERY == 0:
-                        progress("generation", len(found), None)
+                if not over:
+                    for smiles in isomer_smiles(cand.formula, options, removed=local, runner=parallel, budget=limit):
+                        found.append(
+                            FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by)
+                        )
+                        if len(found) % PROGRESS_EVERY == 0:
+                            progress("generation", len(found), None)
             except TooManyStructures:
                 over = True
             progress("generation", len(found), None)
