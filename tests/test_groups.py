@@ -305,15 +305,20 @@ def test_kekule_condition_read_off_the_bond_orders_equals_rdkit(group, structure
     g = GROUPS[group]
     patterns = ((g.shape_pattern, g.skeleton_pattern, g.kekule_pattern),)
     relaxed = _relaxed(g.kekule_pattern) is not None
-    # only a condition with a recursive query (order-dependent atoms) needs RDKit per multigraph
-    assert relaxed == ("$(" not in g.kekule)
-    outcomes = set()
+    # only a condition with a recursive query other than "carries a multiple bond" needs RDKit
+    # per multigraph
+    assert relaxed == ("$(" not in g.kekule.replace("$(*=,#*)", ""))
+    outcomes = []
     for s, _ in structure_corpus[::3]:  # every third structure: the same formulas, a third of the time
         labels = sorted(set(s.elements))
         test = SkeletonTest(patterns, [(sym, 0) for sym in labels])
-        test.bare_ok(len(s.elements), tuple((a, b) for a, b, _ in s.bonds))
-        test.labelled_ok([labels.index(sym) for sym in s.elements])
+        # as the generator asks: the orders only of a labelled skeleton that meets the condition
+        if not test.bare_ok(len(s.elements), tuple((a, b) for a, b, _ in s.bonds)):
+            continue
+        if not test.labelled_ok([labels.index(sym) for sym in s.elements]):
+            continue
         expected = _multigraph(s).HasSubstructMatch(g.kekule_pattern)
         assert test.kekule_ok([o for _, _, o in s.bonds]) == expected, s
-        outcomes.add(expected)
-    assert outcomes == {True, False}
+        outcomes.append(expected)
+    # the comparison ran on multigraphs that match (and, for most groups, on some that do not)
+    assert outcomes.count(True) >= 3

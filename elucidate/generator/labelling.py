@@ -11,9 +11,9 @@ valence; a higher valence state needs its oxo bond (:class:`~.plans.ValenceState
 from __future__ import annotations
 
 import re
-from collections.abc import Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, TypeAlias
 
 from .counts import CountTest
 from .plans import ValenceStates, default_valence_states
@@ -90,7 +90,11 @@ def structures_on_skeleton(
     kekule_ok = test.kekule_ok if test is not None and test.kekule else None
     heads = [a for a, _ in edges]
     tails = [b for _, b in edges]
-    for colouring in _colourings(n, degree, valence, list(per_label)):
+    # labelled conditions read off the labels prune the labelling search (each labelling is
+    # still tested in full below)
+    label_ways = test.labelling_ways() if test is not None else None
+    numbers = test.numbers if test is not None else None
+    for colouring in _colourings(n, degree, valence, list(per_label), label_ways, numbers):
         capacity = [valence[colouring[i]] - degree[i] for i in range(n)]
         if sum(capacity) < 2 * extra_total:
             continue
@@ -118,7 +122,8 @@ def structures_on_skeleton(
         elements = tuple(labels[c][0] for c in colouring)
         valences = tuple(valence[c] for c in colouring)
         oxo = any(special[c] for c in colouring)
-        for orders in _multiplicities(edges, capacity, extra_total, max_extra, need):
+        ways = test.order_ways() if kekule_ok is not None and test is not None else None
+        for orders in _multiplicities(edges, capacity, extra_total, max_extra, need, ways):
             if kekule_ok is not None and not kekule_ok(orders):
                 continue  # cheapest first: mostly a few lookups (SkeletonTest.kekule_ok)
             if stabilizer and any(tuple(map(orders.__getitem__, einv)) < orders for einv in stabilizer):
@@ -180,25 +185,62 @@ _BOND_TYPES: dict[int, BondType] = {}
 #: a query atom that depends on neither bond orders nor hydrogens: any atom or one element,
 #: optionally with heavy-atom degrees (as RDKit writes it back)
 _ORDER_FREE_ATOM = re.compile(r"^(\*|\[(#\d+|\*)([;&]D\d(,D\d)*)?\])$")
+#: the one order-dependent atom query read off the orders too: an atom of one element that
+#: carries a double or triple bond (the aromatic ring's Kekulé condition)
+_MULTIPLE_ATOM = re.compile(r"^\[#(\d+)[;&]\$\(\*=,#\*\)\]$")
 #: a bracket atom of a written SMARTS, or one character
 _SMARTS_TOKEN = re.compile(r"\[[^\]]*\]|.")
 _BOND_ORDER = {"-": 1, "=": 2, "#": 3, "~": None}
 #: matches of a relaxed pattern beyond which the RDKit test is used instead
 _MAX_RELAXED_MATCHES = 10_000
 
+#: one way a kekule condition holds on a labelled skeleton: edges with the order each must
+#: have, and for each atom that must carry a multiple bond, its edges
+OrderWay: TypeAlias = "tuple[tuple[tuple[int, int], ...], tuple[tuple[int, ...], ...]]"
 
-def _relaxed(pattern: Mol) -> tuple[Mol, tuple[tuple[int, int, int], ...]] | None:
-    """A ``kekule`` pattern split into what the labelled skeleton decides and what the bond
-    orders decide: the pattern with every bond written ``~`` (any bond), and the order each of
-    its bonds asks for ((atom, atom, order) for -, = and #). A multigraph matches the pattern
-    exactly when some match of the relaxed pattern on its skeleton has those orders. None when
-    an atom query could depend on the bond orders or hydrogens (anything beyond an element and
-    heavy-atom degrees, such as a recursive SMARTS) or a bond is not one of - = # ~: such a
-    pattern is tested by RDKit on each multigraph."""
+
+@dataclass(frozen=True)
+class _Split:
+    """A pattern split into what a cheaper structure decides and what is read off per case:
+    ``pattern`` is matched once, ``wanted`` per pattern atom or bond is checked per case."""
+
+    pattern: Mol
+    wanted: tuple[tuple[int, ...], ...]
+    multiple: tuple[int, ...] = ()  # pattern atoms that must carry a multiple bond
+
+
+def _rewritten(pattern: Mol, atom_token: Callable[[str], str]) -> Mol | None:
+    """The pattern written again with each bracket atom through ``atom_token`` and each bond
+    written ``~``; None unless RDKit reads it back with the same atoms and bonds."""
     from .._rdkit import Chem
 
-    if not all(_ORDER_FREE_ATOM.match(atom.GetSmarts()) for atom in pattern.GetAtoms()):
+    tokens = _SMARTS_TOKEN.findall(Chem.MolToSmarts(pattern))
+    written = "".join("~" if t in _BOND_ORDER else atom_token(t) if t.startswith("[") else t for t in tokens)
+    out = Chem.MolFromSmarts(written)
+    if out is None or out.GetNumAtoms() != pattern.GetNumAtoms():
         return None
+    ends = [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in out.GetBonds()]
+    return out if ends == [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in pattern.GetBonds()] else None
+
+
+def _relaxed(pattern: Mol) -> _Split | None:
+    """A ``kekule`` pattern split into what the labelled skeleton decides and what the bond
+    orders decide: the pattern with every bond written ``~`` (any bond) and each atom that must
+    carry a multiple bond written as its element, then (atom, atom, order) for each -, = and #
+    bond and the atoms that must carry a multiple bond. A multigraph matches the pattern exactly
+    when some match of the relaxed pattern on its labelled skeleton has those orders. None when
+    another atom query could depend on the bond orders or hydrogens (anything beyond an element
+    and heavy-atom degrees) or a bond is not one of - = # ~: such a pattern is tested by RDKit
+    on each multigraph."""
+    from .._rdkit import Chem
+
+    multiple = []
+    for atom in pattern.GetAtoms():
+        text = atom.GetSmarts()
+        if _MULTIPLE_ATOM.match(text):
+            multiple.append(atom.GetIdx())
+        elif not _ORDER_FREE_ATOM.match(text):
+            return None
     wanted = []
     for bond in pattern.GetBonds():
         symbol = Chem.Bond.GetSmarts(bond)
@@ -207,22 +249,42 @@ def _relaxed(pattern: Mol) -> tuple[Mol, tuple[tuple[int, int, int], ...]] | Non
         order = _BOND_ORDER[symbol]
         if order is not None:
             wanted.append((bond.GetBeginAtomIdx(), bond.GetEndAtomIdx(), order))
-    written = "".join(
-        "~" if token in _BOND_ORDER else token for token in _SMARTS_TOKEN.findall(Chem.MolToSmarts(pattern))
-    )
-    relaxed = Chem.MolFromSmarts(written)
-    same = relaxed is not None and [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in relaxed.GetBonds()] == [
-        (b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in pattern.GetBonds()
-    ]
-    return (relaxed, tuple(wanted)) if same else None
+
+    def element_only(token: str) -> str:
+        found = _MULTIPLE_ATOM.match(token)
+        return f"[#{found.group(1)}]" if found else token
+
+    relaxed = _rewritten(pattern, element_only)
+    return _Split(relaxed, tuple(wanted), tuple(multiple)) if relaxed is not None else None
+
+
+def _element_free(pattern: Mol) -> _Split | None:
+    """A labelled skeleton condition split into what the bare skeleton decides and what the
+    element labels decide: the pattern with its elements written ``*``, and the atomic number
+    each pattern atom asks for (0: any). None unless every atom is an element or ``*`` with
+    heavy-atom degrees only and every bond is ``~``: RDKit then tests each labelling."""
+    from .._rdkit import Chem
+
+    numbers = []
+    for atom in pattern.GetAtoms():
+        if not _ORDER_FREE_ATOM.match(atom.GetSmarts()):
+            return None
+        numbers.append(atom.GetAtomicNum())
+    if any(Chem.Bond.GetSmarts(bond) != "~" for bond in pattern.GetBonds()):
+        return None
+    free = _rewritten(pattern, lambda token: re.sub(r"#\d+", "*", token))
+    return _Split(free, (tuple(numbers),)) if free is not None else None
 
 
 class SkeletonTest:
     """Necessary conditions of required groups on a skeleton (``skeleton`` in groups.yaml): the
-    bare-graph form once per skeleton, the labelled form once per element labelling, on one
-    RDKit molecule per skeleton whose atomic numbers are rewritten. A ``kekule`` condition that
-    only its bond symbols tie to the bond orders (:func:`_relaxed`) is matched once per
-    labelling and then read off each multigraph's orders without RDKit."""
+    bare-graph form once per skeleton, the labelled form once per element labelling, the
+    ``kekule`` form once per multigraph. A labelled condition of elements and degrees only
+    (:func:`_element_free`) is matched once per skeleton and read off each labelling; a kekule
+    condition that only its bond symbols (and atoms that must carry a multiple bond) tie to the
+    orders (:func:`_relaxed`) is matched once per labelling and read off each multigraph's
+    orders. The rest is matched by RDKit on one molecule per skeleton whose atomic numbers and
+    bond types are rewritten."""
 
     def __init__(self, patterns: SkeletonPatterns, labels: Sequence[tuple[str, int]]) -> None:
         from .._rdkit import Chem
@@ -231,13 +293,20 @@ class SkeletonTest:
         self.kekule = any(kekule is not None for _, _, kekule in patterns)
         if self.kekule and not _BOND_TYPES:
             _BOND_TYPES.update({1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE})
+        self.free = [_element_free(labelled) for _, labelled, _ in patterns]
         self.relaxed = [_relaxed(kekule) if kekule is not None else None for _, _, kekule in patterns]
         table = Chem.GetPeriodicTable()
         self.numbers = [table.GetAtomicNumber(sym) for sym, _ in labels]
         self.mol: RWMol | None = None
-        # per kekule condition of the current labelling: the (edge, order) sets of which one
-        # must hold, or None where RDKit tests each multigraph (found on first need)
-        self._orders: list[list[tuple[tuple[int, int], ...]] | None] | None = None
+        self._incident: list[tuple[int, ...]] = []
+        # per labelled condition of the current skeleton: the (vertex, atomic number) sets of
+        # which one must hold, or None where RDKit tests each labelling
+        self._labellings: list[list[tuple[tuple[int, int], ...]] | None] = []
+        self._colouring: Sequence[int] = ()
+        self._labelled = False  # whether the molecule's atoms carry the current labelling
+        # per kekule condition of the current labelling: the ways it can hold, or None where
+        # RDKit tests each multigraph (found on first need)
+        self._orders: list[list[OrderWay] | None] | None = None
 
     def bare_ok(self, n: int, edges: Sequence[tuple[int, int]]) -> bool:
         from .._rdkit import Chem
@@ -247,38 +316,77 @@ class SkeletonTest:
             atom = Chem.Atom(6)
             atom.SetNoImplicit(True)
             mol.AddAtom(atom)
-        for a, b in edges:
+        incident: list[list[int]] = [[] for _ in range(n)]
+        for j, (a, b) in enumerate(edges):
             mol.AddBond(a, b, Chem.BondType.SINGLE)
+            incident[a].append(j)
+            incident[b].append(j)
         mol.UpdatePropertyCache(strict=False)
         self.mol = mol
+        self._incident = [tuple(row) for row in incident]
         self._orders = None
-        return all(mol.HasSubstructMatch(shape) for shape, _, _ in self.patterns)
+        self._labelled = False
+        if not all(mol.HasSubstructMatch(shape) for shape, _, _ in self.patterns):
+            return False
+        self._labellings = [self._labelling_sets(split) for split in self.free]
+        return True
+
+    def _labelling_sets(self, split: _Split | None) -> list[tuple[tuple[int, int], ...]] | None:
+        mol = self.mol
+        assert mol is not None
+        if split is None:
+            return None
+        matches = mol.GetSubstructMatches(split.pattern, uniquify=False, maxMatches=_MAX_RELAXED_MATCHES)
+        if len(matches) >= _MAX_RELAXED_MATCHES:
+            return None
+        (numbers,) = split.wanted
+        # written in vertex order, so that matches differing only in how they map a symmetric
+        # pattern make one set
+        return sorted({tuple(sorted((v, z) for v, z in zip(match, numbers, strict=True) if z)) for match in matches})
 
     def labelled_ok(self, colouring: Sequence[int]) -> bool:
-        """The skeleton of the last :meth:`bare_ok` with these element labels matches every
-        labelled condition."""
-        mol = self.mol
-        assert mol is not None, "bare_ok first"
-        for i, c in enumerate(colouring):
-            mol.GetAtomWithIdx(i).SetAtomicNum(self.numbers[c])
+        """The skeleton of the last :meth:`bare_ok` (which must have held) with these element
+        labels matches every labelled condition."""
+        assert self.mol is not None, "bare_ok first"
+        self._colouring = colouring
+        self._labelled = False
         self._orders = None
-        return all(mol.HasSubstructMatch(labelled) for _, labelled, _ in self.patterns)
+        numbers = self.numbers
+        for (_, labelled, _), sets in zip(self.patterns, self._labellings, strict=True):
+            if sets is not None:
+                if not any(all(numbers[colouring[v]] == z for v, z in way) for way in sets):
+                    return False
+            elif not self._label().HasSubstructMatch(labelled):
+                return False
+        return True
+
+    def _label(self) -> RWMol:
+        """The molecule with the current labelling's atomic numbers."""
+        mol = self.mol
+        assert mol is not None
+        if not self._labelled:
+            for i, c in enumerate(self._colouring):
+                mol.GetAtomWithIdx(i).SetAtomicNum(self.numbers[c])
+            self._labelled = True
+        return mol
 
     def kekule_ok(self, orders: Sequence[int]) -> bool:
         """The labelled skeleton with these bond orders (Kekulé form, before aromaticity) matches
         every ``kekule`` condition; call after :meth:`labelled_ok` for the same labelling."""
-        mol = self.mol
-        assert mol is not None, "bare_ok first"
         if self._orders is None:
             self._orders = [self._order_sets(k) for k in range(len(self.patterns))]
         typed = False
-        for (_, _, kekule), sets in zip(self.patterns, self._orders, strict=True):
+        for (_, _, kekule), ways in zip(self.patterns, self._orders, strict=True):
             if kekule is None:
                 continue
-            if sets is not None:
-                if not any(all(orders[e] == o for e, o in wanted) for wanted in sets):
+            if ways is not None:
+                if not any(
+                    all(orders[e] == o for e, o in fixed) and all(any(orders[e] > 1 for e in inc) for inc in multiple)
+                    for fixed, multiple in ways
+                ):
                     return False
                 continue
+            mol = self._label()
             if not typed:
                 for i, o in enumerate(orders):
                     mol.GetBondWithIdx(i).SetBondType(_BOND_TYPES[o])
@@ -287,35 +395,74 @@ class SkeletonTest:
                 return False
         return True
 
-    def _order_sets(self, k: int) -> list[tuple[tuple[int, int], ...]] | None:
-        """The (edge, order) sets of kekule condition ``k`` on the current labelled skeleton,
-        one per match of its relaxed pattern (edges are bond indices, in the skeleton's edge
-        order); None when RDKit must test each multigraph."""
-        relaxed = self.relaxed[k]
-        mol = self.mol
-        assert mol is not None
-        if relaxed is None:
+    def labelling_ways(self) -> list[list[tuple[tuple[int, int], ...]]]:
+        """The (vertex, atomic number) sets of which one must hold, per labelled condition read
+        off the labels, on the skeleton of the last :meth:`bare_ok` (which must have held)."""
+        return [sets for sets in self._labellings if sets is not None]
+
+    def order_ways(self) -> list[list[OrderWay]]:
+        """The ways each kekule condition read off the orders can hold on the current labelled
+        skeleton (conditions RDKit tests are left out); call after :meth:`labelled_ok`."""
+        if self._orders is None:
+            self._orders = [self._order_sets(k) for k in range(len(self.patterns))]
+        return [ways for ways in self._orders if ways is not None]
+
+    def _order_sets(self, k: int) -> list[OrderWay] | None:
+        """The ways kekule condition ``k`` can hold on the current labelled skeleton, one per
+        match of its relaxed pattern (edges are bond indices, in the skeleton's edge order);
+        None when RDKit must test each multigraph."""
+        split = self.relaxed[k]
+        if split is None:
             return None
-        pattern, wanted = relaxed
-        matches = mol.GetSubstructMatches(pattern, uniquify=False, maxMatches=_MAX_RELAXED_MATCHES)
+        mol = self._label()
+        matches = mol.GetSubstructMatches(split.pattern, uniquify=False, maxMatches=_MAX_RELAXED_MATCHES)
         if len(matches) >= _MAX_RELAXED_MATCHES:
             return None
-        sets = set()
+        ways = set()
         for match in matches:
-            sets.add(tuple((mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in wanted))
-        return sorted(sets)
+            fixed = tuple((mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in split.wanted)
+            # written in a fixed order, so that the matches of one ring (or of any symmetric
+            # pattern) that differ only in how they map it make one way
+            ways.add((tuple(sorted(fixed)), tuple(sorted(self._incident[match[a]] for a in split.multiple))))
+        return sorted(ways)
 
 
-def _colourings(n: int, degree: list[int], valence: list[int], counts: list[int]) -> list[tuple[int, ...]]:
+def _colourings(
+    n: int,
+    degree: list[int],
+    valence: list[int],
+    counts: list[int],
+    ways: Sequence[Sequence[tuple[tuple[int, int], ...]]] | None = None,
+    numbers: Sequence[int] | None = None,
+) -> list[tuple[int, ...]]:
     """Every assignment of the labels (``counts`` of each) to the vertices that covers each
     vertex's degree, in lexicographic order (collected in a list: a chain of nested generators
-    costs more than the list)."""
+    costs more than the list). ``ways``: per labelled condition, the (vertex, atomic number)
+    sets of which one must hold (:meth:`SkeletonTest.labelling_ways`), with ``numbers`` the
+    labels' atomic numbers; an assignment after which some condition has no set left is cut
+    (hereditary: later vertices never change a labelled one)."""
     current = [0] * n
     remaining = counts[:]
     out: list[tuple[int, ...]] = []
     labels = range(len(remaining))
+    watched = [False] * (n + 1)  # the vertices after which a condition is tested
+    if ways:
+        assert numbers is not None
+        for condition in ways:
+            for way in condition:
+                for v, _ in way:
+                    watched[v + 1] = True
+
+    def possible(i: int) -> bool:
+        """Whether every condition keeps a set with vertices 0..i-1 labelled."""
+        assert ways is not None and numbers is not None
+        return all(
+            any(all(v >= i or numbers[current[v]] == z for v, z in way) for way in condition) for condition in ways
+        )
 
     def place(i: int) -> None:
+        if watched[i] and not possible(i):
+            return
         if i == n:
             out.append(tuple(current))
             return
@@ -336,13 +483,39 @@ def _multiplicities(
     extra: int,
     max_extra: int,
     carbon_types: tuple[list[int], tuple[int, int, int, int]] | None = None,
+    ways: Sequence[Sequence[OrderWay]] | None = None,
 ) -> list[tuple[int, ...]]:
     """Bond orders (1 to 1 + max_extra) per edge using exactly ``extra`` orders above single, in
     the order of the search (collected in a list, cheaper than nested generators).
     ``carbon_types``: (the carbon vertices, carbons wanted with 3, 2, 1, 0 H); once a carbon's
     last edge is placed its H count is final, and a placement that gives more carbons of one H
-    count than wanted is cut (hereditary: later edges never change a finished carbon)."""
+    count than wanted is cut (hereditary: later edges never change a finished carbon).
+    ``ways``: per kekule condition, the ways it can hold (:meth:`SkeletonTest.order_ways`); a
+    placement after which some condition has no way left is cut (hereditary too: a way that
+    fails on placed edges fails whatever follows). Every multigraph still goes through
+    :meth:`SkeletonTest.kekule_ok`: this only saves the search below a cut."""
     m = len(edges)
+    # the placements after which a condition is tested: those of edges some way reads
+    watched = [False] * (m + 1)
+    for condition in ways or ():
+        for fixed, multiple in condition:
+            for e, _ in fixed:
+                watched[e + 1] = True
+            for incident in multiple:
+                for e in incident:
+                    watched[e + 1] = True
+
+    def possible(i: int) -> bool:
+        """Whether every condition keeps a way with edges 0..i-1 placed."""
+        for condition in ways or ():
+            if not any(
+                all(e >= i or orders[e] == o for e, o in fixed)
+                and all(any(e >= i or orders[e] > 1 for e in incident) for incident in multiple)
+                for fixed, multiple in condition
+            ):
+                return False
+        return True
+
     free = capacity[:]
     orders = [1] * m
     closing: list[list[int]] = [[] for _ in range(m)]  # carbons whose last edge is this one
@@ -389,6 +562,8 @@ def _multiplicities(
         if i == m:
             return
         if max_extra * (m - i) < left:
+            return
+        if watched[i] and not possible(i):
             return
         a, b = edges[i]
         top = min(max_extra, free[a], free[b], left)
