@@ -445,6 +445,8 @@ def _colourings(
     remaining = counts[:]
     out: list[tuple[int, ...]] = []
     labels = range(len(remaining))
+    if ways and not all(ways):
+        return []  # a condition with no set at all: no labelling meets it
     watched = [False] * (n + 1)  # the vertices after which a condition is tested
     if ways:
         assert numbers is not None
@@ -495,6 +497,8 @@ def _multiplicities(
     fails on placed edges fails whatever follows). Every multigraph still goes through
     :meth:`SkeletonTest.kekule_ok`: this only saves the search below a cut."""
     m = len(edges)
+    if ways and not all(ways):
+        return []  # a condition with no way at all: no multigraph of this labelling meets it
     # the placements after which a condition is tested: those of edges some way reads
     watched = [False] * (m + 1)
     for condition in ways or ():
