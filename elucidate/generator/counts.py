@@ -222,8 +222,28 @@ class CountTest:
         return all(low <= counts.kinds[kind] <= high for kind, low, high in self.kinds)
 
     def structure_ok(self, s: Structure) -> bool:
-        """The exact test on a labelled multigraph."""
-        return self.counts_ok(structure_counts(s))
+        """The exact test on a labelled multigraph (without declared carbon kinds, from the
+        elements and hydrogens alone: the kinds are the only count that needs neighbours)."""
+        if self.kinds:
+            return self.counts_ok(structure_counts(s))
+        types = [0, 0, 0, 0]
+        exchangeable = 0
+        for sym, h in zip(s.elements, s.hydrogens, strict=True):
+            if sym == "C":
+                if h > 3:
+                    return self.types is None and self._exchangeable_ok(s)  # methane carbon: no DEPT type
+                types[3 - h] += 1
+            elif sym in ("O", "N"):
+                exchangeable += h
+        if self.types is not None and tuple(types) != self.types:
+            return False
+        return self.exchangeable is None or self.exchangeable[0] <= exchangeable <= self.exchangeable[1]
+
+    def _exchangeable_ok(self, s: Structure) -> bool:
+        if self.exchangeable is None:
+            return True
+        low, high = self.exchangeable
+        return low <= sum(h for sym, h in zip(s.elements, s.hydrogens, strict=True) if sym in ("O", "N")) <= high
 
     def mol_ok(self, mol: Mol) -> bool:
         """The exact test on a finished molecule (what filtering would do)."""
