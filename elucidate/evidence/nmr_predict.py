@@ -100,9 +100,14 @@ class _Context:
         hs = self.hs = [a.GetTotalNumHs() for a in atoms]
         self.arom = [a.GetIsAromatic() for a in atoms]
         self.element_count = Counter(z)
-        present = set(z)
-        # the substituent patterns that can match here (none needs an element the molecule lacks)
-        self._patterns = [entry for entry in _substituent_patterns(tables) if entry[2] <= present]
+        # the substituent patterns that can match here (none needs more atoms of an element than
+        # the molecule has), each with its first query atom and whether it is that atom alone
+        self._patterns = [
+            (name, pattern, first, single)
+            for name, smarts, pattern in _substituent_patterns(tables)
+            for first, single, needs in (_query_summary(smarts),)
+            if self._has(needs)
+        ]
         # neighbours in bond order (the order GetNeighbors gives), from one pass over the bonds
         adj: list[list[int]] = [[] for _ in atoms]
         self.adj = adj
@@ -146,11 +151,11 @@ class _Context:
         if found is None:
             found = "other"
             here = self.atoms[atom]
-            for k, (name, pattern, _, first) in enumerate(self._patterns):
+            for k, (name, pattern, first, single) in enumerate(self._patterns):
                 if first is not None:
                     if not first.Match(here):
                         continue
-                    if pattern.GetNumAtoms() == 1:
+                    if single:
                         found = name
                         break
                 if any(seen_from not in m[1:] for m in self._matches(k, pattern).get(atom, ())):
@@ -181,7 +186,7 @@ class _Context:
         when the molecule has the atoms of each element the pattern names and the first query
         atom matches ``atom``."""
         first, single, needs = _query_summary(smarts)
-        if any(self.element_count.get(z, 0) < k for z, k in needs):
+        if not self._has(needs):
             return False
         if first is not None:
             if not first.Match(self.atoms[atom]):
@@ -189,6 +194,11 @@ class _Context:
             if single:
                 return True
         return atom in self.starts(smarts)
+
+    def _has(self, needs: tuple[tuple[int, int], ...]) -> bool:
+        """Whether the molecule has at least so many atoms of each element ((atomic number,
+        count) pairs)."""
+        return all(self.element_count.get(z, 0) >= k for z, k in needs)
 
     def same_ring(self, a: int, b: int, c: int | None = None) -> bool:
         return any(a in r and b in r and (c is None or c in r) for r in self.atom_rings)
@@ -211,16 +221,10 @@ def _query_summary(smarts: str) -> tuple[Atom | None, bool, tuple[tuple[int, int
 
 
 @lru_cache(maxsize=8)
-def _substituent_patterns(tables: NmrTables) -> tuple[tuple[str, Mol, frozenset[int], Atom | None], ...]:
-    """The substituent patterns in table order, compiled, each with the elements every match
-    needs (query atoms that stand for one element only) and its first atom as a query
-    (:func:`_first_atom_query`)."""
-    out = []
-    for name, smarts in tables.c13.substituents:
-        pattern = compiled_smarts(smarts)
-        needs = frozenset(a.GetAtomicNum() for a in pattern.GetAtoms() if a.GetAtomicNum())
-        out.append((name, pattern, needs, _first_atom_query(pattern)))
-    return tuple(out)
+def _substituent_patterns(tables: NmrTables) -> tuple[tuple[str, str, Mol], ...]:
+    """The substituent patterns in table order: name, SMARTS and the compiled pattern (the rest
+    of what a test needs is :func:`_query_summary` of the SMARTS)."""
+    return tuple((name, smarts, compiled_smarts(smarts)) for name, smarts in tables.c13.substituents)
 
 
 def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:

@@ -24,7 +24,7 @@ each element (plain graph counting). Constitution only: no stereochemistry.
 
 from __future__ import annotations
 
-from collections.abc import Generator, Iterator
+from collections.abc import Callable, Generator, Iterator
 from contextlib import nullcontext
 
 from ..errors import ElucidateError
@@ -32,7 +32,9 @@ from ..formula import Formula
 from ..parallel import Runner, local_runner
 from .labelling import Structure
 from .options import GeneratorOptions
+from .plans import Plan
 from .tasks import (
+    JobResult,
     StructureBudget,
     TooManyStructures,
     WorkerJob,
@@ -112,17 +114,33 @@ def isomer_smiles(
                 task, options.kekule, compiled, counts, prefilter, rdkit_smiles=options.rdkit_smiles, budget=left
             )
         return
+    for result in _job_results(run_job, plans, options, budget=budget, runner=runner):
+        for label, n in result.removed.items():
+            counts[label] = counts.get(label, 0) + n
+        yield from result.smiles
+
+
+def _job_results(
+    job: Callable[[WorkerJob], JobResult],
+    plans: list[Plan],
+    options: GeneratorOptions,
+    *,
+    budget: int | None,
+    runner: Runner | None,
+) -> Iterator[JobResult]:
+    """``job`` run on every task of the plans by worker processes (or ``runner``), the tree cut
+    for their number, each with the whole ``budget``; the results in task order.
+    :class:`~.tasks.TooManyStructures` once a job runs out or the structures taken add up past
+    the budget."""
     with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
         tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
         jobs = (WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget) for task in tasks)
         taken = 0
-        for result in work.map(run_job, jobs):
+        for result in work.map(job, jobs):
             taken += result.taken
             if budget is not None and (result.over or taken > budget):
                 raise TooManyStructures(budget)
-            for label, n in result.removed.items():
-                counts[label] = counts.get(label, 0) + n
-            yield from result.smiles
+            yield result
 
 
 def within_budget(
@@ -144,14 +162,11 @@ def within_budget(
         except TooManyStructures:
             return False
         return True
-    with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
-        tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
-        jobs = (WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget) for task in tasks)
-        taken = 0
-        for result in work.map(count_job, jobs):
-            taken += result.taken
-            if result.over or taken > budget:
-                return False
+    try:
+        for _ in _job_results(count_job, plans, options, budget=budget, runner=runner):
+            pass
+    except TooManyStructures:
+        return False
     return True
 
 

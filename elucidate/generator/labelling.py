@@ -373,10 +373,8 @@ class SkeletonTest:
     def kekule_ok(self, orders: Sequence[int]) -> bool:
         """The labelled skeleton with these bond orders (Kekulé form, before aromaticity) matches
         every ``kekule`` condition; call after :meth:`labelled_ok` for the same labelling."""
-        if self._orders is None:
-            self._orders = [self._order_sets(k) for k in range(len(self.patterns))]
         typed = False
-        for (_, _, kekule), ways in zip(self.patterns, self._orders, strict=True):
+        for (_, _, kekule), ways in zip(self.patterns, self._order_ways(), strict=True):
             if kekule is None:
                 continue
             if ways is not None:
@@ -403,9 +401,13 @@ class SkeletonTest:
     def order_ways(self) -> list[list[OrderWay]]:
         """The ways each kekule condition read off the orders can hold on the current labelled
         skeleton (conditions RDKit tests are left out); call after :meth:`labelled_ok`."""
+        return [ways for ways in self._order_ways() if ways is not None]
+
+    def _order_ways(self) -> list[list[OrderWay] | None]:
+        """Per kekule condition of the current labelling, :meth:`_order_sets` (found once)."""
         if self._orders is None:
             self._orders = [self._order_sets(k) for k in range(len(self.patterns))]
-        return [ways for ways in self._orders if ways is not None]
+        return self._orders
 
     def _order_sets(self, k: int) -> list[OrderWay] | None:
         """The ways kekule condition ``k`` can hold on the current labelled skeleton, one per

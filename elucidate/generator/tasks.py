@@ -307,7 +307,7 @@ def count_job(job: WorkerJob) -> JobResult:
             if budget is not None:
                 budget.take()
     except TooManyStructures:
-        return JobResult([], {}, budget.taken if budget is not None else taken, True)
+        return JobResult([], {}, taken, True)
     return JobResult([], {}, taken, False)
 
 
