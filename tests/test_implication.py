@@ -8,13 +8,20 @@ Gold Book class definitions."""
 
 from __future__ import annotations
 
+from collections import Counter
+
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 from rdkit import Chem
 
+from elucidate import parse_formula
+from elucidate.generator import structures
 from elucidate.generator.groups import default_groups
-from elucidate.generator.implication import pattern_implies
+from elucidate.generator.implication import Features, PatternNeeds, pattern_implies, pattern_needs
+from elucidate.generator.plausibility import default_profiles
+from elucidate.generator.selection import Selection
+from elucidate.generator.smiles import sanitized
 
 GROUPS = default_groups()
 
@@ -94,3 +101,89 @@ def test_an_implication_claimed_holds_on_every_molecule(forbidden, required):
         for smiles in _MOLECULES:
             mol = Chem.MolFromSmiles(smiles)
             assert not mol.HasSubstructMatch(p) or mol.HasSubstructMatch(f), (required, forbidden, smiles)
+
+
+# ---------------------------------------------------------------- what a match needs
+
+
+@pytest.mark.parametrize(
+    ("smarts", "elements", "double", "triple", "rings", "aromatic"),
+    [
+        # read off the pattern by the Daylight SMARTS theory manual's rules (see the module note)
+        ("[OX2H1][CX3]=[CX3]", ((6, 2), (8, 1)), True, False, 0, False),
+        ("[OX2][OX2]", ((8, 2),), False, False, 0, False),
+        ("[r3,r4,r5,r6,r7]#;@[r3,r4,r5,r6,r7]", (), False, True, 1, False),  # "@": a ring bond
+        ("[CX2;r3,r4,r5,r6,r7](=*)=*", ((6, 1),), True, False, 1, False),  # every alternative a ring
+        ("[#7X3,#8X2,#16X2]1[#6]=[#6]1", ((6, 2),), True, False, 1, False),  # a ring closure
+        ("c1ccccc1", ((6, 6),), False, False, 1, True),
+        ("[a;r3]@[O,N,S,o,n,s;r3]", (), False, False, 1, True),
+        ("[C;!R]", ((6, 1),), False, False, 0, False),  # a negation requires nothing
+        ("[R0]", (), False, False, 0, False),
+        ("[C,N]=O", ((8, 1),), True, False, 0, False),  # alternatives name no element
+        ("C~C", ((6, 2),), False, False, 0, False),  # any bond: no order needed
+        ("[#6]=,#[#6]", ((6, 2),), False, False, 0, False),  # double or triple: neither certain
+    ],
+)
+def test_pattern_needs(smarts, elements, double, triple, rings, aromatic):
+    assert pattern_needs(Chem.MolFromSmarts(smarts)) == PatternNeeds(elements, double, triple, rings, aromatic)
+
+
+def _corpus_structures():
+    """Every isomer (Kekulé form, then the molecule with aromaticity perceived) of a few small
+    formulas that hold aromatic rings, triple bonds, nitrogen and two oxygens."""
+    for text in ("C5H6O", "C4H5N", "C6H6", "C3H4O2", "C4H4N2", "C3H3NO"):
+        for s in structures(parse_formula(text)):
+            yield s, sanitized(s, kekule=False)
+
+
+def _features(s, mol):
+    """The features as generation computes them (tasks._features), the aromatic flag from the
+    molecule itself."""
+    elements = Counter(a.GetAtomicNum() for a in mol.GetAtoms())
+    orders = [o for _, _, o in s.bonds]
+    aromatic = any(a.GetIsAromatic() for a in mol.GetAtoms())
+    return Features(dict(elements), 2 in orders, 3 in orders, len(orders) - len(s.elements) + 1, aromatic)
+
+
+_PATTERNS = sorted(
+    set(_SMARTS)
+    | {GROUPS[n].smarts for n in GROUPS.names}
+    | {r.smarts for r in default_profiles()["stable"] if r.smarts is not None}
+)
+
+
+def test_a_structure_that_matches_a_pattern_has_what_it_needs():
+    # soundness of the shortcut: RDKit's own match is never ruled out by the needs
+    corpus = list(_corpus_structures())
+    assert len(corpus) > 1000
+    needs = [(smarts, Chem.MolFromSmarts(smarts)) for smarts in _PATTERNS]
+    needs = [(smarts, pattern, pattern_needs(pattern)) for smarts, pattern in needs]
+    ruled_out = 0
+    for s, mol in corpus:
+        features = _features(s, mol)
+        for smarts, pattern, need in needs:
+            allowed = features.allows(need)
+            ruled_out += not allowed
+            assert allowed or not mol.HasSubstructMatch(pattern), (smarts, Chem.MolToSmiles(mol))
+    assert ruled_out > len(corpus)  # the shortcut does rule out searches
+
+
+@pytest.mark.parametrize(
+    "selection",
+    [
+        Selection(profile="stable"),
+        Selection(require=("ketone",), forbid=("alkyne",), profile="stable"),
+        Selection(require_smarts=("[#6]#[#6]",), forbid_smarts=("[OX2][OX2]", "c1ccccc1")),
+    ],
+)
+def test_the_finished_molecule_tests_decide_the_same_with_the_shortcuts(selection):
+    compiled = selection.compile()
+    for s, mol in _corpus_structures():
+        assert compiled.first_failure(mol, _features(s, mol)) == compiled.first_failure(mol), Chem.MolToSmiles(mol)
+
+
+def test_the_corpus_holds_a_structure_each_plausibility_rule_flags():
+    # otherwise the comparison above could not catch a wrong need of a rule
+    molecules = [mol for _, mol in _corpus_structures()]
+    for rule in default_profiles()["stable"]:
+        assert any(rule.matches(mol) for mol in molecules), rule.name

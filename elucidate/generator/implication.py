@@ -14,13 +14,15 @@ a run that ends empty, a false one would refuse a good case.
 from __future__ import annotations
 
 import re
-from collections.abc import Sequence
+from collections import Counter
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["first_implied", "pattern_implies"]
+__all__ = ["Features", "PatternNeeds", "first_implied", "pattern_implies", "pattern_needs"]
 
 _ALL_ORDERS = frozenset({"1", "2", "3", "ar"})
 _BOND_ORDERS = {
@@ -111,10 +113,14 @@ def _atom_facts(smarts: str, *, required_only: bool) -> set[str] | None:
     return facts
 
 
+def _bond_text(bond: Any) -> str:
+    """A query bond's SMARTS (typed Any: RDKit's stubs mistype ``Bond.GetSmarts``)."""
+    return str(bond.GetSmarts())
+
+
 def _bond_orders(bond: Any) -> frozenset[str] | None:
-    """The bond orders a query bond allows, or None for one this test cannot read (typed Any:
-    RDKit's stubs mistype ``Bond.GetSmarts``)."""
-    return _BOND_ORDERS.get(str(bond.GetSmarts()))
+    """The bond orders a query bond allows, or None for one this test cannot read."""
+    return _BOND_ORDERS.get(_bond_text(bond))
 
 
 def pattern_implies(p: Mol, f: Mol) -> bool:
@@ -176,3 +182,95 @@ def first_implied(required: Sequence[Mol], forbidden: Sequence[Mol]) -> tuple[in
             if pattern_implies(need, ban):
                 return i, j
     return None
+
+
+@dataclass(frozen=True)
+class PatternNeeds:
+    """What every molecule matching a pattern has, read off the query as the implication test
+    reads it (sound and incomplete: a need it cannot read is left out)."""
+
+    elements: tuple[tuple[int, int], ...] = ()  # (atomic number, at least so many atoms)
+    double: bool = False  # a double bond ("=" matches no aromatic bond, so the Kekulé form has one)
+    triple: bool = False
+    rings: int = 0  # at least so many rings
+    aromatic: bool = False  # an aromatic atom or bond
+
+
+@dataclass(frozen=True)
+class Features:
+    """What one structure has, for :meth:`allows` (read off its Kekulé form: a molecule with an
+    aromatic atom has a double bond there)."""
+
+    elements: Mapping[int, int]  # atomic number -> atoms
+    double: bool
+    triple: bool
+    rings: int
+    aromatic: bool  # may have an aromatic atom (True when not known)
+
+    def allows(self, needs: PatternNeeds) -> bool:
+        """False when the structure lacks something every match needs: no match is possible."""
+        return (
+            (not needs.double or self.double)
+            and (not needs.triple or self.triple)
+            and self.rings >= needs.rings
+            and (not needs.aromatic or self.aromatic)
+            and all(self.elements.get(z, 0) >= k for z, k in needs.elements)
+        )
+
+
+_RING_FACT = re.compile(r"^(?:([rR])(\d*)|x(\d+))$")
+
+
+def _ring_fact(fact: str) -> bool:
+    """Whether a primitive puts its atom in a ring: R, r, RN (N > 0), rN (N > 0), xN (N > 1)."""
+    m = _RING_FACT.match(fact)
+    if m is None:
+        return False
+    if m.group(3) is not None:
+        return int(m.group(3)) > 1
+    return not m.group(2) or int(m.group(2)) > 0
+
+
+def _in_ring(smarts: str) -> bool:
+    """Whether an atom SMARTS puts its atom in a ring: a top-level conjunct that is a ring
+    primitive, or whose alternatives each are one (``[CX2;r3,r4]``)."""
+    facts = _atom_facts(smarts, required_only=True) or set()
+    if any(_ring_fact(f) for f in facts):
+        return True
+    body = smarts[1:-1] if smarts.startswith("[") and smarts.endswith("]") else smarts
+    for part in _split(body, ";") or []:
+        alternatives = _split(part, ",") or []
+        if len(alternatives) > 1 and all(_ring_fact(a) for a in alternatives):
+            return True
+    return False
+
+
+def pattern_needs(pattern: Mol) -> PatternNeeds:
+    """What any molecule matching the query ``pattern`` has: the atoms of each element its
+    query atoms name (a conjunct), the double and triple bonds its bonds demand, a ring when a
+    query atom or bond says so or the pattern holds a cycle, an aromatic atom when a query atom
+    or bond says so."""
+    elements: Counter[int] = Counter()
+    aromatic = ring = False
+    for atom in pattern.GetAtoms():
+        smarts = atom.GetSmarts()
+        facts = _atom_facts(smarts, required_only=True) or set()
+        for fact in facts:
+            if fact.startswith("#") and fact[1:].isdigit() and int(fact[1:]) > 1:
+                elements[int(fact[1:])] += 1
+        aromatic = aromatic or "a" in facts
+        ring = ring or _in_ring(smarts)
+    double = triple = False
+    for bond in pattern.GetBonds():
+        text = _bond_text(bond)
+        if "," in text or "!" in text:
+            continue  # alternatives or a negation: nothing certain
+        pieces = set(re.split(r"[;&]", text))
+        double = double or "=" in pieces
+        triple = triple or "#" in pieces
+        ring = ring or "@" in pieces
+        aromatic = aromatic or ":" in pieces
+    # a connected pattern with as many bonds as atoms holds a cycle (ring closures)
+    if pattern.GetNumBonds() >= pattern.GetNumAtoms() > 0:
+        ring = True
+    return PatternNeeds(tuple(sorted(elements.items())), double, triple, 1 if ring else 0, aromatic)

@@ -13,12 +13,14 @@ from ..errors import ElucidateError
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
 from ..yamlnodes import as_list, as_str, mapping, read_yaml_file
+from .implication import PatternNeeds, pattern_needs
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
 __all__ = [
     "TESTS",
+    "TEST_NEEDS",
     "Profiles",
     "Rule",
     "aromatic_atom_only_in_small_rings",
@@ -78,6 +80,14 @@ TESTS: Mapping[str, Callable[[Mol], bool]] = {
 }
 
 
+#: what any structure a named test can flag has (a bridgehead double bond needs two rings and
+#: a double bond in the Kekulé form; a chorded aromatic ring needs an aromatic atom in a ring)
+TEST_NEEDS: Mapping[str, PatternNeeds] = {
+    "bridgehead_double_bond": PatternNeeds(double=True, rings=2),
+    "aromatic_atom_only_in_small_rings": PatternNeeds(rings=1, aromatic=True),
+}
+
+
 @dataclass(frozen=True)
 class Rule:
     name: str
@@ -90,6 +100,14 @@ class Rule:
             return bool(mol.HasSubstructMatch(compiled_smarts(self.smarts)))
         assert self.test is not None
         return TESTS[self.test](mol)
+
+    @property
+    def needs(self) -> PatternNeeds:
+        """What any structure the rule flags has (:func:`~.implication.pattern_needs`)."""
+        if self.smarts is not None:
+            return pattern_needs(compiled_smarts(self.smarts))
+        assert self.test is not None
+        return TEST_NEEDS[self.test]
 
 
 @dataclass(frozen=True, eq=False)
@@ -112,7 +130,7 @@ class Profiles:
             for r in rules:
                 if (r.smarts is None) == (r.test is None):
                     raise ElucidateError("give exactly one of smarts or test", key=f"profiles.{profile}.{r.name}")
-                if r.test is not None and r.test not in TESTS:
+                if r.test is not None and (r.test not in TESTS or r.test not in TEST_NEEDS):
                     raise ElucidateError(
                         f"unknown test {r.test!r}; tests: {', '.join(TESTS)}", key=f"profiles.{profile}.{r.name}"
                     )

@@ -14,7 +14,7 @@ from ..errors import ElucidateError
 from ..smarts import compiled_smarts
 from .counts import CountTest
 from .groups import GroupTable, default_groups
-from .implication import first_implied
+from .implication import Features, PatternNeeds, first_implied, pattern_needs
 from .plausibility import default_profiles
 
 if TYPE_CHECKING:
@@ -92,18 +92,24 @@ class Selection:
                 f"every structure with the required {need} matches the forbidden {ban}: nothing could survive"
             )
         tests: list[tuple[str, MolTest]] = []  # (label, passes)
+        # per test: what a match needs and whether the test passes when no match is possible
+        shortcuts: list[tuple[PatternNeeds, bool] | None] = []
         reasons: dict[str, Callable[[Mol], str]] = {}  # label -> what a structure breaking it has or lacks
         for name in self.require:
             tests.append((f"require {name}", _has(g[name].pattern)))
+            shortcuts.append((pattern_needs(g[name].pattern), False))
             reasons[f"require {name}"] = _absent(f"no {name} group")
         for name in self.forbid:
             tests.append((f"forbid {name}", _lacks(g[name].pattern)))
+            shortcuts.append((pattern_needs(g[name].pattern), True))
             reasons[f"forbid {name}"] = _present(f"a {name} group", g[name].pattern)
         for text in self.require_smarts:
             tests.append((f"require SMARTS {text}", _has(compiled_smarts(text))))
+            shortcuts.append((pattern_needs(compiled_smarts(text)), False))
             reasons[f"require SMARTS {text}"] = _absent("no match anywhere in it")
         for text in self.forbid_smarts:
             tests.append((f"forbid SMARTS {text}", _lacks(compiled_smarts(text))))
+            shortcuts.append((pattern_needs(compiled_smarts(text)), True))
             reasons[f"forbid SMARTS {text}"] = _present("a match", compiled_smarts(text))
         if self.max_ring_size is not None:
             if self.max_ring_size < 3:
@@ -112,16 +118,19 @@ class Selection:
             tests.append(
                 (f"largest ring {limit}", lambda mol: all(len(r) <= limit for r in mol.GetRingInfo().AtomRings()))
             )
+            shortcuts.append(None)
             reasons[f"largest ring {limit}"] = _largest_ring
         test = self.count_test
         if test is not None and not pushed_counts:
             tests.append((test.label, test.mol_ok))
+            shortcuts.append(None)
             reasons[test.label] = _absent("its carbon and hydrogen counts differ from the declared ones")
         if self.profile is not None:
             for rule in default_profiles()[self.profile]:
                 tests.append((f"implausible {rule.name}", _not(rule.matches)))
+                shortcuts.append((rule.needs, True))
                 reasons[f"implausible {rule.name}"] = _absent(rule.reason)
-        return CompiledSelection(tuple(tests), reasons)
+        return CompiledSelection(tuple(tests), reasons, tuple(shortcuts))
 
 
 def _largest_ring(mol: Mol) -> str:
@@ -158,6 +167,9 @@ class CompiledSelection:
     tests: tuple[tuple[str, MolTest], ...]
     #: label -> why a structure breaks it, in the structure's terms (what it has or lacks)
     reasons: Mapping[str, Callable[[Mol], str]] = field(default_factory=dict)
+    #: per test (or empty): what any match of its pattern needs and the test's outcome when a
+    #: structure lacks it (no match possible), or None for a test without a pattern
+    shortcuts: tuple[tuple[PatternNeeds, bool] | None, ...] = ()
 
     def reason(self, label: str, mol: Mol) -> str:
         """Why ``mol``, which breaks the constraint ``label``, breaks it: what it lacks, or
@@ -170,9 +182,17 @@ class CompiledSelection:
     def labels(self) -> tuple[str, ...]:
         return tuple(label for label, _ in self.tests)
 
-    def first_failure(self, mol: Mol) -> str | None:
-        """The label of the first constraint ``mol`` (aromaticity perceived) breaks, or None."""
-        for label, passes in self.tests:
+    def first_failure(self, mol: Mol, features: Features | None = None) -> str | None:
+        """The label of the first constraint ``mol`` (aromaticity perceived) breaks, or None.
+        ``features``: what the structure has; a pattern test whose match needs something it
+        lacks is decided without a search (the same outcome: no match is possible)."""
+        shortcuts = self.shortcuts if features is not None else ()
+        for i, (label, passes) in enumerate(self.tests):
+            shortcut = shortcuts[i] if shortcuts else None
+            if shortcut is not None and features is not None and not features.allows(shortcut[0]):
+                if shortcut[1]:
+                    continue
+                return label
             if not passes(mol):
                 return label
         return None

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING
 from ..elements import default_elements
 from ..errors import ElucidateError
 from ..formula import Formula
+from .implication import Features
 from .labelling import SkeletonPatterns, SkeletonTest, Structure, allowed_alone, structures_on_skeleton
 from .options import GeneratorOptions
 from .plans import Plan, default_valence_states, valence_plans
@@ -225,6 +226,11 @@ def task_smiles(
     states = default_valence_states()
     charged = {label for label in task.plan.labels if (st := states.get(label)) is not None and st.charge_separated}
     template: Template | None = None
+    table = Chem.GetPeriodicTable()
+    elements: dict[int, int] = {}
+    for (symbol, _), k in zip(task.plan.labels, task.plan.counts, strict=True):
+        z = table.GetAtomicNumber(symbol)
+        elements[z] = elements.get(z, 0) + k
     with quiet_rdkit():
         for s in task_structures(task, prefilter, budget=budget):
             if budget is not None:
@@ -245,7 +251,9 @@ def task_smiles(
                     # (cheaper than building the molecule atom by atom), the finished-molecule
                     # tests run on it, and RDKit writes its canonical SMILES
                     parsed = Chem.MolFromSmiles(written)
-                    if compiled is not None and _rejected(compiled, parsed, removed):
+                    if compiled is not None and _rejected(
+                        compiled, parsed, removed, _features(s, elements, aromatic=False)
+                    ):
                         continue
                     yield Chem.MolToSmiles(parsed)
                     continue
@@ -253,7 +261,7 @@ def task_smiles(
             # a molecule with no aromatic atom has no other Kekulé form: its constraints are
             # tested before its SMILES is written, and it needs no merging
             early = compiled is not None and not kekule and not _aromatic(mol)
-            if early and _rejected(compiled, mol, removed):
+            if early and _rejected(compiled, mol, removed, _features(s, elements, aromatic=False)):
                 continue
             smiles: str = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
             if not kekule and not early:
@@ -269,14 +277,25 @@ def task_smiles(
                 if kekule:
                     probe = Chem.Mol(mol)
                     Chem.SetAromaticity(probe)
-                if _rejected(compiled, probe, removed):
+                if _rejected(compiled, probe, removed, _features(s, elements, aromatic=True)):
                     continue
             yield smiles
 
 
-def _rejected(compiled: CompiledSelection | None, mol: Mol, removed: dict[str, int]) -> bool:
-    """Whether ``mol`` breaks a constraint; the first one it breaks is counted in ``removed``."""
-    failed = compiled.first_failure(mol) if compiled is not None else None
+def _features(s: Structure, elements: dict[int, int], *, aromatic: bool) -> Features:
+    """What the structure has, for the finished-molecule tests' shortcuts: the formula's
+    elements, its Kekulé bond orders and rings; ``aromatic``: whether it may have an aromatic
+    atom."""
+    orders = [o for _, _, o in s.bonds]
+    return Features(elements, 2 in orders, 3 in orders, len(orders) - len(s.elements) + 1, aromatic)
+
+
+def _rejected(
+    compiled: CompiledSelection | None, mol: Mol, removed: dict[str, int], features: Features | None = None
+) -> bool:
+    """Whether ``mol`` breaks a constraint; the first one it breaks is counted in ``removed``.
+    ``features``: what the structure has (:meth:`CompiledSelection.first_failure`)."""
+    failed = compiled.first_failure(mol, features) if compiled is not None else None
     if failed is not None:
         removed[failed] = removed.get(failed, 0) + 1
     return failed is not None
