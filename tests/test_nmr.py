@@ -7,9 +7,11 @@ Structure Determination of Organic Compounds; SDBS-style library spectra), round
 from __future__ import annotations
 
 import textwrap
+from pathlib import Path
 
 import pytest
 
+from elucidate import load_case
 from elucidate._rdkit import Chem
 from elucidate.case import multiplet_lines, parse_case, parse_multiplet
 from elucidate.errors import ElucidateError
@@ -17,6 +19,8 @@ from elucidate.evidence import Nmr, make_subject
 from elucidate.evidence.nmr import coupled_h
 from elucidate.formula import parse_formula
 from elucidate.generator.groups import default_groups
+
+ROOT = Path(__file__).resolve().parent.parent
 
 HEAD = textwrap.dedent(
     """\
@@ -274,9 +278,10 @@ def test_an_empty_result_names_the_declared_counts() -> None:
     "smiles", ["C=C(C)C1CC=C(C)C(=O)C1", "CC1=CCC(CC1)C(C)(C)O", "CCN(CC)C(=O)c1cccc(C)c1", "CC(=O)c1ccc(C)cc1"]
 )
 def test_carbon_cost_matrix_equals_the_pairwise_rule(smiles: str) -> None:
-    # the vectorised matrix against _deviation and the DEPT rule pair by pair (self-consistency)
+    # the vectorised matrix against the rule of constraints/nmr13c.yaml (scoring) and the DEPT
+    # rule, pair by pair (self-consistency)
     from elucidate.case import C13Signal
-    from elucidate.evidence.nmr import _deviation, carbon_costs
+    from elucidate.evidence.nmr import carbon_costs
     from elucidate.evidence.nmr_predict import predict_c13
 
     costs = Nmr().tables.c13.costs
@@ -285,6 +290,126 @@ def test_carbon_cost_matrix_equals_the_pairwise_rule(smiles: str) -> None:
     matrix = carbon_costs(observed, predicted, costs)
     for r, o in enumerate(observed):
         for c, p in enumerate(predicted):
-            want = _deviation(o.ppm, p.ppm, p.uncertainty, costs.deviation_cap)
+            sigma = p.uncertainty / 2
+            want = min(0.5 * ((o.ppm - p.ppm) / sigma) ** 2, costs.deviation_cap)
             want += costs.type_mismatch if o.type is not None and o.type != p.type else 0.0
             assert matrix[r, c] == pytest.approx(want, abs=1e-12)
+
+
+def _reference_search(place, fill, dev, absent, hydrogens, slots, per_h, rounds):
+    """The 1H local search written out change by change (the form it had before the array
+    version): per round, every move then every swap weighed in order, the first least taken."""
+
+    def delta(c, new):
+        old, h = place[c], hydrogens[c]
+        change = 0.0
+        if old is not None:
+            change -= dev[old][c] + per_h * (abs(slots[old] - fill[old]) - abs(slots[old] - fill[old] + h))
+        else:
+            change -= absent[c]
+        if new is not None:
+            change += dev[new][c] + per_h * (abs(slots[new] - fill[new] - h) - abs(slots[new] - fill[new]))
+        else:
+            change += absent[c]
+        return change
+
+    def move(c, new):
+        old, h = place[c], hydrogens[c]
+        if old is not None:
+            fill[old] -= h
+        if new is not None:
+            fill[new] += h
+        place[c] = new
+
+    n_obs = len(slots)
+    for _ in range(rounds):
+        best = (-1e-9, -1, -1, None)
+        for c in range(len(place)):
+            for r in [*range(n_obs), None]:
+                if r != place[c]:
+                    d = delta(c, r)
+                    if d < best[0]:
+                        best = (d, c, -1, r)
+            for c2 in range(c + 1, len(place)):
+                r1, r2 = place[c], place[c2]
+                if r1 == r2 or r1 is None or r2 is None:
+                    continue
+                d = delta(c, r2)
+                move(c, r2)
+                d += delta(c2, r1)
+                move(c, r1)
+                if d < best[0]:
+                    best = (d, c, c2, r2)
+        if best[1] < 0:
+            break
+        _, c, c2, target = best
+        if c2 >= 0:
+            r1 = place[c]
+            move(c, target)
+            move(c2, r1)
+        else:
+            move(c, target)
+
+
+@pytest.mark.parametrize("seed", range(60))
+def test_the_array_local_search_makes_the_same_changes_as_the_written_out_one(seed: int) -> None:
+    # self-consistency: random problems, with ties (costs on a coarse grid, capped deviations)
+    import random
+
+    import numpy as np
+
+    from elucidate.evidence.nmr import _improve
+
+    rng = random.Random(seed)
+    n_obs, n_c = rng.randint(1, 7), rng.randint(1, 9)
+    dev = [[rng.choice([0.0, 0.5, 1.0, 2.0, 4.0, rng.random() * 4]) for _ in range(n_c)] for _ in range(n_obs)]
+    hydrogens = [rng.choice([1, 1, 2, 3]) for _ in range(n_c)]
+    absent = [rng.choice([0.0, 1.5 * h]) for h in hydrogens]
+    slots = [rng.randint(1, 4) for _ in range(n_obs)]
+    place = [rng.choice([*range(n_obs), None]) for _ in range(n_c)]
+    fill = [sum(h for c, h in enumerate(hydrogens) if place[c] == r) for r in range(n_obs)]
+    want_place, want_fill = place[:], fill[:]
+    _reference_search(want_place, want_fill, dev, absent, hydrogens, slots, 1.5, 4 * n_c + 4)
+    _improve(place, fill, np.array(dev), np.array(absent), hydrogens, slots, 1.5, rounds=4 * n_c + 4)
+    assert (place, fill) == (want_place, want_fill)
+
+
+@pytest.fixture(scope="module")
+def c6h10o_isomers():
+    from elucidate import parse_formula
+    from elucidate.generator import isomer_smiles
+
+    return [Chem.MolFromSmiles(s) for s in isomer_smiles(parse_formula("C6H10O"))]
+
+
+@pytest.mark.parametrize("case_name", ["carvone", "alpha-terpineol", "4-methylacetophenone"])
+def test_the_early_13c_bound_never_exceeds_the_assignment(case_name, c6h10o_isomers) -> None:
+    # self-consistency: the dual bound of _carbon_bound is a lower bound of the 13C against of
+    # the optimal assignment (Kuhn 1955: any feasible dual is a lower bound), for observed
+    # lists of reference cases against every C6H10O isomer, at several levels
+    from elucidate.evidence.nmr_predict import NmrPrediction
+
+    case = load_case(ROOT / "tests" / "reference_cases" / f"{case_name}.yaml")
+    observed = case.nmr.c13
+    nmr = Nmr()
+    stopped = 0
+    for mol in c6h10o_isomers:
+        against = nmr._carbon(observed, NmrPrediction(mol).c13)[0]
+        for enough in (0.0, 2.0, 5.0, 10.0, 15.0):
+            bound = nmr._carbon_bound(observed, NmrPrediction(mol), enough)
+            if bound is not None:
+                stopped += 1
+                assert enough < bound <= against, (Chem.MolToSmiles(mol), enough)
+    assert stopped > len(c6h10o_isomers)  # the bound does stop early
+
+
+def test_an_incomplete_13c_part_is_compared_never_finished() -> None:
+    case = load_case(ROOT / "tests" / "reference_cases" / "carvone.yaml")
+    mol = Chem.MolFromSmiles("CCCCCCCCCC=O")  # far from carvone's list
+    subject = make_subject("CCCCCCCCCC=O", mol, parse_formula("C10H20O"), default_groups(), 156, 0.0)
+    nmr = Nmr()
+    partial = nmr.begin(subject, case, enough=1.0)
+    assert not partial.complete and partial.against > 1.0
+    assert partial.against <= nmr.begin(subject, case).against
+    with pytest.raises(AssertionError):
+        nmr.finish(subject, case, partial)

@@ -168,11 +168,13 @@ class Bounded(Protocol):
 class Partial:
     """The first, cheaper part of an assessment: lower bounds of the ``against`` and
     ``unexplained`` the whole assessment gives, and what the technique needs to finish it (its
-    own, opaque to the solver)."""
+    own, opaque to the solver). An incomplete part (``complete`` False) stopped early, once its
+    ``against`` bound reached the level asked for: it cannot be finished, only compared."""
 
     against: float
     unexplained: float
     state: Any = None
+    complete: bool = True
 
 
 @runtime_checkable
@@ -181,8 +183,10 @@ class Staged(Protocol):
     the whole (the solver may stop after it when the candidate can no longer reach the
     shortlist). ``finish(subject, case, begin(subject, case))`` is ``assess(subject, case)``."""
 
-    def begin(self, subject: Subject, case: Case) -> Partial:
-        """The first part of the assessment of ``subject``."""
+    def begin(self, subject: Subject, case: Case, *, enough: float = math.inf) -> Partial:
+        """The first part of the assessment of ``subject``. ``enough``: an ``against`` at which
+        the candidate is settled; the technique may stop as soon as it has proved an ``against``
+        above it, returning that bound as an incomplete part (or it may ignore ``enough``)."""
         ...
 
     def finish(self, subject: Subject, case: Case, partial: Partial) -> Assessment | None:

@@ -20,6 +20,7 @@ explained — mild, because no rule table is complete. Every observed peak gets 
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import cache, lru_cache
@@ -490,10 +491,11 @@ class Fragments:
     def assess(self, subject: Subject, case: Case) -> Assessment:
         return self.finish(subject, case, self.begin(subject, case))
 
-    def begin(self, subject: Subject, case: Case) -> Partial:
+    def begin(self, subject: Subject, case: Case, *, enough: float = math.inf) -> Partial:
         """The rule-predicted ions and the strong ones absent from the spectrum (the whole
         ``against``); the peaks the graph's pieces explain, which only lower ``unexplained``
-        from its bound, are left to :meth:`finish`."""
+        from its bound, are left to :meth:`finish`. ``enough`` is not used: the part is cheap
+        enough whole."""
         assert case.mass_spec is not None
         t = self.table
         peaks = case.mass_spec.peaks

@@ -22,9 +22,11 @@ exchangeable.
 
 from __future__ import annotations
 
+import math
 from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from functools import cache
 from typing import TYPE_CHECKING, Any, Literal
 
 from ..case import CARBON_KINDS, MULTIPLICITIES, C13Signal, Case, H1Signal
@@ -37,6 +39,9 @@ if TYPE_CHECKING:
     import numpy as np
 
 __all__ = ["Nmr", "assign", "carbon_costs", "coupled_h"]
+
+#: the order in which DEPT-type blocks of classes are predicted for the 13C bound
+_BLOCK_ORDER = {"C": 0, "CH": 1, "CH2": 2, "CH3": 3}
 
 #: coupled H a multiplet code stands for (first order, all couplings resolved)
 _COUPLED = {"s": 0, "d": 1, "t": 2, "q": 3, "quint": 4, "sext": 5, "sept": 6}
@@ -62,9 +67,116 @@ class Pair:
     overlap: bool = False  # the class shares its observed signal with another class
 
 
-def _deviation(observed: float, predicted: float, uncertainty: float, cap: float) -> float:
-    sigma = max(uncertainty / 2, 1e-6)
-    return min(0.5 * ((observed - predicted) / sigma) ** 2, cap)
+def _deviations(
+    observed: Sequence[float], predicted: Sequence[float], uncertainty: Sequence[float], cap: float
+) -> np.ndarray:
+    """Each pair's deviation cost (observed rows, predicted columns): the squared deviation over
+    sigma (half the stated uncertainty) halved, at most ``cap``."""
+    import numpy as np
+
+    obs = np.array(observed, dtype=float)[:, None]
+    sigma = np.maximum(np.array(uncertainty, dtype=float) / 2, 1e-6)
+    deviation = (obs - np.array(predicted, dtype=float)) / sigma
+    cost: np.ndarray = np.minimum(0.5 * deviation**2, cap).reshape(len(observed), len(predicted))
+    return cost
+
+
+def _improve(
+    place: list[int | None],
+    fill: list[int],
+    dev: np.ndarray,
+    absent: np.ndarray,
+    hydrogens: Sequence[int],
+    slots: Sequence[int],
+    per_h: float,
+    *,
+    rounds: int,
+) -> None:
+    """The 1H local search, in place: each round applies the single best change of the total,
+    a class moved to another signal (or to none) or two classes on different signals swapped,
+    while one lowers it by more than 1e-9; at most ``rounds`` rounds. ``place``: each class's
+    signal (None: no signal); ``fill``: the H placed on each signal; ``dev``: deviation cost
+    (signals × classes); ``absent``: each class's cost with no signal; ``slots``: the H each
+    signal holds. The changes are weighed in a fixed order (per class: its moves to each signal
+    then to none, then its swaps with each later class) and the first of the least is taken, so
+    the result does not depend on how the weighing is computed. One round is a few array
+    operations over every change at once."""
+    import numpy as np
+
+    n_obs, n_c = dev.shape
+    if n_c == 0:
+        return
+    none = n_obs  # the "no signal" position
+    h = np.array(hydrogens, dtype=np.int64)
+    s_arr = np.array(slots, dtype=np.int64)
+    width = n_obs + 1 + n_c
+    order, upper = _change_order(n_obs, n_c)
+    cols = np.arange(n_c)
+    for _ in range(rounds):
+        at = np.array([none if r is None else r for r in place], dtype=np.int64)
+        f = np.array(fill, dtype=np.int64)
+        placed = at != none
+        safe = np.where(placed, at, 0)
+        # what moving class c off its signal changes: minus its deviation and the signal's
+        # integral mismatch it leaves behind (or its absence cost)
+        gap = s_arr[safe] - f[safe]
+        leave = np.where(placed, dev[safe, cols] + per_h * (np.abs(gap) - np.abs(gap + h)), absent)
+        # what putting class c on signal r adds (r = none: its absence cost)
+        room = (s_arr - f)[:, None]
+        arrive = np.empty((n_obs + 1, n_c))
+        arrive[:n_obs] = dev + per_h * (np.abs(room - h[None, :]) - np.abs(room))
+        arrive[none] = absent
+        moves = (0.0 - leave)[:, None] + arrive.T
+        moves[cols, at] = np.inf  # a class stays where it is
+        # swaps: c to c2's signal (as a move), then c2 to c's signal with c already moved
+        r1, r2 = at[:, None], at[None, :]
+        valid = upper & placed[:, None] & placed[None, :] & (r1 != r2)
+        r1s, r2s = np.where(valid, r1, 0), np.where(valid, r2, 0)
+        first = moves[cols[:, None], r2s]
+        f2 = f[r2s] + h[:, None]  # c2's signal after c joined it
+        f1 = f[r1s] - h[:, None]  # c's signal after c left it
+        h2 = h[None, :]
+        leave2 = dev[r2s, cols[None, :]] + per_h * (np.abs(s_arr[r2s] - f2) - np.abs(s_arr[r2s] - f2 + h2))
+        arrive2 = dev[r1s, cols[None, :]] + per_h * (np.abs(s_arr[r1s] - f1 - h2) - np.abs(s_arr[r1s] - f1))
+        swaps = np.where(valid, first + ((0.0 - leave2) + arrive2), np.inf)
+        table = np.concatenate([moves, swaps], axis=1).ravel()[order]
+        k = int(np.argmin(table))
+        if not table[k] < -1e-9:
+            break
+        c, j = divmod(int(order[k]), width)
+        if j <= n_obs:
+            _shift(place, fill, hydrogens, c, None if j == none else j)
+        else:
+            c2 = j - n_obs - 1
+            a, b = place[c], place[c2]
+            _shift(place, fill, hydrogens, c, b)
+            _shift(place, fill, hydrogens, c2, a)
+
+
+@cache
+def _change_order(n_obs: int, n_c: int) -> tuple[np.ndarray, np.ndarray]:
+    """The changes of :func:`_improve` in the order they are weighed (per class c: its n_obs + 1
+    moves, then its swaps with each c2 > c), as flat indices into the (n_c, n_obs + 1 + n_c)
+    table [moves | swaps]; and the c < c2 mask of the swaps."""
+    import numpy as np
+
+    width = n_obs + 1 + n_c
+    order = np.array(
+        [c * width + k for c in range(n_c) for k in [*range(n_obs + 1), *(n_obs + 1 + c2 for c2 in range(c + 1, n_c))]],
+        dtype=np.int64,
+    )
+    cols = np.arange(n_c)
+    return order, cols[:, None] < cols[None, :]
+
+
+def _shift(place: list[int | None], fill: list[int], hydrogens: Sequence[int], c: int, new: int | None) -> None:
+    """Class c to signal ``new`` (None: no signal), keeping ``fill`` the H on each signal."""
+    old = place[c]
+    if old is not None:
+        fill[old] -= hydrogens[c]
+    if new is not None:
+        fill[new] += hydrogens[c]
+    place[c] = new
 
 
 def carbon_costs(observed: Sequence[C13Signal], predicted: Sequence[CarbonShift], costs: AssignmentCosts) -> np.ndarray:
@@ -72,10 +184,9 @@ def carbon_costs(observed: Sequence[C13Signal], predicted: Sequence[CarbonShift]
     deviation cost (:func:`_deviation`) plus ``type_mismatch`` where a DEPT type differs."""
     import numpy as np
 
-    obs = np.array([o.ppm for o in observed], dtype=float)[:, None]
-    sigma = np.maximum(np.array([p.uncertainty for p in predicted], dtype=float) / 2, 1e-6)
-    deviation = (obs - np.array([p.ppm for p in predicted], dtype=float)) / sigma
-    cost = np.minimum(0.5 * deviation**2, costs.deviation_cap).reshape(len(observed), len(predicted))
+    cost = _deviations(
+        [o.ppm for o in observed], [p.ppm for p in predicted], [p.uncertainty for p in predicted], costs.deviation_cap
+    )
     otype = np.array([o.type or "" for o in observed], dtype=object)[:, None]
     ptype = np.array([p.type for p in predicted], dtype=object)
     mismatch: np.ndarray = ((otype != "") & (otype != ptype)) * costs.type_mismatch
@@ -167,12 +278,14 @@ class Nmr:
         self, observed: Sequence[H1Signal], predicted: Sequence[ProtonShift]
     ) -> tuple[float, float, list, list[str]]:
         costs = self.tables.h1.costs
-        dev = [[_deviation(o.ppm, p.ppm, p.uncertainty, costs.deviation_cap) for p in predicted] for o in observed]
+        ppm, unc = [p.ppm for p in predicted], [p.uncertainty for p in predicted]
+        dev_arr = _deviations([o.ppm for o in observed], ppm, unc, costs.deviation_cap)
+        dev = dev_arr.tolist()
         notes: list[str] = []
         if observed and all(o.integral is not None for o in observed):
-            held, against, unexplained = self._by_integrals(observed, predicted, dev, notes)
+            held, against, unexplained = self._by_integrals(observed, predicted, dev, dev_arr, notes)
         else:
-            held, against, unexplained = self._one_to_one(observed, predicted, dev)
+            held, against, unexplained = self._one_to_one(observed, predicted, dev_arr)
         # resolved multiplets against the first-order prediction
         for r, o in enumerate(observed):
             classes = held.get(r, {})
@@ -199,15 +312,12 @@ class Nmr:
         return against, unexplained, rows, notes
 
     def _one_to_one(
-        self, observed: Sequence[H1Signal], predicted: Sequence[ProtonShift], dev: list[list[float]]
+        self, observed: Sequence[H1Signal], predicted: Sequence[ProtonShift], dev: np.ndarray
     ) -> tuple[dict[int, dict[int, int]], float, float]:
         """Without integrals: signals to classes one to one, leftover classes overlapping."""
-        import numpy as np
 
         costs = self.tables.h1.costs
-        pairs = assign(
-            np.array(dev).reshape(len(observed), len(predicted)), costs, optional=[p.exchangeable for p in predicted]
-        )
+        pairs = assign(dev, costs, optional=[p.exchangeable for p in predicted])
         held: dict[int, dict[int, int]] = {}
         against = unexplained = 0.0
         for pair in pairs:
@@ -222,6 +332,7 @@ class Nmr:
         observed: Sequence[H1Signal],
         predicted: Sequence[ProtonShift],
         dev: list[list[float]],
+        dev_arr: np.ndarray,
         notes: list[str],
     ) -> tuple[dict[int, dict[int, int]], float, float]:
         """With integrals: every H of every class to one H of an observed signal (the signal's
@@ -243,13 +354,13 @@ class Nmr:
         pred_units = [c for c, p in enumerate(predicted) for _ in range(p.hydrogens)]
         n_o, n_p = len(obs_units), len(pred_units)
         size = n_o + n_p
+        h_units = np.array([predicted[c].hydrogens for c in pred_units], dtype=float)
         big = np.zeros((size, size))
-        for i, r in enumerate(obs_units):
-            for j, c in enumerate(pred_units):
-                big[i, j] = dev[r][c] / predicted[c].hydrogens
-            big[i, n_p:] = costs.integral_per_h  # an observed H no class fills
-        for j, c in enumerate(pred_units):
-            big[n_o:, j] = 0.0 if predicted[c].exchangeable else costs.integral_per_h  # an H with no signal
+        rows_at, cols_at = np.array(obs_units, dtype=np.int64), np.array(pred_units, dtype=np.int64)
+        big[:n_o, :n_p] = dev_arr[rows_at][:, cols_at] / h_units
+        big[:n_o, n_p:] = costs.integral_per_h  # an observed H no class fills
+        # an H with no signal
+        big[n_o:, :n_p] = np.array([0.0 if predicted[c].exchangeable else costs.integral_per_h for c in pred_units])
         rows, cols = linear_sum_assignment(big)
         units: dict[int, dict[int, int]] = {}  # class -> signal -> H of it placed there
         for i, j in zip(rows, cols, strict=True):
@@ -272,55 +383,16 @@ class Nmr:
         def absent(c: int) -> float:
             return 0.0 if predicted[c].exchangeable else per_h * predicted[c].hydrogens
 
-        def delta(c: int, new: int | None) -> float:
-            """Change of the total when class c moves to ``new`` (None: no signal)."""
-            old, h = place[c], predicted[c].hydrogens
-            change = 0.0
-            if old is not None:
-                change -= dev[old][c] + per_h * (abs(slots[old] - fill[old]) - abs(slots[old] - fill[old] + h))
-            else:
-                change -= absent(c)
-            if new is not None:
-                change += dev[new][c] + per_h * (abs(slots[new] - fill[new] - h) - abs(slots[new] - fill[new]))
-            else:
-                change += absent(c)
-            return change
-
-        def move(c: int, new: int | None) -> None:
-            old, h = place[c], predicted[c].hydrogens
-            if old is not None:
-                fill[old] -= h
-            if new is not None:
-                fill[new] += h
-            place[c] = new
-
-        for _ in range(4 * len(predicted) + 4):
-            best: tuple[float, int, int, int | None] = (-1e-9, -1, -1, None)  # (delta, class, other, target)
-            for c in range(len(predicted)):
-                for r in [*range(n_obs), None]:
-                    if r != place[c]:
-                        d = delta(c, r)
-                        if d < best[0]:
-                            best = (d, c, -1, r)
-                for c2 in range(c + 1, len(predicted)):
-                    r1, r2 = place[c], place[c2]
-                    if r1 == r2 or r1 is None or r2 is None:
-                        continue
-                    d = delta(c, r2)
-                    move(c, r2)
-                    d += delta(c2, r1)
-                    move(c, r1)
-                    if d < best[0]:
-                        best = (d, c, c2, r2)
-            if best[1] < 0:
-                break
-            _, c, c2, target = best
-            if c2 >= 0:
-                r1 = place[c]
-                move(c, target)
-                move(c2, r1)
-            else:
-                move(c, target)
+        _improve(
+            place,
+            fill,
+            dev_arr,
+            np.array([absent(c) for c in range(len(predicted))], dtype=float),
+            [p.hydrogens for p in predicted],
+            slots,
+            per_h,
+            rounds=4 * len(predicted) + 4,
+        )
         held: dict[int, dict[int, int]] = {}
         against = 0.0
         missing = 0
@@ -341,18 +413,72 @@ class Nmr:
     def assess(self, subject: Subject, case: Case) -> Assessment:
         return self.finish(subject, case, self.begin(subject, case))
 
-    def begin(self, subject: Subject, case: Case) -> Partial:
-        """The 13C part (prediction and assignment): the 1H part only adds to it."""
+    def begin(self, subject: Subject, case: Case, *, enough: float = math.inf) -> Partial:
+        """The 13C part (prediction and assignment): the 1H part only adds to it. With
+        ``enough``, the classes are predicted type by type while a lower bound of the 13C
+        ``against`` stays at or below it (:meth:`_carbon_bound`); once above, that bound is
+        the (incomplete) part."""
         assert case.nmr is not None
         prediction = NmrPrediction(subject.mol, self.tables, ranks=subject.symmetry_ranks)
         against = unexplained = 0.0
         rows: list = []
+        if case.nmr.c13 and enough < math.inf:
+            bound = self._carbon_bound(case.nmr.c13, prediction, enough)
+            if bound is not None:
+                return Partial(bound, 0.0, complete=False)
         if case.nmr.c13:
             against, unexplained, rows = self._carbon(case.nmr.c13, prediction.c13)
         return Partial(against, unexplained, (prediction, rows))
 
+    def _carbon_bound(self, observed: Sequence[C13Signal], prediction: NmrPrediction, enough: float) -> float | None:
+        """A lower bound above ``enough`` of the 13C ``against`` :meth:`_carbon` would give, or
+        None when the bound stays at or below it with every class predicted (the prediction is
+        then complete and kept).
+
+        The bound is the value of a feasible dual of the assignment: each predicted class j
+        takes v_j, its cheapest pair (a class left over overlaps exactly that signal), and each
+        observed signal r takes u_r, the least of its pairs' costs less v_j, of
+        ``extra_signal`` (it may be left over) and, for a class not yet predicted, of
+        ``type_mismatch`` when the class has another DEPT type (else 0). Every pairing then
+        costs at least Σu + Σv. The classes are predicted in DEPT-type blocks (C, CH, CH2, CH3):
+        Σv grows with each, and u_r can exceed 0 only once the block of its type is complete,
+        so the signals are added in at the end of each block."""
+        costs = self.tables.c13.costs
+        classes = prediction.c13_classes
+        left = Counter(kind for _, kind in classes)
+        order = sorted(range(len(classes)), key=lambda k: (_BLOCK_ORDER.get(classes[k][1], 4), k))
+        signals = [(o.ppm, o.type) for o in observed]
+        columns: list[tuple[list[float], float]] = []  # per predicted class: its pair costs and v_j
+        total_v = 0.0
+        for k in order:
+            shift = prediction.c13_class(k)
+            sigma = max(shift.uncertainty / 2, 1e-6)
+            column = [
+                min(0.5 * ((ppm - shift.ppm) / sigma) ** 2, costs.deviation_cap)
+                + (costs.type_mismatch if kind is not None and kind != shift.type else 0.0)
+                for ppm, kind in signals
+            ]
+            v = min(column)
+            columns.append((column, v))
+            total_v += v
+            left[shift.type] -= 1
+            bound = total_v
+            if left[shift.type] == 0:  # a block is complete: the signals' part
+                waiting = sum(left.values())
+                for r, (_, kind) in enumerate(signals):
+                    if waiting and (kind is None or left[kind]):
+                        continue  # a class still to come may pair with it at no cost
+                    u = min((column[r] - v for column, v in columns), default=costs.extra_signal)
+                    u = min(u, costs.extra_signal, costs.type_mismatch if waiting else math.inf)
+                    bound += max(u, 0.0)
+            # a margin for rounding (the assignment sums the same costs in another order)
+            if bound - 1e-9 > enough:
+                return bound - 1e-9
+        return None
+
     def finish(self, subject: Subject, case: Case, partial: Partial) -> Assessment:
         assert case.nmr is not None
+        assert partial.complete, "an incomplete part cannot be finished"
         nmr = case.nmr
         prediction, carbon_rows = partial.state
         against, unexplained = partial.against, partial.unexplained

@@ -473,11 +473,26 @@ class NmrPrediction:
     def __init__(self, mol: Mol, tables: NmrTables | None = None, *, ranks: Sequence[int] | None = None) -> None:
         self._ctx = _Context(mol, tables or default_nmr_tables())
         self._ranks = symmetry_ranks(mol) if ranks is None else ranks
+        self._c13: dict[int, CarbonShift] = {}
+
+    @cached_property
+    def c13_classes(self) -> list[tuple[tuple[int, ...], str]]:
+        """The carbon symmetry classes in order of first atom, each with its DEPT type (known
+        before any shift is predicted)."""
+        return _c13_classes(self._ctx, self._ranks)
+
+    def c13_class(self, k: int) -> CarbonShift:
+        """The predicted 13C signal of class ``k`` of :attr:`c13_classes` (computed once)."""
+        shift = self._c13.get(k)
+        if shift is None:
+            atoms, kind = self.c13_classes[k]
+            shift = self._c13[k] = _c13_shift(self._ctx, atoms, kind)
+        return shift
 
     @cached_property
     def c13(self) -> list[CarbonShift]:
         """One predicted 13C signal per carbon symmetry class, in order of first atom."""
-        return _predict_c13(self._ctx, self._ranks)
+        return [self.c13_class(k) for k in range(len(self.c13_classes))]
 
     @cached_property
     def h1(self) -> list[ProtonShift]:
@@ -505,18 +520,22 @@ def predict_c13(mol: Mol, tables: NmrTables | None = None) -> list[CarbonShift]:
 
 
 def _predict_c13(ctx: _Context, ranks: Sequence[int]) -> list[CarbonShift]:
-    mol = ctx.mol
+    return [_c13_shift(ctx, atoms, kind) for atoms, kind in _c13_classes(ctx, ranks)]
+
+
+def _c13_classes(ctx: _Context, ranks: Sequence[int]) -> list[tuple[tuple[int, ...], str]]:
+    """The carbon symmetry classes (atoms, DEPT type) in order of first atom."""
     members: dict[int, list[int]] = {}
-    for atom in mol.GetAtoms():
+    for atom in ctx.mol.GetAtoms():
         if atom.GetAtomicNum() == 6:
             members.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
-    out = []
-    for atoms in sorted(members.values()):
-        first = atoms[0]
-        ppm, unc, env = _carbon(ctx, first)
-        kind = _TYPES.get(ctx.hs[first], "CH3")
-        out.append(CarbonShift(tuple(atoms), round(ppm, 2), round(unc, 2), kind, env))
-    return out
+    return [(tuple(atoms), _TYPES.get(ctx.hs[atoms[0]], "CH3")) for atoms in sorted(members.values())]
+
+
+def _c13_shift(ctx: _Context, atoms: tuple[int, ...], kind: str) -> CarbonShift:
+    """The predicted signal of one class, from its first atom."""
+    ppm, unc, env = _carbon(ctx, atoms[0])
+    return CarbonShift(atoms, round(ppm, 2), round(unc, 2), kind, env)
 
 
 # ------------------------------------------------------------------ 1H

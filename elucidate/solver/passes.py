@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import heapq
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, cast
 
@@ -146,7 +146,14 @@ def evaluate_in_passes(
             if bounding and _implements(t, Staged):
                 # a two-part technique: stop after its first part when that already settles
                 staged = cast(Staged, t)
-                partial = staged.begin(subject, evaluator.case)
+                partial = staged.begin(subject, evaluator.case, enough=_enough(t, found, threshold, keys, evaluator))
+                if not partial.complete:
+                    # stopped early on a bound of its against: settles here, or the part is redone whole
+                    first = Assessment(t.name, partial.against, partial.unexplained)
+                    bound = combine([*found, first], keys, evaluator.scoring).log_likelihood
+                    if bound < threshold - EPSILON:
+                        return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
+                    partial = staged.begin(subject, evaluator.case)
                 first = Assessment(t.name, partial.against, partial.unexplained)
                 bound = combine([*found, first], keys, evaluator.scoring).log_likelihood
                 if bound >= threshold - EPSILON:  # the later floors (0 or more) only lower it
@@ -183,6 +190,19 @@ def _implements(technique: Technique, protocol: type) -> bool:
     if known is None:
         known = _KINDS[key] = isinstance(technique, protocol)
     return known
+
+
+def _enough(
+    technique: Technique, found: Sequence[Assessment], threshold: float, keys: Mapping[str, str], evaluator: Evaluator
+) -> float:
+    """The ``against`` of the technique above which the candidate falls below ``threshold`` on
+    what is ``found`` so far (its unexplained taken as 0, the later floors left out: both only
+    lower the score); inf when even its capped ``against`` could not."""
+    w = evaluator.scoring.techniques[technique.weight_key]
+    room = combine(found, keys, evaluator.scoring).log_likelihood - (threshold - EPSILON)
+    if w.weight <= 0 or room >= w.weight * w.against_cap:
+        return math.inf
+    return room / w.weight
 
 
 def _floor(technique: Technique, subject: Subject, evaluator: Evaluator) -> float:
