@@ -106,42 +106,53 @@ def _is_carbonyl(atom: Atom) -> bool:
     )
 
 
-def _split_alkene_ends(mol: Mol) -> Mol:
-    """Geminal identical groups on a C=C end whose other end is unsymmetric: one is labelled."""
+def _split_alkene_ends(mol: Mol) -> tuple[Mol, list[int] | None]:
+    """Geminal identical groups on a C=C end whose other end is unsymmetric: one is labelled,
+    one at a time, the ranks taken again after each. Returns the molecule (``mol`` itself when
+    nothing is split) and its ranks when they were computed (None when no C=C end has two
+    substituents)."""
     from .._rdkit import Chem
 
     if not mol.HasSubstructMatch(
         compiled_smarts("[CX3;H0](-[#6,#7,#8,#9,#15,#16,#17,#35,#53])(-[#6,#7,#8,#9,#15,#16,#17,#35,#53])=[C]")
     ):
-        return mol  # no C=C end with two substituents: nothing to split
-    work = Chem.RWMol(mol)
-    changed = True
+        return mol, None  # no C=C end with two substituents: nothing to split
+    work = mol  # copied at the first split
     done: set[int] = set()
-    while changed:
-        changed = False
+    while True:
         ranks = _ranks(work)
-        for bond in work.GetBonds():
-            if bond.GetBondType() != Chem.BondType.DOUBLE or bond.GetIsAromatic():
+        first = _alkene_end_to_split(work, ranks, done)
+        if first is None:
+            return work, ranks
+        done.add(first)
+        if work is mol:
+            work = Chem.RWMol(mol)
+        work.GetAtomWithIdx(first).SetIsotope(work.GetAtomWithIdx(first).GetIsotope() + 1000)
+
+
+def _alkene_end_to_split(mol: Mol, ranks: Sequence[int], done: set[int]) -> int | None:
+    """The first atom (in bond order) to label apart: the lower-numbered of two identical
+    groups on a C=C end whose other end carries two different ones (H counted), not already
+    labelled; None when there is none."""
+    from .._rdkit import Chem
+
+    for bond in mol.GetBonds():
+        if bond.GetBondType() != Chem.BondType.DOUBLE or bond.GetIsAromatic():
+            continue
+        a, b = bond.GetBeginAtom(), bond.GetEndAtom()
+        if a.GetAtomicNum() != 6 or b.GetAtomicNum() != 6:
+            continue
+        for x, y in ((a, b), (b, a)):
+            subs = [n for n in x.GetNeighbors() if n.GetIdx() != y.GetIdx()]
+            if len(subs) != 2 or x.GetTotalNumHs() or ranks[subs[0].GetIdx()] != ranks[subs[1].GetIdx()]:
                 continue
-            a, b = bond.GetBeginAtom(), bond.GetEndAtom()
-            if a.GetAtomicNum() != 6 or b.GetAtomicNum() != 6:
-                continue
-            for x, y in ((a, b), (b, a)):
-                subs = [n for n in x.GetNeighbors() if n.GetIdx() != y.GetIdx()]
-                if len(subs) != 2 or x.GetTotalNumHs() or ranks[subs[0].GetIdx()] != ranks[subs[1].GetIdx()]:
-                    continue
-                others = [ranks[n.GetIdx()] for n in y.GetNeighbors() if n.GetIdx() != x.GetIdx()]
-                others += [-1] * y.GetTotalNumHs()
-                if len(others) == 2 and others[0] != others[1]:
-                    first = min(subs[0].GetIdx(), subs[1].GetIdx())
-                    if first not in done:
-                        done.add(first)
-                        work.GetAtomWithIdx(first).SetIsotope(work.GetAtomWithIdx(first).GetIsotope() + 1000)
-                        changed = True
-                        break
-            if changed:
-                break
-    return work
+            others = [ranks[n.GetIdx()] for n in y.GetNeighbors() if n.GetIdx() != x.GetIdx()]
+            others += [-1] * y.GetTotalNumHs()
+            if len(others) == 2 and others[0] != others[1]:
+                first = min(subs[0].GetIdx(), subs[1].GetIdx())
+                if first not in done:
+                    return first
+    return None
 
 
 def _split_diastereotopic(mol: Mol, ranks: Sequence[int] | None = None) -> Mol:
@@ -185,8 +196,9 @@ def symmetry_ranks(mol: Mol) -> list[int]:
     amide N (:func:`_split_amide_nitrogen`) and diastereotopic groups
     (:func:`_split_diastereotopic`). The ranks are computed once when the last split changes
     nothing."""
-    step = _split_amide_nitrogen(_split_alkene_ends(mol))
-    ranks = _ranks(step)
+    split, known = _split_alkene_ends(mol)
+    step = _split_amide_nitrogen(split)
+    ranks = known if known is not None and step is split else _ranks(step)
     final = _split_diastereotopic(step, ranks)
     return ranks if final is step else _ranks(final)
 
