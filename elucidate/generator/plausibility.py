@@ -34,7 +34,10 @@ def bridgehead_double_bond(mol: Mol) -> bool:
     """Bredt's rule with Fawcett's S-number: a double or aromatic bond at a bridgehead of a
     bridged ring pair whose bridges hold fewer than seven atoms in all (S = atoms of the bicyclic
     system minus the two bridgeheads; S >= 7, as in bicyclo[3.3.1]non-1-ene, is isolable)."""
-    rings = [set(r) for r in mol.GetRingInfo().AtomRings()]
+    found = mol.GetRingInfo().AtomRings()
+    if len(found) < 2:
+        return False
+    rings = [set(r) for r in found]
     for i in range(len(rings)):
         for j in range(i + 1, len(rings)):
             r1, r2 = rings[i], rings[j]
@@ -44,18 +47,18 @@ def bridgehead_double_bond(mol: Mol) -> bool:
             system = r1 | r2
             if len(system) - 2 >= 7:
                 continue
-            ends = {
-                a
-                for a in shared
-                if any(n.GetIdx() in r1 - shared for n in mol.GetAtomWithIdx(a).GetNeighbors())
-                and any(n.GetIdx() in r2 - shared for n in mol.GetAtomWithIdx(a).GetNeighbors())
-            }
-            for bond in mol.GetBonds():
-                if bond.GetBondTypeAsDouble() != 2.0 and not bond.GetIsAromatic():
-                    continue  # aromatic bonds count too: a benzene ring cannot be a short bridge's end
-                a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
-                if {a, b} & ends and a in system and b in system:
-                    return True
+            only1, only2 = r1 - shared, r2 - shared
+            for a in shared:
+                atom = mol.GetAtomWithIdx(a)
+                around = [n.GetIdx() for n in atom.GetNeighbors()]
+                if not (any(n in only1 for n in around) and any(n in only2 for n in around)):
+                    continue  # not a bridgehead
+                for bond in atom.GetBonds():
+                    # aromatic bonds count too: a benzene ring cannot be a short bridge's end
+                    if (bond.GetBondTypeAsDouble() == 2.0 or bond.GetIsAromatic()) and bond.GetOtherAtomIdx(
+                        a
+                    ) in system:
+                        return True
     return False
 
 
