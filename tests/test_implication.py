@@ -16,9 +16,10 @@ from hypothesis import strategies as st
 from rdkit import Chem
 
 from elucidate import parse_formula
+from elucidate.evidence.fragments import default_fragments
 from elucidate.generator import structures
 from elucidate.generator.groups import default_groups
-from elucidate.generator.implication import Features, PatternNeeds, pattern_implies, pattern_needs
+from elucidate.generator.implication import Features, PatternNeeds, features_of, pattern_implies, pattern_needs
 from elucidate.generator.plausibility import default_profiles
 from elucidate.generator.selection import Selection
 from elucidate.generator.smiles import sanitized
@@ -149,6 +150,7 @@ _PATTERNS = sorted(
     set(_SMARTS)
     | {GROUPS[n].smarts for n in GROUPS.names}
     | {r.smarts for r in default_profiles()["stable"] if r.smarts is not None}
+    | {r.smarts for r in default_fragments().rules}
 )
 
 
@@ -160,11 +162,12 @@ def test_a_structure_that_matches_a_pattern_has_what_it_needs():
     needs = [(smarts, pattern, pattern_needs(pattern)) for smarts, pattern in needs]
     ruled_out = 0
     for s, mol in corpus:
-        features = _features(s, mol)
-        for smarts, pattern, need in needs:
-            allowed = features.allows(need)
-            ruled_out += not allowed
-            assert allowed or not mol.HasSubstructMatch(pattern), (smarts, Chem.MolToSmiles(mol))
+        # as generation reads a structure, and as fragment prediction reads a molecule
+        for features in (_features(s, mol), features_of(mol)):
+            for smarts, pattern, need in needs:
+                allowed = features.allows(need)
+                ruled_out += not allowed
+                assert allowed or not mol.HasSubstructMatch(pattern), (smarts, Chem.MolToSmiles(mol))
     assert ruled_out > len(corpus)  # the shortcut does rule out searches
 
 

@@ -21,7 +21,7 @@ explained — mild, because no rule table is complete. Every observed peak gets 
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import cache, lru_cache
 from pathlib import Path
@@ -31,6 +31,7 @@ from ..case import Case
 from ..elements import ElementTable, default_elements
 from ..errors import ElucidateError
 from ..formula import Formula
+from ..generator.implication import PatternNeeds, features_of, pattern_needs
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
 from ..yamlnodes import as_bool, as_choice, as_int, as_list, as_number, as_range, as_str, mapping, read_yaml_file
@@ -78,10 +79,20 @@ class FragmentRule:
         """Map number -> query atom index (cached: iterating RDKit atoms is slow)."""
         return _mapped(self.smarts)
 
+    @property
+    def needs(self) -> PatternNeeds:
+        """What any molecule the pattern matches has (cached)."""
+        return _needs(self.smarts)
+
 
 @cache
 def _mapped(smarts: str) -> dict[int, int]:
     return {a.GetAtomMapNum(): a.GetIdx() for a in compiled_smarts(smarts).GetAtoms() if a.GetAtomMapNum()}
+
+
+@cache
+def _needs(smarts: str) -> PatternNeeds:
+    return pattern_needs(compiled_smarts(smarts))
 
 
 @dataclass(frozen=True, eq=False)
@@ -181,20 +192,40 @@ def _atom_masses(mol: Mol, table: ElementTable) -> list[int]:
     return out
 
 
-def _piece(mol: Mol, start: int, cut: set[frozenset[int]]) -> set[int] | None:
-    """Atoms reachable from ``start`` without crossing the cut bonds; None if the cut does not
-    separate the molecule."""
-    seen = {start}
-    stack = [start]
-    while stack:
-        i = stack.pop()
-        for nb in mol.GetAtomWithIdx(i).GetNeighbors():
-            j = nb.GetIdx()
-            if j in seen or frozenset((i, j)) in cut:
-                continue
-            seen.add(j)
-            stack.append(j)
-    return None if len(seen) == mol.GetNumAtoms() else seen
+def _adjacency(mol: Mol) -> list[int]:
+    """Each atom's neighbours as a bit mask."""
+    adjacency = [0] * mol.GetNumAtoms()
+    for bond in mol.GetBonds():
+        a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+        adjacency[a] |= 1 << b
+        adjacency[b] |= 1 << a
+    return adjacency
+
+
+def _reach(start: int, adj: Sequence[int]) -> int:
+    """The atoms (bit mask) reachable from ``start`` over the adjacency masks ``adj``."""
+    seen = frontier = 1 << start
+    while frontier:
+        reach = 0
+        rest = frontier
+        while rest:
+            low = rest & -rest
+            reach |= adj[low.bit_length() - 1]
+            rest ^= low
+        frontier = reach & ~seen
+        seen |= frontier
+    return seen
+
+
+def _piece(adjacency: Sequence[int], start: int, cut: Sequence[tuple[int, int]]) -> int | None:
+    """Atoms (bit mask) reachable from ``start`` without crossing the cut bonds; None if the cut
+    does not separate the molecule."""
+    adj = list(adjacency)
+    for a, b in cut:
+        adj[a] &= ~(1 << b)
+        adj[b] &= ~(1 << a)
+    seen = _reach(start, adj)
+    return None if seen == (1 << len(adj)) - 1 else seen
 
 
 @dataclass(frozen=True)
@@ -214,6 +245,8 @@ def predict_ions(
     masses = _atom_masses(mol, e)
     total = sum(masses)
     heavy = mol.GetNumAtoms()
+    adjacency = _adjacency(mol)
+    features = features_of(mol)  # a rule whose pattern needs what the molecule lacks cannot match
     out: dict[int, PredictedIon] = {}
 
     def add(mz: int, weight: float, rule: FragmentRule, what: str) -> None:
@@ -224,6 +257,8 @@ def predict_ions(
             out[mz] = PredictedIon(mz, round(weight, 4), rule.name, what)
 
     for rule in t.rules:
+        if not features.allows(rule.needs):
+            continue
         if rule.kind == "loss":
             if mol.HasSubstructMatch(rule.pattern):
                 assert rule.neutral is not None
@@ -251,17 +286,18 @@ def predict_ions(
             if key in done:  # the same cleavage through another mapping of unmapped atoms
                 continue
             done.add(key)
+            cut: tuple[tuple[int, int], ...]
             if rule.kind == "retro_diels_alder":
-                cut = {frozenset((at[3], at[4])), frozenset((at[5], at[6]))}
+                cut = ((at[3], at[4]), (at[5], at[6]))
             else:
-                cut = {frozenset((at[1], at[2]))}
-            piece = _piece(mol, at[1], cut)
+                cut = ((at[1], at[2]),)
+            piece = _piece(adjacency, at[1], cut)
             if piece is None:
                 continue
-            mz = sum(masses[i] for i in piece)
+            mz = sum(masses[i] for i in range(heavy) if piece >> i & 1)
             if rule.kind == "rearrange":
                 mz += e["H"].nominal_mass
-            lost = heavy - len(piece)
+            lost = heavy - piece.bit_count()
             weight = rule.weight * (min(1.0, 0.6 + rule.lost_size * lost) if rule.kind == "cleave" else 1.0)
             add(mz, weight, rule, rule.what)
             if rule.then_loss:
@@ -341,45 +377,48 @@ def graph_pieces(mol: Mol, *, elements: ElementTable | None = None) -> dict[int,
     n = mol.GetNumAtoms()
     whole = (1 << n) - 1
     bonds = [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in mol.GetBonds()]
-    adjacency = [0] * n
-    for a, b in bonds:
-        adjacency[a] |= 1 << b
-        adjacency[b] |= 1 << a
-
-    def component(start: int, adj: list[int]) -> int:
-        seen = frontier = 1 << start
-        while frontier:
-            reach = 0
-            rest = frontier
-            while rest:
-                low = rest & -rest
-                reach |= adj[low.bit_length() - 1]
-                rest ^= low
-            frontier = reach & ~seen
-            seen |= frontier
-        return seen
+    adjacency = _adjacency(mol)
 
     masks: dict[int, int] = {}  # atom mask -> bonds broken (the fewest)
 
-    def cut(pairs: tuple[tuple[int, int], ...]) -> None:
+    def without(pairs: tuple[tuple[int, int], ...]) -> list[int]:
         adj = adjacency[:]
         for a, b in pairs:
             adj[a] &= ~(1 << b)
             adj[b] &= ~(1 << a)
-        covered = 0  # atoms of the components already found for this cut
-        for a, b in pairs:
-            for start in (a, b):
-                if covered >> start & 1:
-                    continue
-                mask = component(start, adj)
-                covered |= mask
-                if mask != whole and masks.get(mask, 3) > len(pairs):
-                    masks[mask] = len(pairs)
+        return adj
 
+    def keep(mask: int, broken: int) -> None:
+        if mask != whole and masks.get(mask, 3) > broken:
+            masks[mask] = broken
+
+    # one bond: a bridge splits the molecule into its two sides; a ring bond splits nothing
+    side: dict[int, int] = {}  # bridge (index) -> the side holding its first atom
+    for i, (a, b) in enumerate(bonds):
+        mask = _reach(a, without(((a, b),)))
+        if not mask >> b & 1:
+            side[i] = mask
+            keep(mask, 1)
+            keep(whole ^ mask, 1)
+    # two bonds: of two bridges, the piece holding an atom is where both its sides meet; a bridge
+    # and a ring bond give the bridge's sides again (a ring bond stays on its ring); two ring
+    # bonds are cut and searched
     for i, first in enumerate(bonds):
-        cut((first,))
-        for second in bonds[i + 1 :]:
-            cut((first, second))
+        for j in range(i + 1, len(bonds)):
+            second = bonds[j]
+            if i in side and j in side:
+                for atom in (*first, *second):
+                    one = side[i] if side[i] >> atom & 1 else whole ^ side[i]
+                    two = side[j] if side[j] >> atom & 1 else whole ^ side[j]
+                    keep(one & two, 2)
+            elif i not in side and j not in side:
+                adj = without((first, second))
+                covered = 0  # atoms of the pieces already found for this cut
+                for start in (*first, *second):
+                    if not covered >> start & 1:
+                        mask = _reach(start, adj)
+                        covered |= mask
+                        keep(mask, 2)
     out: dict[int, Piece] = {}
     for mask in sorted(masks):
         mass = sum(masses[i] for i in range(n) if mask >> i & 1)

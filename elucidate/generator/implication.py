@@ -22,7 +22,7 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Features", "PatternNeeds", "first_implied", "pattern_implies", "pattern_needs"]
+__all__ = ["Features", "PatternNeeds", "features_of", "first_implied", "pattern_implies", "pattern_needs"]
 
 _ALL_ORDERS = frozenset({"1", "2", "3", "ar"})
 _BOND_ORDERS = {
@@ -216,6 +216,23 @@ class Features:
             and (not needs.aromatic or self.aromatic)
             and all(self.elements.get(z, 0) >= k for z, k in needs.elements)
         )
+
+
+def features_of(mol: Mol) -> Features:
+    """What a molecule (aromaticity perceived) has, in the terms of :class:`PatternNeeds` (an
+    aromatic bond counts as a double bond: its Kekulé form has one)."""
+    from .._rdkit import Chem
+
+    elements: dict[int, int] = {}
+    aromatic = False
+    for atom in mol.GetAtoms():
+        z = atom.GetAtomicNum()
+        elements[z] = elements.get(z, 0) + 1
+        aromatic = aromatic or atom.GetIsAromatic()
+    kinds = {bond.GetBondType() for bond in mol.GetBonds()}
+    double = Chem.BondType.DOUBLE in kinds or Chem.BondType.AROMATIC in kinds
+    triple = Chem.BondType.TRIPLE in kinds
+    return Features(elements, double, triple, mol.GetRingInfo().NumRings(), aromatic)
 
 
 _RING_FACT = re.compile(r"^(?:([rR])(\d*)|x(\d+))$")
