@@ -21,6 +21,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
+from .._mol import atoms_of, bonds_of
 from ..case import Case
 from ..errors import ElucidateError
 from ..smarts import compiled_smarts
@@ -136,7 +137,7 @@ def _alkene_end_to_split(mol: Mol, ranks: Sequence[int], done: set[int]) -> int 
     labelled; None when there is none."""
     from .._rdkit import Chem
 
-    for bond in mol.GetBonds():
+    for bond in bonds_of(mol):
         if bond.GetBondType() != Chem.BondType.DOUBLE or bond.GetIsAromatic():
             continue
         a, b = bond.GetBeginAtom(), bond.GetEndAtom()
@@ -168,7 +169,7 @@ def _split_diastereotopic(mol: Mol, ranks: Sequence[int] | None = None) -> Mol:
     if len(set(ranks)) == len(ranks):
         return mol  # no two atoms alike: no pair of identical groups anywhere
     work = mol
-    for atom in mol.GetAtoms():
+    for atom in atoms_of(mol):
         if atom.GetAtomicNum() != 6 or atom.GetIsAromatic() or atom.GetDegree() + atom.GetTotalNumHs() != 4:
             continue
         groups: dict[int, list[int]] = {}

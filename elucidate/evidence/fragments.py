@@ -27,6 +27,7 @@ from functools import cache, lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
+from .._mol import bonds_of
 from ..case import Case
 from ..elements import ElementTable, default_elements
 from ..errors import ElucidateError
@@ -195,7 +196,7 @@ def _atom_masses(mol: Mol, table: ElementTable) -> list[int]:
 def _adjacency(mol: Mol) -> list[int]:
     """Each atom's neighbours as a bit mask."""
     adjacency = [0] * mol.GetNumAtoms()
-    for bond in mol.GetBonds():
+    for bond in bonds_of(mol):
         a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
         adjacency[a] |= 1 << b
         adjacency[b] |= 1 << a
@@ -376,7 +377,7 @@ def graph_pieces(mol: Mol, *, elements: ElementTable | None = None) -> dict[int,
     masses = _atom_masses(mol, elements or default_elements())
     n = mol.GetNumAtoms()
     whole = (1 << n) - 1
-    bonds = [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in mol.GetBonds()]
+    bonds = [(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in bonds_of(mol)]
     adjacency = _adjacency(mol)
 
     masks: dict[int, int] = {}  # atom mask -> bonds broken (the fewest)

@@ -35,6 +35,7 @@ from dataclasses import dataclass
 from functools import cache, cached_property, lru_cache
 from typing import TYPE_CHECKING
 
+from .._mol import atoms_of, bonds_of
 from ..smarts import compiled_smarts
 from .carbon13 import symmetry_ranks
 from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
@@ -95,25 +96,20 @@ class _Context:
             for second in self.atom_rings[x + 1 :]:
                 if len(first & second) >= 3:
                     self.bridged |= first | second
-        atoms = self.atoms = list(mol.GetAtoms())
+        atoms = self.atoms = atoms_of(mol)
         z = self.z = [a.GetAtomicNum() for a in atoms]
         hs = self.hs = [a.GetTotalNumHs() for a in atoms]
         self.arom = [a.GetIsAromatic() for a in atoms]
         self.element_count = Counter(z)
         # the substituent patterns that can match here (none needs more atoms of an element than
         # the molecule has), each with its first query atom and whether it is that atom alone
-        self._patterns = [
-            (name, pattern, first, single)
-            for name, smarts, pattern in _substituent_patterns(tables)
-            for first, single, needs in (_query_summary(smarts),)
-            if self._has(needs)
-        ]
+        self._patterns = _applicable_patterns(tables, tuple(sorted(self.element_count.items())))
         # neighbours in bond order (the order GetNeighbors gives), from one pass over the bonds
         adj: list[list[int]] = [[] for _ in atoms]
         self.adj = adj
         self.double: set[tuple[int, int]] = set()
         self.ring_bonds: set[tuple[int, int]] = set()
-        for b in mol.GetBonds():
+        for b in bonds_of(mol):
             i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
             if z[j] != 1:
                 adj[i].append(j)
@@ -225,6 +221,22 @@ def _substituent_patterns(tables: NmrTables) -> tuple[tuple[str, str, Mol], ...]
     """The substituent patterns in table order: name, SMARTS and the compiled pattern (the rest
     of what a test needs is :func:`_query_summary` of the SMARTS)."""
     return tuple((name, smarts, compiled_smarts(smarts)) for name, smarts in tables.c13.substituents)
+
+
+@lru_cache(maxsize=64)
+def _applicable_patterns(
+    tables: NmrTables, elements: tuple[tuple[int, int], ...]
+) -> list[tuple[str, Mol, Atom | None, bool]]:
+    """The substituent patterns (name, pattern, first query atom, whether it is that atom
+    alone) that a molecule with these (atomic number, atoms) counts can match: none needs more
+    atoms of an element than it has. The same for every candidate of one formula."""
+    have = dict(elements)
+    return [
+        (name, pattern, first, single)
+        for name, smarts, pattern in _substituent_patterns(tables)
+        for first, single, needs in (_query_summary(smarts),)
+        if all(have.get(z, 0) >= k for z, k in needs)
+    ]
 
 
 def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:
@@ -526,7 +538,7 @@ def _predict_c13(ctx: _Context, ranks: Sequence[int]) -> list[CarbonShift]:
 def _c13_classes(ctx: _Context, ranks: Sequence[int]) -> list[tuple[tuple[int, ...], str]]:
     """The carbon symmetry classes (atoms, DEPT type) in order of first atom."""
     members: dict[int, list[int]] = {}
-    for atom in ctx.mol.GetAtoms():
+    for atom in ctx.atoms:
         if atom.GetAtomicNum() == 6:
             members.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
     return [(tuple(atoms), _TYPES.get(ctx.hs[atoms[0]], "CH3")) for atoms in sorted(members.values())]

@@ -15,6 +15,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
+from .._mol import atoms_of, bonds_of
 from ..case import Case
 from ..errors import ElucidateError
 from ..tables import table_path, validated
@@ -105,7 +106,7 @@ def strain_energy(mol: Mol, table: StrainTable | None = None) -> tuple[float, tu
         for second in small[i + 1 :]:
             if len(first & second) >= 2:
                 terms.append(("fused small rings", t.fused_small_rings))
-    for bond in mol.GetBonds():
+    for bond in bonds_of(mol):
         order = bond.GetBondTypeAsDouble()
         if order not in (2.0, 3.0):
             continue
@@ -122,7 +123,7 @@ def strain_energy(mol: Mol, table: StrainTable | None = None) -> tuple[float, tu
                 size = info.MinAtomRingSize(end)
                 if order == 2.0 and size in t.exocyclic_double_bond:
                     terms.append((f"exocyclic double bond on a {size}-ring", t.exocyclic_double_bond[size]))
-    for atom in mol.GetAtoms():
+    for atom in atoms_of(mol):
         doubles = sum(1 for bond in atom.GetBonds() if bond.GetBondTypeAsDouble() == 2.0)
         if doubles >= 2 and atom.GetSymbol() == "C":
             terms.append(("cumulated double bonds", t.cumulated_double_bond))

@@ -22,6 +22,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal, TypeAlias
 
+from .._mol import bonds_of
 from ..case import Case
 from ..errors import ElucidateError
 from ..smarts import compiled_smarts
@@ -364,7 +365,7 @@ def _systems(mol: Mol) -> list[list[Bond]]:
             i = parent[i]
         return i
 
-    for bond in mol.GetBonds():
+    for bond in bonds_of(mol):
         if bond.GetBondType().name != "SINGLE":
             continue
         for i in atom_of.get(bond.GetBeginAtomIdx(), []):
@@ -700,7 +701,7 @@ def _may_absorb(mol: Mol) -> bool:
     """Whether the candidate has a π system that could absorb above 210 nm outside the rules: an
     aromatic ring, a multiple bond to a heteroatom (C=O n→π*, C=S, N=O, N=N) or two conjugated
     multiple bonds. An isolated C=C or C≡C (below 200 nm) and a saturated molecule cannot."""
-    multiple = [b for b in mol.GetBonds() if b.GetBondTypeAsDouble() != 1.0]
+    multiple = [b for b in bonds_of(mol) if b.GetBondTypeAsDouble() != 1.0]
     for bond in multiple:
         if bond.GetIsAromatic():
             return True
@@ -708,7 +709,7 @@ def _may_absorb(mol: Mol) -> bool:
         if ends != (6, 6):
             return True
     atoms = [a for b in multiple for a in (b.GetBeginAtomIdx(), b.GetEndAtomIdx())]
-    for bond in mol.GetBonds():  # a single bond between two multiply bonded atoms: conjugation
+    for bond in bonds_of(mol):  # a single bond between two multiply bonded atoms: conjugation
         single = bond.GetBondTypeAsDouble() == 1.0
         if single and bond.GetBeginAtomIdx() in atoms and bond.GetEndAtomIdx() in atoms:
             return True

@@ -19,6 +19,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
+from .._mol import atoms_of, bonds_of
+
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
@@ -225,11 +227,11 @@ def features_of(mol: Mol) -> Features:
 
     elements: dict[int, int] = {}
     aromatic = False
-    for atom in mol.GetAtoms():
+    for atom in atoms_of(mol):
         z = atom.GetAtomicNum()
         elements[z] = elements.get(z, 0) + 1
         aromatic = aromatic or atom.GetIsAromatic()
-    kinds = {bond.GetBondType() for bond in mol.GetBonds()}
+    kinds = {bond.GetBondType() for bond in bonds_of(mol)}
     double = Chem.BondType.DOUBLE in kinds or Chem.BondType.AROMATIC in kinds
     triple = Chem.BondType.TRIPLE in kinds
     return Features(elements, double, triple, mol.GetRingInfo().NumRings(), aromatic)
