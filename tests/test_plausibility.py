@@ -12,7 +12,7 @@ from rdkit import Chem
 
 from elucidate import ElucidateError, parse_formula
 from elucidate.generator import GeneratorOptions, isomer_smiles
-from elucidate.generator.plausibility import bridgehead_double_bond, default_profiles, load_profiles
+from elucidate.generator.plausibility import TEST_NEEDS, TESTS, bridgehead_double_bond, default_profiles, load_profiles
 from elucidate.generator.selection import Selection
 
 STABLE = {r.name: r for r in default_profiles()["stable"]}
@@ -63,6 +63,12 @@ PAIRS = [(r, s, True) for r, (pos, _) in CASES.items() for s in pos] + [
 def test_rules(rule, smiles, expected):
     mol = Chem.MolFromSmiles(smiles)
     assert STABLE[rule].matches(mol) is expected
+
+
+def test_every_named_test_says_what_a_structure_it_flags_has():
+    # the generator decides a rule without running it when a structure lacks these
+    # (tests/test_implication.py checks them on a corpus where every rule fires)
+    assert set(TEST_NEEDS) == set(TESTS)
 
 
 def test_bredt_keeps_fused_ring_double_bonds():

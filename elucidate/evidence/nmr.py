@@ -181,7 +181,7 @@ def _shift(place: list[int | None], fill: list[int], hydrogens: Sequence[int], c
 
 def carbon_costs(observed: Sequence[C13Signal], predicted: Sequence[CarbonShift], costs: AssignmentCosts) -> np.ndarray:
     """The 13C cost matrix (observed rows, predicted columns) at once: each pair's capped
-    deviation cost (:func:`_deviation`) plus ``type_mismatch`` where a DEPT type differs."""
+    deviation cost (:func:`_deviations`) plus ``type_mismatch`` where a DEPT type differs."""
     import numpy as np
 
     cost = _deviations(
@@ -315,7 +315,6 @@ class Nmr:
         self, observed: Sequence[H1Signal], predicted: Sequence[ProtonShift], dev: np.ndarray
     ) -> tuple[dict[int, dict[int, int]], float, float]:
         """Without integrals: signals to classes one to one, leftover classes overlapping."""
-
         costs = self.tables.h1.costs
         pairs = assign(dev, costs, optional=[p.exchangeable for p in predicted])
         held: dict[int, dict[int, int]] = {}

@@ -133,7 +133,7 @@ class Profiles:
             for r in rules:
                 if (r.smarts is None) == (r.test is None):
                     raise ElucidateError("give exactly one of smarts or test", key=f"profiles.{profile}.{r.name}")
-                if r.test is not None and (r.test not in TESTS or r.test not in TEST_NEEDS):
+                if r.test is not None and r.test not in TESTS:
                     raise ElucidateError(
                         f"unknown test {r.test!r}; tests: {', '.join(TESTS)}", key=f"profiles.{profile}.{r.name}"
                     )
