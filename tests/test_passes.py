@@ -209,8 +209,8 @@ def test_the_first_part_of_the_nmr_assessment_is_a_lower_bound(smiles: str) -> N
 
 def test_the_nmr_pass_stops_after_its_13c_part_with_the_shortlist_unchanged(monkeypatch) -> None:
     # menthone, 423 candidates: the first 256 are scored in full (they set the threshold); of
-    # the rest, those settled by their 13C part alone never run their 1H part; the shortlist is
-    # still that of full scoring
+    # the rest, those settled by their 13C part alone, or by any later pass, never run their 1H
+    # part; the shortlist is still that of full scoring
     case = parse_case((HERE / "menthone.yaml").read_text(encoding="utf-8"))
     full = solve(case, shortlist=0)
     calls = {"finish": 0, "early": 0}
@@ -233,6 +233,8 @@ def test_the_nmr_pass_stops_after_its_13c_part_with_the_shortlist_unchanged(monk
     assert [c.as_dict() for c in quick.candidates] == [c.as_dict() for c in full.candidates[: len(quick.candidates)]]
     assert len(begun) == quick.candidate_count == 423
     assert calls["finish"] <= len(begun) - 50, calls  # measured: 116 stopped after the 13C part
+    # the 1H part waits until after the last pass: only the candidates scored in full run it
+    assert calls["finish"] == sum(p.complete for p in quick.scoring_passes), calls
     # some stopped inside it, on the bound of the classes predicted so far
     assert calls["early"] > 0, calls
 

@@ -36,7 +36,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, cast
 
-from ..evidence import Assessment, Bounded, Staged, Subject, Technique, make_subject
+from ..evidence import Assessment, Bounded, Partial, Staged, Subject, Technique, make_subject
 from ..parallel import Runner
 from ..progress import Progress, silent
 from .records import FoundCandidate, PassCount
@@ -134,6 +134,8 @@ def evaluate_in_passes(
     bounding = -math.inf < threshold < math.inf
     # what each later pass's floors already cost, in log-likelihood (computed once, when needed)
     owed: list[float] | None = None
+    # two-part techniques whose second part waits: (position in found, technique, first part)
+    deferred: list[tuple[int, Staged, Partial]] = []
 
     def later(k: int) -> float:
         nonlocal owed
@@ -160,12 +162,21 @@ def evaluate_in_passes(
                     bound -= later(k)
                 if bound < threshold - EPSILON:
                     return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
-                assessment = staged.finish(subject, evaluator.case, partial)
-            else:
-                assessment = t.assess(subject, evaluator.case)
+                # the second part waits until after the last pass (a later pass may settle the
+                # candidate first); until then the first part stands in for the whole, a lower
+                # bound of its cost
+                deferred.append((len(found), staged, partial))
+                found.append(first)
+                continue
+            assessment = t.assess(subject, evaluator.case)
             if assessment is not None:
                 found.append(assessment)
         if k == last:
+            if deferred:
+                bound = combine(found, keys, evaluator.scoring).log_likelihood
+                if bound < threshold - EPSILON:
+                    return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
+                found = _finished(found, deferred, subject, evaluator)
             found.sort(key=lambda a: position[a.technique])  # report order, as full scoring gives
             break
         combined = combine(found, keys, evaluator.scoring)
@@ -176,6 +187,22 @@ def evaluate_in_passes(
             return Outcome(k, combined, tuple(found), False, bound)
     combined = combine(found, keys, evaluator.scoring)
     return Outcome(last, combined, tuple(found), True, combined.log_likelihood)
+
+
+def _finished(
+    found: list[Assessment], deferred: Sequence[tuple[int, Staged, Partial]], subject: Subject, evaluator: Evaluator
+) -> list[Assessment]:
+    """``found`` with each waiting first part replaced by its technique's whole assessment
+    (dropped when the technique gives none)."""
+    whole: dict[int, Assessment | None] = {
+        i: staged.finish(subject, evaluator.case, partial) for i, staged, partial in deferred
+    }
+    out = []
+    for i, assessment in enumerate(found):
+        final = whole[i] if i in whole else assessment
+        if final is not None:
+            out.append(final)
+    return out
 
 
 _KINDS: dict[tuple[type, type], bool] = {}
