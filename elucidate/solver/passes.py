@@ -199,7 +199,7 @@ def _finished(
     }
     out = []
     for i, assessment in enumerate(found):
-        final = whole[i] if i in whole else assessment
+        final = whole.get(i, assessment)
         if final is not None:
             out.append(final)
     return out
