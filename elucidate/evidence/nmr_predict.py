@@ -36,6 +36,7 @@ from functools import cache, cached_property, lru_cache
 from typing import TYPE_CHECKING
 
 from .._mol import atoms_of, bonds_of
+from ..generator.implication import pattern_needs
 from ..smarts import compiled_smarts
 from .carbon13 import symmetry_ranks
 from .nmr_tables import BaseValue, Increments, NmrTables, default_nmr_tables
@@ -210,10 +211,10 @@ def _first_atom_query(pattern: Mol) -> Atom | None:
 @cache
 def _query_summary(smarts: str) -> tuple[Atom | None, bool, tuple[tuple[int, int], ...]]:
     """A SMARTS's :func:`_first_atom_query`, whether the pattern is that one atom, and how many
-    atoms of each element a match needs at least (query atoms that stand for one element)."""
+    atoms of each element a match needs at least (:func:`~elucidate.generator.implication.pattern_needs`,
+    as the generator's finished-molecule tests read it)."""
     pattern = compiled_smarts(smarts)
-    needs = Counter(a.GetAtomicNum() for a in pattern.GetAtoms() if a.GetAtomicNum())
-    return _first_atom_query(pattern), pattern.GetNumAtoms() == 1, tuple(sorted(needs.items()))
+    return _first_atom_query(pattern), pattern.GetNumAtoms() == 1, pattern_needs(pattern).elements
 
 
 @lru_cache(maxsize=8)
