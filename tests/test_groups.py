@@ -294,6 +294,40 @@ def test_groups_ruled_out_by_a_formula_never_match_its_molecules(isomer_corpus):
     assert left_out > 0
 
 
+def test_present_equals_matching_every_group(isomer_corpus):
+    # GroupTable.present skips a group whose match needs more atoms of an element than the
+    # formula has, or whose pattern implies a group not found; it must name exactly the groups
+    # RDKit matches one by one (every reference molecule, near misses and the isomer corpus)
+    from rdkit.Chem import rdMolDescriptors
+
+    from elucidate import parse_formula
+    from elucidate.generator.groups import _search_plan
+
+    smiles = [s for pair in CASES.values() for side in pair for s in side] + list(isomer_corpus)
+    skipped_by_implication = 0
+    for text in smiles:
+        mol = Chem.MolFromSmiles(text)
+        formula = parse_formula(rdMolDescriptors.CalcMolFormula(mol))
+        expected = frozenset(name for name in GROUPS.names if mol.HasSubstructMatch(GROUPS[name].pattern))
+        found = GROUPS.present(mol, formula)
+        assert found == expected, text
+        skipped_by_implication += sum(1 for _, _, implied in _search_plan(GROUPS, formula) if not implied <= found)
+    assert skipped_by_implication > 1000  # the shortcut is taken, not only correct
+
+
+def test_present_searches_a_group_after_the_groups_it_implies():
+    # ketone and aldehyde imply carbonyl, alcohol and phenol imply hydroxyl, terminal alkyne
+    # implies alkyne (their SMARTS in constraints/groups.yaml); ester needs two O
+    from elucidate import parse_formula
+    from elucidate.generator.groups import _search_plan
+
+    plan = {name: implied for name, _, implied in _search_plan(GROUPS, parse_formula("C10H14O"))}
+    assert {"carbonyl"} <= plan["ketone"] and {"carbonyl"} <= plan["aldehyde"]
+    assert {"hydroxyl"} <= plan["alcohol"] and {"alkyne"} <= plan["terminal_alkyne"]
+    assert "ester" not in plan
+    assert "ester" in {name for name, _, _ in _search_plan(GROUPS, parse_formula("C4H8O2"))}
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("group", KEKULE)
 def test_kekule_condition_read_off_the_bond_orders_equals_rdkit(group, structure_corpus):

@@ -129,3 +129,34 @@ def test_scores_prefer_the_group_that_explains_the_band(smiles, better, worse):
 def test_reading_recognises_band_patterns(bands, group, present):
     indicated = {g for g, _ in read_bands(_case(bands).infrared.bands).indicated}
     assert (group in indicated) == present
+
+
+def test_one_technique_over_many_candidates_gives_each_its_own_assessment():
+    # the technique keeps an assessment per case and set of applicable bands; every candidate
+    # must get what a fresh technique gives it, and another case must not reuse the first's
+    from rdkit.Chem import rdMolDescriptors
+
+    from elucidate.generator import isomer_smiles
+
+    first = _case("    - {at: 1715, strength: strong}\n    - {at: 3350, strength: strong}\n")
+    second = _case("    - {at: 1650, strength: medium}\n    - {at: 2960, strength: strong}\n")
+    texts = list(isomer_smiles(parse_formula("C4H6O"))) + list(isomer_smiles(parse_formula("C3H6O2")))
+    subjects = []
+    for text in texts:
+        mol = Chem.MolFromSmiles(text)
+        subjects.append(make_subject(text, mol, parse_formula(rdMolDescriptors.CalcMolFormula(mol)), GROUPS, None))
+    shared = Infrared()
+    kinds = set()
+    for case in (first, second, first):
+        for subject in subjects:
+            got = shared.assess(subject, case)
+            fresh = Infrared().assess(subject, case)
+            assert (got.against, got.unexplained, got.reasons, got.detail) == (
+                fresh.against,
+                fresh.unexplained,
+                fresh.reasons,
+                fresh.detail,
+            ), subject.smiles
+            kinds.add((case is first, got.against, got.unexplained))
+        assert len(shared._known) < len(subjects)  # candidates shared assessments
+    assert len(kinds) > 4  # the candidates are told apart

@@ -45,9 +45,7 @@ class Subject:
         """The names from the group vocabulary that the structure has (matched on first use: a
         candidate the solver settles before any technique asks never pays for it; groups whose
         atoms need elements the formula lacks cannot match and are not tried)."""
-        table = self.group_table
-        mol = self.mol
-        return frozenset(name for name in table.names_for(self.formula) if mol.HasSubstructMatch(table[name].pattern))
+        return self.group_table.present(self.mol, self.formula)
 
     @cached_property
     def symmetry_ranks(self) -> list[int]:

@@ -278,6 +278,10 @@ class Infrared:
 
     def __init__(self, table: IRTable | None = None) -> None:
         self.table = table or default_infrared()
+        # the assessment depends only on the case and the bands that apply, which many
+        # candidates share: kept per case, by the bands (positions in the table)
+        self._case: Case | None = None
+        self._known: dict[tuple[tuple[str, int], ...], Assessment] = {}
 
     def applies(self, case: Case) -> bool:
         return case.infrared is not None and bool(case.infrared.bands)
@@ -290,15 +294,28 @@ class Infrared:
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.infrared is not None
         t = self.table
+        bands: list[tuple[str, Band]] = []
+        key: list[tuple[str, int]] = []
+        for name in sorted(subject.groups):
+            for k, band in enumerate(t.of(name)):
+                if band.applies(subject.mol):
+                    bands.append((name, band))
+                    key.append((name, k))
+        if case is not self._case:
+            self._case, self._known = case, {}
+        known = self._known.get(tuple(key))
+        if known is None:
+            known = self._known[tuple(key)] = self._assess_bands(bands, case)
+        return known
+
+    def _assess_bands(self, bands: Sequence[tuple[str, Band]], case: Case) -> Assessment:
+        """The assessment of a candidate whose groups give these ``bands``."""
+        assert case.infrared is not None
+        t = self.table
         observed = case.infrared.bands
         against = unexplained = 0.0  # costs before the table's scale
         matched: list[dict[str, object]] = []
         missing: list[str] = []
-        bands: list[tuple[str, Band]] = []
-        for name in sorted(subject.groups):
-            for band in t.of(name):
-                if band.applies(subject.mol):
-                    bands.append((name, band))
         fingerprint = any(b.at < t.fingerprint_below for b in observed)  # is that region reported at all?
         for name, band in bands:
             hit = _found(band, observed, t)

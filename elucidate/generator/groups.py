@@ -15,6 +15,7 @@ from ..errors import ElucidateError
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
 from ..yamlnodes import Located, as_choice, as_int, as_str, mapping, read_yaml_file
+from .implication import pattern_implies, pattern_needs
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
@@ -121,6 +122,22 @@ class GroupTable:
         :func:`could_hold` rules out by their atoms' elements (computed once per formula)."""
         return _names_for(self, formula)
 
+    def present(self, mol: Mol, formula: Formula) -> frozenset[str]:
+        """The groups ``mol`` (aromaticity perceived, of ``formula``) has: the same names as
+        matching every group of :meth:`names_for`, with fewer searches. A group is not searched
+        when every match needs more atoms of an element than the formula has
+        (:func:`~.implication.pattern_needs`: an ester needs two O), or when a group its pattern
+        provably implies (:func:`~.implication.pattern_implies`: a ketone is a carbonyl) was not
+        found. (Reading a molecule's bonds and rings in Python costs more than the searches it
+        would save.)"""
+        found: set[str] = set()
+        for name, pattern, implied in _search_plan(self, formula):
+            if not implied <= found:
+                continue
+            if mol.HasSubstructMatch(pattern):
+                found.add(name)
+        return frozenset(found)
+
     def validate(self) -> None:
         for name, group in self.groups.items():
             if not _NAME.match(name) or group.name != name:
@@ -211,6 +228,31 @@ def default_groups() -> GroupTable:
 @lru_cache(maxsize=256)
 def _names_for(table: GroupTable, formula: Formula) -> tuple[str, ...]:
     return tuple(name for name in table.names if could_hold(table[name].smarts, formula))
+
+
+@lru_cache(maxsize=256)
+def _search_plan(table: GroupTable, formula: Formula) -> tuple[tuple[str, Mol, frozenset[str]], ...]:
+    """The groups of :meth:`GroupTable.names_for` that the formula has the atoms for, in the order
+    :meth:`GroupTable.present` searches them, each with its pattern and the groups searched
+    before it that its pattern implies. A group comes after the groups it implies (table order otherwise;
+    groups that imply each other keep table order and leave each other out)."""
+    from .._rdkit import Chem
+
+    names = list(_names_for(table, formula))
+    implies = {a: {b for b in names if b != a and pattern_implies(table[a].pattern, table[b].pattern)} for a in names}
+    order: list[str] = []
+    while len(order) < len(names):
+        left = [n for n in names if n not in order]
+        ready = [n for n in left if implies[n] <= set(order)]
+        order.append(ready[0] if ready else left[0])
+    table_elements = {Chem.GetPeriodicTable().GetAtomicNumber(s): n for s, n in formula.counts if n}
+    plan = []
+    for position, name in enumerate(order):
+        needs = pattern_needs(table[name].pattern)
+        if any(table_elements.get(z, 0) < k for z, k in needs.elements):
+            continue  # more atoms of an element than the formula has: never found
+        plan.append((name, table[name].pattern, frozenset(implies[name] & set(order[:position]))))
+    return tuple(plan)
 
 
 _BRACKET = re.compile(r"\[([^\]]*)\]")
