@@ -7,7 +7,7 @@ import difflib
 import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cached_property, lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -131,12 +131,18 @@ class GroupTable:
         found. (Reading a molecule's bonds and rings in Python costs more than the searches it
         would save.)"""
         found: set[str] = set()
-        for name, pattern, implied in _search_plan(self, formula):
+        for name, pattern, implied in _search_plan(self._smarts_by_name, formula):
             if not implied <= found:
                 continue
             if mol.HasSubstructMatch(pattern):
                 found.add(name)
         return frozenset(found)
+
+    @cached_property
+    def _smarts_by_name(self) -> tuple[tuple[str, str], ...]:
+        """The table's content as :func:`_search_plan` keys it: a copy of the table (each worker
+        job unpickles its own) finds the plan its first copy made."""
+        return tuple((name, group.smarts) for name, group in self.groups.items())
 
     def validate(self) -> None:
         for name, group in self.groups.items():
@@ -231,27 +237,31 @@ def _names_for(table: GroupTable, formula: Formula) -> tuple[str, ...]:
 
 
 @lru_cache(maxsize=256)
-def _search_plan(table: GroupTable, formula: Formula) -> tuple[tuple[str, Mol, frozenset[str]], ...]:
-    """The groups of :meth:`GroupTable.names_for` that the formula has the atoms for, in the order
-    :meth:`GroupTable.present` searches them, each with its pattern and the groups searched
-    before it that its pattern implies. A group comes after the groups it implies (table order otherwise;
-    groups that imply each other keep table order and leave each other out)."""
+def _search_plan(
+    groups: tuple[tuple[str, str], ...], formula: Formula
+) -> tuple[tuple[str, Mol, frozenset[str]], ...]:
+    """The ``groups`` ((name, SMARTS) in table order) that a molecule of ``formula`` could have
+    (:func:`could_hold`) and has the atoms for, in the order :meth:`GroupTable.present` searches
+    them, each with its pattern and the groups searched before it that its pattern implies. A
+    group comes after the groups it implies (table order otherwise; groups that imply each other
+    keep table order and leave each other out)."""
     from .._rdkit import Chem
 
-    names = list(_names_for(table, formula))
-    implies = {a: {b for b in names if b != a and pattern_implies(table[a].pattern, table[b].pattern)} for a in names}
+    patterns = {name: compiled_smarts(smarts) for name, smarts in groups if could_hold(smarts, formula)}
+    names = list(patterns)
+    implies = {a: {b for b in names if b != a and pattern_implies(patterns[a], patterns[b])} for a in names}
     order: list[str] = []
     while len(order) < len(names):
         left = [n for n in names if n not in order]
         ready = [n for n in left if implies[n] <= set(order)]
         order.append(ready[0] if ready else left[0])
-    table_elements = {Chem.GetPeriodicTable().GetAtomicNumber(s): n for s, n in formula.counts if n}
+    present = {Chem.GetPeriodicTable().GetAtomicNumber(s): n for s, n in formula.counts if n}
     plan = []
     for position, name in enumerate(order):
-        needs = pattern_needs(table[name].pattern)
-        if any(table_elements.get(z, 0) < k for z, k in needs.elements):
+        needs = pattern_needs(patterns[name])
+        if any(present.get(z, 0) < k for z, k in needs.elements):
             continue  # more atoms of an element than the formula has: never found
-        plan.append((name, table[name].pattern, frozenset(implies[name] & set(order[:position]))))
+        plan.append((name, patterns[name], frozenset(implies[name] & set(order[:position]))))
     return tuple(plan)
 
 

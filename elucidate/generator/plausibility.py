@@ -37,10 +37,33 @@ def bridgehead_double_bond(mol: Mol) -> bool:
     found = mol.GetRingInfo().AtomRings()
     if len(found) < 2:
         return False
-    rings = [set(r) for r in found]
-    for i in range(len(rings)):
-        for j in range(i + 1, len(rings)):
-            r1, r2 = rings[i], rings[j]
+    for a, system in _short_bridgeheads(found):
+        atom = mol.GetAtomWithIdx(a)
+        for bond in atom.GetBonds():
+            # aromatic bonds count too: a benzene ring cannot be a short bridge's end
+            if (bond.GetBondTypeAsDouble() == 2.0 or bond.GetIsAromatic()) and bond.GetOtherAtomIdx(a) in system:
+                return True
+    return False
+
+
+@lru_cache(maxsize=4096)
+def _short_bridgeheads(rings: tuple[tuple[int, ...], ...]) -> tuple[tuple[int, frozenset[int]], ...]:
+    """The bridgeheads of bridged ring pairs with S < 7, each with its bicyclic system's atoms,
+    read off the smallest set of rings alone (many structures share one ring set). An atom of
+    both rings is a bridgehead when it has a neighbour in each ring's own part; two atoms of one
+    ring system are bonded only by a ring bond, and each ring bond joins two atoms adjacent in
+    some ring of the set (the set spans every cycle), so the neighbours come from the rings."""
+    bonded: dict[int, set[int]] = {}
+    for ring in rings:
+        for k, x in enumerate(ring):
+            y = ring[k - 1]
+            bonded.setdefault(x, set()).add(y)
+            bonded.setdefault(y, set()).add(x)
+    sets = [frozenset(r) for r in rings]
+    found: list[tuple[int, frozenset[int]]] = []
+    for i in range(len(sets)):
+        for j in range(i + 1, len(sets)):
+            r1, r2 = sets[i], sets[j]
             shared = r1 & r2
             if len(shared) < 3:
                 continue  # fused (one shared bond) or separate rings: Bredt does not apply
@@ -48,18 +71,11 @@ def bridgehead_double_bond(mol: Mol) -> bool:
             if len(system) - 2 >= 7:
                 continue
             only1, only2 = r1 - shared, r2 - shared
-            for a in shared:
-                atom = mol.GetAtomWithIdx(a)
-                around = [n.GetIdx() for n in atom.GetNeighbors()]
-                if not (any(n in only1 for n in around) and any(n in only2 for n in around)):
-                    continue  # not a bridgehead
-                for bond in atom.GetBonds():
-                    # aromatic bonds count too: a benzene ring cannot be a short bridge's end
-                    if (bond.GetBondTypeAsDouble() == 2.0 or bond.GetIsAromatic()) and bond.GetOtherAtomIdx(
-                        a
-                    ) in system:
-                        return True
-    return False
+            for a in sorted(shared):
+                around = bonded[a]
+                if around & only1 and around & only2:
+                    found.append((a, system))
+    return tuple(found)
 
 
 def aromatic_atom_only_in_small_rings(mol: Mol) -> bool:
