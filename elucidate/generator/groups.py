@@ -237,9 +237,7 @@ def _names_for(table: GroupTable, formula: Formula) -> tuple[str, ...]:
 
 
 @lru_cache(maxsize=256)
-def _search_plan(
-    groups: tuple[tuple[str, str], ...], formula: Formula
-) -> tuple[tuple[str, Mol, frozenset[str]], ...]:
+def _search_plan(groups: tuple[tuple[str, str], ...], formula: Formula) -> tuple[tuple[str, Mol, frozenset[str]], ...]:
     """The ``groups`` ((name, SMARTS) in table order) that a molecule of ``formula`` could have
     (:func:`could_hold`) and has the atoms for, in the order :meth:`GroupTable.present` searches
     them, each with its pattern and the groups searched before it that its pattern implies. A
