@@ -15,7 +15,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
-from .._mol import atoms_of, bonds_of
+from .._mol import bonds_of
 from ..case import Case
 from ..errors import ElucidateError
 from ..tables import table_path, validated
@@ -106,11 +106,15 @@ def strain_energy(mol: Mol, table: StrainTable | None = None) -> tuple[float, tu
         for second in small[i + 1 :]:
             if len(first & second) >= 2:
                 terms.append(("fused small rings", t.fused_small_rings))
+    doubles: dict[int, int] = {}  # atom index -> its double bonds
     for bond in bonds_of(mol):
         order = bond.GetBondTypeAsDouble()
         if order not in (2.0, 3.0):
             continue
         a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+        if order == 2.0:
+            doubles[a] = doubles.get(a, 0) + 1
+            doubles[b] = doubles.get(b, 0) + 1
         if bond.IsInRing():
             size = min(len(r) for r in info.BondRings() if bond.GetIdx() in r)
             if order == 3.0 and size <= 7:
@@ -123,9 +127,8 @@ def strain_energy(mol: Mol, table: StrainTable | None = None) -> tuple[float, tu
                 size = info.MinAtomRingSize(end)
                 if order == 2.0 and size in t.exocyclic_double_bond:
                     terms.append((f"exocyclic double bond on a {size}-ring", t.exocyclic_double_bond[size]))
-    for atom in atoms_of(mol):
-        doubles = sum(1 for bond in atom.GetBonds() if bond.GetBondTypeAsDouble() == 2.0)
-        if doubles >= 2 and atom.GetSymbol() == "C":
+    for i in sorted(doubles):
+        if doubles[i] >= 2 and mol.GetAtomWithIdx(i).GetAtomicNum() == 6:
             terms.append(("cumulated double bonds", t.cumulated_double_bond))
     total = sum(kcal for _, kcal in terms)
     return total, tuple(f"{name} {kcal:g}" for name, kcal in terms)

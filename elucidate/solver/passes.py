@@ -32,7 +32,8 @@ from __future__ import annotations
 
 import heapq
 import math
-from collections.abc import Mapping, Sequence
+from collections import deque
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, cast
 
@@ -298,21 +299,34 @@ def score_candidates(
     target = -math.inf  # the threshold the pass order was chosen for
     costs = [_cost(g) for g in passes]
     full: dict[int, Scored] = {}
-    position = 0
-    while position < len(order):
-        batch = order[position : position + BATCH]
-        position += len(batch)
-        limits = {i: -math.inf if i in watched else threshold for i in batch}
-        jobs = [
-            _Job(evaluator, tuple(found[i] for i in part), tuple(limits[i] for i in part), sequence)
-            for part in _split(batch, runner.workers)
-        ]
-        outcomes = [o for part in runner.map(_run_job, jobs) for o in part]
+    position = read = 0
+    steady = False  # T is known and the last batch read left it where it was
+    ahead = runner.workers > 1  # one worker gains nothing from a batch sent ahead
+    # batches sent and not yet read: (batch, its pass order, its results as they come)
+    pending: deque[tuple[list[int], tuple[int, ...], Iterator[list[Outcome]]]] = deque()
+    while position < len(order) or pending:
+        # with several workers, once T holds steady, the next batch is sent before this one is
+        # read, so that no worker waits for the slowest job of a batch and for the reading; it
+        # is judged against the T of the batches read before (a lower T only settles less,
+        # never wrongly; whether a batch goes ahead depends on the scores, not on timing)
+        while position < len(order) and (not pending or (ahead and steady and len(pending) < 2)):
+            batch = order[position : position + BATCH]
+            position += len(batch)
+            limits = {i: -math.inf if i in watched else threshold for i in batch}
+            jobs = [
+                _Job(evaluator, tuple(found[i] for i in part), tuple(limits[i] for i in part), sequence)
+                for part in _split(batch, runner.workers)
+            ]
+            pending.append((batch, sequence, runner.map(_run_job, jobs)))
+        batch, used, results = pending.popleft()
+        read += len(batch)
+        before = threshold
+        outcomes = [o for part in results for o in part]
         for i, outcome in zip(batch, outcomes, strict=True):
-            for k in sequence[: outcome.last_pass + 1]:
+            for k in used[: outcome.last_pass + 1]:
                 ran[k] += 1
             if not outcome.complete:
-                settled[sequence[outcome.last_pass]] += 1
+                settled[used[outcome.last_pass]] += 1
                 continue
             complete += 1
             level = round(outcome.combined.log_likelihood, 6)
@@ -327,7 +341,7 @@ def score_candidates(
                     heapq.heappush(best, level)
                 elif level > best[0]:
                     heapq.heapreplace(best, level)
-        progress("scoring", position, n)
+        progress("scoring", read, n)
         if shortlist and len(best) == shortlist and not unscored_watched:
             if threshold == -math.inf:
                 # chosen first from the candidates scored in full so far (all passes ran on
@@ -345,6 +359,7 @@ def score_candidates(
                 target = threshold
                 sequence = pass_order(seen, target, costs)
             full = {i: s for i, s in full.items() if round(s[0].log_likelihood, 6) >= threshold}
+        steady = -math.inf < threshold == before
     last = sequence[-1]  # candidates scored in full count as settled by the last pass
     counts = tuple(
         PassCount(
