@@ -16,6 +16,7 @@ from __future__ import annotations
 
 from collections import deque
 from collections.abc import Callable, Iterable, Iterator
+from itertools import islice
 from typing import TYPE_CHECKING, Any, TypeVar
 
 from .errors import ElucidateError
@@ -73,14 +74,19 @@ class DaskRunner:
         self.in_flight = in_flight or PER_THREAD * threads
 
     def map(self, fn: Callable[[J], R], jobs: Iterable[J]) -> Iterator[R]:
-        """``fn`` over ``jobs`` on the cluster, results in job order, at most ``in_flight`` out."""
-        pending: deque[Any] = deque()
-        for job in jobs:
-            pending.append(self.client.submit(fn, job, pure=False))
-            if len(pending) >= self.in_flight:
-                yield pending.popleft().result()
+        """``fn`` over ``jobs`` on the cluster, results in job order, at most ``in_flight`` out.
+        The first jobs are sent at once, before any result is read (the solver sends its next
+        scoring batch while it reads the last)."""
+        left = iter(jobs)
+        pending: deque[Any] = deque(self.client.submit(fn, job, pure=False) for job in islice(left, self.in_flight))
+        return self._results(fn, left, pending)
+
+    def _results(self, fn: Callable[[J], R], left: Iterator[J], pending: deque[Any]) -> Iterator[R]:
         while pending:
-            yield pending.popleft().result()
+            done = pending.popleft()
+            for job in islice(left, 1):
+                pending.append(self.client.submit(fn, job, pure=False))
+            yield done.result()
 
     def close(self) -> None:
         if self._own:
