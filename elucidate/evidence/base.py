@@ -44,7 +44,8 @@ class Subject:
     def groups(self) -> frozenset[str]:
         """The names from the group vocabulary that the structure has (matched on first use: a
         candidate the solver settles before any technique asks never pays for it; groups whose
-        atoms need elements the formula lacks cannot match and are not tried)."""
+        atoms need elements the formula lacks, or that imply a group the structure lacks, cannot
+        match and are not tried: :meth:`~elucidate.generator.groups.GroupTable.present`)."""
         return self.group_table.present(self.mol, self.formula)
 
     @cached_property

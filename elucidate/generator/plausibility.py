@@ -51,8 +51,8 @@ def _short_bridgeheads(rings: tuple[tuple[int, ...], ...]) -> tuple[tuple[int, f
     """The bridgeheads of bridged ring pairs with S < 7, each with its bicyclic system's atoms,
     read off the smallest set of rings alone (many structures share one ring set). An atom of
     both rings is a bridgehead when it has a neighbour in each ring's own part; two atoms of one
-    ring system are bonded only by a ring bond, and each ring bond joins two atoms adjacent in
-    some ring of the set (the set spans every cycle), so the neighbours come from the rings."""
+    ring are bonded only by a ring bond, and each ring bond joins two atoms adjacent in some ring
+    of the set (the set spans every cycle), so those neighbours can be read off the rings."""
     bonded: dict[int, set[int]] = {}
     for ring in rings:
         for k, x in enumerate(ring):
