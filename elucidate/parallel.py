@@ -25,7 +25,9 @@ class Runner(Protocol):
     workers: int
 
     def map(self, fn: Callable[[J], R], jobs: Iterable[J]) -> Iterator[R]:
-        """``fn`` over ``jobs``, results in job order; jobs are taken as workers free up."""
+        """``fn`` over ``jobs``, results in job order; jobs are taken as workers free up. A new
+        map may be started before an earlier one's results are all read (the solver sends a
+        scoring batch ahead): each returned iterator must still give its own results."""
         ...
 
     def close(self) -> None:

@@ -77,6 +77,16 @@ def test_a_worker_killed_mid_run_costs_a_rerun_not_the_answer(client) -> None:
     assert killed[0] not in client.run(os.getpid).values()
 
 
+def test_a_map_started_before_the_last_is_read_gives_each_its_own_results(client) -> None:
+    # the solver sends a scoring batch ahead: a second map while the first is unread; the first
+    # jobs of each are on the cluster at once, and each iterator gives its own results in order
+    with DaskRunner(client=client, in_flight=3) as runner:
+        first = runner.map(abs, range(0, -12, -1))
+        second = runner.map(abs, range(-100, -105, -1))
+        assert list(second) == [100, 101, 102, 103, 104]
+        assert list(first) == list(range(12))
+
+
 def test_an_unreachable_scheduler_is_a_clear_error() -> None:
     with pytest.raises(ElucidateError) as info:
         connect("tcp://127.0.0.1:1", timeout=1)
