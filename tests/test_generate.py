@@ -414,6 +414,49 @@ def test_leaf_shortcut_decides_as_the_general_deletion_test() -> None:
     assert decided > 0
 
 
+def test_cut_vertices_of_a_child_read_off_the_parent_match_the_definition() -> None:
+    # a cut vertex is one whose removal disconnects the graph (the definition, tested by a
+    # search of the graph without it); child_cut_vertices reads a child's off its parent's
+    # (cut_splits), for a new vertex joined to two or more parent vertices
+    import random
+    from itertools import combinations
+
+    from elucidate.generator.skeletons import adjacency_lists, child_cut_vertices, cut_splits
+
+    def by_definition(adj: list[list[int]]) -> set[int]:
+        out = set()
+        for c in range(len(adj)):
+            start = 0 if c else 1
+            reached, stack = {start}, [start]
+            while stack:
+                for w in adj[stack.pop()]:
+                    if w != c and w not in reached:
+                        reached.add(w)
+                        stack.append(w)
+            if len(reached) < len(adj) - 1:
+                out.add(c)
+        return out
+
+    rng = random.Random(5)
+    kept_some = 0
+    for _ in range(150):
+        n = rng.randint(2, 9)
+        edges = {tuple(sorted((v, rng.randrange(v)))) for v in range(1, n)}
+        edges |= {tuple(sorted(rng.sample(range(n), 2))) for _ in range(rng.randint(0, 3))}
+        adj = adjacency_lists(n, sorted(edges))
+        splits = cut_splits(adj)
+        assert set(splits) == by_definition(adj)
+        for size in (2, 3):
+            for subset in combinations(range(n), size):
+                child = [nb[:] for nb in adj] + [list(subset)]
+                for u in subset:
+                    child[u].append(n)
+                got = child_cut_vertices(splits, subset)
+                assert got == by_definition(child), (sorted(edges), subset)
+                kept_some += bool(got)
+    assert kept_some > 0
+
+
 def test_cycle_test_agrees_with_rdkit_ring_matching() -> None:
     # has_cycles (the pruning of required rings during growth) against RDKit substructure
     # matching of an n-membered ring query on the same graph (a general-purpose library)

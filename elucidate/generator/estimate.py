@@ -34,6 +34,12 @@ class SpaceEstimate:
         return self.structures > limit or self.nodes > NODES_PER_STRUCTURE * limit
 
 
+#: children already listed, per tree shape (a plan's atoms, degree bounds, ring bound and
+#: required cycles, which alone decide a node's children) and node: estimates of one formula under
+#: several selections share it (:func:`estimate_space`'s ``listed``)
+Listed = dict[tuple[int, tuple[int, ...], int, tuple[int, ...]], dict[PartialGraph, list[PartialGraph]]]
+
+
 def estimate_structures(
     formula: Formula,
     options: GeneratorOptions | None = None,
@@ -41,9 +47,10 @@ def estimate_structures(
     probes: int = 32,
     seed: int = 0,
     batches: int = MAX_BATCHES,
+    listed: Listed | None = None,
 ) -> float:
     """Estimated number of multigraph structures (:func:`estimate_space`'s structures)."""
-    return estimate_space(formula, options, probes=probes, seed=seed, batches=batches).structures
+    return estimate_space(formula, options, probes=probes, seed=seed, batches=batches, listed=listed).structures
 
 
 def estimate_space(
@@ -53,6 +60,7 @@ def estimate_space(
     probes: int = 32,
     seed: int = 0,
     batches: int = MAX_BATCHES,
+    listed: Listed | None = None,
 ) -> SpaceEstimate:
     """Estimated number of multigraph structures and of generation-tree nodes, by Knuth's
     tree-size estimator.
@@ -66,12 +74,21 @@ def estimate_space(
     ``options``, the space estimated is the one generation will walk (the ring bound and the
     skeleton and Kekulé conditions of its required groups), before the finished structures are
     tested.
+
+    ``listed``: the children already listed per tree shape, kept by the caller across estimates
+    of one formula under several selections (many share a shape: the same seed then walks the
+    same paths, and only the structures at the leaves differ). It saves work and never changes
+    an estimate.
     """
     plans, prefilter = selection_plans(formula, options or GeneratorOptions())
     rng = random.Random(seed)
     structures = nodes = 0.0
     for plan in plans:
-        s, n = _estimate(GenerationTask(plan, root_graph()), prefilter, probes=probes, rng=rng, batches=batches)
+        shape = (plan.n, tuple(sorted(plan.bounds, reverse=True)), plan.rings_max, tuple(plan.cycles))
+        below = listed.setdefault(shape, {}) if listed is not None else {}
+        s, n = _estimate(
+            GenerationTask(plan, root_graph()), prefilter, probes=probes, rng=rng, batches=batches, below=below
+        )
         structures += s
         nodes += n
     return SpaceEstimate(structures, nodes)
@@ -87,20 +104,26 @@ def estimate_task(
     where most walks dead-end (highly unsaturated formulas, pushed constraints): a fixed 32
     walks put C9H2N2O at about 4,500 structures where 256 put it near 2.7 million, and the size
     limit then let it through."""
-    return _estimate(task, prefilter, probes=probes, rng=rng, batches=batches)[0]
+    return _estimate(task, prefilter, probes=probes, rng=rng, batches=batches, below={})[0]
 
 
 def _estimate(
-    task: GenerationTask, prefilter: SkeletonPatterns, *, probes: int, rng: random.Random, batches: int
+    task: GenerationTask,
+    prefilter: SkeletonPatterns,
+    *,
+    probes: int,
+    rng: random.Random,
+    batches: int,
+    below: dict[PartialGraph, list[PartialGraph]],
 ) -> tuple[float, float]:
-    """(structures, nodes) below one task, as :func:`estimate_task` walks."""
+    """(structures, nodes) below one task, as :func:`estimate_task` walks. ``below``: the
+    children already listed, by node, of the task's tree shape (the walks share their first
+    steps: each node's children are listed once)."""
     plan = task.plan
     if plan.n == 1:
         return float(sum(1 for _ in task_structures(task, prefilter))), 1.0
     values: list[float] = []
     nodes: list[float] = []
-    # the walks share their first steps: each node's children are listed once
-    below: dict[PartialGraph, list[PartialGraph]] = {}
     for _ in range(batches):
         for _ in range(probes):
             value, count = _walk(task, prefilter, rng, below)

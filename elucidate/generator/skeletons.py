@@ -185,6 +185,7 @@ def children(
     # trivial group there are none, so certificates are needed only otherwise
     symmetric = k > 1 and pynauty.autgrp(nauty_graph(k, adj))[1] > 1
     seen: set[bytes] = set()
+    splits: dict[int, tuple[list[int], int]] | None = None  # the parent's cut vertices, found once
     for size in range(1, max_size + 1):
         for subset in combinations(open_vertices, size):
             if size > 1 and leaves and sum(1 for u in subset if degrees[u] == 1) < leaves:
@@ -211,7 +212,9 @@ def children(
             elif any(len(child[u]) <= size for u in range(k)):
                 # (otherwise every other vertex has a larger degree, and the new vertex is never
                 # a cut vertex, the parent being connected: it is the one deletion candidate)
-                cut = _cut_vertices(child)
+                if splits is None:
+                    splits = cut_splits(adj)
+                cut = child_cut_vertices(splits, subset)
                 if not _accept(child, k, cut):
                     continue
                 if not _canonical_deletion_ok(child, k, cut):
@@ -324,6 +327,43 @@ def _cut_vertices(adj: list[list[int]]) -> set[int]:
                 cut.add(parent)
     if root_children > 1:
         cut.add(0)
+    return cut
+
+
+def cut_splits(adj: list[list[int]]) -> dict[int, tuple[list[int], int]]:
+    """Each cut vertex of a connected graph with the component of every other vertex once it is
+    removed (the cut vertex itself -1), and how many components there are."""
+    n = len(adj)
+    splits: dict[int, tuple[list[int], int]] = {}
+    for c in sorted(_cut_vertices(adj)) if n > 2 else ():
+        comp = [-1] * n
+        count = 0
+        for start in range(n):
+            if start == c or comp[start] >= 0:
+                continue
+            comp[start] = count
+            stack = [start]
+            while stack:
+                u = stack.pop()
+                for w in adj[u]:
+                    if w != c and comp[w] < 0:
+                        comp[w] = count
+                        stack.append(w)
+            count += 1
+        splits[c] = (comp, count)
+    return splits
+
+
+def child_cut_vertices(splits: dict[int, tuple[list[int], int]], subset: Sequence[int]) -> set[int]:
+    """The cut vertices of the child that joins a new vertex to ``subset`` (two or more vertices)
+    of a connected parent whose cut vertices are ``splits`` (:func:`cut_splits`). Joined to two
+    vertices or more, the new vertex is no cut vertex and makes none (removing any one vertex
+    leaves it a neighbour to hold on to); a cut vertex of the parent stays one unless the new
+    vertex touches every component its removal leaves."""
+    cut = set()
+    for c, (comp, count) in splits.items():
+        if len({comp[u] for u in subset if u != c}) < count:
+            cut.add(c)
     return cut
 
 

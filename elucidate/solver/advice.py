@@ -34,16 +34,18 @@ def group_estimates(formula: Formula, options: GeneratorOptions, groups: GroupTa
     yet required or forbidden added to the required ones, smallest first (groups the formula
     cannot hold, estimated 0, are left out)."""
     from ..generator import estimate_structures
+    from ..generator.estimate import Listed
     from ..generator.selection import Selection
 
     sel = options.selection or Selection()
     taken = set(sel.require) | set(sel.forbid)
     out = []
+    listed: Listed = {}  # the groups' trees share shapes: each node's children listed once
     for name in groups.names:
         if name in taken or not could_hold(groups[name].smarts, formula):
             continue
         trial = replace(options, selection=replace(sel, require=(*sel.require, name)))
-        size = estimate_structures(formula, trial, probes=ADVICE_PROBES, batches=ADVICE_BATCHES)
+        size = estimate_structures(formula, trial, probes=ADVICE_PROBES, batches=ADVICE_BATCHES, listed=listed)
         if size > 0:
             out.append((name, size))
     out.sort(key=lambda item: (item[1], item[0]))
