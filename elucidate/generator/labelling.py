@@ -501,26 +501,52 @@ def _multiplicities(
     m = len(edges)
     if ways and not all(ways):
         return []  # a condition with no way at all: no multigraph of this labelling meets it
-    # the placements after which a condition is tested: those of edges some way reads
-    watched = [False] * (m + 1)
-    for condition in ways or ():
+    # each way dies at the placement that breaks it (an edge of a wrong order, or the last edge
+    # of an atom's edges with none multiple), and a dead way stays dead below: per edge, the
+    # tests of the ways its placement can break, and per condition its ways still alive
+    tests: list[list[tuple[int, int, int | tuple[int, ...]]]] = [[] for _ in range(m)]
+    alive: list[int] = []  # per condition
+    way_condition: list[int] = []
+    for c, condition in enumerate(ways or ()):
+        alive.append(0)
         for fixed, multiple in condition:
-            for e, _ in fixed:
-                watched[e + 1] = True
+            if any(not incident for incident in multiple):
+                continue  # an atom with no edge to carry its multiple bond: never holds
+            alive[c] += 1
+            w = len(way_condition)
+            way_condition.append(c)
+            for e, o in fixed:
+                tests[e].append((w, 0, o))
             for incident in multiple:
-                for e in incident:
-                    watched[e + 1] = True
+                tests[max(incident)].append((w, 1, tuple(incident)))
+    dead = [False] * len(way_condition)
+    broken = [alive.count(0)]  # conditions with no way alive
 
-    def possible(i: int) -> bool:
-        """Whether every condition keeps a way with edges 0..i-1 placed."""
-        for condition in ways or ():
-            if not any(
-                all(e >= i or orders[e] == o for e, o in fixed)
-                and all(any(e >= i or orders[e] > 1 for e in incident) for incident in multiple)
-                for fixed, multiple in condition
-            ):
-                return False
-        return True
+    def kill(i: int, killed: list[int]) -> None:
+        """Mark the ways the placement of edge ``i`` breaks (recorded in ``killed``)."""
+        for w, kind, need in tests[i]:
+            if dead[w]:
+                continue
+            if kind == 0:
+                holds = orders[i] == need
+            else:
+                assert isinstance(need, tuple)
+                holds = any(orders[e] > 1 for e in need)
+            if not holds:
+                dead[w] = True
+                killed.append(w)
+                c = way_condition[w]
+                alive[c] -= 1
+                if alive[c] == 0:
+                    broken[0] += 1
+
+    def revive(killed: list[int]) -> None:
+        for w in killed:
+            dead[w] = False
+            c = way_condition[w]
+            if alive[c] == 0:
+                broken[0] -= 1
+            alive[c] += 1
 
     free = capacity[:]
     orders = [1] * m
@@ -569,8 +595,8 @@ def _multiplicities(
             return
         if max_extra * (m - i) < left:
             return
-        if watched[i] and not possible(i):
-            return
+        if broken[0]:
+            return  # some condition has no way left after the last placement
         a, b = edges[i]
         top = min(max_extra, free[a], free[b], left)
         for x in range(top, -1, -1):
@@ -579,9 +605,13 @@ def _multiplicities(
                 free[b] -= x
                 orders[i] = 1 + x
             done: list[int] = []
+            killed: list[int] = []
+            if tests[i]:
+                kill(i, killed)
             if not track or claim(closing[i], done):
                 place(i + 1, left - x)
             release(done)
+            revive(killed)
             if x:
                 free[a] += x
                 free[b] += x
