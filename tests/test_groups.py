@@ -153,6 +153,9 @@ def structure_corpus():
         "C3H3ClO",
         "C2H3NO2",
         "C3H5NO2",
+        "CH3NO2",
+        "C2H5NO2",
+        "C3H7NO2",
         "C2H6O2S",
         "C3H6OS",
     ):
