@@ -386,22 +386,30 @@ def test_fast_nauty_graphs_give_what_pynauty_graphs_give() -> None:
         assert pynauty.autgrp(fast)[3] == pynauty.autgrp(plain)[3]
 
 
+def _random_connected(rng, n: int) -> tuple[list[tuple[int, int]], list[list[int]]]:
+    """A random connected graph on ``n`` vertices (a random tree plus a few extra edges): its
+    sorted edges and adjacency lists."""
+    from elucidate.generator.skeletons import adjacency_lists
+
+    edges = {tuple(sorted((v, rng.randrange(v)))) for v in range(1, n)}
+    edges |= {tuple(sorted(rng.sample(range(n), 2))) for _ in range(rng.randint(0, 3))}
+    ordered = sorted(edges)
+    return ordered, adjacency_lists(n, ordered)
+
+
 def test_leaf_shortcut_decides_as_the_general_deletion_test() -> None:
     # adding a leaf is decided on the parent without building the child (_leaf_ties); it must
     # accept exactly the children the general canonical-deletion test accepts (self-consistency;
     # the OEIS counts above check the method as a whole)
     import random
 
-    from elucidate.generator.skeletons import _canonical_deletion_ok, _first_in_orbit, _leaf_ties, adjacency_lists
+    from elucidate.generator.skeletons import _canonical_deletion_ok, _first_in_orbit, _leaf_ties
 
     rng = random.Random(11)
     decided = 0
     for _ in range(400):
         n = rng.randint(2, 11)
-        # a random connected graph: a random tree plus a few extra edges
-        edges = {tuple(sorted((v, rng.randrange(v)))) for v in range(1, n)}
-        edges |= {tuple(sorted(rng.sample(range(n), 2))) for _ in range(rng.randint(0, 3))}
-        adj = adjacency_lists(n, sorted(edges))
+        edges, adj = _random_connected(rng, n)
         degrees = [len(nb) for nb in adj]
         for u in range(n):
             child = [nb[:] for nb in adj]
@@ -409,7 +417,7 @@ def test_leaf_shortcut_decides_as_the_general_deletion_test() -> None:
             child.append([u])
             tied = _leaf_ties(adj, degrees, u)
             shortcut = tied is not None and (not tied or _first_in_orbit(child, n, tied))
-            assert shortcut == _canonical_deletion_ok(child, n, set()), (sorted(edges), u)
+            assert shortcut == _canonical_deletion_ok(child, n, set()), (edges, u)
             decided += shortcut
     assert decided > 0
 
@@ -421,7 +429,7 @@ def test_cut_vertices_of_a_child_read_off_the_parent_match_the_definition() -> N
     import random
     from itertools import combinations
 
-    from elucidate.generator.skeletons import adjacency_lists, child_cut_vertices, cut_splits
+    from elucidate.generator.skeletons import child_cut_vertices, cut_splits
 
     def by_definition(adj: list[list[int]]) -> set[int]:
         out = set()
@@ -441,9 +449,7 @@ def test_cut_vertices_of_a_child_read_off_the_parent_match_the_definition() -> N
     kept_some = 0
     for _ in range(150):
         n = rng.randint(2, 9)
-        edges = {tuple(sorted((v, rng.randrange(v)))) for v in range(1, n)}
-        edges |= {tuple(sorted(rng.sample(range(n), 2))) for _ in range(rng.randint(0, 3))}
-        adj = adjacency_lists(n, sorted(edges))
+        edges, adj = _random_connected(rng, n)
         splits = cut_splits(adj)
         assert set(splits) == by_definition(adj)
         for size in (2, 3):
@@ -452,7 +458,7 @@ def test_cut_vertices_of_a_child_read_off_the_parent_match_the_definition() -> N
                 for u in subset:
                     child[u].append(n)
                 got = child_cut_vertices(splits, subset)
-                assert got == by_definition(child), (sorted(edges), subset)
+                assert got == by_definition(child), (edges, subset)
                 kept_some += bool(got)
     assert kept_some > 0
 
