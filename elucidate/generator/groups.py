@@ -120,7 +120,7 @@ class GroupTable:
     def names_for(self, formula: Formula) -> tuple[str, ...]:
         """The groups a molecule of ``formula`` could have: every group but those
         :func:`could_hold` rules out by their atoms' elements (computed once per formula)."""
-        return _names_for(self, formula)
+        return _names_for(self._smarts_by_name, formula)
 
     def present(self, mol: Mol, formula: Formula) -> frozenset[str]:
         """The groups ``mol`` (aromaticity perceived, of ``formula``) has: the same names as
@@ -140,8 +140,8 @@ class GroupTable:
 
     @cached_property
     def _smarts_by_name(self) -> tuple[tuple[str, str], ...]:
-        """The table's content as :func:`_search_plan` keys it: a copy of the table (each worker
-        job unpickles its own) finds the plan its first copy made."""
+        """The table's content as the per-formula caches key it: a copy of the table (each worker
+        job unpickles its own) finds what its first copy computed."""
         return tuple((name, group.smarts) for name, group in self.groups.items())
 
     def validate(self) -> None:
@@ -232,8 +232,9 @@ def default_groups() -> GroupTable:
 
 
 @lru_cache(maxsize=256)
-def _names_for(table: GroupTable, formula: Formula) -> tuple[str, ...]:
-    return tuple(name for name in table.names if could_hold(table[name].smarts, formula))
+def _names_for(groups: tuple[tuple[str, str], ...], formula: Formula) -> tuple[str, ...]:
+    """The names of ``groups`` ((name, SMARTS) in table order) :func:`could_hold` leaves in."""
+    return tuple(name for name, smarts in groups if could_hold(smarts, formula))
 
 
 @lru_cache(maxsize=256)
@@ -245,7 +246,8 @@ def _search_plan(groups: tuple[tuple[str, str], ...], formula: Formula) -> tuple
     keep table order and leave each other out)."""
     from .._rdkit import Chem
 
-    patterns = {name: compiled_smarts(smarts) for name, smarts in groups if could_hold(smarts, formula)}
+    smarts_of = dict(groups)
+    patterns = {name: compiled_smarts(smarts_of[name]) for name in _names_for(groups, formula)}
     names = list(patterns)
     implies = {a: {b for b in names if b != a and pattern_implies(patterns[a], patterns[b])} for a in names}
     order: list[str] = []
