@@ -111,7 +111,14 @@ def isomer_smiles(
         left = StructureBudget(budget) if budget is not None else None
         for task in generation_tasks(plans):
             yield from task_smiles(
-                task, options.kekule, compiled, counts, prefilter, rdkit_smiles=options.rdkit_smiles, budget=left
+                task,
+                options.kekule,
+                compiled,
+                counts,
+                prefilter,
+                rdkit_smiles=options.rdkit_smiles,
+                budget=left,
+                engine=options.engine,
             )
         return
     for result in _job_results(run_job, plans, options, budget=budget, runner=runner):
@@ -134,7 +141,10 @@ def _job_results(
     the budget."""
     with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
         tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
-        jobs = (WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget) for task in tasks)
+        jobs = (
+            WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget, options.engine)
+            for task in tasks
+        )
         taken = 0
         for result in work.map(job, jobs):
             taken += result.taken

@@ -71,20 +71,7 @@ def structures_on_skeleton(
         degree[a] += 1
         degree[b] += 1
     group = automorphisms(n, edges)
-    edge_index = {e: i for i, e in enumerate(edges)}
-    perms: list[tuple[tuple[int, ...], tuple[int, ...]]] = []  # (vertex inverse, edge inverse)
-    if group is not None:
-        for p in group:
-            if p == tuple(range(n)):
-                continue
-            inv = [0] * n
-            for i, j in enumerate(p):
-                inv[j] = i
-            einv = [0] * m
-            for i, (a, b) in enumerate(edges):
-                j = edge_index[(min(p[a], p[b]), max(p[a], p[b]))]
-                einv[j] = i
-            perms.append((tuple(inv), tuple(einv)))
+    perms = inverse_permutations(n, edges, group) if group is not None else []
     seen: set[tuple[tuple[int, ...], tuple[int, ...]]] | None = set() if group is None else None
     is_carbon = [sym == "C" for sym, _ in labels]
     kekule_ok = test.kekule_ok if test is not None and test.kekule else None
@@ -148,6 +135,27 @@ def structures_on_skeleton(
                     continue
                 seen.add(key)
             yield built
+
+
+def inverse_permutations(
+    n: int, edges: Sequence[tuple[int, int]], group: Sequence[tuple[int, ...]]
+) -> list[tuple[tuple[int, ...], tuple[int, ...]]]:
+    """Each automorphism but the identity as (vertex inverse, edge inverse): the image of a
+    labelling ``x`` is ``x[inverse[i]]`` at position ``i``."""
+    edge_index = {e: i for i, e in enumerate(edges)}
+    perms: list[tuple[tuple[int, ...], tuple[int, ...]]] = []
+    identity = tuple(range(n))
+    for p in group:
+        if p == identity:
+            continue
+        inv = [0] * n
+        for i, j in enumerate(p):
+            inv[j] = i
+        einv = [0] * len(edges)
+        for i, (a, b) in enumerate(edges):
+            einv[edge_index[(min(p[a], p[b]), max(p[a], p[b]))]] = i
+        perms.append((tuple(inv), tuple(einv)))
+    return perms
 
 
 def _oxo_ok(

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 from ..defaults import WORKERS
 from ..elements import ElementTable
 from ..errors import ElucidateError
+from .kernel import Engine, check_engine
 from .selection import Selection
 
 __all__ = ["GeneratorOptions"]
@@ -25,7 +26,10 @@ class GeneratorOptions:
     ``rdkit_smiles``: every isomer written as RDKit's canonical SMILES (a structure that cannot
     be aromatic reaches RDKit as the string written from its skeleton); by default the string
     written from the skeleton (:mod:`.writer`, canonical within elucidate) is used for every
-    structure that cannot be aromatic, and RDKit's for the rest.
+    structure that cannot be aromatic, and RDKit's for the rest. ``engine``: who labels the
+    skeletons and writes their SMILES where it can (:data:`.kernel.ENGINES`: the compiled core
+    once a process has done enough work for its start-up to pay, always, or never); the output
+    is the same.
     """
 
     kekule: bool = False
@@ -36,6 +40,7 @@ class GeneratorOptions:
     workers: int = WORKERS
     table: ElementTable | None = None
     rdkit_smiles: bool = False
+    engine: Engine = "auto"
 
     def __post_init__(self) -> None:
         if self.max_bond_order not in (1, 2, 3):
@@ -44,3 +49,4 @@ class GeneratorOptions:
             raise ElucidateError(f"workers must be 1 or more, got {self.workers}")
         if self.max_rings is not None and self.max_rings < 0:
             raise ElucidateError(f"max_rings must be 0 or more, got {self.max_rings}")
+        check_engine(self.engine)

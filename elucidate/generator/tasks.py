@@ -15,12 +15,20 @@ from typing import TYPE_CHECKING
 from ..elements import default_elements
 from ..errors import ElucidateError
 from ..formula import Formula
+from . import kernel
 from .implication import Features
-from .labelling import SkeletonPatterns, SkeletonTest, Structure, allowed_alone, structures_on_skeleton
+from .kernel import Engine
+from .labelling import (
+    SkeletonPatterns,
+    SkeletonTest,
+    Structure,
+    allowed_alone,
+    structures_on_skeleton,
+)
 from .options import GeneratorOptions
 from .plans import Plan, default_valence_states, valence_plans
 from .selection import CompiledSelection, Selection
-from .skeletons import PartialGraph, children, frontier, grow
+from .skeletons import PartialGraph, automorphisms, children, frontier, grow
 from .smiles import sanitized
 from .writer import Template
 
@@ -117,6 +125,7 @@ class WorkerJob:
     selection: Selection | None
     rdkit_smiles: bool = False
     budget: int | None = None
+    engine: Engine = "auto"
 
 
 @dataclass(frozen=True)
@@ -193,11 +202,30 @@ def task_structures(
                 yield alone
         return
     test = SkeletonTest(prefilter, plan.labels) if prefilter else None  # once per task, reused per skeleton
-    visit = budget.grow if budget is not None else None
-    for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max, cycles=plan.cycles, visit=visit):
+    for size, edges in _skeletons(task, budget):
         yield from structures_on_skeleton(
             size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test, counts=plan.count_test
         )
+
+
+def _skeletons(
+    task: GenerationTask, budget: StructureBudget | None
+) -> Iterator[tuple[int, tuple[tuple[int, int], ...]]]:
+    """The skeletons below one task of more than one atom; ``budget`` counts the partial
+    skeletons grown."""
+    plan = task.plan
+    visit = budget.grow if budget is not None else None
+    return grow(task.part, plan.n, plan.bounds, plan.rings_max, cycles=plan.cycles, visit=visit)
+
+
+def _kernel_fits(task: GenerationTask, prefilter: SkeletonPatterns) -> bool:
+    """Whether the compiled core (:mod:`.kernel`) can label this task's skeletons: more than
+    one atom, no required-group condition, no declared count and no higher valence state."""
+    plan = task.plan
+    states = default_valence_states()
+    return (
+        plan.n > 1 and not prefilter and plan.count_test is None and not any(label in states for label in plan.labels)
+    )
 
 
 def task_smiles(
@@ -209,6 +237,7 @@ def task_smiles(
     *,
     rdkit_smiles: bool = False,
     budget: StructureBudget | None = None,
+    engine: Engine = "auto",
 ) -> Iterator[str]:
     """SMILES of one task, Kekulé forms merged (unless ``kekule``) and filtered by ``compiled``;
     ``removed`` counts what each constraint removed. A structure with no charge-separated atom
@@ -217,69 +246,154 @@ def task_smiles(
     molecule the finished-molecule tests run on) and writes its canonical SMILES. Every other
     structure is built atom by atom as an RDKit molecule (in Kekulé form, when ``kekule`` and
     nothing asks for RDKit, it too is written from its skeleton). ``budget`` counts every
-    structure taken and stops the work past its limit."""
+    structure taken and stops the work past its limit. ``engine``: whether the compiled core
+    labels and writes what it can (:func:`.kernel.wanted`); the output is the same."""
     from .._rdkit import Chem, quiet_rdkit
 
-    current: tuple[tuple[int, int], ...] | None = None
-    seen: set[str] = set()
-    own = not rdkit_smiles and compiled is None
-    states = default_valence_states()
-    charged = {label for label in task.plan.labels if (st := states.get(label)) is not None and st.charge_separated}
-    template: Template | None = None
-    table = Chem.GetPeriodicTable()
-    elements: dict[int, int] = {}
-    for (symbol, _), k in zip(task.plan.labels, task.plan.counts, strict=True):
-        z = table.GetAtomicNumber(symbol)
-        elements[z] = elements.get(z, 0) + k
+    out = _TaskWriter(task, kekule, compiled, removed, rdkit_smiles=rdkit_smiles)
+    plan = task.plan
     with quiet_rdkit():
-        for s in task_structures(task, prefilter, budget=budget):
-            if budget is not None:
-                budget.take()
-            if not (charged and any(label in charged for label in zip(s.elements, s.valences, strict=True))):
-                edges = tuple((a, b) for a, b, _ in s.bonds)
-                if template is None or template.edges != edges:
-                    template = Template(len(s.elements), edges)
-                if own and kekule:
-                    yield template.write(s.elements, s.bonds, s.hydrogens)
-                    continue
-                if not template.may_be_aromatic(s.elements, s.hydrogens, s.valences):
-                    written = template.write(s.elements, s.bonds, s.hydrogens)
-                    if own:
+        if not (out.own and _kernel_fits(task, prefilter) and kernel.wanted(engine)):
+            for s in task_structures(task, prefilter, budget=budget):
+                if budget is not None:
+                    budget.take()
+                kernel.labelled_in_python(1)
+                written = out.write(s)
+                if written is not None:
+                    yield written
+            return
+        labels = kernel.kernel_labels(plan.labels)
+        for size, edges in _skeletons(task, budget):
+            group = automorphisms(size, edges)
+            if group is None:  # too many automorphisms to list: the Python path's certificates
+                for s in structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra):
+                    if budget is not None:
+                        budget.take()
+                    written = out.write(s)
+                    if written is not None:
                         yield written
-                        continue
-                    # no aromatic atom, so no other Kekulé form: RDKit reads the written string
-                    # (cheaper than building the molecule atom by atom), the finished-molecule
-                    # tests run on it, and RDKit writes its canonical SMILES
-                    parsed = Chem.MolFromSmiles(written)
-                    if compiled is not None and _rejected(
-                        compiled, parsed, removed, _features(s, elements, aromatic=False)
-                    ):
-                        continue
-                    yield Chem.MolToSmiles(parsed)
-                    continue
-            mol = sanitized(s, kekule=kekule)
-            # a molecule with no aromatic atom has no other Kekulé form: its constraints are
-            # tested before its SMILES is written, and it needs no merging
-            early = compiled is not None and not kekule and not _aromatic(mol)
-            if early and _rejected(compiled, mol, removed, _features(s, elements, aromatic=False)):
                 continue
-            smiles: str = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
-            if not kekule and not early:
-                # Kekulé forms of one compound share the skeleton: merge them within it
-                skeleton = tuple((a, b) for a, b, _ in s.bonds)
-                if skeleton != current:
-                    current, seen = skeleton, set()
-                if smiles in seen:
+            found = kernel.label_and_write(
+                size,
+                edges,
+                group,
+                labels,
+                plan.counts,
+                plan.bond_sum - len(edges),
+                plan.max_extra,
+                check_aromatic=not kekule,
+            )
+            for written, aromatic in zip(found.all_smiles(), found.aromatic.tolist(), strict=True):
+                if budget is not None:
+                    budget.take()
+                if not aromatic:
+                    yield written
                     continue
-                seen.add(smiles)
-            if compiled is not None and not early:
-                probe = mol
-                if kekule:
-                    probe = Chem.Mol(mol)
-                    Chem.SetAromaticity(probe)
-                if _rejected(compiled, probe, removed, _features(s, elements, aromatic=True)):
-                    continue
-            yield smiles
+                # may be aromatic: RDKit reads the Kekulé form written from the skeleton (in C++,
+                # cheaper than building the molecule atom by atom) and writes its canonical SMILES
+                merged = out.merged(Chem.MolFromSmiles(written), edges)
+                if merged is not None:
+                    yield merged
+
+
+class _TaskWriter:
+    """The SMILES of a task's structures, one at a time, in the order they come (Kekulé forms
+    of one compound merged within their skeleton, unless ``kekule``); see :func:`task_smiles`."""
+
+    def __init__(
+        self,
+        task: GenerationTask,
+        kekule: bool,
+        compiled: CompiledSelection | None,
+        removed: dict[str, int],
+        *,
+        rdkit_smiles: bool,
+    ) -> None:
+        from .._rdkit import Chem
+
+        self.kekule = kekule
+        self.compiled = compiled
+        self.removed = removed
+        #: whether the string written from the skeleton is the output where it can be
+        self.own = not rdkit_smiles and compiled is None
+        states = default_valence_states()
+        self.charged = {
+            label for label in task.plan.labels if (st := states.get(label)) is not None and st.charge_separated
+        }
+        self.template: Template | None = None
+        self.current: tuple[tuple[int, int], ...] | None = None
+        self.seen: set[str] = set()
+        table = Chem.GetPeriodicTable()
+        self.elements: dict[int, int] = {}
+        for (symbol, _), k in zip(task.plan.labels, task.plan.counts, strict=True):
+            z = table.GetAtomicNumber(symbol)
+            self.elements[z] = self.elements.get(z, 0) + k
+
+    def _first(self, smiles: str, skeleton: tuple[tuple[int, int], ...]) -> bool:
+        """Whether ``smiles`` is new among this skeleton's: Kekulé forms of one compound share
+        the skeleton, so they are merged within it."""
+        if skeleton != self.current:
+            self.current, self.seen = skeleton, set()
+        if smiles in self.seen:
+            return False
+        self.seen.add(smiles)
+        return True
+
+    def merged(self, mol: Mol, skeleton: tuple[tuple[int, int], ...]) -> str | None:
+        """RDKit's canonical SMILES of a sanitized molecule of the own writer's plain case (no
+        selection, Kekulé forms merged) on ``skeleton``, or None for a Kekulé form already
+        written."""
+        from .._rdkit import Chem
+
+        smiles: str = Chem.MolToSmiles(mol)
+        return smiles if self._first(smiles, skeleton) else None
+
+    def template_for(self, n: int, edges: tuple[tuple[int, int], ...]) -> Template:
+        """The template of this skeleton (kept while its structures come)."""
+        if self.template is None or self.template.edges != edges:
+            self.template = Template(n, edges)
+        return self.template
+
+    def write(self, s: Structure) -> str | None:
+        """The SMILES of one structure, or None when it is dropped (a Kekulé form already
+        written, or a constraint it breaks, counted in ``removed``)."""
+        from .._rdkit import Chem
+
+        compiled, removed, kekule, own = self.compiled, self.removed, self.kekule, self.own
+        if not (self.charged and any(label in self.charged for label in zip(s.elements, s.valences, strict=True))):
+            template = self.template_for(len(s.elements), tuple((a, b) for a, b, _ in s.bonds))
+            if own and kekule:
+                return template.write(s.elements, s.bonds, s.hydrogens)
+            if not template.may_be_aromatic(s.elements, s.hydrogens, s.valences):
+                written = template.write(s.elements, s.bonds, s.hydrogens)
+                if own:
+                    return written
+                # no aromatic atom, so no other Kekulé form: RDKit reads the written string
+                # (cheaper than building the molecule atom by atom), the finished-molecule
+                # tests run on it, and RDKit writes its canonical SMILES
+                parsed = Chem.MolFromSmiles(written)
+                if compiled is not None and _rejected(
+                    compiled, parsed, removed, _features(s, self.elements, aromatic=False)
+                ):
+                    return None
+                return str(Chem.MolToSmiles(parsed))
+        mol = sanitized(s, kekule=kekule)
+        # a molecule with no aromatic atom has no other Kekulé form: its constraints are
+        # tested before its SMILES is written, and it needs no merging
+        early = compiled is not None and not kekule and not _aromatic(mol)
+        if early and _rejected(compiled, mol, removed, _features(s, self.elements, aromatic=False)):
+            return None
+        smiles: str = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
+        if not kekule and not early and not self._first(smiles, tuple((a, b) for a, b, _ in s.bonds)):
+            return None
+        if compiled is not None and not early:
+            probe = mol
+            if kekule:
+                probe = Chem.Mol(mol)
+                Chem.SetAromaticity(probe)
+            if _rejected(compiled, probe, removed, _features(s, self.elements, aromatic=True)):
+                return None
+        return smiles
 
 
 def _features(s: Structure, elements: dict[int, int], *, aromatic: bool) -> Features:
@@ -340,7 +454,14 @@ def run_job(job: WorkerJob) -> JobResult:
     try:
         smiles = list(
             task_smiles(
-                job.task, job.kekule, compiled, removed, prefilter, rdkit_smiles=job.rdkit_smiles, budget=budget
+                job.task,
+                job.kekule,
+                compiled,
+                removed,
+                prefilter,
+                rdkit_smiles=job.rdkit_smiles,
+                budget=budget,
+                engine=job.engine,
             )
         )
     except TooManyStructures:

@@ -24,8 +24,10 @@ saturated carbon breaks every ring through it); :meth:`Template.may_be_aromatic`
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from functools import cache
+from collections.abc import Callable, Sequence
+from functools import cache, cached_property
+
+import numpy as np
 
 __all__ = ["Template", "atom_token"]
 
@@ -139,19 +141,21 @@ class Template:
         position = {v: i for i, v in enumerate(order)}
         for v in range(n):
             closures[v].sort(key=lambda j: position[self._other(j, v)])
-        pieces: list[str] = []
         digits: dict[int, int] = {}
         free: list[int] = []
         top = 0
 
+        # the walk as a sequence: a field number (an atom 0..n-1, an edge n..n+m-1) or a literal
+        steps: list[int | str] = []
+
         def write(v: int) -> None:
             nonlocal top
-            pieces.append(_field(v))
+            steps.append(v)
             closed: list[int] = []  # digits freed here are reused only after this atom
             for j in closures[v]:
                 if j in digits:  # closing
                     d = digits.pop(j)
-                    pieces.append(_ring_label(d))
+                    steps.append(_ring_label(d))
                     closed.append(d)
                 else:
                     if free:
@@ -160,20 +164,39 @@ class Template:
                         top += 1
                         d = top
                     digits[j] = d
-                    pieces.append(_field(n + j) + _ring_label(d))
+                    steps.extend((n + j, _ring_label(d)))
             free.extend(closed)
             free.sort()
             for k, (w, j) in enumerate(tree[v]):
                 last = k == len(tree[v]) - 1
-                pieces.append(_field(n + j) if last else "(" + _field(n + j))
+                steps.extend((n + j,) if last else ("(", n + j))
                 write(w)
                 if not last:
-                    pieces.append(")")
+                    steps.append(")")
 
         write(root)
-        self.format = "".join(pieces).format
-        self._cycle_edges = tuple(self.edges[j] for j in sorted(cyclic))
+        self._steps = steps
+        #: the edges on a cycle, by index, in increasing order
+        self.cycle_edge_indices = tuple(sorted(cyclic))
+        self._cycle_edges = tuple(self.edges[j] for j in self.cycle_edge_indices)
         self._degree = [len(row) for row in adj]
+
+    @cached_property
+    def format(self) -> Callable[..., str]:
+        """The walk as a format string's ``format``: atom tokens, then bond tokens."""
+        return "".join(_field(x) if isinstance(x, int) else x for x in self._steps).format
+
+    @cached_property
+    def program(self) -> np.ndarray:
+        """The walk for the compiled writer (:mod:`.kernel`): a field number (atom 0..n-1, edge
+        n..n+m-1) or a literal character as minus its code."""
+        codes: list[int] = []
+        for x in self._steps:
+            if isinstance(x, int):
+                codes.append(x)
+            else:
+                codes += [-ord(ch) for ch in x]
+        return np.array(codes, dtype=np.int64)
 
     def _other(self, j: int, v: int) -> int:
         a, b = self.edges[j]

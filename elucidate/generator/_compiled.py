@@ -1,0 +1,534 @@
+"""The compiled core's code (numba; imported only when the compiled engine runs, see
+:mod:`.kernel`). Each function does what its Python reference does, with the same results in the
+same order: :func:`template` as :class:`.writer.Template`, :func:`inverses` as
+:func:`.labelling.inverse_permutations`, :func:`label_and_write` as
+:func:`.labelling.structures_on_skeleton` followed by :meth:`.writer.Template.write` and
+:meth:`.writer.Template.may_be_aromatic` (tests/test_kernel.py compares them)."""
+
+# numba compiles these from their Python source: plain loops over arrays, no annotations
+# mypy: ignore-errors
+
+from __future__ import annotations
+
+import numba
+import numpy as np
+
+
+@numba.njit(cache=True, nogil=True)
+def inverses(n, heads, tails, group):
+    """Each permutation of ``group`` but the identity as its vertex inverse and edge inverse
+    (rows): the image of a labelling ``x`` is ``x[inverse[i]]`` at position ``i``."""
+    m = heads.shape[0]
+    edge_index = np.full((n, n), -1, dtype=np.int64)
+    for e in range(m):
+        edge_index[heads[e], tails[e]] = e
+        edge_index[tails[e], heads[e]] = e
+    count = 0
+    for q in range(group.shape[0]):
+        for v in range(n):
+            if group[q, v] != v:
+                count += 1
+                break
+    vertex_inverse = np.empty((count, n), dtype=np.int64)
+    edge_inverse = np.empty((count, m), dtype=np.int64)
+    row = 0
+    for q in range(group.shape[0]):
+        identity = True
+        for v in range(n):
+            if group[q, v] != v:
+                identity = False
+                break
+        if identity:
+            continue
+        for v in range(n):
+            vertex_inverse[row, group[q, v]] = v
+        for e in range(m):
+            edge_inverse[row, edge_index[group[q, heads[e]], group[q, tails[e]]]] = e
+        row += 1
+    return vertex_inverse, edge_inverse
+
+
+@numba.njit(cache=True, nogil=True)
+def _digits(d, out, k):
+    """Ring label ``d`` as SMILES writes it (``%nn`` from 10), as minus the character codes,
+    into ``out`` from ``k``; returns the next position."""
+    if d >= 10:
+        out[k] = -37  # %
+        k += 1
+    first = k
+    while True:
+        out[k] = -(48 + d % 10)
+        k += 1
+        d //= 10
+        if d == 0:
+            break
+    # the digits came least significant first
+    last = k - 1
+    while first < last:
+        t = out[first]
+        out[first] = out[last]
+        out[last] = t
+        first += 1
+        last -= 1
+    return k
+
+
+@numba.njit(cache=True, nogil=True)
+def template(n, heads, tails):
+    """The program and the cycle edges of :class:`.writer.Template` for this skeleton."""
+    m = heads.shape[0]
+    # adjacency, each row in increasing neighbour order (the edges come sorted)
+    degree = np.zeros(n, dtype=np.int64)
+    for e in range(m):
+        degree[heads[e]] += 1
+        degree[tails[e]] += 1
+    start = np.zeros(n + 1, dtype=np.int64)
+    for v in range(n):
+        start[v + 1] = start[v] + degree[v]
+    fill = start[:n].copy()
+    neighbour = np.empty(2 * m, dtype=np.int64)
+    via = np.empty(2 * m, dtype=np.int64)
+    for e in range(m):
+        a = heads[e]
+        b = tails[e]
+        neighbour[fill[a]] = b
+        via[fill[a]] = e
+        fill[a] += 1
+        neighbour[fill[b]] = a
+        via[fill[b]] = e
+        fill[b] += 1
+    for v in range(n):  # insertion sort by neighbour
+        for x in range(start[v] + 1, start[v + 1]):
+            w = neighbour[x]
+            j = via[x]
+            y = x - 1
+            while y >= start[v] and neighbour[y] > w:
+                neighbour[y + 1] = neighbour[y]
+                via[y + 1] = via[y]
+                y -= 1
+            neighbour[y + 1] = w
+            via[y + 1] = j
+    root = 0
+    for v in range(n):
+        if degree[v] < degree[root]:
+            root = v
+    # depth-first walk: tree edges, ring closures, and the edges on a cycle (low points)
+    seen = np.zeros(n, dtype=np.bool_)
+    used = np.zeros(m, dtype=np.bool_)
+    found = np.zeros(n, dtype=np.int64)
+    low = np.zeros(n, dtype=np.int64)
+    pointer = start[:n].copy()
+    parent = np.full(n, -1, dtype=np.int64)
+    parent_edge = np.full(n, -1, dtype=np.int64)
+    cyclic = np.zeros(m, dtype=np.bool_)
+    closure_count = np.zeros(n, dtype=np.int64)
+    closure_edges = np.empty((n, max(m, 1)), dtype=np.int64)
+    discovered = np.empty(n, dtype=np.int64)
+    stack = np.empty(n, dtype=np.int64)
+    depth = 0
+    stack[0] = root
+    seen[root] = True
+    discovered[0] = root
+    number = 1
+    while depth >= 0:
+        v = stack[depth]
+        if pointer[v] < start[v + 1]:
+            x = pointer[v]
+            pointer[v] += 1
+            w = neighbour[x]
+            j = via[x]
+            if used[j]:
+                continue
+            used[j] = True
+            if seen[w]:
+                closure_edges[v, closure_count[v]] = j
+                closure_count[v] += 1
+                closure_edges[w, closure_count[w]] = j
+                closure_count[w] += 1
+                cyclic[j] = True
+                if found[w] < low[v]:
+                    low[v] = found[w]
+            else:
+                seen[w] = True
+                found[w] = number
+                low[w] = number
+                discovered[number] = w
+                number += 1
+                parent[w] = v
+                parent_edge[w] = j
+                depth += 1
+                stack[depth] = w
+        else:
+            depth -= 1
+            if depth >= 0:
+                u = stack[depth]
+                if low[v] <= found[u]:
+                    cyclic[parent_edge[v]] = True
+                if low[v] < low[u]:
+                    low[u] = low[v]
+    # subtree sizes; each vertex's tree children by (size, vertex)
+    size = np.ones(n, dtype=np.int64)
+    for k in range(n - 1, 0, -1):
+        v = discovered[k]
+        size[parent[v]] += size[v]
+    child_count = np.zeros(n, dtype=np.int64)
+    kids = np.empty((n, n), dtype=np.int64)
+    for k in range(1, n):
+        v = discovered[k]
+        u = parent[v]
+        y = child_count[u]
+        while y > 0:
+            other = kids[u, y - 1]
+            if size[other] < size[v] or (size[other] == size[v] and other < v):
+                break
+            kids[u, y] = other
+            y -= 1
+        kids[u, y] = v
+        child_count[u] += 1
+    # preorder positions of the walk with sorted children
+    position = np.empty(n, dtype=np.int64)
+    walk_stack = np.empty(n, dtype=np.int64)
+    top = 0
+    walk_stack[0] = root
+    k = 0
+    while top >= 0:
+        v = walk_stack[top]
+        top -= 1
+        position[v] = k
+        k += 1
+        for y in range(child_count[v] - 1, -1, -1):
+            top += 1
+            walk_stack[top] = kids[v, y]
+    # each atom's ring closures by the position of their other end
+    for v in range(n):
+        for x in range(1, closure_count[v]):
+            j = closure_edges[v, x]
+            other = heads[j] if tails[j] == v else tails[j]
+            key = position[other]
+            y = x - 1
+            while y >= 0:
+                jj = closure_edges[v, y]
+                o2 = heads[jj] if tails[jj] == v else tails[jj]
+                if position[o2] <= key:
+                    break
+                closure_edges[v, y + 1] = jj
+                y -= 1
+            closure_edges[v, y + 1] = j
+    # the program: atoms, ring labels (lowest free digit; digits freed at an atom are reused
+    # only after it), branches in parentheses but the last
+    program = np.empty(4 * n + 10 * m + 8, dtype=np.int64)
+    length = 0
+    digit_of = np.zeros(m, dtype=np.int64)  # 0: not open
+    free_digit = np.zeros(2 * m + 2, dtype=np.bool_)
+    highest = 0
+    closed = np.empty(max(m, 1), dtype=np.int64)
+    next_child = np.zeros(n, dtype=np.int64)
+    depth = 0
+    stack[0] = root
+    entering = True
+    while depth >= 0:
+        v = stack[depth]
+        if entering:
+            program[length] = v
+            length += 1
+            n_closed = 0
+            for x in range(closure_count[v]):
+                j = closure_edges[v, x]
+                if digit_of[j] > 0:
+                    d = digit_of[j]
+                    digit_of[j] = 0
+                    length = _digits(d, program, length)
+                    closed[n_closed] = d
+                    n_closed += 1
+                else:
+                    d = 0
+                    for f in range(1, highest + 1):
+                        if free_digit[f]:
+                            d = f
+                            break
+                    if d > 0:
+                        free_digit[d] = False
+                    else:
+                        highest += 1
+                        d = highest
+                    digit_of[j] = d
+                    program[length] = n + j
+                    length += 1
+                    length = _digits(d, program, length)
+            for x in range(n_closed):
+                free_digit[closed[x]] = True
+        c = next_child[v]
+        if c > 0 and c < child_count[v]:
+            program[length] = -41  # ) after a branch that is not the last
+            length += 1
+        if c == child_count[v]:
+            depth -= 1
+            entering = False
+            continue
+        w = kids[v, c]
+        next_child[v] = c + 1
+        if c < child_count[v] - 1:
+            program[length] = -40  # (
+            length += 1
+        program[length] = n + parent_edge[w]
+        length += 1
+        depth += 1
+        stack[depth] = w
+        entering = True
+    count = 0
+    for j in range(m):
+        if cyclic[j]:
+            count += 1
+    cycle = np.empty(count, dtype=np.int64)
+    k = 0
+    for j in range(m):
+        if cyclic[j]:
+            cycle[k] = j
+            k += 1
+    return program[:length], cycle
+
+
+@numba.njit(cache=True, nogil=True)
+def label_and_write(
+    n,
+    heads,
+    tails,
+    group,
+    valence,
+    carbon,
+    per_label,
+    extra_total,
+    max_extra,
+    token_start,
+    token_end,
+    pool,
+    check_aromatic,
+):
+    """See :func:`.kernel.label_and_write`; returns the arrays of :class:`.kernel.Labelled`
+    (the text as uint8)."""
+    m = heads.shape[0]
+    n_labels = valence.shape[0]
+    program, cycle = template(n, heads, tails)
+    vertex_inverse, edge_inverse = inverses(n, heads, tails, group)
+    n_perms = vertex_inverse.shape[0]
+    degree = np.zeros(n, dtype=np.int64)
+    for e in range(m):
+        degree[heads[e]] += 1
+        degree[tails[e]] += 1
+    # outputs, grown as needed
+    size = 64
+    colourings = np.empty((size, n), dtype=np.int64)
+    orders_out = np.empty((size, m), dtype=np.int64)
+    hydrogens_out = np.empty((size, n), dtype=np.int64)
+    aromatic = np.zeros(size, dtype=np.bool_)
+    ends = np.empty(size, dtype=np.int64)
+    text = np.empty(64 * size, dtype=np.uint8)
+    count = 0
+    written = 0
+    if extra_total < 0 or extra_total > max_extra * m:
+        return (colourings[:0], orders_out[:0], hydrogens_out[:0], text[:0], ends[:0], aromatic[:0])
+    # colouring search state
+    current = np.zeros(n, dtype=np.int64)
+    choice = np.full(n + 1, -1, dtype=np.int64)
+    remaining = per_label.copy()
+    stabilizer = np.empty(max(n_perms, 1), dtype=np.int64)
+    capacity = np.empty(n, dtype=np.int64)
+    # bond-order search state
+    free = np.empty(n, dtype=np.int64)
+    orders = np.ones(m, dtype=np.int64)
+    tried = np.zeros(m + 1, dtype=np.int64)
+    used = np.empty(n, dtype=np.int64)
+    hydrogens = np.empty(n, dtype=np.int64)
+    parent = np.empty(n, dtype=np.int64)
+    i = 0
+    while i >= 0:
+        if i < n:
+            # next label at vertex i (in increasing order) that is left and covers its degree
+            c = choice[i]
+            if c >= 0:
+                remaining[c] += 1
+            c += 1
+            while c < n_labels and not (remaining[c] > 0 and valence[c] >= degree[i]):
+                c += 1
+            if c == n_labels:
+                choice[i] = -1
+                i -= 1
+                continue
+            remaining[c] -= 1
+            choice[i] = c
+            current[i] = c
+            i += 1
+            continue
+        # a full colouring: vertex i == n; afterwards back to the last vertex
+        i = n - 1
+        total = 0
+        for v in range(n):
+            capacity[v] = valence[current[v]] - degree[v]
+            total += capacity[v]
+        if total < 2 * extra_total:
+            continue
+        canonical = True
+        n_stab = 0
+        for p in range(n_perms):
+            state = 0  # 0: equal so far, -1: image smaller, 1: image larger
+            for v in range(n):
+                x = current[vertex_inverse[p, v]]
+                if x != current[v]:
+                    state = -1 if x < current[v] else 1
+                    break
+            if state < 0:
+                canonical = False
+                break
+            if state == 0:
+                stabilizer[n_stab] = p
+                n_stab += 1
+        if not canonical:
+            continue
+        # bond orders: edge j tries 1 + top, ..., 1; a structure as soon as no order is left
+        for v in range(n):
+            free[v] = capacity[v]
+        j = 0
+        left = extra_total
+        entering = True
+        while True:
+            if entering:
+                emit = left == 0
+                descend = False
+                if not emit and j < m and max_extra * (m - j) >= left:
+                    a = heads[j]
+                    b = tails[j]
+                    top = min(max_extra, free[a], free[b], left)
+                    tried[j] = top
+                    free[a] -= top
+                    free[b] -= top
+                    orders[j] = 1 + top
+                    left -= top
+                    j += 1
+                    descend = True
+                if descend:
+                    continue
+                if emit:
+                    keep = True
+                    for s in range(n_stab):
+                        p = stabilizer[s]
+                        for e in range(m):
+                            x = orders[edge_inverse[p, e]]
+                            if x != orders[e]:
+                                if x < orders[e]:
+                                    keep = False
+                                break
+                        if not keep:
+                            break
+                    if keep:
+                        if count == colourings.shape[0]:
+                            grown = 2 * count
+                            colourings2 = np.empty((grown, n), dtype=np.int64)
+                            colourings2[:count] = colourings
+                            colourings = colourings2
+                            orders2 = np.empty((grown, m), dtype=np.int64)
+                            orders2[:count] = orders_out
+                            orders_out = orders2
+                            hydrogens2 = np.empty((grown, n), dtype=np.int64)
+                            hydrogens2[:count] = hydrogens_out
+                            hydrogens_out = hydrogens2
+                            aromatic2 = np.zeros(grown, dtype=np.bool_)
+                            aromatic2[:count] = aromatic
+                            aromatic = aromatic2
+                            ends2 = np.empty(grown, dtype=np.int64)
+                            ends2[:count] = ends
+                            ends = ends2
+                        for v in range(n):
+                            used[v] = 0
+                        for e in range(m):
+                            used[heads[e]] += orders[e]
+                            used[tails[e]] += orders[e]
+                        for v in range(n):
+                            hydrogens[v] = valence[current[v]] - used[v]
+                            colourings[count, v] = current[v]
+                            hydrogens_out[count, v] = hydrogens[v]
+                        for e in range(m):
+                            orders_out[count, e] = orders[e]
+                        flag = False
+                        if check_aromatic and cycle.shape[0] > 0:
+                            for v in range(n):
+                                parent[v] = v
+                            for k in range(cycle.shape[0]):
+                                e = cycle[k]
+                                a = heads[e]
+                                b = tails[e]
+                                if carbon[current[a]] and used[a] == degree[a]:
+                                    continue
+                                if carbon[current[b]] and used[b] == degree[b]:
+                                    continue
+                                while parent[a] != a:
+                                    parent[a] = parent[parent[a]]
+                                    a = parent[a]
+                                while parent[b] != b:
+                                    parent[b] = parent[parent[b]]
+                                    b = parent[b]
+                                if a == b:
+                                    flag = True
+                                    break
+                                parent[a] = b
+                        aromatic[count] = flag
+                        # the SMILES: the template's program, atoms and bonds filled in
+                        need = written + 8 * (n + m) + program.shape[0]
+                        if need > text.shape[0]:
+                            text2 = np.empty(max(2 * text.shape[0], need), dtype=np.uint8)
+                            text2[:written] = text[:written]
+                            text = text2
+                        for k in range(program.shape[0]):
+                            code = program[k]
+                            if code < 0:
+                                text[written] = -code
+                                written += 1
+                            elif code < n:
+                                label = current[code]
+                                h = hydrogens[code]
+                                for t in range(token_start[label, h], token_end[label, h]):
+                                    text[written] = pool[t]
+                                    written += 1
+                            else:
+                                o = orders[code - n]
+                                if o == 2:
+                                    text[written] = 61  # =
+                                    written += 1
+                                elif o == 3:
+                                    text[written] = 35  # #
+                                    written += 1
+                        text[written] = 10  # a newline after each
+                        written += 1
+                        ends[count] = written
+                        count += 1
+            # back: the deepest edge with a lower order left to try
+            moved = False
+            while j > 0:
+                j -= 1
+                x = tried[j]
+                a = heads[j]
+                b = tails[j]
+                free[a] += x
+                free[b] += x
+                left += x
+                orders[j] = 1
+                if x > 0:
+                    x -= 1
+                    tried[j] = x
+                    free[a] -= x
+                    free[b] -= x
+                    orders[j] = 1 + x
+                    left -= x
+                    j += 1
+                    moved = True
+                    break
+            if not moved:
+                break
+            entering = True
+    return (
+        colourings[:count],
+        orders_out[:count],
+        hydrogens_out[:count],
+        text[:written],
+        ends[:count],
+        aromatic[:count],
+    )

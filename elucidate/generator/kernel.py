@@ -1,0 +1,208 @@
+"""The compiled core: labelling one skeleton and writing each structure's SMILES in one call.
+
+:func:`label_and_write` does, in machine code (numba), what :func:`.labelling.structures_on_skeleton`
+and :meth:`.writer.Template.write` do in Python for the plain case (no required-group
+conditions, no declared NMR counts, no higher valence state, an automorphism group small enough
+to list): element labels in lexicographic order, each kept only when it is the smallest of its
+orbit; bond orders in the Python search's order, each kept only when smallest under the
+labelling's stabilizer; hydrogens from the free valence; the SMILES written by the skeleton's
+template; and the flag of :meth:`~.writer.Template.may_be_aromatic`. The structures, their order
+and their strings are exactly those of the Python path, which stays as the reference
+(tests/test_kernel.py compares the two on every skeleton of several formulas).
+
+numba is a dependency installed from its wheels (no compiler). When it cannot be imported,
+:data:`AVAILABLE` is False and the generator runs the Python path alone. The compiled code is
+cached on disk (numba's ``cache=True``), so only a machine's first run pays for compiling it.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+from collections.abc import Sequence
+from dataclasses import dataclass
+from functools import cache
+from typing import Literal, TypeAlias
+
+import numpy as np
+
+from ..errors import ElucidateError
+from .labelling import Structure
+from .writer import atom_token
+
+__all__ = [
+    "AVAILABLE",
+    "ENGINES",
+    "PYTHON_FIRST",
+    "Engine",
+    "KernelLabels",
+    "Labelled",
+    "check_engine",
+    "kernel_labels",
+    "label_and_write",
+    "labelled_in_python",
+    "template_program",
+    "wanted",
+]
+
+#: whether numba can be imported (it is imported on first use)
+AVAILABLE = importlib.util.find_spec("numba") is not None
+
+#: who labels the skeletons: ``auto`` the compiled core once a process has labelled
+#: :data:`PYTHON_FIRST` structures in Python, ``compiled`` always (where it applies), ``python``
+#: never; the output is the same
+Engine: TypeAlias = Literal["auto", "compiled", "python"]
+ENGINES: tuple[Engine, ...] = ("auto", "compiled", "python")
+
+#: structures a process labels in Python before ``auto`` starts the compiled core: starting it
+#: (importing numba and reading the compiled code from its cache) costs about a second, what
+#: Python takes for some 20,000 structures, so a small space never pays it and a large one pays
+#: at most about as much again as it would have cost in Python
+PYTHON_FIRST = 20_000
+
+
+class _Usage:
+    """Structures this process has labelled in Python (for ``auto``)."""
+
+    python = 0
+
+
+def check_engine(engine: str) -> Engine:
+    """``engine`` if it is one of :data:`ENGINES`, else an error listing them."""
+    for choice in ENGINES:
+        if engine == choice:
+            return choice
+    raise ElucidateError(f"unknown generator engine {engine!r}; expected one of: {', '.join(ENGINES)}")
+
+
+def labelled_in_python(count: int) -> None:
+    """Record ``count`` more structures labelled in Python by this process."""
+    _Usage.python += count
+
+
+def wanted(engine: Engine) -> bool:
+    """Whether the compiled core labels what it can, for this ``engine`` now."""
+    if engine == "python" or not AVAILABLE:
+        return False
+    return engine == "compiled" or _Usage.python >= PYTHON_FIRST
+
+
+@dataclass(frozen=True)
+class KernelLabels:
+    """A plan's labels as arrays: valence state, whether carbon, and each label's atom token
+    per hydrogen count (the bond sum is the valence less the hydrogens), in one byte pool."""
+
+    valence: np.ndarray  # int64 per label
+    carbon: np.ndarray  # bool per label
+    token_start: np.ndarray  # int64 (label, hydrogens)
+    token_end: np.ndarray  # int64 (label, hydrogens)
+    pool: np.ndarray  # uint8
+
+
+@cache
+def kernel_labels(labels: tuple[tuple[str, int], ...]) -> KernelLabels:
+    """:class:`KernelLabels` of a plan's (element, valence state) labels."""
+    top = max(v for _, v in labels)
+    start = np.zeros((len(labels), top + 1), dtype=np.int64)
+    end = np.zeros((len(labels), top + 1), dtype=np.int64)
+    pool = bytearray()
+    for k, (symbol, valence) in enumerate(labels):
+        for h in range(valence + 1):
+            start[k, h] = len(pool)
+            pool += atom_token(symbol, h, valence - h).encode("ascii")
+            end[k, h] = len(pool)
+    return KernelLabels(
+        np.array([v for _, v in labels], dtype=np.int64),
+        np.array([s == "C" for s, _ in labels], dtype=np.bool_),
+        start,
+        end,
+        np.frombuffer(bytes(pool), dtype=np.uint8).copy(),
+    )
+
+
+@dataclass(frozen=True)
+class Labelled:
+    """What one call returns for one skeleton: per structure its label indices (one row per
+    structure), bond orders (in the skeleton's edge order), hydrogens, SMILES (ASCII bytes,
+    each followed by a newline: ``text[ends[k-1]:ends[k]]``) and whether it may be aromatic."""
+
+    colourings: np.ndarray
+    orders: np.ndarray
+    hydrogens: np.ndarray
+    text: bytes
+    ends: np.ndarray
+    aromatic: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.ends)
+
+    def smiles(self, k: int) -> str:
+        """The SMILES of structure ``k``, written from the skeleton."""
+        begin = int(self.ends[k - 1]) if k else 0
+        return self.text[begin : int(self.ends[k]) - 1].decode("ascii")
+
+    def all_smiles(self) -> list[str]:
+        """The SMILES of every structure, in order."""
+        return self.text.decode("ascii").split("\n")[:-1]
+
+    def structure(self, k: int, labels: Sequence[tuple[str, int]], edges: Sequence[tuple[int, int]]) -> Structure:
+        """Structure ``k`` as the Python path builds it (``labels``: the plan's labels;
+        ``edges``: the skeleton's)."""
+        colouring = self.colourings[k].tolist()
+        orders = self.orders[k].tolist()
+        return Structure(
+            tuple(labels[c][0] for c in colouring),
+            tuple((a, b, o) for (a, b), o in zip(edges, orders, strict=True)),
+            tuple(self.hydrogens[k].tolist()),
+            tuple(labels[c][1] for c in colouring),
+        )
+
+
+def label_and_write(
+    n: int,
+    edges: Sequence[tuple[int, int]],
+    group: Sequence[tuple[int, ...]],
+    labels: KernelLabels,
+    per_label: Sequence[int],
+    extra_total: int,
+    max_extra: int,
+    *,
+    check_aromatic: bool,
+) -> Labelled:
+    """Every structure on the skeleton (``n`` vertices, ``edges`` sorted) with ``per_label``
+    atoms of each label and ``extra_total`` bond orders above single (at most ``max_extra`` per
+    edge), one per orbit of its automorphism ``group`` (vertex permutations, as
+    :func:`~.skeletons.automorphisms` lists them), in the Python path's order, with the SMILES
+    the skeleton's :class:`~.writer.Template` writes; ``check_aromatic``: flag those that may be
+    aromatic (else none is flagged)."""
+    from . import _compiled
+
+    heads = np.array([a for a, _ in edges], dtype=np.int64)
+    tails = np.array([b for _, b in edges], dtype=np.int64)
+    colourings, orders, hydrogens, text, ends, aromatic = _compiled.label_and_write(
+        n,
+        heads,
+        tails,
+        np.array(group, dtype=np.int64).reshape(len(group), n),
+        labels.valence,
+        labels.carbon,
+        np.array(per_label, dtype=np.int64),
+        extra_total,
+        max_extra,
+        labels.token_start,
+        labels.token_end,
+        labels.pool,
+        check_aromatic,
+    )
+    return Labelled(colourings, orders, hydrogens, text.tobytes(), ends, aromatic)
+
+
+def template_program(n: int, edges: Sequence[tuple[int, int]]) -> tuple[np.ndarray, np.ndarray]:
+    """The compiled core's :class:`~.writer.Template` of a skeleton: its program (as
+    :attr:`~.writer.Template.program`) and its cycle edges (as
+    :attr:`~.writer.Template.cycle_edge_indices`)."""
+    from . import _compiled
+
+    heads = np.array([a for a, _ in edges], dtype=np.int64)
+    tails = np.array([b for _, b in edges], dtype=np.int64)
+    program, cycle = _compiled.template(n, heads, tails)
+    return program, cycle

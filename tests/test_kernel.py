@@ -1,0 +1,171 @@
+"""The compiled core (elucidate/generator/kernel.py, _compiled.py) against the Python path it
+replaces, and against published counts (OEIS; the sequence number beside each check).
+
+The Python path (labelling.structures_on_skeleton, writer.Template) is the reference: on every
+skeleton of several formulas the compiled core must give the same structures, in the same order,
+with the same SMILES strings and aromatic flags.
+"""
+
+from __future__ import annotations
+
+import random
+
+import pytest
+
+from elucidate import parse_formula
+from elucidate.errors import ElucidateError
+from elucidate.formula import Formula
+from elucidate.generator import GeneratorOptions, isomer_smiles, kernel
+from elucidate.generator.labelling import structures_on_skeleton
+from elucidate.generator.skeletons import automorphisms, grow
+from elucidate.generator.tasks import _kernel_fits, generation_tasks, selection_plans
+from elucidate.generator.writer import Template
+
+pytestmark = pytest.mark.skipif(not kernel.AVAILABLE, reason="numba is not installed")
+
+A000602 = [1, 1, 1, 2, 3, 5, 9, 18, 35, 75]  # alkanes CnH2n+2, n = 1..10
+A002986 = [1, 3, 4, 12, 27, 84, 247]  # acyclic hydrocarbons, any unsaturation, n = 1..7
+A134818 = [1, 3, 9, 37, 146, 772]  # all hydrocarbons summed over H, graph counting, n = 1..6
+
+
+def _skeleton_cases(text: str, options: GeneratorOptions):
+    """The skeletons of the formula's plans the compiled core takes (no higher valence state)."""
+    plans, _ = selection_plans(parse_formula(text), options)
+    for task in generation_tasks(plans):
+        plan = task.plan
+        if not _kernel_fits(task, ()):
+            continue
+        for size, edges in grow(task.part, plan.n, plan.bounds, plan.rings_max, cycles=plan.cycles):
+            yield plan, size, edges
+
+
+@pytest.mark.parametrize(
+    ("formula", "options"),
+    [
+        ("C7H8O", GeneratorOptions()),
+        ("C6H6", GeneratorOptions()),
+        ("C5H5N", GeneratorOptions()),
+        ("C4H4N2", GeneratorOptions()),
+        ("C6H12", GeneratorOptions(max_bond_order=1)),
+        ("C5H6O", GeneratorOptions(max_bond_order=2)),
+        ("C3H4ClF", GeneratorOptions()),
+        ("C6H6O", GeneratorOptions(max_rings=1)),
+        ("C5H5N", GeneratorOptions(lowest_valence=True)),
+    ],
+)
+def test_the_compiled_core_labels_every_skeleton_as_the_python_path(formula: str, options: GeneratorOptions) -> None:
+    skeletons = structures = 0
+    for plan, size, edges in _skeleton_cases(formula, options):
+        group = automorphisms(size, edges)
+        assert group is not None
+        reference = list(structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra))
+        template = Template(size, edges)
+        found = kernel.label_and_write(
+            size,
+            edges,
+            group,
+            kernel.kernel_labels(plan.labels),
+            plan.counts,
+            plan.bond_sum - len(edges),
+            plan.max_extra,
+            check_aromatic=True,
+        )
+        assert len(found) == len(reference)
+        for k, s in enumerate(reference):
+            assert found.structure(k, plan.labels, edges) == s
+            assert found.smiles(k) == template.write(s.elements, s.bonds, s.hydrogens)
+            assert bool(found.aromatic[k]) == template.may_be_aromatic(s.elements, s.hydrogens, s.valences)
+        skeletons += 1
+        structures += len(reference)
+    assert skeletons > 0 and structures > 0
+
+
+def test_no_aromatic_flag_is_raised_when_none_is_asked() -> None:
+    (plan, size, edges) = next(
+        (p, n, e) for p, n, e in _skeleton_cases("C6H6", GeneratorOptions()) if len(e) == 6 and n == 6
+    )
+    group = automorphisms(size, edges)
+    assert group is not None
+    args = (size, edges, group, kernel.kernel_labels(plan.labels), plan.counts, plan.bond_sum - 6, plan.max_extra)
+    assert kernel.label_and_write(*args, check_aromatic=True).aromatic.any()  # benzene's ring
+    assert not kernel.label_and_write(*args, check_aromatic=False).aromatic.any()
+
+
+def _random_graph(rng: random.Random, n: int, extra: int) -> tuple[tuple[int, int], ...]:
+    """A connected simple graph of maximum degree 4 (a random tree plus up to ``extra`` edges)."""
+    degree = [0] * n
+    edges: set[tuple[int, int]] = set()
+    for v in range(1, n):
+        u = rng.choice([w for w in range(v) if degree[w] < 4])
+        edges.add((u, v))
+        degree[u] += 1
+        degree[v] += 1
+    for _ in range(extra if n > 1 else 0):
+        a, b = sorted(rng.sample(range(n), 2))
+        if (a, b) not in edges and degree[a] < 4 and degree[b] < 4:
+            edges.add((a, b))
+            degree[a] += 1
+            degree[b] += 1
+    return tuple(sorted(edges))
+
+
+def test_the_compiled_template_is_the_python_template_on_random_graphs() -> None:
+    rng = random.Random(20261204)
+    two_digit = 0
+    for _ in range(400):
+        n = rng.randint(1, 30)
+        edges = _random_graph(rng, n, rng.randint(0, 2 * n))
+        template = Template(n, edges)
+        program, cycle = kernel.template_program(n, edges)
+        assert program.tolist() == template.program.tolist(), (n, edges)
+        assert tuple(cycle.tolist()) == template.cycle_edge_indices
+        two_digit += -ord("%") in program.tolist()
+    assert two_digit > 0  # ring labels from 10 on (%10, %11, ...) were exercised
+
+
+@pytest.mark.parametrize("formula", ["C7H8O", "C5H5N", "C6H6", "C4H6O2", "C5H9NO", "C3H6S", "C4H11N"])
+@pytest.mark.parametrize("kekule", [False, True])
+def test_isomer_smiles_are_the_same_with_either_engine(formula: str, kekule: bool) -> None:
+    f = parse_formula(formula)
+    python = list(isomer_smiles(f, GeneratorOptions(kekule=kekule, engine="python")))
+    compiled = list(isomer_smiles(f, GeneratorOptions(kekule=kekule, engine="compiled")))
+    assert compiled == python
+    assert len(set(compiled)) == len(compiled)
+
+
+def _count(formula: Formula, options: GeneratorOptions) -> int:
+    return sum(1 for _ in isomer_smiles(formula, options))
+
+
+@pytest.mark.parametrize("n", range(1, 11))
+def test_alkanes_A000602_compiled(n: int) -> None:
+    assert _count(Formula.of({"C": n, "H": 2 * n + 2}), GeneratorOptions(engine="compiled")) == A000602[n - 1]
+
+
+@pytest.mark.parametrize("n", range(1, 8))
+def test_acyclic_hydrocarbons_A002986_compiled(n: int) -> None:
+    options = GeneratorOptions(kekule=True, max_rings=0, engine="compiled")
+    total = sum(_count(Formula.of({"C": n, "H": h}), options) for h in range(2 * n + 3))
+    assert total == A002986[n - 1]
+
+
+@pytest.mark.parametrize("n", range(1, 7))
+def test_all_hydrocarbons_A134818_compiled(n: int) -> None:
+    options = GeneratorOptions(kekule=True, engine="compiled")
+    total = sum(_count(Formula.of({"C": n, "H": h}), options) for h in range(2 * n + 3))
+    assert total == A134818[n - 1]
+
+
+def test_an_unknown_engine_is_refused_with_the_choices() -> None:
+    with pytest.raises(ElucidateError, match="auto, compiled, python"):
+        GeneratorOptions(engine="fast")  # type: ignore[arg-type]
+
+
+def test_auto_starts_the_compiled_core_only_after_enough_python_work(monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr(kernel._Usage, "python", 0)
+    assert not kernel.wanted("auto")
+    assert kernel.wanted("compiled")
+    assert not kernel.wanted("python")
+    kernel.labelled_in_python(kernel.PYTHON_FIRST)
+    assert kernel.wanted("auto")
+    assert not kernel.wanted("python")
