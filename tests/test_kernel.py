@@ -74,7 +74,7 @@ def test_the_compiled_core_labels_every_skeleton_as_the_python_path(formula: str
         for k, s in enumerate(reference):
             assert found.structure(k, plan.labels, edges) == s
             assert found.smiles(k) == template.write(s.elements, s.bonds, s.hydrogens)
-            assert bool(found.aromatic[k]) == template.may_be_aromatic(s.elements, s.hydrogens, s.valences)
+            assert bool(found.aromatic[k]) == template.may_be_aromatic(s.elements, s.bonds, s.hydrogens, s.valences)
         skeletons += 1
         structures += len(reference)
     assert skeletons > 0 and structures > 0

@@ -82,7 +82,7 @@ def test_may_be_aromatic_misses_no_aromatic_atom(formula: str) -> None:
         assert template is not None
         mol = Chem.MolFromSmiles(to_smiles(s))
         aromatic = any(atom.GetIsAromatic() for atom in mol.GetAtoms())
-        if template.may_be_aromatic(s.elements, s.hydrogens, s.valences):
+        if template.may_be_aromatic(s.elements, s.bonds, s.hydrogens, s.valences):
             sent += 1
         else:
             assert not aromatic, to_smiles(s)

@@ -289,6 +289,101 @@ def template(n, heads, tails):
 
 
 @numba.njit(cache=True, nogil=True)
+def _share(v, heads, tails, on_cycle, alive, orders, element, used, degree):
+    """:func:`.aromatic.share` (-1 for None), ``alive`` marking the edges of the cycle."""
+    z = element[v]
+    extra = used[v] - degree[v]
+    if z == 6:
+        for e in range(heads.shape[0]):
+            if heads[e] != v and tails[e] != v:
+                continue
+            if orders[e] == 3:
+                return 1 if alive[e] else -1
+            if orders[e] == 2 and extra == 1:
+                if alive[e]:
+                    return 1
+                if on_cycle[e]:
+                    return -1
+                u = tails[e] if heads[e] == v else heads[e]
+                if element[u] == 7 or element[u] == 8:
+                    return 0
+                if element[u] == 6:
+                    return 1
+                return -1
+        return -1
+    if z == 7:
+        if extra == 0:
+            return 2
+        if extra == 1 and degree[v] == 2:
+            return 1
+        return -1
+    if z == 8:
+        if extra == 0 and degree[v] == 2:
+            return 2
+        return -1
+    return -1
+
+
+@numba.njit(cache=True, nogil=True)
+def ring_may_be_aromatic(n, heads, tails, on_cycle, orders, element, used, degree):
+    """:func:`.aromatic.ring_may_be_aromatic` (``element``: atomic numbers of C, N, O, else 0;
+    ``used``: bond orders per atom; ``degree``: neighbours per atom)."""
+    m = heads.shape[0]
+    candidate = np.ones(n, dtype=np.bool_)
+    for v in range(n):
+        if element[v] == 6 and used[v] != degree[v] + 1:
+            candidate[v] = False  # saturated, or two double bonds
+    for e in range(m):
+        if orders[e] == 3:
+            candidate[heads[e]] = True
+            candidate[tails[e]] = True
+    alive = np.zeros(m, dtype=np.bool_)
+    core_degree = np.zeros(n, dtype=np.int64)
+    for e in range(m):
+        if on_cycle[e] and candidate[heads[e]] and candidate[tails[e]]:
+            alive[e] = True
+            core_degree[heads[e]] += 1
+            core_degree[tails[e]] += 1
+    changed = True
+    while changed:  # strip to the 2-core
+        changed = False
+        for e in range(m):
+            if alive[e] and (core_degree[heads[e]] == 1 or core_degree[tails[e]] == 1):
+                alive[e] = False
+                core_degree[heads[e]] -= 1
+                core_degree[tails[e]] -= 1
+                changed = True
+    done = np.zeros(n, dtype=np.bool_)
+    stack = np.empty(n, dtype=np.int64)
+    for s in range(n):
+        if core_degree[s] == 0 or done[s]:
+            continue
+        done[s] = True
+        stack[0] = s
+        top = 0
+        total = 0
+        while top >= 0:
+            v = stack[top]
+            top -= 1
+            if core_degree[v] != 2:
+                return True  # fused or bridged rings: RDKit decides
+            x = _share(v, heads, tails, on_cycle, alive, orders, element, used, degree)
+            if x < 0:
+                return True
+            total += x
+            for e in range(m):
+                if alive[e] and (heads[e] == v or tails[e] == v):
+                    u = tails[e] if heads[e] == v else heads[e]
+                    if not done[u]:
+                        done[u] = True
+                        top += 1
+                        stack[top] = u
+        if total % 4 == 2:
+            return True
+    return False
+
+
+@numba.njit(cache=True, nogil=True)
 def label_and_write(
     n,
     heads,
@@ -296,6 +391,7 @@ def label_and_write(
     group,
     valence,
     carbon,
+    element,
     per_label,
     extra_total,
     max_extra,
@@ -303,12 +399,17 @@ def label_and_write(
     token_end,
     pool,
     check_aromatic,
+    sharp,
 ):
     """See :func:`.kernel.label_and_write`; returns the arrays of :class:`.kernel.Labelled`
     (the text as uint8)."""
     m = heads.shape[0]
     n_labels = valence.shape[0]
     program, cycle = template(n, heads, tails)
+    on_cycle = np.zeros(m, dtype=np.bool_)
+    for k in range(cycle.shape[0]):
+        on_cycle[cycle[k]] = True
+    element_at = np.empty(n, dtype=np.int64)
     vertex_inverse, edge_inverse = inverses(n, heads, tails, group)
     n_perms = vertex_inverse.shape[0]
     degree = np.zeros(n, dtype=np.int64)
@@ -470,6 +571,10 @@ def label_and_write(
                                     flag = True
                                     break
                                 parent[a] = b
+                            if flag and sharp:
+                                for v in range(n):
+                                    element_at[v] = element[current[v]]
+                                flag = ring_may_be_aromatic(n, heads, tails, on_cycle, orders, element_at, used, degree)
                         aromatic[count] = flag
                         # the SMILES: the template's program, atoms and bonds filled in
                         need = written + 8 * (n + m) + program.shape[0]

@@ -93,9 +93,14 @@ class KernelLabels:
 
     valence: np.ndarray  # int64 per label
     carbon: np.ndarray  # bool per label
+    element: np.ndarray  # int64 per label: the atomic number of C, N and O, 0 for the others
     token_start: np.ndarray  # int64 (label, hydrogens)
     token_end: np.ndarray  # int64 (label, hydrogens)
     pool: np.ndarray  # uint8
+
+
+#: the elements whose pi-electron share in a ring the sharp aromaticity test knows
+_SHARED_ELEMENTS = {"C": 6, "N": 7, "O": 8}
 
 
 @cache
@@ -113,6 +118,7 @@ def kernel_labels(labels: tuple[tuple[str, int], ...]) -> KernelLabels:
     return KernelLabels(
         np.array([v for _, v in labels], dtype=np.int64),
         np.array([s == "C" for s, _ in labels], dtype=np.bool_),
+        np.array([_SHARED_ELEMENTS.get(s, 0) for s, _ in labels], dtype=np.int64),
         start,
         end,
         np.frombuffer(bytes(pool), dtype=np.uint8).copy(),
@@ -167,6 +173,7 @@ def label_and_write(
     max_extra: int,
     *,
     check_aromatic: bool,
+    sharp: bool = True,
 ) -> Labelled:
     """Every structure on the skeleton (``n`` vertices, ``edges`` sorted) with ``per_label``
     atoms of each label and ``extra_total`` bond orders above single (at most ``max_extra`` per
@@ -185,6 +192,7 @@ def label_and_write(
         np.array(group, dtype=np.int64).reshape(len(group), n),
         labels.valence,
         labels.carbon,
+        labels.element,
         np.array(per_label, dtype=np.int64),
         extra_total,
         max_extra,
@@ -192,6 +200,7 @@ def label_and_write(
         labels.token_end,
         labels.pool,
         check_aromatic,
+        sharp,
     )
     return Labelled(colourings, orders, hydrogens, text.tobytes(), ends, aromatic)
 

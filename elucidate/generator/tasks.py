@@ -364,7 +364,7 @@ class _TaskWriter:
             template = self.template_for(len(s.elements), tuple((a, b) for a, b, _ in s.bonds))
             if own and kekule:
                 return template.write(s.elements, s.bonds, s.hydrogens)
-            if not template.may_be_aromatic(s.elements, s.hydrogens, s.valences):
+            if not template.may_be_aromatic(s.elements, s.bonds, s.hydrogens, s.valences):
                 written = template.write(s.elements, s.bonds, s.hydrogens)
                 if own:
                     return written

@@ -19,7 +19,9 @@ its atom and bond tokens.
 Aromatic compounds are left to RDKit: the default counting merges Kekulé forms, which needs
 aromaticity perception. A structure can have an aromatic atom in RDKit's model only if some
 ring of its skeleton consists of atoms that each carry a multiple bond or are not carbon (a
-saturated carbon breaks every ring through it); :meth:`Template.may_be_aromatic` tests that.
+saturated carbon breaks every ring through it), and only if such a ring, or a fused system of
+them, can hold 4N+2 pi electrons (:mod:`.aromatic`); :meth:`Template.may_be_aromatic` tests
+both.
 """
 
 from __future__ import annotations
@@ -28,6 +30,8 @@ from collections.abc import Callable, Sequence
 from functools import cache, cached_property
 
 import numpy as np
+
+from .aromatic import ring_may_be_aromatic
 
 __all__ = ["Template", "atom_token"]
 
@@ -179,6 +183,9 @@ class Template:
         #: the edges on a cycle, by index, in increasing order
         self.cycle_edge_indices = tuple(sorted(cyclic))
         self._cycle_edges = tuple(self.edges[j] for j in self.cycle_edge_indices)
+        self._on_cycle = [False] * len(self.edges)
+        for j in self.cycle_edge_indices:
+            self._on_cycle[j] = True
         self._degree = [len(row) for row in adj]
 
     @cached_property
@@ -202,9 +209,16 @@ class Template:
         a, b = self.edges[j]
         return b if a == v else a
 
-    def may_be_aromatic(self, elements: Sequence[str], hydrogens: Sequence[int], valences: Sequence[int]) -> bool:
-        """Whether some cycle consists of atoms that each carry a multiple bond or are not
-        carbon: the only structures RDKit's aromaticity model can call aromatic."""
+    def may_be_aromatic(
+        self,
+        elements: Sequence[str],
+        bonds: Sequence[tuple[int, int, int]],
+        hydrogens: Sequence[int],
+        valences: Sequence[int],
+    ) -> bool:
+        """Whether RDKit's aromaticity model may call this structure (its bonds in the
+        template's edge order) aromatic: first whether some cycle consists of atoms that each
+        carry a multiple bond or are not carbon, then :func:`.aromatic.ring_may_be_aromatic`."""
         if not self._cycle_edges:
             return False
         degree = self._degree
@@ -223,7 +237,7 @@ class Template:
                 continue
             ra, rb = root(a), root(b)
             if ra == rb:
-                return True
+                return ring_may_be_aromatic(self.n, self.edges, self._on_cycle, [o for _, _, o in bonds], elements)
             parent[ra] = rb
         return False
 
