@@ -36,6 +36,7 @@ from .errors import ElucidateError, TooLarge
 from .formula import parse_formula
 from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
 from .formula_search.search import check_space
+from .generator.kernel import ENGINES, PYTHON_FIRST
 from .progress import TerminalProgress
 from .reports.documents import REPORT_FORMATS
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
@@ -153,6 +154,14 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--kekule", action="store_true", help="count and write every Kekule multigraph separately")
     g.add_argument(
         "--rdkit-smiles", action="store_true", help="write every isomer as RDKit's canonical SMILES (slower)"
+    )
+    g.add_argument(
+        "--engine",
+        choices=ENGINES,
+        default="auto",
+        help="who labels the skeletons and writes their SMILES: the compiled core (numba), Python, or "
+        "auto (the compiled core once the space is estimated large enough for its start-up, about a "
+        "second, to pay); the output is the same",
     )
     g.add_argument("--no-rings", action="store_true", help="acyclic isomers only")
     g.add_argument("--max-rings", type=int, metavar="N", help="at most N rings (cyclomatic number)")
@@ -643,11 +652,14 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         selection=selection,
         workers=args.workers,
         rdkit_smiles=args.rdkit_smiles,
+        engine=args.engine,
     )
     heavy = beyond_generator(formula)
     if heavy is not None:
         raise TooLarge(f"{formula}: {heavy}")
     space = estimate_space(formula, options)
+    if args.engine == "auto" and space.structures >= PYTHON_FIRST:
+        options = replace(options, engine="compiled")  # large enough for the start-up to pay
     if space.over(args.limit):
         raise TooLarge(
             f"{formula}: about {space.structures:,.0f} structures to test and {space.nodes:,.0f} partial "

@@ -176,6 +176,17 @@ def test_isomers_streams_smiles_and_counts(cli):
     assert res.out.strip() == "5"  # hexanes, OEIS A000602
 
 
+def test_isomers_engines_write_the_same_smiles(cli):
+    # C7H8O: 13,175 isomers with Kekule forms merged (the generator's own count, checked against
+    # the Python labelling in tests/test_kernel.py)
+    python = cli("isomers", "C7H8O", "--engine", "python")
+    compiled = cli("isomers", "C7H8O", "--engine", "compiled")
+    assert python.code == compiled.code == 0
+    assert compiled.out == python.out and len(python.out.splitlines()) == 13175
+    bad = cli("isomers", "C7H8O", "--engine", "fast")
+    assert bad.code == 2  # an argparse usage error, listing the choices
+
+
 def test_isomers_lowest_valence_switch(cli):
     full = cli("isomers", "CH3NO2").out.splitlines()
     lowest = cli("isomers", "CH3NO2", "--lowest-valence").out.splitlines()
