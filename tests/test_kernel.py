@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import random
 
+import numpy as np
 import pytest
 
 from elucidate import parse_formula
@@ -169,3 +170,38 @@ def test_auto_starts_the_compiled_core_only_after_enough_python_work(monkeypatch
     kernel.labelled_in_python(kernel.PYTHON_FIRST)
     assert kernel.wanted("auto")
     assert not kernel.wanted("python")
+
+
+@pytest.mark.parametrize("formula", ["C7H8O", "C8H18", "C6H6"])
+def test_many_skeletons_in_one_call_are_labelled_as_one_by_one(formula: str) -> None:
+    from elucidate.generator._compiled import closure
+    from elucidate.generator.skeletons import automorphism_generators
+
+    cases = list(_skeleton_cases(formula, GeneratorOptions()))
+    plan = cases[0][0]
+    batch = []
+    for _, size, edges in cases:
+        generators, order = automorphism_generators(size, edges)
+        group = automorphisms(size, edges)
+        assert group is not None and len(group) == order
+        if order <= kernel.CLOSED_IN_KERNEL:
+            # the compiled closure of nauty's generators is the whole group
+            rows = np.array(generators, dtype=np.int64).reshape(len(generators), size)
+            assert {tuple(p) for p in closure(size, rows).tolist()} == set(group)
+            batch.append((edges, generators, False))
+        else:
+            batch.append((edges, group, True))
+    labels = kernel.kernel_labels(plan.labels)
+    together = kernel.label_and_write_many(
+        plan.n, batch, labels, plan.counts, plan.bond_sum, plan.max_extra, check_aromatic=True
+    )
+    assert len(together.smiles) == len(cases)
+    for (_, size, edges), strings, flags in zip(cases, together.smiles, together.aromatic, strict=True):
+        group = automorphisms(size, edges)
+        assert group is not None
+        alone = kernel.label_and_write(
+            size, edges, group, labels, plan.counts, plan.bond_sum - len(edges), plan.max_extra, check_aromatic=True
+        )
+        assert strings == alone.all_smiles() and flags == alone.aromatic.tolist()
+    if formula == "C8H18":  # 2,2,3,3-tetramethylbutane's skeleton: order 72, listed in Python
+        assert any(whole for _, _, whole in batch)

@@ -637,3 +637,114 @@ def label_and_write(
         ends[:count],
         aromatic[:count],
     )
+
+
+@numba.njit(cache=True, nogil=True)
+def closure(n, generators):
+    """The group the permutations ``generators`` (rows) generate, the identity first, each
+    composed as :func:`.skeletons.automorphisms` composes them (``g[p[i]]``)."""
+    capacity = 64
+    group = np.empty((capacity, n), dtype=np.int64)
+    for v in range(n):
+        group[0, v] = v
+    size = 1
+    head = 0
+    image = np.empty(n, dtype=np.int64)
+    while head < size:
+        for g in range(generators.shape[0]):
+            for v in range(n):
+                image[v] = generators[g, group[head, v]]
+            known = False
+            for k in range(size):
+                same = True
+                for v in range(n):
+                    if group[k, v] != image[v]:
+                        same = False
+                        break
+                if same:
+                    known = True
+                    break
+            if known:
+                continue
+            if size == capacity:
+                capacity *= 2
+                grown = np.empty((capacity, n), dtype=np.int64)
+                grown[:size] = group[:size]
+                group = grown
+            group[size] = image
+            size += 1
+        head += 1
+    return group[:size]
+
+
+@numba.njit(cache=True, nogil=True)
+def label_and_write_many(
+    n,
+    edge_starts,
+    heads,
+    tails,
+    group_starts,
+    complete,
+    permutations,
+    valence,
+    carbon,
+    element,
+    per_label,
+    bond_sum,
+    max_extra,
+    token_start,
+    token_end,
+    pool,
+    check_aromatic,
+    sharp,
+):
+    """:func:`label_and_write` on several skeletons of ``n`` vertices in one call: skeleton ``b``
+    has the edges ``edge_starts[b]:edge_starts[b + 1]`` and the permutation rows
+    ``group_starts[b]:group_starts[b + 1]``, its whole automorphism group where ``complete[b]``,
+    else generators of it (:func:`closure`). Returns the SMILES text of them all, the aromatic
+    flags and how many structures each skeleton has."""
+    skeletons = edge_starts.shape[0] - 1
+    counts = np.zeros(skeletons, dtype=np.int64)
+    texts = []
+    flags = []
+    total_text = 0
+    total = 0
+    for b in range(skeletons):
+        h = heads[edge_starts[b] : edge_starts[b + 1]].copy()
+        t = tails[edge_starts[b] : edge_starts[b + 1]].copy()
+        rows = permutations[group_starts[b] : group_starts[b + 1]].copy()
+        group = rows if complete[b] else closure(n, rows)
+        found = label_and_write(
+            n,
+            h,
+            t,
+            group,
+            valence,
+            carbon,
+            element,
+            per_label,
+            bond_sum - h.shape[0],
+            max_extra,
+            token_start,
+            token_end,
+            pool,
+            check_aromatic,
+            sharp,
+        )
+        text = found[3]
+        aromatic = found[5]
+        counts[b] = aromatic.shape[0]
+        texts.append(text)
+        flags.append(aromatic)
+        total_text += text.shape[0]
+        total += aromatic.shape[0]
+    all_text = np.empty(total_text, dtype=np.uint8)
+    all_flags = np.empty(total, dtype=np.bool_)
+    at = 0
+    k = 0
+    for b in range(skeletons):
+        all_text[at : at + texts[b].shape[0]] = texts[b]
+        at += texts[b].shape[0]
+        all_flags[k : k + flags[b].shape[0]] = flags[b]
+        k += flags[b].shape[0]
+    return all_text, all_flags, counts

@@ -31,14 +31,17 @@ from .writer import atom_token
 
 __all__ = [
     "AVAILABLE",
+    "CLOSED_IN_KERNEL",
     "ENGINES",
     "PYTHON_FIRST",
+    "Batch",
     "Engine",
     "KernelLabels",
     "Labelled",
     "check_engine",
     "kernel_labels",
     "label_and_write",
+    "label_and_write_many",
     "labelled_in_python",
     "template_program",
     "wanted",
@@ -203,6 +206,81 @@ def label_and_write(
         sharp,
     )
     return Labelled(colourings, orders, hydrogens, text.tobytes(), ends, aromatic)
+
+
+@dataclass(frozen=True)
+class Batch:
+    """What :func:`label_and_write_many` returns: per skeleton, its structures' SMILES (written
+    from the skeleton) and whether each may be aromatic."""
+
+    smiles: list[list[str]]
+    aromatic: list[list[bool]]
+
+
+#: automorphism groups up to this order are closed from their generators in the compiled core;
+#: larger ones are listed in Python (:func:`.skeletons.automorphisms`)
+CLOSED_IN_KERNEL = 64
+
+
+def label_and_write_many(
+    n: int,
+    skeletons: Sequence[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool]],
+    labels: KernelLabels,
+    per_label: Sequence[int],
+    bond_sum: int,
+    max_extra: int,
+    *,
+    check_aromatic: bool,
+) -> Batch:
+    """:func:`label_and_write` on several skeletons of ``n`` vertices in one call (each given as
+    its edges, permutations and whether they are its whole automorphism group, else generators
+    of a group of order at most :data:`CLOSED_IN_KERNEL`), ``bond_sum`` the plan's bond-order
+    sum; the same structures, in the same order."""
+    from . import _compiled
+
+    edge_starts = [0]
+    group_starts = [0]
+    heads: list[int] = []
+    tails: list[int] = []
+    rows: list[Sequence[int]] = []
+    complete = []
+    for edges, permutations, whole in skeletons:
+        heads += [a for a, _ in edges]
+        tails += [b for _, b in edges]
+        edge_starts.append(len(heads))
+        rows += permutations
+        group_starts.append(len(rows))
+        complete.append(whole)
+    text, aromatic, counts = _compiled.label_and_write_many(
+        n,
+        np.array(edge_starts, dtype=np.int64),
+        np.array(heads, dtype=np.int64),
+        np.array(tails, dtype=np.int64),
+        np.array(group_starts, dtype=np.int64),
+        np.array(complete, dtype=np.bool_),
+        np.array(rows, dtype=np.int64).reshape(len(rows), n),
+        labels.valence,
+        labels.carbon,
+        labels.element,
+        np.array(per_label, dtype=np.int64),
+        bond_sum,
+        max_extra,
+        labels.token_start,
+        labels.token_end,
+        labels.pool,
+        check_aromatic,
+        True,
+    )
+    strings = text.tobytes().decode("ascii").split("\n")
+    flags = aromatic.tolist()
+    smiles_out: list[list[str]] = []
+    aromatic_out: list[list[bool]] = []
+    at = 0
+    for count in counts.tolist():
+        smiles_out.append(strings[at : at + count])
+        aromatic_out.append(flags[at : at + count])
+        at += count
+    return Batch(smiles_out, aromatic_out)
 
 
 def template_program(n: int, edges: Sequence[tuple[int, int]]) -> tuple[np.ndarray, np.ndarray]:

@@ -20,6 +20,7 @@ connected), so pruning children that break them loses nothing.
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator, Sequence
+from functools import lru_cache
 from itertools import combinations
 from typing import NamedTuple
 
@@ -29,6 +30,7 @@ __all__ = [
     "PartialGraph",
     "Skeleton",
     "adjacency_lists",
+    "automorphism_generators",
     "automorphisms",
     "children",
     "frontier",
@@ -178,14 +180,16 @@ def children(
         max_size = 1
     # degree-sequence domination depends only on the degrees of the chosen vertices: decided
     # once per multiset (counting form: for every t, at most as many degrees >= t as bounds >= t)
-    room = [sum(1 for b in bounds if b >= t) for t in range(top + 2)]
-    at_least = [sum(1 for d in degrees if d >= t) for t in range(top + 2)]
+    room = _at_least(tuple(bounds), top)
+    at_least = _at_least(tuple(degrees), top)
     dominated: dict[tuple[int, ...], bool] = {}
     # isomorphic accepted children come only from sets in one orbit of Aut(parent); with a
     # trivial group there are none, so certificates are needed only otherwise
     symmetric = k > 1 and pynauty.autgrp(nauty_graph(k, adj))[1] > 1
     seen: set[bytes] = set()
     splits: dict[int, tuple[list[int], int]] | None = None  # the parent's cut vertices, found once
+    sums: list[int] | None = None  # the parent's neighbour-degree sums, found once
+    leaf_list: list[int] = []
     for size in range(1, max_size + 1):
         for subset in combinations(open_vertices, size):
             if size > 1 and leaves and sum(1 for u in subset if degrees[u] == 1) < leaves:
@@ -197,7 +201,10 @@ def children(
             if not ok:
                 continue
             if size == 1:
-                tied = _leaf_ties(adj, degrees, subset[0])
+                if sums is None:
+                    sums = [sum(degrees[x] for x in nb) for nb in adj]
+                    leaf_list = [w for w in range(k) if degrees[w] == 1]
+                tied = _leaf_ties(adj, degrees, subset[0], sums, leaf_list)
                 if tied is None:
                     continue
             child = [nb[:] for nb in adj]
@@ -225,6 +232,12 @@ def children(
                     continue
                 seen.add(cert)
             yield PartialGraph(k + 1, tuple(tuple(nb) for nb in child), rings + size - 1)
+
+
+@lru_cache(maxsize=4096)
+def _at_least(values: tuple[int, ...], top: int) -> list[int]:
+    """For t = 0..top+1, how many of ``values`` are at least t (read, never changed)."""
+    return [sum(1 for x in values if x >= t) for t in range(top + 2)]
 
 
 def _dominated_after(degrees: tuple[int, ...], at_least: list[int], room: list[int], top: int) -> bool:
@@ -396,29 +409,39 @@ def _canonical_deletion_ok(adj: list[list[int]], v: int, cut: set[int]) -> bool:
     return not tied or _first_in_orbit(adj, v, tied)
 
 
-def _leaf_ties(adj: list[list[int]], degrees: list[int], u: int) -> list[int] | None:
+def _leaf_ties(
+    adj: list[list[int]],
+    degrees: list[int],
+    u: int,
+    sums: Sequence[int] | None = None,
+    leaves: Sequence[int] | None = None,
+) -> list[int] | None:
     """For the child that adds a leaf v at ``u``: None when another leaf has a larger invariant
     (v is not m(H)), else the other leaves whose invariant equals v's (empty: v is m(H)). The
     same test as :func:`_canonical_deletion_ok`, on the parent's adjacency, without building
-    the child."""
-    k = len(adj)
-
-    def degree(x: int) -> int:
-        return degrees[x] + (x == u) if x < k else 1
-
-    def around(p: int) -> tuple[int, int]:  # the invariant of a leaf hanging on p in the child
-        total = sum(degree(x) for x in adj[p]) + (1 if p == u else 0)
-        return degree(p), total
-
-    mine = around(u)
+    the child. ``sums`` (the parent's neighbour-degree sums) and ``leaves`` (its leaves), when
+    given, are read instead of computed."""
+    if sums is None:
+        sums = [sum(degrees[x] for x in nb) for nb in adj]
+    if leaves is None:
+        leaves = [w for w in range(len(adj)) if degrees[w] == 1]
+    # the invariant of a leaf hanging on p in the child: p's degree, and the degrees around p
+    # (u's is one more, and u gains the new leaf, of degree 1)
+    near_u = adj[u]
+    mine = (degrees[u] + 1, sums[u] + 1)
     tied = []
-    for w in range(k):
-        if w != u and degrees[w] == 1:
-            theirs = around(adj[w][0])
-            if theirs > mine:
-                return None
-            if theirs == mine:
-                tied.append(w)
+    for w in leaves:
+        if w == u:
+            continue
+        p = adj[w][0]
+        if p == u:
+            theirs = mine
+        else:
+            theirs = (degrees[p], sums[p] + (1 if p in near_u else 0))
+        if theirs > mine:
+            return None
+        if theirs == mine:
+            tied.append(w)
     return tied
 
 
@@ -445,6 +468,14 @@ def _invariant(adj: list[list[int]], u: int) -> tuple[int, int]:
         for x in adj[w]:
             second += len(adj[x])
     return first, second
+
+
+def automorphism_generators(n: int, edges: Sequence[tuple[int, int]]) -> tuple[list[tuple[int, ...]], float]:
+    """Generators of the skeleton's automorphism group (nauty's) and the group's order."""
+    if not edges:
+        return [], float(_factorial(n))
+    generators, order, _, _, _ = pynauty.autgrp(nauty_graph(n, adjacency_lists(n, edges)))
+    return [tuple(g) for g in generators], order
 
 
 def automorphisms(n: int, edges: Sequence[tuple[int, int]], *, limit: int = 5000) -> list[tuple[int, ...]] | None:

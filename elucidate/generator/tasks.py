@@ -8,7 +8,7 @@ many there are.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -28,7 +28,7 @@ from .labelling import (
 from .options import GeneratorOptions
 from .plans import Plan, default_valence_states, valence_plans
 from .selection import CompiledSelection, Selection
-from .skeletons import PartialGraph, automorphisms, children, frontier, grow
+from .skeletons import PartialGraph, automorphism_generators, automorphisms, children, frontier, grow
 from .smiles import sanitized
 from .writer import Template
 
@@ -62,6 +62,11 @@ PARTS_PER_WORKER = 16
 #: building and scoring a structure): a space whose walks mostly dead-end can hold few
 #: structures and still take hours to grow
 NODES_PER_STRUCTURE = 10
+#: skeletons the compiled core labels in one call
+SKELETONS_PER_CALL = 64
+#: automorphism groups larger than this are not listed: those skeletons use canonical
+#: certificates (as :func:`.labelling.structures_on_skeleton` does)
+AUTOMORPHISMS_LISTED = 5000
 #: heavier formulas are refused before their space is estimated: the estimate's walks alone
 #: take seconds per formula there (8.6 s for C30H30N4O4, 38 heavy atoms), and no space of that
 #: size fits the structure limits a run can enumerate (docs/generator.md)
@@ -263,9 +268,31 @@ def task_smiles(
                     yield written
             return
         labels = kernel.kernel_labels(plan.labels)
+        batch: list[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool]] = []
+
+        def flush() -> Iterator[str]:
+            found = kernel.label_and_write_many(
+                plan.n, batch, labels, plan.counts, plan.bond_sum, plan.max_extra, check_aromatic=not kekule
+            )
+            for (edges, _, _), strings, flags in zip(batch, found.smiles, found.aromatic, strict=True):
+                for written, aromatic in zip(strings, flags, strict=True):
+                    if budget is not None:
+                        budget.take()
+                    if not aromatic:
+                        yield written
+                        continue
+                    # may be aromatic: RDKit reads the Kekulé form written from the skeleton (in
+                    # C++, cheaper than building the molecule atom by atom) and writes its
+                    # canonical SMILES
+                    merged = out.merged(Chem.MolFromSmiles(written), edges)
+                    if merged is not None:
+                        yield merged
+            batch.clear()
+
         for size, edges in _skeletons(task, budget):
-            group = automorphisms(size, edges)
-            if group is None:  # too many automorphisms to list: the Python path's certificates
+            generators, order = automorphism_generators(size, edges)
+            if order > AUTOMORPHISMS_LISTED:  # too many to list: the Python path's certificates
+                yield from flush()
                 for s in structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra):
                     if budget is not None:
                         budget.take()
@@ -273,27 +300,15 @@ def task_smiles(
                     if written is not None:
                         yield written
                 continue
-            found = kernel.label_and_write(
-                size,
-                edges,
-                group,
-                labels,
-                plan.counts,
-                plan.bond_sum - len(edges),
-                plan.max_extra,
-                check_aromatic=not kekule,
-            )
-            for written, aromatic in zip(found.all_smiles(), found.aromatic.tolist(), strict=True):
-                if budget is not None:
-                    budget.take()
-                if not aromatic:
-                    yield written
-                    continue
-                # may be aromatic: RDKit reads the Kekulé form written from the skeleton (in C++,
-                # cheaper than building the molecule atom by atom) and writes its canonical SMILES
-                merged = out.merged(Chem.MolFromSmiles(written), edges)
-                if merged is not None:
-                    yield merged
+            if order > kernel.CLOSED_IN_KERNEL:
+                group = automorphisms(size, edges, limit=AUTOMORPHISMS_LISTED)
+                assert group is not None
+                batch.append((edges, group, True))
+            else:
+                batch.append((edges, generators, False))
+            if len(batch) == SKELETONS_PER_CALL:
+                yield from flush()
+        yield from flush()
 
 
 class _TaskWriter:
