@@ -172,6 +172,14 @@ def test_auto_starts_the_compiled_core_only_after_enough_python_work(monkeypatch
     assert not kernel.wanted("python")
 
 
+def test_without_numba_auto_stays_in_python_and_compiled_says_why(monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr(kernel, "_unavailable", lambda: "numba cannot be imported (test)")
+    monkeypatch.setattr(kernel._Usage, "python", kernel.PYTHON_FIRST)
+    assert not kernel.wanted("auto")
+    with pytest.raises(ElucidateError, match="numba cannot be imported"):
+        kernel.wanted("compiled")
+
+
 @pytest.mark.parametrize("formula", ["C7H8O", "C8H18", "C6H6"])
 def test_many_skeletons_in_one_call_are_labelled_as_one_by_one(formula: str) -> None:
     from elucidate.generator._compiled import closure

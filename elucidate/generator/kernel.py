@@ -1,4 +1,5 @@
-"""The compiled core: labelling one skeleton and writing each structure's SMILES in one call.
+"""The compiled core: labelling skeletons and writing each structure's SMILES, many skeletons
+to a call (:func:`label_and_write_many`; :func:`label_and_write` takes one).
 
 :func:`label_and_write` does, in machine code (numba), what :func:`.labelling.structures_on_skeleton`
 and :meth:`.writer.Template.write` do in Python for the plain case (no required-group
@@ -10,9 +11,11 @@ template; and the flag of :meth:`~.writer.Template.may_be_aromatic`. The structu
 and their strings are exactly those of the Python path, which stays as the reference
 (tests/test_kernel.py compares the two on every skeleton of several formulas).
 
-numba is a dependency installed from its wheels (no compiler). When it cannot be imported,
-:data:`AVAILABLE` is False and the generator runs the Python path alone. The compiled code is
-cached on disk (numba's ``cache=True``), so only a machine's first run pays for compiling it.
+numba is a dependency installed from its wheels (no compiler). When it cannot be imported, the
+generator runs the Python path alone (engine ``auto``) or says why (engine ``compiled``). The
+compiled code is cached on disk (numba's ``cache=True``), so only a machine's first run pays for
+compiling it; each process still pays about a second to import numba and read that cache, which
+is why ``auto`` waits for :data:`PYTHON_FIRST` structures.
 """
 
 from __future__ import annotations
@@ -83,10 +86,28 @@ def labelled_in_python(count: int) -> None:
 
 
 def wanted(engine: Engine) -> bool:
-    """Whether the compiled core labels what it can, for this ``engine`` now."""
-    if engine == "python" or not AVAILABLE:
+    """Whether the compiled core labels what it can, for this ``engine`` now. ``compiled``
+    without a working numba is an error naming the reason; ``auto`` then stays in Python."""
+    if engine == "python" or (engine == "auto" and _Usage.python < PYTHON_FIRST):
         return False
-    return engine == "compiled" or _Usage.python >= PYTHON_FIRST
+    why = _unavailable()
+    if why is None:
+        return True
+    if engine == "compiled":
+        raise ElucidateError(f"the compiled generator engine is not available: {why}; use engine auto or python")
+    return False
+
+
+@cache
+def _unavailable() -> str | None:
+    """Why numba cannot run the compiled core in this process, or None when it can."""
+    if not AVAILABLE:
+        return "numba is not installed"
+    try:
+        import numba  # noqa: F401
+    except ImportError as exc:
+        return f"numba cannot be imported ({exc})"
+    return None
 
 
 @dataclass(frozen=True)
@@ -183,7 +204,9 @@ def label_and_write(
     edge), one per orbit of its automorphism ``group`` (vertex permutations, as
     :func:`~.skeletons.automorphisms` lists them), in the Python path's order, with the SMILES
     the skeleton's :class:`~.writer.Template` writes; ``check_aromatic``: flag those that may be
-    aromatic (else none is flagged)."""
+    aromatic (else none is flagged); ``sharp``: False flags every structure with a cycle of
+    atoms that each carry a multiple bond or are not carbon, without :mod:`.aromatic`'s count
+    (to measure what that count saves)."""
     from . import _compiled
 
     heads = np.array([a for a, _ in edges], dtype=np.int64)

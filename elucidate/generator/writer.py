@@ -195,7 +195,8 @@ class Template:
 
     @cached_property
     def program(self) -> np.ndarray:
-        """The walk for the compiled writer (:mod:`.kernel`): a field number (atom 0..n-1, edge
+        """The walk in the compiled core's form (:func:`.kernel.template_program` builds it
+        there; this is the reference its tests compare with): a field number (atom 0..n-1, edge
         n..n+m-1) or a literal character as minus its code."""
         codes: list[int] = []
         for x in self._steps:
