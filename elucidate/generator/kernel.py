@@ -242,7 +242,7 @@ class Batch:
 
 #: automorphism groups up to this order are closed from their generators in the compiled core;
 #: larger ones are listed in Python (:func:`.skeletons.automorphisms`)
-CLOSED_IN_KERNEL = 64
+CLOSED_IN_KERNEL = 256
 
 
 def label_and_write_many(
