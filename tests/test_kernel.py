@@ -218,3 +218,9 @@ def test_groups_listed_in_python_give_the_same_output(monkeypatch: pytest.Monkey
     python = list(isomer_smiles(f, GeneratorOptions(engine="python")))
     monkeypatch.setattr(kernel, "CLOSED_IN_KERNEL", 1)
     assert list(isomer_smiles(f, GeneratorOptions(engine="compiled"))) == python
+
+
+def test_worker_processes_run_the_compiled_core_with_the_same_output() -> None:
+    f = parse_formula("C6H6O")
+    python = list(isomer_smiles(f, GeneratorOptions(engine="python")))
+    assert list(isomer_smiles(f, GeneratorOptions(engine="compiled", workers=2))) == python

@@ -104,9 +104,11 @@ def _unavailable() -> str | None:
     if not AVAILABLE:
         return "numba is not installed"
     try:
-        import numba  # noqa: F401
+        from . import _compiled  # noqa: F401 - imports numba and sets up its cache
     except ImportError as exc:
         return f"numba cannot be imported ({exc})"
+    except RuntimeError as exc:  # numba finds no folder to cache the compiled code in
+        return f"numba cannot set up the compiled code ({exc})"
     return None
 
 
