@@ -36,9 +36,9 @@ def _aromatic(smiles: str) -> bool:
         ("C=C1OC=CC1=C", True),  # 3,4-dimethylenefuran: 2 + 1 + 1 + 2 shares of 1
         ("C1#CC=CC=C1", True),  # benzyne: the triple-bonded carbons give 1 each
         ("C1#CC=CC=CC=C1", False),  # cyclooctatrienyne: 8
-        ("C1=C=CC=CC=1", False),  # 1,2,4-cyclohexatriene: 4 + two cumulated carbons
-        ("C1=C=CC=C1", False),  # 1,2-cyclopentadiene: 4 + one
-        ("C1=C=COC=C1", False),  # 6 + one cumulated carbon
+        ("C1=C=CC=CC=1", False),  # 4 + two cumulated carbons (aromatic if each gave 1)
+        ("C1=C=CC=C1", False),  # 4 + one (aromatic if it gave 2)
+        ("C1=C=COC=C1", False),  # 6 + one (aromatic if it gave 0)
         # the RDKit Book's table: c(a)a 1, n(a)a 1, An(a)a 2, o(a)a 2, O=c(a)a 0, N=c(a)a 0
         ("C1=CC=CC=C1", True),
         ("C1=CC=NC=C1", True),

@@ -4,13 +4,14 @@ generator leaves to RDKit (Kekulé forms of an aromatic compound are merged ther
 The test may say yes where RDKit says no (RDKit then decides), never the reverse. It rests on
 the model as The RDKit Book states it ("The RDKit Aromaticity Model": a ring, or fused ring
 system, is aromatic when it obeys the 4N+2 rule, the electrons counted by atom type and
-environment) and on RDKit's own verdicts on small molecules (named below); tests/test_writer.py
-and tests/test_kernel.py check it against RDKit on every structure of many formulas.
+environment) and on RDKit's own verdicts on small molecules (named below); tests/test_aromatic.py
+and tests/test_writer.py check it against RDKit on every structure of several formulas and pin
+those verdicts.
 
 1. An aromatic ring's atoms are all candidates: not a saturated carbon, and not a carbon with
-   two double bonds (1,2,4-cyclohexatriene, 1,2-cyclopentadiene and 1,2,3,5-cyclohexatetraene
-   are not aromatic in RDKit, though such a carbon giving 0, 1 or 2 electrons would make one of
-   them so). A carbon with a triple bond is one (benzyne is aromatic in RDKit).
+   two double bonds (RDKit calls none of C1=C=COC=C1, C1=C=CC=CC=1 and C1=C=CC=C1 aromatic,
+   though such a carbon giving 0, 1 or 2 electrons would make the first, second or third so). A
+   carbon with a triple bond is one (benzyne is aromatic in RDKit).
 2. An aromatic ring's bonds lie on cycles. So every ring RDKit can call aromatic, and every fused
    system of them, lies in one component of the 2-core of the candidates' cycle edges.
 3. A component that is one simple cycle is the only ring (and fused system) there can be, and
