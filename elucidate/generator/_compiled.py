@@ -485,139 +485,127 @@ def label_and_write(
                 n_stab += 1
         if not canonical:
             continue
-        # bond orders: edge j tries 1 + top, ..., 1; a structure as soon as no order is left
+        # bond orders: edge j tries 1 + top, ..., 1; a structure as soon as no order is left.
+        # Entering edge j sets tried[j] one above its first order; every placement, the first
+        # and each lower one, is made by the step back below
         for v in range(n):
             free[v] = capacity[v]
         j = 0
         left = extra_total
-        entering = True
         while True:
-            if entering:
-                emit = left == 0
-                descend = False
-                if not emit and j < m and max_extra * (m - j) >= left:
-                    a = heads[j]
-                    b = tails[j]
-                    top = min(max_extra, free[a], free[b], left)
-                    tried[j] = top
-                    free[a] -= top
-                    free[b] -= top
-                    orders[j] = 1 + top
-                    left -= top
-                    j += 1
-                    descend = True
-                if descend:
-                    continue
-                if emit:
-                    keep = True
-                    for s in range(n_stab):
-                        p = stabilizer[s]
-                        for e in range(m):
-                            x = orders[edge_inverse[p, e]]
-                            if x != orders[e]:
-                                if x < orders[e]:
-                                    keep = False
-                                break
-                        if not keep:
+            if left == 0:
+                keep = True
+                for s in range(n_stab):
+                    p = stabilizer[s]
+                    for e in range(m):
+                        x = orders[edge_inverse[p, e]]
+                        if x != orders[e]:
+                            if x < orders[e]:
+                                keep = False
                             break
-                    if keep:
-                        if count == colourings.shape[0]:
-                            grown = 2 * count
-                            colourings2 = np.empty((grown, n), dtype=np.int64)
-                            colourings2[:count] = colourings
-                            colourings = colourings2
-                            orders2 = np.empty((grown, m), dtype=np.int64)
-                            orders2[:count] = orders_out
-                            orders_out = orders2
-                            hydrogens2 = np.empty((grown, n), dtype=np.int64)
-                            hydrogens2[:count] = hydrogens_out
-                            hydrogens_out = hydrogens2
-                            aromatic2 = np.zeros(grown, dtype=np.bool_)
-                            aromatic2[:count] = aromatic
-                            aromatic = aromatic2
-                            ends2 = np.empty(grown, dtype=np.int64)
-                            ends2[:count] = ends
-                            ends = ends2
+                    if not keep:
+                        break
+                if keep:
+                    if count == colourings.shape[0]:
+                        grown = 2 * count
+                        colourings2 = np.empty((grown, n), dtype=np.int64)
+                        colourings2[:count] = colourings
+                        colourings = colourings2
+                        orders2 = np.empty((grown, m), dtype=np.int64)
+                        orders2[:count] = orders_out
+                        orders_out = orders2
+                        hydrogens2 = np.empty((grown, n), dtype=np.int64)
+                        hydrogens2[:count] = hydrogens_out
+                        hydrogens_out = hydrogens2
+                        aromatic2 = np.zeros(grown, dtype=np.bool_)
+                        aromatic2[:count] = aromatic
+                        aromatic = aromatic2
+                        ends2 = np.empty(grown, dtype=np.int64)
+                        ends2[:count] = ends
+                        ends = ends2
+                    for v in range(n):
+                        used[v] = 0
+                    for e in range(m):
+                        used[heads[e]] += orders[e]
+                        used[tails[e]] += orders[e]
+                    for v in range(n):
+                        hydrogens[v] = valence[current[v]] - used[v]
+                        colourings[count, v] = current[v]
+                        hydrogens_out[count, v] = hydrogens[v]
+                    for e in range(m):
+                        orders_out[count, e] = orders[e]
+                    flag = False
+                    if check_aromatic and cycle.shape[0] > 0:
                         for v in range(n):
-                            used[v] = 0
-                        for e in range(m):
-                            used[heads[e]] += orders[e]
-                            used[tails[e]] += orders[e]
-                        for v in range(n):
-                            hydrogens[v] = valence[current[v]] - used[v]
-                            colourings[count, v] = current[v]
-                            hydrogens_out[count, v] = hydrogens[v]
-                        for e in range(m):
-                            orders_out[count, e] = orders[e]
-                        flag = False
-                        if check_aromatic and cycle.shape[0] > 0:
+                            parent[v] = v
+                        for k in range(cycle.shape[0]):
+                            e = cycle[k]
+                            a = heads[e]
+                            b = tails[e]
+                            if carbon[current[a]] and used[a] == degree[a]:
+                                continue
+                            if carbon[current[b]] and used[b] == degree[b]:
+                                continue
+                            while parent[a] != a:
+                                parent[a] = parent[parent[a]]
+                                a = parent[a]
+                            while parent[b] != b:
+                                parent[b] = parent[parent[b]]
+                                b = parent[b]
+                            if a == b:
+                                flag = True
+                                break
+                            parent[a] = b
+                        if flag and sharp:
                             for v in range(n):
-                                parent[v] = v
-                            for k in range(cycle.shape[0]):
-                                e = cycle[k]
-                                a = heads[e]
-                                b = tails[e]
-                                if carbon[current[a]] and used[a] == degree[a]:
-                                    continue
-                                if carbon[current[b]] and used[b] == degree[b]:
-                                    continue
-                                while parent[a] != a:
-                                    parent[a] = parent[parent[a]]
-                                    a = parent[a]
-                                while parent[b] != b:
-                                    parent[b] = parent[parent[b]]
-                                    b = parent[b]
-                                if a == b:
-                                    flag = True
-                                    break
-                                parent[a] = b
-                            if flag and sharp:
-                                for v in range(n):
-                                    element_at[v] = element[current[v]]
-                                flag = ring_may_be_aromatic(n, heads, tails, on_cycle, orders, element_at, used, degree)
-                        aromatic[count] = flag
-                        # the SMILES: the template's program, atoms and bonds filled in
-                        need = written + 8 * (n + m) + program.shape[0]
-                        if need > text.shape[0]:
-                            text2 = np.empty(max(2 * text.shape[0], need), dtype=np.uint8)
-                            text2[:written] = text[:written]
-                            text = text2
-                        for k in range(program.shape[0]):
-                            code = program[k]
-                            if code < 0:
-                                text[written] = -code
+                                element_at[v] = element[current[v]]
+                            flag = ring_may_be_aromatic(n, heads, tails, on_cycle, orders, element_at, used, degree)
+                    aromatic[count] = flag
+                    # the SMILES: the template's program, atoms and bonds filled in
+                    need = written + 8 * (n + m) + program.shape[0]
+                    if need > text.shape[0]:
+                        text2 = np.empty(max(2 * text.shape[0], need), dtype=np.uint8)
+                        text2[:written] = text[:written]
+                        text = text2
+                    for k in range(program.shape[0]):
+                        code = program[k]
+                        if code < 0:
+                            text[written] = -code
+                            written += 1
+                        elif code < n:
+                            label = current[code]
+                            h = hydrogens[code]
+                            for t in range(token_start[label, h], token_end[label, h]):
+                                text[written] = pool[t]
                                 written += 1
-                            elif code < n:
-                                label = current[code]
-                                h = hydrogens[code]
-                                for t in range(token_start[label, h], token_end[label, h]):
-                                    text[written] = pool[t]
-                                    written += 1
-                            else:
-                                o = orders[code - n]
-                                if o == 2:
-                                    text[written] = 61  # =
-                                    written += 1
-                                elif o == 3:
-                                    text[written] = 35  # #
-                                    written += 1
-                        text[written] = 10  # a newline after each
-                        written += 1
-                        ends[count] = written
-                        count += 1
-            # back: the deepest edge with a lower order left to try
+                        else:
+                            o = orders[code - n]
+                            if o == 2:
+                                text[written] = 61  # =
+                                written += 1
+                            elif o == 3:
+                                text[written] = 35  # #
+                                written += 1
+                    text[written] = 10  # a newline after each
+                    written += 1
+                    ends[count] = written
+                    count += 1
+            elif j < m and max_extra * (m - j) >= left:
+                tried[j] = min(max_extra, free[heads[j]], free[tails[j]], left) + 1
+                j += 1
+            # back: the deepest edge with a lower order left to try gets it
             moved = False
             while j > 0:
                 j -= 1
-                x = tried[j]
                 a = heads[j]
                 b = tails[j]
+                x = orders[j] - 1
                 free[a] += x
                 free[b] += x
                 left += x
                 orders[j] = 1
-                if x > 0:
-                    x -= 1
+                x = tried[j] - 1
+                if x >= 0:
                     tried[j] = x
                     free[a] -= x
                     free[b] -= x
@@ -628,7 +616,6 @@ def label_and_write(
                     break
             if not moved:
                 break
-            entering = True
     return (
         colourings[:count],
         orders_out[:count],
