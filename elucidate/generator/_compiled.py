@@ -384,6 +384,84 @@ def ring_may_be_aromatic(n, heads, tails, on_cycle, orders, element, used, degre
 
 
 @numba.njit(cache=True, nogil=True)
+def _labels_possible(upto, current, number, c_begin, c_end, cond_start, way_start, code):
+    """Whether every condition ``c_begin:c_end`` keeps a way whose element records on the
+    vertices below ``upto`` hold for the labels ``current`` (``number``: atomic number per
+    label). Records (in ``code``, way ``w`` at ``way_start[w]:way_start[w + 1]``): ``0 v z``
+    vertex v is element z; ``1 e o`` edge e has order o; ``2 k e1 .. ek`` one of these edges is
+    multiple."""
+    for c in range(c_begin, c_end):
+        found = False
+        for w in range(cond_start[c], cond_start[c + 1]):
+            ok = True
+            k = way_start[w]
+            end = way_start[w + 1]
+            while k < end:
+                kind = code[k]
+                if kind == 0:
+                    v = code[k + 1]
+                    if v < upto and number[current[v]] != code[k + 2]:
+                        ok = False
+                        break
+                    k += 3
+                elif kind == 1:
+                    k += 3
+                else:
+                    k += 2 + code[k + 1]
+            if ok:
+                found = True
+                break
+        if not found:
+            return False
+    return True
+
+
+@numba.njit(cache=True, nogil=True)
+def _orders_possible(placed, orders, alive, c_begin, c_end, cond_start, way_start, code):
+    """Whether every condition ``c_begin:c_end`` keeps a way, among those ``alive`` (their
+    element records hold), whose order records on the edges below ``placed`` hold (records as
+    in :func:`_labels_possible`; a multiple record is decided once all its edges are placed)."""
+    for c in range(c_begin, c_end):
+        found = False
+        for w in range(cond_start[c], cond_start[c + 1]):
+            if not alive[w]:
+                continue
+            ok = True
+            k = way_start[w]
+            end = way_start[w + 1]
+            while k < end:
+                kind = code[k]
+                if kind == 0:
+                    k += 3
+                elif kind == 1:
+                    e = code[k + 1]
+                    if e < placed and orders[e] != code[k + 2]:
+                        ok = False
+                        break
+                    k += 3
+                else:
+                    count = code[k + 1]
+                    last = -1
+                    multiple = False
+                    for t in range(k + 2, k + 2 + count):
+                        e = code[t]
+                        if e > last:
+                            last = e
+                        if orders[e] > 1:
+                            multiple = True
+                    if last < placed and not multiple:
+                        ok = False
+                        break
+                    k += 2 + count
+            if ok:
+                found = True
+                break
+        if not found:
+            return False
+    return True
+
+
+@numba.njit(cache=True, nogil=True)
 def label_and_write(
     n,
     heads,
@@ -400,9 +478,17 @@ def label_and_write(
     pool,
     check_aromatic,
     sharp,
+    number,
+    cond_start,
+    way_start,
+    code,
+    c_begin,
+    c_end,
 ):
     """See :func:`.kernel.label_and_write`; returns the arrays of :class:`.kernel.Labelled`
-    (the text as uint8)."""
+    (the text as uint8). Conditions ``c_begin:c_end`` (records as in :func:`_labels_possible`)
+    prune the labels as each vertex is labelled and the orders as each edge is placed; a
+    structure is kept only when every condition has a way whose records all hold."""
     m = heads.shape[0]
     n_labels = valence.shape[0]
     program, cycle = template(n, heads, tails)
@@ -426,7 +512,11 @@ def label_and_write(
     text = np.empty(64 * size, dtype=np.uint8)
     count = 0
     written = 0
-    if extra_total < 0 or extra_total > max_extra * m:
+    impossible = False
+    for c in range(c_begin, c_end):
+        if cond_start[c + 1] == cond_start[c]:
+            impossible = True  # a condition with no way at all: no structure meets it
+    if impossible or extra_total < 0 or extra_total > max_extra * m:
         return (colourings[:0], orders_out[:0], hydrogens_out[:0], text[:0], ends[:0], aromatic[:0])
     # colouring search state
     current = np.zeros(n, dtype=np.int64)
@@ -441,6 +531,22 @@ def label_and_write(
     used = np.empty(n, dtype=np.int64)
     hydrogens = np.empty(n, dtype=np.int64)
     parent = np.empty(n, dtype=np.int64)
+    # conditions: the vertices after whose label they are tested, and per way whether its
+    # element records hold on the current labelling
+    conditional = c_end > c_begin
+    watch = np.zeros(n, dtype=np.bool_)
+    alive = np.zeros(max(way_start.shape[0] - 1, 1), dtype=np.bool_)
+    if conditional:
+        for w in range(cond_start[c_begin], cond_start[c_end]):
+            k = way_start[w]
+            while k < way_start[w + 1]:
+                if code[k] == 0:
+                    watch[code[k + 1]] = True
+                    k += 3
+                elif code[k] == 1:
+                    k += 3
+                else:
+                    k += 2 + code[k + 1]
     i = 0
     while i >= 0:
         if i < n:
@@ -458,6 +564,12 @@ def label_and_write(
             remaining[c] -= 1
             choice[i] = c
             current[i] = c
+            if (
+                conditional
+                and watch[i]
+                and not _labels_possible(i + 1, current, number, c_begin, c_end, cond_start, way_start, code)
+            ):
+                continue  # the next label at vertex i
             i += 1
             continue
         # a full colouring: vertex i == n; afterwards back to the last vertex
@@ -485,6 +597,22 @@ def label_and_write(
                 n_stab += 1
         if not canonical:
             continue
+        if conditional:
+            # every condition has a way whose element records hold (the labels were pruned on
+            # them); the order records are read on these
+            for w in range(cond_start[c_begin], cond_start[c_end]):
+                alive[w] = True
+                k = way_start[w]
+                while k < way_start[w + 1]:
+                    if code[k] == 0:
+                        if number[current[code[k + 1]]] != code[k + 2]:
+                            alive[w] = False
+                            break
+                        k += 3
+                    elif code[k] == 1:
+                        k += 3
+                    else:
+                        k += 2 + code[k + 1]
         # bond orders: edge j tries 1 + top, ..., 1; a structure as soon as no order is left.
         # Entering edge j sets tried[j] one above its first order; every placement, the first
         # and each lower one, is made by the step back below
@@ -494,8 +622,11 @@ def label_and_write(
         left = extra_total
         while True:
             if left == 0:
-                keep = True
-                for s in range(n_stab):
+                # every edge is placed (those from j on stay single)
+                keep = not conditional or _orders_possible(
+                    m, orders, alive, c_begin, c_end, cond_start, way_start, code
+                )
+                for s in range(n_stab if keep else 0):
                     p = stabilizer[s]
                     for e in range(m):
                         x = orders[edge_inverse[p, e]]
@@ -568,18 +699,18 @@ def label_and_write(
                         text2[:written] = text[:written]
                         text = text2
                     for k in range(program.shape[0]):
-                        code = program[k]
-                        if code < 0:
-                            text[written] = -code
+                        op = program[k]
+                        if op < 0:
+                            text[written] = -op
                             written += 1
-                        elif code < n:
-                            label = current[code]
-                            h = hydrogens[code]
+                        elif op < n:
+                            label = current[op]
+                            h = hydrogens[op]
                             for t in range(token_start[label, h], token_end[label, h]):
                                 text[written] = pool[t]
                                 written += 1
                         else:
-                            o = orders[code - n]
+                            o = orders[op - n]
                             if o == 2:
                                 text[written] = 61  # =
                                 written += 1
@@ -590,6 +721,8 @@ def label_and_write(
                     written += 1
                     ends[count] = written
                     count += 1
+            elif conditional and not _orders_possible(j, orders, alive, c_begin, c_end, cond_start, way_start, code):
+                pass  # some condition has no way left on the edges placed: back
             elif j < m and max_extra * (m - j) >= left:
                 tried[j] = min(max_extra, free[heads[j]], free[tails[j]], left) + 1
                 j += 1
@@ -684,11 +817,17 @@ def label_and_write_many(
     pool,
     check_aromatic,
     sharp,
+    number,
+    cond_start,
+    way_start,
+    code,
+    skeleton_conditions,
 ):
     """:func:`label_and_write` on several skeletons of ``n`` vertices in one call: skeleton ``b``
-    has the edges ``edge_starts[b]:edge_starts[b + 1]`` and the permutation rows
+    has the edges ``edge_starts[b]:edge_starts[b + 1]``, the permutation rows
     ``group_starts[b]:group_starts[b + 1]``, its whole automorphism group where ``complete[b]``,
-    else generators of it (:func:`closure`). Returns the SMILES text of them all, the aromatic
+    else generators of it (:func:`closure`), and the conditions
+    ``skeleton_conditions[b]:skeleton_conditions[b + 1]``. Returns the SMILES text of them all, the aromatic
     flags and how many structures each skeleton has."""
     skeletons = edge_starts.shape[0] - 1
     counts = np.zeros(skeletons, dtype=np.int64)
@@ -717,6 +856,12 @@ def label_and_write_many(
             pool,
             check_aromatic,
             sharp,
+            number,
+            cond_start,
+            way_start,
+            code,
+            skeleton_conditions[b],
+            skeleton_conditions[b + 1],
         )
         text = found[3]
         aromatic = found[5]

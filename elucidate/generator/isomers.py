@@ -44,6 +44,7 @@ from .tasks import (
     generation_tasks,
     run_job,
     selection_plans,
+    task_count,
     task_smiles,
     task_structures,
 )
@@ -167,8 +168,8 @@ def within_budget(
         left = StructureBudget(budget)
         try:
             for task in generation_tasks(plans):
-                for _ in task_structures(task, prefilter, budget=left):
-                    left.take()
+                for _ in task_count(task, prefilter, left, engine=options.engine):
+                    pass
         except TooManyStructures:
             return False
         return True

@@ -38,6 +38,7 @@ __all__ = [
     "ENGINES",
     "PYTHON_FIRST",
     "Batch",
+    "Conditions",
     "Engine",
     "KernelLabels",
     "Labelled",
@@ -47,6 +48,7 @@ __all__ = [
     "label_and_write_many",
     "labelled_in_python",
     "template_program",
+    "usable",
     "wanted",
 ]
 
@@ -98,6 +100,11 @@ def wanted(engine: Engine) -> bool:
     return False
 
 
+def usable() -> bool:
+    """Whether the compiled core can run in this process (imports numba on first call)."""
+    return _unavailable() is None
+
+
 @cache
 def _unavailable() -> str | None:
     """Why numba cannot run the compiled core in this process, or None when it can."""
@@ -120,6 +127,7 @@ class KernelLabels:
     valence: np.ndarray  # int64 per label
     carbon: np.ndarray  # bool per label
     element: np.ndarray  # int64 per label: the atomic number of C, N and O, 0 for the others
+    number: np.ndarray  # int64 per label: its atomic number
     token_start: np.ndarray  # int64 (label, hydrogens)
     token_end: np.ndarray  # int64 (label, hydrogens)
     pool: np.ndarray  # uint8
@@ -132,6 +140,9 @@ _SHARED_ELEMENTS = {"C": 6, "N": 7, "O": 8}
 @cache
 def kernel_labels(labels: tuple[tuple[str, int], ...]) -> KernelLabels:
     """:class:`KernelLabels` of a plan's (element, valence state) labels."""
+    from .._rdkit import Chem
+
+    table = Chem.GetPeriodicTable()
     top = max(v for _, v in labels)
     start = np.zeros((len(labels), top + 1), dtype=np.int64)
     end = np.zeros((len(labels), top + 1), dtype=np.int64)
@@ -145,6 +156,7 @@ def kernel_labels(labels: tuple[tuple[str, int], ...]) -> KernelLabels:
         np.array([v for _, v in labels], dtype=np.int64),
         np.array([s == "C" for s, _ in labels], dtype=np.bool_),
         np.array([_SHARED_ELEMENTS.get(s, 0) for s, _ in labels], dtype=np.int64),
+        np.array([table.GetAtomicNumber(s) for s, _ in labels], dtype=np.int64),
         start,
         end,
         np.frombuffer(bytes(pool), dtype=np.uint8).copy(),
@@ -189,6 +201,31 @@ class Labelled:
         )
 
 
+#: conditions a structure must meet (required groups read off the labels and bond orders,
+#: :meth:`.labelling.SkeletonTest.kernel_conditions`): per condition its ways, of which one
+#: must hold, each a flat run of records: ``0 v z`` vertex v is element z, ``1 e o`` edge e
+#: has order o, ``2 k e1 .. ek`` one of these k edges is a double or triple bond
+Conditions: TypeAlias = "tuple[tuple[tuple[int, ...], ...], ...]"
+
+
+def _flat_conditions(per_skeleton: Sequence[Conditions]) -> tuple[np.ndarray, ...]:
+    """The arrays the compiled core reads conditions from: per condition the start of its ways,
+    per way the start of its records, the records, and per skeleton the start of its
+    conditions."""
+    cond_start = [0]
+    way_start = [0]
+    code: list[int] = []
+    skeleton_start = [0]
+    for conditions in per_skeleton:
+        for ways in conditions:
+            for way in ways:
+                code += way
+                way_start.append(len(code))
+            cond_start.append(len(way_start) - 1)
+        skeleton_start.append(len(cond_start) - 1)
+    return tuple(np.array(a, dtype=np.int64) for a in (cond_start, way_start, code, skeleton_start))
+
+
 def label_and_write(
     n: int,
     edges: Sequence[tuple[int, int]],
@@ -200,6 +237,7 @@ def label_and_write(
     *,
     check_aromatic: bool,
     sharp: bool = True,
+    conditions: Conditions = (),
 ) -> Labelled:
     """Every structure on the skeleton (``n`` vertices, ``edges`` sorted) with ``per_label``
     atoms of each label and ``extra_total`` bond orders above single (at most ``max_extra`` per
@@ -208,8 +246,11 @@ def label_and_write(
     the skeleton's :class:`~.writer.Template` writes; ``check_aromatic``: flag those that may be
     aromatic (else none is flagged); ``sharp``: False flags every structure with a cycle of
     atoms that each carry a multiple bond or are not carbon, without :mod:`.aromatic`'s count
-    (to measure what that count saves)."""
+    (to measure what that count saves); ``conditions``: what each structure must meet (the
+    search is pruned on them as labels and orders are placed)."""
     from . import _compiled
+
+    cond_start, way_start, code, _ = _flat_conditions([conditions])
 
     heads = np.array([a for a, _ in edges], dtype=np.int64)
     tails = np.array([b for _, b in edges], dtype=np.int64)
@@ -229,6 +270,12 @@ def label_and_write(
         labels.pool,
         check_aromatic,
         sharp,
+        labels.number,
+        cond_start,
+        way_start,
+        code,
+        0,
+        len(conditions),
     )
     return Labelled(colourings, orders, hydrogens, text.tobytes(), ends, aromatic)
 
@@ -249,7 +296,7 @@ CLOSED_IN_KERNEL = 256
 
 def label_and_write_many(
     n: int,
-    skeletons: Sequence[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool]],
+    skeletons: Sequence[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool, Conditions]],
     labels: KernelLabels,
     per_label: Sequence[int],
     bond_sum: int,
@@ -258,9 +305,9 @@ def label_and_write_many(
     check_aromatic: bool,
 ) -> Batch:
     """:func:`label_and_write` on several skeletons of ``n`` vertices in one call (each given as
-    its edges, permutations and whether they are its whole automorphism group, else generators
-    of a group of order at most :data:`CLOSED_IN_KERNEL`), ``bond_sum`` the plan's bond-order
-    sum; the same structures, in the same order."""
+    its edges, permutations, whether they are its whole automorphism group, else generators
+    of a group of order at most :data:`CLOSED_IN_KERNEL`, and its :data:`Conditions`),
+    ``bond_sum`` the plan's bond-order sum; the same structures, in the same order."""
     from . import _compiled
 
     edge_starts = [0]
@@ -269,13 +316,14 @@ def label_and_write_many(
     tails: list[int] = []
     rows: list[Sequence[int]] = []
     complete = []
-    for edges, permutations, whole in skeletons:
+    for edges, permutations, whole, _ in skeletons:
         heads += [a for a, _ in edges]
         tails += [b for _, b in edges]
         edge_starts.append(len(heads))
         rows += permutations
         group_starts.append(len(rows))
         complete.append(whole)
+    cond_start, way_start, code, skeleton_start = _flat_conditions([c for *_, c in skeletons])
     text, aromatic, counts = _compiled.label_and_write_many(
         n,
         np.array(edge_starts, dtype=np.int64),
@@ -295,6 +343,11 @@ def label_and_write_many(
         labels.pool,
         check_aromatic,
         True,
+        labels.number,
+        cond_start,
+        way_start,
+        code,
+        skeleton_start,
     )
     strings = text.tobytes().decode("ascii").split("\n")
     flags = aromatic.tolist()

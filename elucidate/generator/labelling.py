@@ -303,9 +303,13 @@ class SkeletonTest:
             _BOND_TYPES.update({1: Chem.BondType.SINGLE, 2: Chem.BondType.DOUBLE, 3: Chem.BondType.TRIPLE})
         self.free = [_element_free(labelled) for _, labelled, _ in patterns]
         self.relaxed = [_relaxed(kekule) if kekule is not None else None for _, _, kekule in patterns]
+        # the relaxed kekule patterns with their elements written * too, matched once per bare
+        # skeleton for the compiled core (kernel_conditions)
+        self.relaxed_free = [_element_free(split.pattern) if split is not None else None for split in self.relaxed]
         table = Chem.GetPeriodicTable()
         self.numbers = [table.GetAtomicNumber(sym) for sym, _ in labels]
         self.mol: RWMol | None = None
+        self._atoms: dict[int, RWMol] = {}
         self._incident: list[tuple[int, ...]] = []
         # per labelled condition of the current skeleton: the (vertex, atomic number) sets of
         # which one must hold, or None where RDKit tests each labelling
@@ -319,11 +323,14 @@ class SkeletonTest:
     def bare_ok(self, n: int, edges: Sequence[tuple[int, int]]) -> bool:
         from .._rdkit import Chem
 
-        mol = Chem.RWMol()
-        for _ in range(n):
-            atom = Chem.Atom(6)
-            atom.SetNoImplicit(True)
-            mol.AddAtom(atom)
+        bare = self._atoms.get(n)
+        if bare is None:  # n carbons with no implicit hydrogens, copied for each skeleton
+            bare = self._atoms[n] = Chem.RWMol()
+            for _ in range(n):
+                atom = Chem.Atom(6)
+                atom.SetNoImplicit(True)
+                bare.AddAtom(atom)
+        mol = Chem.RWMol(bare)
         incident: list[list[int]] = [[] for _ in range(n)]
         for j, (a, b) in enumerate(edges):
             mol.AddBond(a, b, Chem.BondType.SINGLE)
@@ -400,6 +407,53 @@ class SkeletonTest:
             if not mol.HasSubstructMatch(kekule):
                 return False
         return True
+
+    @property
+    def readable(self) -> bool:
+        """Whether :meth:`kernel_conditions` can read every condition (else RDKit tests some
+        per labelling or per multigraph, on every skeleton)."""
+        kekule = [free for (_, _, pattern), free in zip(self.patterns, self.relaxed_free, strict=True) if pattern]
+        return all(split is not None for split in self.free) and all(free is not None for free in kekule)
+
+    def kernel_conditions(self) -> tuple[tuple[tuple[int, ...], ...], ...] | None:
+        """The conditions of the skeleton of the last :meth:`bare_ok` (which must have held) as
+        the compiled core reads them (:data:`.kernel.Conditions`): each labelled condition's
+        (vertex, atomic number) sets, and each kekule condition's ways with the elements they
+        ask for, all found on the bare skeleton. A match of a relaxed pattern on a labelled
+        skeleton is a match of its element-free form on the bare skeleton whose vertices carry
+        the elements the pattern names (atoms and degrees are the same, every bond is ``~``),
+        so these are the ways :meth:`order_ways` finds, for every labelling at once. None when
+        some condition is tested by RDKit per labelling or per multigraph (or has too many
+        matches to list): the skeleton is then labelled in Python."""
+        mol = self.mol
+        assert mol is not None, "bare_ok first"
+        conditions: list[tuple[tuple[int, ...], ...]] = []
+        for sets in self._labellings:
+            if sets is None:
+                return None
+            conditions.append(tuple(tuple(x for v, z in way for x in (0, v, z)) for way in sets))
+        for (_, _, kekule), split, free in zip(self.patterns, self.relaxed, self.relaxed_free, strict=True):
+            if kekule is None:
+                continue
+            if split is None or free is None:
+                return None
+            matches = mol.GetSubstructMatches(free.pattern, uniquify=False, maxMatches=_MAX_RELAXED_MATCHES)
+            if len(matches) >= _MAX_RELAXED_MATCHES:
+                return None
+            (numbers,) = free.wanted
+            ways = set()
+            for match in matches:
+                records: list[int] = []
+                for v, z in sorted({(v, z) for v, z in zip(match, numbers, strict=True) if z}):
+                    records += (0, v, z)
+                bonds = [(mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in split.wanted]
+                for e, o in sorted(bonds):
+                    records += (1, e, o)
+                for incident in sorted(self._incident[match[a]] for a in split.multiple):
+                    records += (2, len(incident), *incident)
+                ways.add(tuple(records))
+            conditions.append(tuple(sorted(ways)))
+        return tuple(conditions)
 
     def labelling_ways(self) -> list[list[tuple[tuple[int, int], ...]]]:
         """The (vertex, atomic number) sets of which one must hold, per labelled condition read

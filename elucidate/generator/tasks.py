@@ -50,6 +50,7 @@ __all__ = [
     "plan_children",
     "run_job",
     "selection_plans",
+    "task_count",
     "task_smiles",
     "task_structures",
 ]
@@ -223,14 +224,102 @@ def _skeletons(
     return grow(task.part, plan.n, plan.bounds, plan.rings_max, cycles=plan.cycles, visit=visit)
 
 
-def _kernel_fits(task: GenerationTask, prefilter: SkeletonPatterns) -> bool:
+def _kernel_fits(task: GenerationTask, test: SkeletonTest | None) -> bool:
     """Whether the compiled core (:mod:`.kernel`) can label this task's skeletons: more than
-    one atom, no required-group condition, no declared count and no higher valence state."""
+    one atom, no declared count, no higher valence state, and required-group conditions
+    (``test``) it can read off each skeleton (:meth:`.labelling.SkeletonTest.kernel_conditions`)."""
     plan = task.plan
     states = default_valence_states()
     return (
-        plan.n > 1 and not prefilter and plan.count_test is None and not any(label in states for label in plan.labels)
+        plan.n > 1
+        and plan.count_test is None
+        and not any(label in states for label in plan.labels)
+        and (test is None or test.readable)
     )
+
+
+@dataclass(frozen=True)
+class _Written:
+    """A structure the compiled core labelled and wrote: its SMILES (Kekulé form, written from
+    the skeleton), whether it may be aromatic, and its skeleton's edges."""
+
+    smiles: str
+    flagged: bool
+    skeleton: tuple[tuple[int, int], ...]
+
+
+def _compiled_structures(
+    task: GenerationTask, test: SkeletonTest | None, budget: StructureBudget | None, *, check_aromatic: bool
+) -> Iterator[_Written | Structure]:
+    """The structures of one task the compiled core can take (:func:`_kernel_fits`), labelled
+    and written by it, in the Python path's order; a skeleton whose group is too large to list
+    or whose required-group conditions RDKit must test per labelling comes from the Python
+    path as a :class:`Structure`. ``test``: the required groups' skeleton conditions. Each
+    structure is taken from ``budget``."""
+    plan = task.plan
+    labels = kernel.kernel_labels(plan.labels)
+    batch: list[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool, kernel.Conditions]] = []
+
+    def flush() -> Iterator[_Written]:
+        found = kernel.label_and_write_many(
+            plan.n, batch, labels, plan.counts, plan.bond_sum, plan.max_extra, check_aromatic=check_aromatic
+        )
+        for (edges, _, _, _), strings, flags in zip(batch, found.smiles, found.aromatic, strict=True):
+            for written, aromatic in zip(strings, flags, strict=True):
+                if budget is not None:
+                    budget.take()
+                yield _Written(written, aromatic, edges)
+        batch.clear()
+
+    def in_python(size: int, edges: tuple[tuple[int, int], ...]) -> Iterator[Structure]:
+        for s in structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test):
+            if budget is not None:
+                budget.take()
+            yield s
+
+    for size, edges in _skeletons(task, budget):
+        conditions: kernel.Conditions = ()
+        if test is not None:
+            if not test.bare_ok(size, edges):
+                continue
+            read = test.kernel_conditions()
+            if read is None:  # a condition RDKit tests per labelling or multigraph
+                yield from flush()
+                yield from in_python(size, edges)
+                continue
+            conditions = read
+        generators, order = automorphism_generators(size, edges)
+        if order > AUTOMORPHISMS_LISTED:  # too many to list: the Python path's certificates
+            yield from flush()
+            yield from in_python(size, edges)
+            continue
+        if order > kernel.CLOSED_IN_KERNEL:
+            group = automorphisms(size, edges, limit=AUTOMORPHISMS_LISTED)
+            assert group is not None
+            batch.append((edges, group, True, conditions))
+        else:
+            batch.append((edges, generators, False, conditions))
+        if len(batch) == SKELETONS_PER_CALL:
+            yield from flush()
+    yield from flush()
+
+
+def task_count(
+    task: GenerationTask, prefilter: SkeletonPatterns, budget: StructureBudget | None, *, engine: Engine = "auto"
+) -> Iterator[None]:
+    """One item per structure of the task, each taken from ``budget``: what :func:`task_smiles`
+    takes, with no constraint tested on a finished molecule and no SMILES kept (the compiled
+    core labels where it can, :func:`_kernel_fits`)."""
+    test = SkeletonTest(prefilter, task.plan.labels) if prefilter else None
+    if _kernel_fits(task, test) and kernel.wanted(engine):
+        for _ in _compiled_structures(task, test, budget, check_aromatic=False):
+            yield None
+        return
+    for _ in task_structures(task, prefilter, budget=budget):
+        if budget is not None:
+            budget.take()
+        kernel.labelled_in_python(1)
+        yield None
 
 
 def task_smiles(
@@ -253,12 +342,12 @@ def task_smiles(
     nothing asks for RDKit, it too is written from its skeleton). ``budget`` counts every
     structure taken and stops the work past its limit. ``engine``: whether the compiled core
     labels and writes what it can (:func:`.kernel.wanted`); the output is the same."""
-    from .._rdkit import Chem, quiet_rdkit
+    from .._rdkit import quiet_rdkit
 
     out = _TaskWriter(task, kekule, compiled, removed, rdkit_smiles=rdkit_smiles)
-    plan = task.plan
+    test = SkeletonTest(prefilter, task.plan.labels) if prefilter else None
     with quiet_rdkit():
-        if not (out.own and _kernel_fits(task, prefilter) and kernel.wanted(engine)):
+        if not (_kernel_fits(task, test) and (out.own or not kekule) and kernel.wanted(engine)):
             for s in task_structures(task, prefilter, budget=budget):
                 if budget is not None:
                     budget.take()
@@ -267,48 +356,10 @@ def task_smiles(
                 if written is not None:
                     yield written
             return
-        labels = kernel.kernel_labels(plan.labels)
-        batch: list[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool]] = []
-
-        def flush() -> Iterator[str]:
-            found = kernel.label_and_write_many(
-                plan.n, batch, labels, plan.counts, plan.bond_sum, plan.max_extra, check_aromatic=not kekule
-            )
-            for (edges, _, _), strings, flags in zip(batch, found.smiles, found.aromatic, strict=True):
-                for written, aromatic in zip(strings, flags, strict=True):
-                    if budget is not None:
-                        budget.take()
-                    if not aromatic:
-                        yield written
-                        continue
-                    # may be aromatic: RDKit reads the Kekulé form written from the skeleton (in
-                    # C++, cheaper than building the molecule atom by atom) and writes its
-                    # canonical SMILES
-                    merged = out.merged(Chem.MolFromSmiles(written), edges)
-                    if merged is not None:
-                        yield merged
-            batch.clear()
-
-        for size, edges in _skeletons(task, budget):
-            generators, order = automorphism_generators(size, edges)
-            if order > AUTOMORPHISMS_LISTED:  # too many to list: the Python path's certificates
-                yield from flush()
-                for s in structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra):
-                    if budget is not None:
-                        budget.take()
-                    written = out.write(s)
-                    if written is not None:
-                        yield written
-                continue
-            if order > kernel.CLOSED_IN_KERNEL:
-                group = automorphisms(size, edges, limit=AUTOMORPHISMS_LISTED)
-                assert group is not None
-                batch.append((edges, group, True))
-            else:
-                batch.append((edges, generators, False))
-            if len(batch) == SKELETONS_PER_CALL:
-                yield from flush()
-        yield from flush()
+        for item in _compiled_structures(task, test, budget, check_aromatic=not kekule):
+            found = out.write(item) if isinstance(item, Structure) else out.from_kernel(item)
+            if found is not None:
+                yield found
 
 
 class _TaskWriter:
@@ -335,6 +386,7 @@ class _TaskWriter:
         self.charged = {
             label for label in task.plan.labels if (st := states.get(label)) is not None and st.charge_separated
         }
+        self.atoms = task.plan.n
         self.template: Template | None = None
         self.current: tuple[tuple[int, int], ...] | None = None
         self.seen: set[str] = set()
@@ -362,6 +414,33 @@ class _TaskWriter:
 
         smiles: str = Chem.MolToSmiles(mol)
         return smiles if self._first(smiles, skeleton) else None
+
+    def from_kernel(self, item: _Written) -> str | None:
+        """What :meth:`write` gives for a structure the compiled core wrote (no charge-separated
+        atom there): RDKit reads its Kekulé SMILES (the molecule :meth:`write` builds, atoms in
+        another order), the finished-molecule tests run on it, and RDKit writes its canonical
+        SMILES; Kekulé forms of one aromatic compound are merged within their skeleton."""
+        from .._rdkit import Chem
+
+        written, skeleton = item.smiles, item.skeleton
+        if self.own:
+            if not item.flagged:
+                return written
+            return self.merged(Chem.MolFromSmiles(written), skeleton)
+        mol = Chem.MolFromSmiles(written)
+        aromatic = item.flagged and _aromatic(mol)
+        compiled, removed = self.compiled, self.removed
+        # in SMILES '=' and '#' are bond symbols only (no atom token holds them): the Kekulé
+        # form's double and triple bonds
+        features = Features(self.elements, "=" in written, "#" in written, len(skeleton) - self.atoms + 1, aromatic)
+        if compiled is not None and not aromatic and _rejected(compiled, mol, removed, features):
+            return None
+        smiles: str = Chem.MolToSmiles(mol)
+        if aromatic and not self._first(smiles, skeleton):
+            return None
+        if compiled is not None and aromatic and _rejected(compiled, mol, removed, features):
+            return None
+        return smiles
 
     def template_for(self, n: int, edges: tuple[tuple[int, int], ...]) -> Template:
         """The template of this skeleton (kept while its structures come)."""
@@ -450,10 +529,8 @@ def count_job(job: WorkerJob) -> JobResult:
     budget = StructureBudget(job.budget) if job.budget is not None else None
     taken = 0
     try:
-        for _ in task_structures(job.task, prefilter, budget=budget):
+        for _ in task_count(job.task, prefilter, budget, engine=job.engine):
             taken += 1
-            if budget is not None:
-                budget.take()
     except TooManyStructures:
         return JobResult([], {}, taken, True)
     return JobResult([], {}, taken, False)

@@ -15,7 +15,7 @@ from __future__ import annotations
 import math
 from collections import Counter
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING
 
 from ..case import CARBON_KINDS, Case
@@ -229,6 +229,7 @@ def _solve(
     cache: CandidateCache | None,
 ) -> Solution:
     from ..generator import GeneratorOptions, SpaceEstimate, estimate_space, isomer_smiles, within_budget
+    from ..generator.kernel import PYTHON_FIRST, usable
     from ..generator.tasks import NODES_PER_STRUCTURE, TooManyStructures, beyond_generator
 
     g = groups or default_groups()
@@ -346,15 +347,20 @@ def _solve(
             local: dict[str, int] = {}
             before = len(found)
             parallel = runner if runner.workers > 1 else None
+            # a space large enough for the compiled core's start-up to pay is labelled by it
+            # from the first structure (the output is the same either way)
+            run_options = options if estimate < PYTHON_FIRST or not usable() else replace(options, engine="compiled")
             # the limit also holds while enumerating: an estimate whose walks dead-ended (often
             # in aromatic spaces, or in a heavy tail) may read far too low, and the work must
             # not run away; near the limit the space is counted first
             over = estimate >= COUNT_FIRST_SHARE * limit and not within_budget(
-                cand.formula, options, budget=limit, runner=parallel
+                cand.formula, run_options, budget=limit, runner=parallel
             )
             try:
                 if not over:
-                    for smiles in isomer_smiles(cand.formula, options, removed=local, runner=parallel, budget=limit):
+                    for smiles in isomer_smiles(
+                        cand.formula, run_options, removed=local, runner=parallel, budget=limit
+                    ):
                         found.append(
                             FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by)
                         )
