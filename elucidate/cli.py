@@ -36,7 +36,7 @@ from .errors import ElucidateError, TooLarge
 from .formula import parse_formula
 from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
 from .formula_search.search import check_space
-from .generator.kernel import ENGINES, PYTHON_FIRST, usable
+from .generator.kernel import ENGINES, worth_starting
 from .progress import TerminalProgress
 from .reports.documents import REPORT_FORMATS
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
@@ -658,7 +658,8 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if heavy is not None:
         raise TooLarge(f"{formula}: {heavy}")
     space = estimate_space(formula, options)
-    if args.engine == "auto" and space.structures >= PYTHON_FIRST and usable():
+    conditioned = selection is not None and (bool(selection.skeleton_patterns()) or selection.count_test is not None)
+    if args.engine == "auto" and worth_starting(space.structures, conditioned=conditioned):
         options = replace(options, engine="compiled")  # large enough for the start-up to pay
     if space.over(args.limit):
         raise TooLarge(

@@ -7,13 +7,18 @@ order, so what is computed never depends on where it ran or on how many workers 
 
 from __future__ import annotations
 
+from collections import deque
 from collections.abc import Callable, Iterable, Iterator
+from itertools import islice
 from typing import TYPE_CHECKING, Protocol, TypeVar
 
 if TYPE_CHECKING:
-    from multiprocessing.pool import Pool
+    from multiprocessing.pool import AsyncResult, Pool
 
-__all__ = ["PoolRunner", "Runner", "SerialRunner", "local_runner"]
+__all__ = ["JOBS_AHEAD", "PoolRunner", "Runner", "SerialRunner", "local_runner"]
+
+#: jobs per worker a local pool keeps sent and not yet read
+JOBS_AHEAD = 4
 
 J = TypeVar("J")
 R = TypeVar("R")
@@ -54,12 +59,18 @@ class SerialRunner:
 
 
 class PoolRunner:
-    """A pool of local worker processes, started when first used."""
+    """A pool of local worker processes, started when first used. Each map keeps at most
+    ``in_flight`` jobs sent and not yet read (default: :data:`JOBS_AHEAD` per worker), so a map
+    whose reader stops early (generation stopped at its limit) leaves only those for the
+    workers to finish before the next map's jobs."""
 
-    def __init__(self, workers: int) -> None:
+    def __init__(self, workers: int, *, in_flight: int | None = None) -> None:
         if workers < 1:
             raise ValueError(f"workers must be 1 or more, got {workers}")
+        if in_flight is not None and in_flight < 1:
+            raise ValueError(f"in_flight must be 1 or more, got {in_flight}")
         self.workers = workers
+        self.in_flight = in_flight if in_flight is not None else JOBS_AHEAD * workers
         self._pool: Pool | None = None
 
     def map(self, fn: Callable[[J], R], jobs: Iterable[J]) -> Iterator[R]:
@@ -67,7 +78,19 @@ class PoolRunner:
             import multiprocessing
 
             self._pool = multiprocessing.Pool(self.workers)
-        return self._pool.imap(fn, jobs, chunksize=1)
+        pool = self._pool
+        left = iter(jobs)
+        # the first jobs are sent at once, before any result is read
+        pending = deque(pool.apply_async(fn, (job,)) for job in islice(left, self.in_flight))
+        return self._results(pool, fn, left, pending)
+
+    @staticmethod
+    def _results(pool: Pool, fn: Callable[[J], R], left: Iterator[J], pending: deque[AsyncResult[R]]) -> Iterator[R]:
+        while pending:
+            done = pending.popleft()
+            for job in islice(left, 1):
+                pending.append(pool.apply_async(fn, (job,)))
+            yield done.get()
 
     def close(self) -> None:
         if self._pool is not None:

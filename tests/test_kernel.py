@@ -17,6 +17,7 @@ from elucidate import parse_formula
 from elucidate.errors import ElucidateError
 from elucidate.formula import Formula
 from elucidate.generator import GeneratorOptions, isomer_smiles, kernel
+from elucidate.generator.counts import CountTest, mol_counts
 from elucidate.generator.labelling import SkeletonTest, structures_on_skeleton
 from elucidate.generator.selection import Selection
 from elucidate.generator.skeletons import automorphisms, grow
@@ -320,3 +321,36 @@ def test_the_budget_count_is_the_same_with_either_engine() -> None:
         counts[engine] = (budget.taken, budget.grown)
     assert counts["compiled"] == counts["python"]
     assert counts["python"][0] > 1000
+
+
+#: declared NMR counts (carbon types, exchangeable H, carbon kinds), alone and with a required
+#: group; the compiled core tests them exactly on each multigraph (CountTest.structure_ok)
+COUNTED = [
+    ("C7H8O", CountTest(types=(1, 0, 4, 2)), ()),  # the carbon types of a cresol or anisole
+    ("C6H12O", CountTest(types=(2, 2, 2, 0), exchangeable=(0, 0)), ()),
+    ("C6H10O", CountTest(kinds=(("carbonyl", 1, 1), ("sp2", 0, 0))), ()),
+    ("C8H8O", CountTest(types=(1, 0, 5, 2)), ("ketone",)),  # acetophenone's carbon types
+    ("C5H10O2", CountTest(exchangeable=(1, 1), kinds=(("heteroatom_sp3", 0, 1),)), ()),
+]
+
+
+@pytest.mark.parametrize(("formula", "counts", "require"), COUNTED)
+def test_declared_counts_keep_the_python_paths_structures(
+    formula: str, counts: CountTest, require: tuple[str, ...]
+) -> None:
+    f = parse_formula(formula)
+    selection = Selection(require=require, counts=counts, profile="stable")
+    out = {}
+    for engine in ("python", "compiled"):
+        removed: dict[str, int] = {}
+        options = GeneratorOptions(selection=selection, rdkit_smiles=True, engine=engine)
+        out[engine] = (list(isomer_smiles(f, options, removed=removed)), removed)
+    assert out["compiled"] == out["python"]
+    assert out["python"][0]
+    # and exactly the structures that filtering the finished molecules on the counts keeps
+    # (mol_counts, read from RDKit's molecules)
+    everything = list(isomer_smiles(f, GeneratorOptions(selection=Selection(require=require, profile="stable"))))
+    from elucidate._rdkit import Chem
+
+    kept = {s for s in everything if counts.counts_ok(mol_counts(Chem.MolFromSmiles(s)))}
+    assert set(out["compiled"][0]) == kept

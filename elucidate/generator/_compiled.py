@@ -462,6 +462,63 @@ def _orders_possible(placed, orders, alive, c_begin, c_end, cond_start, way_star
 
 
 @numba.njit(cache=True, nogil=True)
+def _counts_hold(n, heads, tails, current, hydrogens, carbon, number, degree, spec):
+    """Whether the structure meets the declared NMR counts ``spec`` (see
+    :func:`.kernel.count_spec`): carbon types, H on O and N, carbon kinds; as
+    :meth:`.counts.CountTest.structure_ok`."""
+    types = np.zeros(4, dtype=np.int64)
+    exchangeable = 0
+    for v in range(n):
+        label = current[v]
+        h = hydrogens[v]
+        if carbon[label]:
+            if h > 3:
+                return False  # a carbon with four H has no DEPT type (never in a skeleton of two atoms or more)
+            types[3 - h] += 1
+        elif number[label] == 7 or number[label] == 8:
+            exchangeable += h
+    if spec[0]:
+        for t in range(4):
+            if types[t] != spec[1 + t]:
+                return False
+    if spec[5] and not (spec[6] <= exchangeable <= spec[7]):
+        return False
+    if not spec[8]:
+        return True
+    # carbon kinds, in the order of CARBON_KINDS: carbonyl, sp2, sp, heteroatom_sp3, alkyl
+    kinds = np.zeros(5, dtype=np.int64)
+    carbonyl = np.zeros(n, dtype=np.bool_)
+    hetero = np.zeros(n, dtype=np.bool_)
+    for e in range(heads.shape[0]):
+        for side in range(2):
+            a = heads[e] if side == 0 else tails[e]
+            b = tails[e] if side == 0 else heads[e]
+            z = number[current[b]]
+            if z == 8 and hydrogens[b] == 0 and degree[b] == 1:
+                carbonyl[a] = True
+            if z == 7 or z == 8:
+                hetero[a] = True
+    for v in range(n):
+        if not carbon[current[v]]:
+            continue
+        unsaturation = 4 - degree[v] - hydrogens[v]
+        if carbonyl[v]:
+            kinds[0] += 1
+        elif unsaturation >= 2:
+            kinds[2] += 1
+        elif unsaturation == 1:
+            kinds[1] += 1
+        elif hetero[v]:
+            kinds[3] += 1
+        else:
+            kinds[4] += 1
+    for k in range(5):  # noqa: SIM110 - numba compiles plain loops, not all() of a generator
+        if not (spec[9 + k] <= kinds[k] <= spec[14 + k]):
+            return False
+    return True
+
+
+@numba.njit(cache=True, nogil=True)
 def label_and_write(
     n,
     heads,
@@ -484,11 +541,14 @@ def label_and_write(
     code,
     c_begin,
     c_end,
+    spec,
 ):
     """See :func:`.kernel.label_and_write`; returns the arrays of :class:`.kernel.Labelled`
     (the text as uint8). Conditions ``c_begin:c_end`` (records as in :func:`_labels_possible`)
     prune the labels as each vertex is labelled and the orders as each edge is placed; a
-    structure is kept only when every condition has a way whose records all hold."""
+    structure is kept only when every condition has a way whose records all hold, and when it
+    meets the declared counts ``spec`` (:func:`_counts_hold`; ``spec[0]``, ``spec[5]`` and
+    ``spec[8]`` all 0: none)."""
     m = heads.shape[0]
     n_labels = valence.shape[0]
     program, cycle = template(n, heads, tails)
@@ -534,6 +594,7 @@ def label_and_write(
     # conditions: the vertices after whose label they are tested, and per way whether its
     # element records hold on the current labelling
     conditional = c_end > c_begin
+    counted = spec[0] != 0 or spec[5] != 0 or spec[8] != 0
     watch = np.zeros(n, dtype=np.bool_)
     alive = np.zeros(max(way_start.shape[0] - 1, 1), dtype=np.bool_)
     if conditional:
@@ -626,6 +687,15 @@ def label_and_write(
                 keep = not conditional or _orders_possible(
                     m, orders, alive, c_begin, c_end, cond_start, way_start, code
                 )
+                if keep and counted:
+                    for v in range(n):
+                        used[v] = 0
+                    for e in range(m):
+                        used[heads[e]] += orders[e]
+                        used[tails[e]] += orders[e]
+                    for v in range(n):
+                        hydrogens[v] = valence[current[v]] - used[v]
+                    keep = _counts_hold(n, heads, tails, current, hydrogens, carbon, number, degree, spec)
                 for s in range(n_stab if keep else 0):
                     p = stabilizer[s]
                     for e in range(m):
@@ -822,13 +892,15 @@ def label_and_write_many(
     way_start,
     code,
     skeleton_conditions,
+    spec,
 ):
     """:func:`label_and_write` on several skeletons of ``n`` vertices in one call: skeleton ``b``
     has the edges ``edge_starts[b]:edge_starts[b + 1]``, the permutation rows
     ``group_starts[b]:group_starts[b + 1]``, its whole automorphism group where ``complete[b]``,
     else generators of it (:func:`closure`), and the conditions
-    ``skeleton_conditions[b]:skeleton_conditions[b + 1]``. Returns the SMILES text of them all, the aromatic
-    flags and how many structures each skeleton has."""
+    ``skeleton_conditions[b]:skeleton_conditions[b + 1]``; ``spec``: the declared counts.
+    Returns the SMILES text of them all, the aromatic flags and how many structures each
+    skeleton has."""
     skeletons = edge_starts.shape[0] - 1
     counts = np.zeros(skeletons, dtype=np.int64)
     texts = []
@@ -862,6 +934,7 @@ def label_and_write_many(
             code,
             skeleton_conditions[b],
             skeleton_conditions[b + 1],
+            spec,
         )
         text = found[3]
         aromatic = found[5]

@@ -81,6 +81,7 @@ def isomer_smiles(
     removed: dict[str, int] | None = None,
     runner: Runner | None = None,
     budget: int | None = None,
+    on_taken: Callable[[int], None] | None = None,
 ) -> Generator[str, None, None]:
     """Canonical SMILES of every constitutional isomer of ``formula`` that passes the options'
     selection, each once. ``removed``, when given, is filled with how many generated structures
@@ -99,6 +100,10 @@ def isomer_smiles(
     tested) may be taken; past it :class:`~.tasks.TooManyStructures` is raised, at a point that
     depends on the partition (only the exception is certain, not the SMILES before it). Each
     worker's job stops on its own past the budget, so no partition runs away.
+
+    ``on_taken``: with a ``budget``, called with the structures taken so far after each task's
+    SMILES (in task order); it may raise to stop the work (the solver checks its size estimate
+    this way).
     """
     if not formula.counts:
         raise ElucidateError("empty formula")
@@ -121,11 +126,17 @@ def isomer_smiles(
                 budget=left,
                 engine=options.engine,
             )
+            if on_taken is not None and left is not None:
+                on_taken(left.taken)
         return
+    taken = 0
     for result in _job_results(run_job, plans, options, budget=budget, runner=runner):
         for label, n in result.removed.items():
             counts[label] = counts.get(label, 0) + n
         yield from result.smiles
+        taken += result.taken
+        if on_taken is not None and budget is not None:
+            on_taken(taken)
 
 
 def _job_results(

@@ -29,12 +29,14 @@ from typing import Literal, TypeAlias
 import numpy as np
 
 from ..errors import ElucidateError
+from .counts import CARBON_KINDS, CountTest
 from .labelling import Structure
 from .writer import atom_token
 
 __all__ = [
     "AVAILABLE",
     "CLOSED_IN_KERNEL",
+    "CONDITIONED_FIRST",
     "ENGINES",
     "PYTHON_FIRST",
     "Batch",
@@ -43,6 +45,7 @@ __all__ = [
     "KernelLabels",
     "Labelled",
     "check_engine",
+    "count_spec",
     "kernel_labels",
     "label_and_write",
     "label_and_write_many",
@@ -50,6 +53,7 @@ __all__ = [
     "template_program",
     "usable",
     "wanted",
+    "worth_starting",
 ]
 
 #: whether numba can be imported (it is imported on first use)
@@ -66,6 +70,12 @@ ENGINES: tuple[Engine, ...] = ("auto", "compiled", "python")
 #: Python takes for some 20,000 structures, so a small space never pays it and a large one pays
 #: at most about as much again as it would have cost in Python
 PYTHON_FIRST = 20_000
+#: structures a space must be estimated to hold for a caller that knows its size (``isomers``,
+#: ``solve``) to start the compiled core at once: :data:`PYTHON_FIRST` for plain labelling, this
+#: many when required groups or declared NMR counts condition it, where Python spends several
+#: times as much per structure (carvone with its carbon types, one worker: generation 2.5-2.7 s
+#: against 4.4-4.7 s, start-up included, for 5,700 structures estimated)
+CONDITIONED_FIRST = 4_000
 
 
 class _Usage:
@@ -98,6 +108,13 @@ def wanted(engine: Engine) -> bool:
     if engine == "compiled":
         raise ElucidateError(f"the compiled generator engine is not available: {why}; use engine auto or python")
     return False
+
+
+def worth_starting(structures: float, *, conditioned: bool) -> bool:
+    """Whether a space estimated at ``structures`` is large enough for the compiled core's
+    start-up to pay (``conditioned``: required-group conditions or declared counts apply), and
+    the core can run here."""
+    return structures >= (CONDITIONED_FIRST if conditioned else PYTHON_FIRST) and usable()
 
 
 def usable() -> bool:
@@ -208,6 +225,24 @@ class Labelled:
 Conditions: TypeAlias = "tuple[tuple[tuple[int, ...], ...], ...]"
 
 
+def count_spec(test: CountTest | None) -> np.ndarray:
+    """The declared NMR counts as the compiled core reads them: a flag and the CH3, CH2, CH, C
+    carbons; a flag and the low and high H on O and N; a flag, then the low and the high count
+    of each carbon kind in the order of :data:`~.counts.CARBON_KINDS` (all flags 0: none)."""
+    spec = [0] * 19
+    if test is not None and test.types is not None:
+        spec[0:5] = [1, *test.types]
+    if test is not None and test.exchangeable is not None:
+        spec[5:8] = [1, *test.exchangeable]
+    if test is not None and test.kinds:
+        declared = {kind: (low, high) for kind, low, high in test.kinds}
+        spec[8] = 1
+        for k, kind in enumerate(CARBON_KINDS):
+            low, high = declared.get(kind, (0, 1 << 30))
+            spec[9 + k], spec[14 + k] = low, high
+    return np.array(spec, dtype=np.int64)
+
+
 def _flat_conditions(per_skeleton: Sequence[Conditions]) -> tuple[np.ndarray, ...]:
     """The arrays the compiled core reads conditions from: per condition the start of its ways,
     per way the start of its records, the records, and per skeleton the start of its
@@ -238,6 +273,7 @@ def label_and_write(
     check_aromatic: bool,
     sharp: bool = True,
     conditions: Conditions = (),
+    counts: CountTest | None = None,
 ) -> Labelled:
     """Every structure on the skeleton (``n`` vertices, ``edges`` sorted) with ``per_label``
     atoms of each label and ``extra_total`` bond orders above single (at most ``max_extra`` per
@@ -247,7 +283,8 @@ def label_and_write(
     aromatic (else none is flagged); ``sharp``: False flags every structure with a cycle of
     atoms that each carry a multiple bond or are not carbon, without :mod:`.aromatic`'s count
     (to measure what that count saves); ``conditions``: what each structure must meet (the
-    search is pruned on them as labels and orders are placed)."""
+    search is pruned on them as labels and orders are placed); ``counts``: the declared NMR
+    counts every structure must meet."""
     from . import _compiled
 
     cond_start, way_start, code, _ = _flat_conditions([conditions])
@@ -276,6 +313,7 @@ def label_and_write(
         code,
         0,
         len(conditions),
+        count_spec(counts),
     )
     return Labelled(colourings, orders, hydrogens, text.tobytes(), ends, aromatic)
 
@@ -303,11 +341,13 @@ def label_and_write_many(
     max_extra: int,
     *,
     check_aromatic: bool,
+    counts: CountTest | None = None,
 ) -> Batch:
     """:func:`label_and_write` on several skeletons of ``n`` vertices in one call (each given as
     its edges, permutations, whether they are its whole automorphism group, else generators
     of a group of order at most :data:`CLOSED_IN_KERNEL`, and its :data:`Conditions`),
-    ``bond_sum`` the plan's bond-order sum; the same structures, in the same order."""
+    ``bond_sum`` the plan's bond-order sum, ``counts`` the declared NMR counts; the same
+    structures, in the same order."""
     from . import _compiled
 
     edge_starts = [0]
@@ -324,7 +364,7 @@ def label_and_write_many(
         group_starts.append(len(rows))
         complete.append(whole)
     cond_start, way_start, code, skeleton_start = _flat_conditions([c for *_, c in skeletons])
-    text, aromatic, counts = _compiled.label_and_write_many(
+    text, aromatic, per_skeleton = _compiled.label_and_write_many(
         n,
         np.array(edge_starts, dtype=np.int64),
         np.array(heads, dtype=np.int64),
@@ -348,13 +388,14 @@ def label_and_write_many(
         way_start,
         code,
         skeleton_start,
+        count_spec(counts),
     )
     strings = text.tobytes().decode("ascii").split("\n")
     flags = aromatic.tolist()
     smiles_out: list[list[str]] = []
     aromatic_out: list[list[bool]] = []
     at = 0
-    for count in counts.tolist():
+    for count in per_skeleton.tolist():
         smiles_out.append(strings[at : at + count])
         aromatic_out.append(flags[at : at + count])
         at += count

@@ -226,16 +226,11 @@ def _skeletons(
 
 def _kernel_fits(task: GenerationTask, test: SkeletonTest | None) -> bool:
     """Whether the compiled core (:mod:`.kernel`) can label this task's skeletons: more than
-    one atom, no declared count, no higher valence state, and required-group conditions
-    (``test``) it can read off each skeleton (:meth:`.labelling.SkeletonTest.kernel_conditions`)."""
+    one atom, no higher valence state, and required-group conditions (``test``) it can read
+    off each skeleton (:meth:`.labelling.SkeletonTest.kernel_conditions`)."""
     plan = task.plan
     states = default_valence_states()
-    return (
-        plan.n > 1
-        and plan.count_test is None
-        and not any(label in states for label in plan.labels)
-        and (test is None or test.readable)
-    )
+    return plan.n > 1 and not any(label in states for label in plan.labels) and (test is None or test.readable)
 
 
 @dataclass(frozen=True)
@@ -262,7 +257,14 @@ def _compiled_structures(
 
     def flush() -> Iterator[_Written]:
         found = kernel.label_and_write_many(
-            plan.n, batch, labels, plan.counts, plan.bond_sum, plan.max_extra, check_aromatic=check_aromatic
+            plan.n,
+            batch,
+            labels,
+            plan.counts,
+            plan.bond_sum,
+            plan.max_extra,
+            check_aromatic=check_aromatic,
+            counts=plan.count_test,
         )
         for (edges, _, _, _), strings, flags in zip(batch, found.smiles, found.aromatic, strict=True):
             for written, aromatic in zip(strings, flags, strict=True):
@@ -272,7 +274,9 @@ def _compiled_structures(
         batch.clear()
 
     def in_python(size: int, edges: tuple[tuple[int, int], ...]) -> Iterator[Structure]:
-        for s in structures_on_skeleton(size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test):
+        for s in structures_on_skeleton(
+            size, edges, plan.labels, plan.counts, plan.bond_sum, plan.max_extra, test, counts=plan.count_test
+        ):
             if budget is not None:
                 budget.take()
             yield s
