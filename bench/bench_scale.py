@@ -1,12 +1,13 @@
 """Scale: scoring in passes against full scoring, and a Dask LocalCluster against local worker
 processes. Prints figures side by side in one run; asserts nothing.
 
-    python3 bench/bench_scale.py [CASE] [--workers N]
+    python3 bench/bench_scale.py [CASE] [--workers N] [--limit N]
 
-1. Solver: the case (default: the carvone reference case, C10H14O with 13C/1H, IR, UV and MS)
-   solved with the shortlist of 10 (scoring in passes, branch and bound) and with every
-   candidate scored in full, on N local workers: seconds, candidates settled per second, what
-   each pass settled, and whether the shortlists are identical.
+1. Solver: the case (default: the demo case cr-0702-k, about 10^5 candidates of C10H12O with a
+   ketone and an alkene, IR, UV, MS and a 13C line count, with --limit 400000) solved with the
+   shortlist of 10 (scoring in passes, branch and bound) and with every candidate scored in
+   full, on N local workers: seconds (generation and scoring apart), candidates settled per
+   second, what each pass settled, and whether the shortlists are identical.
 2. Dask: the same case on a 2-worker LocalCluster of processes against ``--workers 2``: the
    same output or not, the per-partition (generation task) timings with the fixed cut and with
    the partition balanced for 64 workers, and from them the generation time on 64 workers
@@ -30,29 +31,40 @@ from elucidate.solver import hard_selection, solve
 ROOT = Path(__file__).resolve().parent.parent
 
 
-def solver_figures(case_path: Path, workers: int) -> None:
+def solver_figures(case_path: Path, workers: int, limit: int) -> None:
     case = load_case(case_path)
     rows = []
     results = {}
     for label, shortlist in (("passes, shortlist 10", 10), ("full scoring", 0)):
+        marks: dict[str, float] = {}
+
+        def progress(stage: str, done: int, total: int | None, marks: dict[str, float] = marks) -> None:
+            marks.setdefault(stage, time.perf_counter())
+            marks[stage + " end"] = time.perf_counter()
+
         t0 = time.perf_counter()
-        solution = solve(case, workers=workers, shortlist=shortlist)
+        solution = solve(case, workers=workers, shortlist=shortlist, limit=limit, progress=progress)
         seconds = time.perf_counter() - t0
+        scoring = seconds - (marks.get("generation end", t0) - t0)
         results[label] = solution
-        rows.append((label, seconds, solution))
-    print(f"solver on {case_path.name}, {workers} worker(s):")
-    for label, seconds, solution in rows:
+        rows.append((label, seconds, scoring, solution))
+    print(f"solver on {case_path.name}, {workers} worker(s), limit {limit:,}:")
+    for label, seconds, scoring, solution in rows:
         n = solution.candidate_count
         passes = "; ".join(
             f"{'+'.join(p.techniques)}: ran {p.scored}, settled {p.settled}" for p in solution.scoring_passes
         )
-        print(f"  {label:22s} {seconds:7.1f} s  {n / seconds:8.0f} candidates settled/s  [{passes}]")
+        print(
+            f"  {label:22s} {n:,} candidates, {seconds:7.1f} s ({seconds - scoring:.1f} s to the end of generation, "
+            f"{scoring:.1f} s scoring)  {n / seconds:8.0f} candidates settled/s  [{passes}]"
+        )
     quick, full = results["passes, shortlist 10"], results["full scoring"]
     same = [c.as_dict() for c in quick.candidates[:10]] == [c.as_dict() for c in full.candidates[:10]]
     print(f"  shortlists identical: {same}; speed-up {rows[1][1] / rows[0][1]:.2f}x")
+    print(f"  10^5 candidates at the passes' rate: {1e5 * rows[0][1] / max(quick.candidate_count, 1):.1f} s")
 
 
-def dask_figures(case_path: Path) -> None:
+def dask_figures(case_path: Path, limit: int) -> None:
     try:
         import distributed
     except ImportError:
@@ -66,10 +78,10 @@ def dask_figures(case_path: Path) -> None:
         client.run(lambda: __import__("elucidate.solver"))  # warm the workers' imports
         t0 = time.perf_counter()
         with DaskRunner(client=client) as runner:
-            on_dask = solve(case, runner=runner)
+            on_dask = solve(case, runner=runner, limit=limit)
         dask_s = time.perf_counter() - t0
     t0 = time.perf_counter()
-    local = solve(case, workers=2)
+    local = solve(case, workers=2, limit=limit)
     local_s = time.perf_counter() - t0
     same = [c.as_dict() for c in on_dask.candidates] == [c.as_dict() for c in local.candidates]
     print(f"dask LocalCluster (2 processes) {dask_s:.1f} s against --workers 2 {local_s:.1f} s; same output: {same}")
@@ -103,11 +115,12 @@ def dask_figures(case_path: Path) -> None:
 
 def main() -> None:
     parser = argparse.ArgumentParser()
-    parser.add_argument("case", nargs="?", default=str(ROOT / "tests" / "reference_cases" / "carvone.yaml"))
+    parser.add_argument("case", nargs="?", default=str(ROOT / "cases" / "cr-0702-k.yaml"))
     parser.add_argument("--workers", type=int, default=2)
+    parser.add_argument("--limit", type=int, default=400_000)
     args = parser.parse_args()
-    solver_figures(Path(args.case), args.workers)
-    dask_figures(Path(args.case))
+    solver_figures(Path(args.case), args.workers, args.limit)
+    dask_figures(Path(args.case), args.limit)
 
 
 if __name__ == "__main__":

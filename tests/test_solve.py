@@ -244,18 +244,52 @@ def test_the_limit_holds_while_enumerating_when_the_estimate_is_too_low(tmp_path
     assert all("ranks below C5H8O2" in (kept[f].skipped or "") for f in ("C8H4", "C7O"))
 
 
+def test_a_space_estimated_near_the_limit_is_counted_before_it_is_generated(tmp_path, monkeypatch):
+    # every formula estimated at 900 structures on purpose (under the limit of 1,000 but at or
+    # above COUNT_FIRST_SHARE of it): each is counted first, C5H8O2 (far more than 1,000) is
+    # skipped on its count and never generated, C6H12O (fewer) is counted, then generated
+    import elucidate.generator as generator
+    from elucidate import load_case
+    from elucidate.solver import solve
+    from elucidate.solver.ranking import COUNT_FIRST_SHARE
+
+    assert COUNT_FIRST_SHARE * 1000 <= 900
+    case_file = tmp_path / "ms100.yaml"
+    case_file.write_text(MS_ONLY_100, encoding="utf-8")
+    monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(900.0, 0.0))
+    counted, generated = [], []
+    real_count, real_generate = generator.within_budget, generator.isomer_smiles
+
+    def count(formula, *args, **kwargs):
+        counted.append(str(formula))
+        return real_count(formula, *args, **kwargs)
+
+    def generate(formula, *args, **kwargs):
+        generated.append(str(formula))
+        return real_generate(formula, *args, **kwargs)
+
+    monkeypatch.setattr(generator, "within_budget", count)
+    monkeypatch.setattr(generator, "isomer_smiles", generate)
+    solution = solve(load_case(case_file), limit=1000, workers=1)
+    kept = {str(k.formula): k for k in solution.formulas}
+    assert "C5H8O2" in counted and "C5H8O2" not in generated
+    assert "more than 1,000 structures to test" in (kept["C5H8O2"].skipped or "")
+    assert "C6H12O" in counted and "C6H12O" in generated
+    assert kept["C6H12O"].structures > 0 and kept["C6H12O"].skipped is None
+
+
 @pytest.mark.parametrize("workers", [1, 2])
 def test_a_space_the_estimate_reads_far_too_low_is_counted_once_generation_proves_it(tmp_path, monkeypatch, workers):
     # every formula estimated at 50 structures on purpose (far under the truth): generation
-    # stops once it has taken more than max(RECOUNT_AFTER x 50, COUNT_FIRST_SHARE x 600) = 150
+    # stops once it has taken more than max(RECOUNT_AFTER x 50, COUNT_FLOOR_SHARE x 600) = 150
     # structures, and the space is counted against the limit of 600: C5H8O2 (1,168 structures
     # to test) is skipped on its count, C6H12O (211) is counted, then generated again in full
     import elucidate.generator as generator
     from elucidate import load_case
     from elucidate.solver import solve
-    from elucidate.solver.ranking import COUNT_FIRST_SHARE, RECOUNT_AFTER
+    from elucidate.solver.ranking import COUNT_FIRST_SHARE, COUNT_FLOOR_SHARE, RECOUNT_AFTER
 
-    assert max(RECOUNT_AFTER * 50, COUNT_FIRST_SHARE * 600) < 211
+    assert max(RECOUNT_AFTER * 50, COUNT_FLOOR_SHARE * 600) < 211 and COUNT_FIRST_SHARE * 600 > 50
     case_file = tmp_path / "ms100.yaml"
     case_file.write_text(MS_ONLY_100, encoding="utf-8")
     monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(50.0, 0.0))
@@ -280,10 +314,11 @@ def test_a_space_the_estimate_reads_far_too_low_is_counted_once_generation_prove
     assert "C6H12O" in counted and generated.count("C6H12O") == 2
     assert kept["C6H12O"].skipped is None
     # the second generation alone is kept: the same structures as a run that never stopped
-    monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(500.0, 0.0))
+    monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(300.0, 0.0))
     counted.clear()
     plain = solve(load_case(case_file), limit=600, workers=workers)
-    assert "C6H12O" not in counted  # an estimate read right (211 structures, under 2 x 500) is never counted
+    # an estimate read right (211 structures, under 2 x 300) and not near the limit is never counted
+    assert COUNT_FIRST_SHARE * 600 > 300 and "C6H12O" not in counted
     assert {str(k.formula): k.structures for k in plain.formulas}["C6H12O"] == kept["C6H12O"].structures > 0
     ours = [c.smiles for c in solution.candidates if str(c.formula) == "C6H12O"]
     assert ours == [c.smiles for c in plain.candidates if str(c.formula) == "C6H12O"]

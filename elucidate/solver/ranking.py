@@ -48,17 +48,20 @@ __all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "preflig
 PROFILE = "stable"
 #: structures between two progress reports during generation
 PROGRESS_EVERY = 500
-#: once generation has taken this many times the structures estimated, and at least
-#: COUNT_FIRST_SHARE of the limit, the estimate is proven low: generation stops, the space is
-#: counted against the limit (:func:`~elucidate.generator.within_budget`: labelling alone, a
-#: part of the cost of writing and testing each structure) and generated again only when
-#: within it. So a space the estimate put under the limit but which is far over it costs that
-#: much generation and the count, not the generation of the limit's worth of structures, and a
-#: space the estimate reads right is never counted (the count cost about 40 % of generating a
-#: space of 50,000 structures)
+#: a space estimated at this share of the limit or more is counted against the limit before it
+#: is generated (:func:`~elucidate.generator.within_budget`: labelling alone, a part of the cost
+#: of writing and testing each structure): the estimate is within about one standard error of
+#: the limit there (the error was about a third of the estimate on the spaces measured), so it
+#: may well be over it, and a count costs less than generating a limit's worth of structures
+COUNT_FIRST_SHARE = 0.75
+#: a space estimated lower is generated at once, and counted only once generation has taken
+#: this many times the structures estimated, and at least COUNT_FLOOR_SHARE of the limit: the
+#: estimate is then proven low, generation stops, the space is counted and generated again only
+#: when within the limit (the count cost about 40 % of generating a space of 50,000 structures,
+#: so a space the estimate reads right is never counted)
 RECOUNT_AFTER = 2.0
 #: see RECOUNT_AFTER
-COUNT_FIRST_SHARE = 0.25
+COUNT_FLOOR_SHARE = 0.25
 
 
 class _EstimateLow(Exception):
@@ -376,11 +379,16 @@ def _solve(
             run_options = replace(options, engine="compiled") if large else options
             # the limit also holds while enumerating: an estimate whose walks dead-ended (often
             # in aromatic spaces, or in a heavy tail) may read far too low, and the work must
-            # not run away; once the estimate is proven low the space is counted
-            stop_if_low = _stop_past(max(RECOUNT_AFTER * estimate, COUNT_FIRST_SHARE * limit))
-            over = False
+            # not run away; near the limit the space is counted first, further below it once
+            # generation proves the estimate low
+            first = estimate >= COUNT_FIRST_SHARE * limit
+            over = first and not within_budget(cand.formula, run_options, budget=limit, runner=parallel)
+            # generation with a watch on the estimate, then (once it proved low) without
+            attempts: tuple[Callable[[int], None] | None, ...] = (
+                (_stop_past(max(RECOUNT_AFTER * estimate, COUNT_FLOOR_SHARE * limit)), None) if not first else (None,)
+            )
             try:
-                for attempt in (stop_if_low, None):
+                for attempt in attempts if not over else ():
                     try:
                         for smiles in isomer_smiles(
                             cand.formula, run_options, removed=local, runner=parallel, budget=limit, on_taken=attempt
