@@ -250,15 +250,22 @@ class _Job:
     order: tuple[int, ...]  # the passes, as indices into technique_passes
 
 
-def _run_job(job: _Job) -> list[Outcome]:
+def _run_job(job: _Job) -> list[Outcome | int]:
+    """The outcome of each candidate of a job: in full when it was scored in full, else only
+    the position of the pass that settled it (all the solver reads of it), so that what goes
+    back to the solver's process stays small (a settled candidate's assessments and scores made
+    up most of the bytes, and reading them back cost that process seconds)."""
     from .._rdkit import Chem, quiet_rdkit
 
     techniques = job.evaluator.techniques()
+    out: list[Outcome | int] = []
     with quiet_rdkit():
-        return [
-            evaluate_in_passes(job.evaluator, item, Chem.MolFromSmiles(item.smiles), techniques, limit, job.order)
-            for item, limit in zip(job.items, job.thresholds, strict=True)
-        ]
+        for item, limit in zip(job.items, job.thresholds, strict=True):
+            outcome = evaluate_in_passes(
+                job.evaluator, item, Chem.MolFromSmiles(item.smiles), techniques, limit, job.order
+            )
+            out.append(outcome if outcome.complete else outcome.last_pass)
+    return out
 
 
 def _split(items: Sequence[int], parts: int) -> list[list[int]]:
@@ -303,7 +310,7 @@ def score_candidates(
     steady = False  # T is known and the last batch read left it where it was
     ahead = runner.workers > 1  # one worker gains nothing from a batch sent ahead
     # batches sent and not yet read: (batch, its pass order, its results as they come)
-    pending: deque[tuple[list[int], tuple[int, ...], Iterator[list[Outcome]]]] = deque()
+    pending: deque[tuple[list[int], tuple[int, ...], Iterator[list[Outcome | int]]]] = deque()
     while position < len(order) or pending:
         # with several workers, once T holds steady, the next batch is sent before this one is
         # read, so that no worker waits for the slowest job of a batch and for the reading; it
@@ -323,11 +330,13 @@ def score_candidates(
         before = threshold
         outcomes = [o for part in results for o in part]
         for i, outcome in zip(batch, outcomes, strict=True):
-            for k in used[: outcome.last_pass + 1]:
-                ran[k] += 1
-            if not outcome.complete:
-                settled[used[outcome.last_pass]] += 1
+            if isinstance(outcome, int):  # settled in the pass at that position
+                for k in used[: outcome + 1]:
+                    ran[k] += 1
+                settled[used[outcome]] += 1
                 continue
+            for k in used:
+                ran[k] += 1
             complete += 1
             level = round(outcome.combined.log_likelihood, 6)
             full[i] = (outcome.combined, outcome.assessments)
