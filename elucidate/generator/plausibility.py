@@ -37,22 +37,23 @@ def bridgehead_double_bond(mol: Mol) -> bool:
     found = mol.GetRingInfo().AtomRings()
     if len(found) < 2:
         return False
-    for a, system in _short_bridgeheads(found):
-        atom = mol.GetAtomWithIdx(a)
-        for bond in atom.GetBonds():
+    for a, partners in _short_bridgeheads(found):
+        for b in partners:
+            bond = mol.GetBondBetweenAtoms(a, b)
             # aromatic bonds count too: a benzene ring cannot be a short bridge's end
-            if (bond.GetBondTypeAsDouble() == 2.0 or bond.GetIsAromatic()) and bond.GetOtherAtomIdx(a) in system:
+            if bond is not None and (bond.GetBondTypeAsDouble() == 2.0 or bond.GetIsAromatic()):
                 return True
     return False
 
 
 @lru_cache(maxsize=4096)
-def _short_bridgeheads(rings: tuple[tuple[int, ...], ...]) -> tuple[tuple[int, frozenset[int]], ...]:
-    """The bridgeheads of bridged ring pairs with S < 7, each with its bicyclic system's atoms,
-    read off the smallest set of rings alone (many structures share one ring set). An atom of
-    both rings is a bridgehead when it has a neighbour in each ring's own part; two atoms of one
-    ring are bonded only by a ring bond, and each ring bond joins two atoms adjacent in some ring
-    of the set (the set spans every cycle), so those neighbours can be read off the rings."""
+def _short_bridgeheads(rings: tuple[tuple[int, ...], ...]) -> tuple[tuple[int, tuple[int, ...]], ...]:
+    """The bridgeheads of bridged ring pairs with S < 7, each with its neighbours in its
+    bicyclic system, read off the smallest set of rings alone (many structures share one ring
+    set). An atom of both rings is a bridgehead when it has a neighbour in each ring's own part;
+    two atoms of the system are bonded only by a ring bond (the bond closes a cycle through the
+    system), and each ring bond joins two atoms adjacent in some ring of the set (the set spans
+    every cycle), so those neighbours can be read off the rings."""
     bonded: dict[int, set[int]] = {}
     for ring in rings:
         for k, x in enumerate(ring):
@@ -60,7 +61,7 @@ def _short_bridgeheads(rings: tuple[tuple[int, ...], ...]) -> tuple[tuple[int, f
             bonded.setdefault(x, set()).add(y)
             bonded.setdefault(y, set()).add(x)
     sets = [frozenset(r) for r in rings]
-    found: list[tuple[int, frozenset[int]]] = []
+    found: list[tuple[int, tuple[int, ...]]] = []
     for i in range(len(sets)):
         for j in range(i + 1, len(sets)):
             r1, r2 = sets[i], sets[j]
@@ -74,7 +75,7 @@ def _short_bridgeheads(rings: tuple[tuple[int, ...], ...]) -> tuple[tuple[int, f
             for a in sorted(shared):
                 around = bonded[a]
                 if around & only1 and around & only2:
-                    found.append((a, system))
+                    found.append((a, tuple(sorted(around & system))))
     return tuple(found)
 
 
@@ -115,10 +116,15 @@ class Rule:
     test: str | None = None
 
     def matches(self, mol: Mol) -> bool:
+        return self.matcher()(mol)
+
+    def matcher(self) -> Callable[[Mol], bool]:
+        """The rule's test with its SMARTS compiled once (for tests run on many molecules)."""
         if self.smarts is not None:
-            return bool(mol.HasSubstructMatch(compiled_smarts(self.smarts)))
+            pattern = compiled_smarts(self.smarts)
+            return lambda mol: bool(mol.HasSubstructMatch(pattern))
         assert self.test is not None
-        return TESTS[self.test](mol)
+        return TESTS[self.test]
 
     @property
     def needs(self) -> PatternNeeds:

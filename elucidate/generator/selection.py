@@ -127,7 +127,7 @@ class Selection:
             reasons[test.label] = _absent("its carbon and hydrogen counts differ from the declared ones")
         if self.profile is not None:
             for rule in default_profiles()[self.profile]:
-                tests.append((f"implausible {rule.name}", _not(rule.matches)))
+                tests.append((f"implausible {rule.name}", _not(rule.matcher())))
                 shortcuts.append((rule.needs, True))
                 reasons[f"implausible {rule.name}"] = _absent(rule.reason)
         return CompiledSelection(tuple(tests), reasons, tuple(shortcuts))
@@ -170,6 +170,11 @@ class CompiledSelection:
     #: per test (or empty): what any match of its pattern needs and the test's outcome when a
     #: structure lacks it (no match possible), or None for a test without a pattern
     shortcuts: tuple[tuple[PatternNeeds, bool] | None, ...] = ()
+    #: per kind of structure (its features): the tests to run in order, a test None where the
+    #: shortcut decides that the structure breaks it (found once per kind, :meth:`_steps`)
+    _by_features: dict[tuple[object, ...], tuple[tuple[str, MolTest | None], ...]] = field(
+        default_factory=dict, compare=False, repr=False
+    )
 
     def reason(self, label: str, mol: Mol) -> str:
         """Why ``mol``, which breaks the constraint ``label``, breaks it: what it lacks, or
@@ -186,13 +191,26 @@ class CompiledSelection:
         """The label of the first constraint ``mol`` (aromaticity perceived) breaks, or None.
         ``features``: what the structure has; a pattern test whose match needs something it
         lacks is decided without a search (the same outcome: no match is possible)."""
-        shortcuts = self.shortcuts if features is not None else ()
-        for i, (label, passes) in enumerate(self.tests):
-            shortcut = shortcuts[i] if shortcuts else None
-            if shortcut is not None and features is not None and not features.allows(shortcut[0]):
-                if shortcut[1]:
-                    continue
-                return label
-            if not passes(mol):
+        steps = self._steps(features) if features is not None and self.shortcuts else self.tests
+        for label, passes in steps:
+            if passes is None or not passes(mol):
                 return label
         return None
+
+    def _steps(self, features: Features) -> tuple[tuple[str, MolTest | None], ...]:
+        """The tests a structure with these ``features`` runs, in order: a test its shortcut
+        passes is left out, and the list ends at a test its shortcut fails (given as None).
+        Structures of one task share a few kinds of features, so this is found once per kind."""
+        key = (features.double, features.triple, features.rings, features.aromatic, tuple(features.elements.items()))
+        steps = self._by_features.get(key)
+        if steps is None:
+            out: list[tuple[str, MolTest | None]] = []
+            for (label, passes), shortcut in zip(self.tests, self.shortcuts, strict=True):
+                if shortcut is not None and not features.allows(shortcut[0]):
+                    if shortcut[1]:
+                        continue
+                    out.append((label, None))
+                    break
+                out.append((label, passes))
+            steps = self._by_features[key] = tuple(out)
+        return steps
