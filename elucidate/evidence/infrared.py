@@ -52,6 +52,11 @@ class Band:
     shape: str | None = None  # usual shape: broad or sharp
     source: str = ""  # provenance for reviewers ("from memory"); never printed to users
 
+    @property
+    def conditional(self) -> bool:
+        """Whether the band applies only to some molecules (``when`` or ``unless``)."""
+        return self.when is not None or self.unless is not None
+
     def applies(self, mol: Mol) -> bool:
         if self.when is not None and not mol.HasSubstructMatch(compiled_smarts(self.when)):
             return False
@@ -282,6 +287,8 @@ class Infrared:
         # candidates share: kept per case, by the bands (positions in the table)
         self._case: Case | None = None
         self._known: dict[tuple[tuple[str, int], ...], Assessment] = {}
+        # per set of groups: their bands as (group, position, band, whether it is conditional)
+        self._listed: dict[tuple[str, ...], tuple[tuple[str, int, Band, bool], ...]] = {}
 
     def applies(self, case: Case) -> bool:
         return case.infrared is not None and bool(case.infrared.bands)
@@ -294,18 +301,23 @@ class Infrared:
     def assess(self, subject: Subject, case: Case) -> Assessment:
         assert case.infrared is not None
         t = self.table
-        bands: list[tuple[str, Band]] = []
-        key: list[tuple[str, int]] = []
-        for name in sorted(subject.groups):
-            for k, band in enumerate(t.of(name)):
-                if band.applies(subject.mol):
-                    bands.append((name, band))
-                    key.append((name, k))
         if case is not self._case:
             self._case, self._known = case, {}
-        known = self._known.get(tuple(key))
+        groups = tuple(sorted(subject.groups))
+        # the bands of these groups (found once per set of groups), each with whether it applies
+        # only to some molecules: only those are tested on the molecule
+        every = self._listed.get(groups)
+        if every is None:
+            every = self._listed[groups] = tuple(
+                (name, k, band, band.conditional) for name in groups for k, band in enumerate(t.of(name))
+            )
+        mol = subject.mol
+        key = tuple((name, k) for name, k, band, conditional in every if not conditional or band.applies(mol))
+        known = self._known.get(key)
         if known is None:
-            known = self._known[tuple(key)] = self._assess_bands(bands, case)
+            chosen = set(key)
+            bands = [(name, band) for name, k, band, _ in every if (name, k) in chosen]
+            known = self._known[key] = self._assess_bands(bands, case)
         return known
 
     def _assess_bands(self, bands: Sequence[tuple[str, Band]], case: Case) -> Assessment:

@@ -41,7 +41,7 @@ from ..evidence import Assessment, Bounded, Partial, Staged, Subject, Technique,
 from ..parallel import Runner
 from ..progress import Progress, silent
 from .records import FoundCandidate, PassCount
-from .scoring import Combined, combine
+from .scoring import Combined, ScoringTable, combine
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
@@ -153,12 +153,12 @@ def evaluate_in_passes(
                 if not partial.complete:
                     # stopped early on a bound of its against: settles here, or the part is redone whole
                     first = Assessment(t.name, partial.against, partial.unexplained)
-                    bound = combine([*found, first], keys, evaluator.scoring).log_likelihood
+                    bound = _log_likelihood([*found, first], keys, evaluator.scoring)
                     if bound < threshold - EPSILON:
                         return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
                     partial = staged.begin(subject, evaluator.case)
                 first = Assessment(t.name, partial.against, partial.unexplained)
-                bound = combine([*found, first], keys, evaluator.scoring).log_likelihood
+                bound = _log_likelihood([*found, first], keys, evaluator.scoring)
                 if bound >= threshold - EPSILON:  # the later floors (0 or more) only lower it
                     bound -= later(k)
                 if bound < threshold - EPSILON:
@@ -174,20 +174,29 @@ def evaluate_in_passes(
                 found.append(assessment)
         if k == last:
             if deferred:
-                bound = combine(found, keys, evaluator.scoring).log_likelihood
+                bound = _log_likelihood(found, keys, evaluator.scoring)
                 if bound < threshold - EPSILON:
                     return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
                 found = _finished(found, deferred, subject, evaluator)
             found.sort(key=lambda a: position[a.technique])  # report order, as full scoring gives
             break
-        combined = combine(found, keys, evaluator.scoring)
-        bound = combined.log_likelihood
+        bound = _log_likelihood(found, keys, evaluator.scoring)
         if bounding and bound >= threshold - EPSILON:
             bound -= later(k)
         if bound < threshold - EPSILON:
-            return Outcome(k, combined, tuple(found), False, bound)
+            return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
     combined = combine(found, keys, evaluator.scoring)
     return Outcome(last, combined, tuple(found), True, combined.log_likelihood)
+
+
+def _log_likelihood(found: Sequence[Assessment], keys: Mapping[str, str], scoring: ScoringTable) -> float:
+    """``combine(found, keys, scoring).log_likelihood`` to the last bit (the same terms added
+    in the same order), without building the combined score: the bounds need only this."""
+    total = 0.0
+    for a in found:
+        w = scoring.techniques[keys[a.technique]]
+        total -= w.weight * (min(a.against, w.against_cap) + min(a.unexplained, w.unexplained_cap))
+    return total
 
 
 def _finished(
@@ -227,7 +236,7 @@ def _enough(
     what is ``found`` so far (its unexplained taken as 0, the later floors left out: both only
     lower the score); inf when even its capped ``against`` could not."""
     w = evaluator.scoring.techniques[technique.weight_key]
-    room = combine(found, keys, evaluator.scoring).log_likelihood - (threshold - EPSILON)
+    room = _log_likelihood(found, keys, evaluator.scoring) - (threshold - EPSILON)
     if w.weight <= 0 or room >= w.weight * w.against_cap:
         return math.inf
     return room / w.weight
