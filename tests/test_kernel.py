@@ -238,6 +238,7 @@ CONDITIONED = [
     ("C5H9NO", ("amide",)),
     ("C8H12O", ("ketone", "alkene")),
     ("C6H8O2", ("carboxylic_acid",)),
+    ("C6H10O", ("alcohol",)),  # its carbon must carry no multiple bond
 ]
 
 

@@ -196,6 +196,9 @@ _ORDER_FREE_ATOM = re.compile(r"^(\*|\[(#\d+|\*)([;&]D\d(,D\d)*)?\])$")
 #: the one order-dependent atom query read off the orders too: an atom of one element that
 #: carries a double or triple bond (the aromatic ring's Kekulé condition)
 _MULTIPLE_ATOM = re.compile(r"^\[#(\d+)[;&]\$\(\*=,#\*\)\]$")
+#: and its opposite, read off the orders as well: an atom of one element that carries no double
+#: and no triple bond (the alcohol's Kekulé condition: a hydroxyl on a saturated carbon)
+_SINGLE_ATOM = re.compile(r"^\[#(\d+)[;&]!\$\(\*=\*\)[;&]!\$\(\*#\*\)\]$")
 #: a bracket atom of a written SMARTS, or one character
 _SMARTS_TOKEN = re.compile(r"\[[^\]]*\]|.")
 _BOND_ORDER = {"-": 1, "=": 2, "#": 3, "~": None}
@@ -203,7 +206,8 @@ _BOND_ORDER = {"-": 1, "=": 2, "#": 3, "~": None}
 _MAX_RELAXED_MATCHES = 10_000
 
 #: one way a kekule condition holds on a labelled skeleton: edges with the order each must
-#: have, and for each atom that must carry a multiple bond, its edges
+#: have (each edge of an atom that must carry no multiple bond among them, with order 1), and
+#: for each atom that must carry a multiple bond, its edges
 OrderWay: TypeAlias = "tuple[tuple[tuple[int, int], ...], tuple[tuple[int, ...], ...]]"
 
 
@@ -215,6 +219,7 @@ class _Split:
     pattern: Mol
     wanted: tuple[tuple[int, ...], ...]
     multiple: tuple[int, ...] = ()  # pattern atoms that must carry a multiple bond
+    single: tuple[int, ...] = ()  # pattern atoms that must carry no multiple bond
 
 
 def _rewritten(pattern: Mol, atom_token: Callable[[str], str]) -> Mol | None:
@@ -234,8 +239,9 @@ def _rewritten(pattern: Mol, atom_token: Callable[[str], str]) -> Mol | None:
 def _relaxed(pattern: Mol) -> _Split | None:
     """A ``kekule`` pattern split into what the labelled skeleton decides and what the bond
     orders decide: the pattern with every bond written ``~`` (any bond) and each atom that must
-    carry a multiple bond written as its element, then (atom, atom, order) for each -, = and #
-    bond and the atoms that must carry a multiple bond. A multigraph matches the pattern exactly
+    carry a multiple bond (or none) written as its element, then (atom, atom, order) for each -,
+    = and # bond, the atoms that must carry a multiple bond and those that must carry none. A
+    multigraph matches the pattern exactly
     when some match of the relaxed pattern on its labelled skeleton has those orders. None when
     another atom query could depend on the bond orders or hydrogens (anything beyond an element
     and heavy-atom degrees) or a bond is not one of - = # ~: such a pattern is tested by RDKit
@@ -243,10 +249,13 @@ def _relaxed(pattern: Mol) -> _Split | None:
     from .._rdkit import Chem
 
     multiple = []
+    single = []
     for atom in pattern.GetAtoms():
         text = atom.GetSmarts()
         if _MULTIPLE_ATOM.match(text):
             multiple.append(atom.GetIdx())
+        elif _SINGLE_ATOM.match(text):
+            single.append(atom.GetIdx())
         elif not _ORDER_FREE_ATOM.match(text):
             return None
     wanted = []
@@ -259,11 +268,11 @@ def _relaxed(pattern: Mol) -> _Split | None:
             wanted.append((bond.GetBeginAtomIdx(), bond.GetEndAtomIdx(), order))
 
     def element_only(token: str) -> str:
-        found = _MULTIPLE_ATOM.match(token)
+        found = _MULTIPLE_ATOM.match(token) or _SINGLE_ATOM.match(token)
         return f"[#{found.group(1)}]" if found else token
 
     relaxed = _rewritten(pattern, element_only)
-    return _Split(relaxed, tuple(wanted), tuple(multiple)) if relaxed is not None else None
+    return _Split(relaxed, tuple(wanted), tuple(multiple), tuple(single)) if relaxed is not None else None
 
 
 def _element_free(pattern: Mol) -> _Split | None:
@@ -446,7 +455,9 @@ class SkeletonTest:
                 records: list[int] = []
                 for v, z in sorted({(v, z) for v, z in zip(match, numbers, strict=True) if z}):
                     records += (0, v, z)
-                bonds = [(mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in split.wanted]
+                bonds = {(mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in split.wanted}
+                # an atom that must carry no multiple bond: each of its edges single
+                bonds |= {(e, 1) for a in split.single for e in self._incident[match[a]]}
                 for e, o in sorted(bonds):
                     records += (1, e, o)
                 for incident in sorted(self._incident[match[a]] for a in split.multiple):
@@ -484,7 +495,9 @@ class SkeletonTest:
             return None
         ways = set()
         for match in matches:
-            fixed = tuple((mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in split.wanted)
+            fixed = {(mol.GetBondBetweenAtoms(match[a], match[b]).GetIdx(), o) for a, b, o in split.wanted}
+            # an atom that must carry no multiple bond: each of its edges single
+            fixed |= {(e, 1) for a in split.single for e in self._incident[match[a]]}
             # written in a fixed order, so that the matches of one ring (or of any symmetric
             # pattern) that differ only in how they map it make one way
             ways.add((tuple(sorted(fixed)), tuple(sorted(self._incident[match[a]] for a in split.multiple))))
