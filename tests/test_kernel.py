@@ -288,6 +288,17 @@ def test_conditions_read_off_each_skeleton_keep_the_python_paths_structures(
     assert read > 0 and kept > 0
 
 
+def _both_engines(f: Formula, selection: Selection, rdkit_smiles: bool) -> dict[str, tuple[list[str], dict[str, int]]]:
+    """Per engine (python, compiled): the SMILES of ``f`` under ``selection`` and the counts of
+    what each constraint removed."""
+    out = {}
+    for engine in ("python", "compiled"):
+        removed: dict[str, int] = {}
+        options = GeneratorOptions(selection=selection, rdkit_smiles=rdkit_smiles, engine=engine)
+        out[engine] = (list(isomer_smiles(f, options, removed=removed)), removed)
+    return out
+
+
 @pytest.mark.parametrize(("formula", "require"), CONDITIONED)
 @pytest.mark.parametrize("rdkit_smiles", [False, True])
 def test_isomer_smiles_with_required_groups_are_the_same_with_either_engine(
@@ -295,13 +306,7 @@ def test_isomer_smiles_with_required_groups_are_the_same_with_either_engine(
 ) -> None:
     # the finished-molecule tests (the stable profile) run on what the compiled core wrote:
     # the same SMILES in the same order, and the same counts of what each constraint removed
-    f = parse_formula(formula)
-    selection = Selection(require=require, profile="stable")
-    out = {}
-    for engine in ("python", "compiled"):
-        removed: dict[str, int] = {}
-        options = GeneratorOptions(selection=selection, rdkit_smiles=rdkit_smiles, engine=engine)
-        out[engine] = (list(isomer_smiles(f, options, removed=removed)), removed)
+    out = _both_engines(parse_formula(formula), Selection(require=require, profile="stable"), rdkit_smiles)
     assert out["compiled"] == out["python"]
     assert out["python"][0]
     if formula == "C8H12O":  # there the tests on finished molecules do remove some (no C=C, 98)
@@ -340,12 +345,7 @@ def test_declared_counts_keep_the_python_paths_structures(
     formula: str, counts: CountTest, require: tuple[str, ...]
 ) -> None:
     f = parse_formula(formula)
-    selection = Selection(require=require, counts=counts, profile="stable")
-    out = {}
-    for engine in ("python", "compiled"):
-        removed: dict[str, int] = {}
-        options = GeneratorOptions(selection=selection, rdkit_smiles=True, engine=engine)
-        out[engine] = (list(isomer_smiles(f, options, removed=removed)), removed)
+    out = _both_engines(f, Selection(require=require, counts=counts, profile="stable"), True)
     assert out["compiled"] == out["python"]
     assert out["python"][0]
     # and exactly the structures that filtering the finished molecules on the counts keeps

@@ -244,19 +244,11 @@ def test_the_limit_holds_while_enumerating_when_the_estimate_is_too_low(tmp_path
     assert all("ranks below C5H8O2" in (kept[f].skipped or "") for f in ("C8H4", "C7O"))
 
 
-def test_a_space_estimated_near_the_limit_is_counted_before_it_is_generated(tmp_path, monkeypatch):
-    # every formula estimated at 900 structures on purpose (under the limit of 1,000 but at or
-    # above COUNT_FIRST_SHARE of it): each is counted first, C5H8O2 (far more than 1,000) is
-    # skipped on its count and never generated, C6H12O (fewer) is counted, then generated
+def _spy_on_generation(monkeypatch):
+    """The formulas the solver counts against its limit and those it generates, in call order
+    (the generator's own functions run, wrapped)."""
     import elucidate.generator as generator
-    from elucidate import load_case
-    from elucidate.solver import solve
-    from elucidate.solver.ranking import COUNT_FIRST_SHARE
 
-    assert COUNT_FIRST_SHARE * 1000 <= 900
-    case_file = tmp_path / "ms100.yaml"
-    case_file.write_text(MS_ONLY_100, encoding="utf-8")
-    monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(900.0, 0.0))
     counted, generated = [], []
     real_count, real_generate = generator.within_budget, generator.isomer_smiles
 
@@ -270,6 +262,23 @@ def test_a_space_estimated_near_the_limit_is_counted_before_it_is_generated(tmp_
 
     monkeypatch.setattr(generator, "within_budget", count)
     monkeypatch.setattr(generator, "isomer_smiles", generate)
+    return counted, generated
+
+
+def test_a_space_estimated_near_the_limit_is_counted_before_it_is_generated(tmp_path, monkeypatch):
+    # every formula estimated at 900 structures on purpose (under the limit of 1,000 but at or
+    # above COUNT_FIRST_SHARE of it): each is counted first, C5H8O2 (far more than 1,000) is
+    # skipped on its count and never generated, C6H12O (fewer) is counted, then generated
+    import elucidate.generator as generator
+    from elucidate import load_case
+    from elucidate.solver import solve
+    from elucidate.solver.ranking import COUNT_FIRST_SHARE
+
+    assert COUNT_FIRST_SHARE * 1000 <= 900
+    case_file = tmp_path / "ms100.yaml"
+    case_file.write_text(MS_ONLY_100, encoding="utf-8")
+    monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(900.0, 0.0))
+    counted, generated = _spy_on_generation(monkeypatch)
     solution = solve(load_case(case_file), limit=1000, workers=1)
     kept = {str(k.formula): k for k in solution.formulas}
     assert "C5H8O2" in counted and "C5H8O2" not in generated
@@ -293,19 +302,7 @@ def test_a_space_the_estimate_reads_far_too_low_is_counted_once_generation_prove
     case_file = tmp_path / "ms100.yaml"
     case_file.write_text(MS_ONLY_100, encoding="utf-8")
     monkeypatch.setattr(generator, "estimate_space", lambda *args, **kwargs: generator.SpaceEstimate(50.0, 0.0))
-    counted, generated = [], []
-    real_count, real_generate = generator.within_budget, generator.isomer_smiles
-
-    def count(formula, *args, **kwargs):
-        counted.append(str(formula))
-        return real_count(formula, *args, **kwargs)
-
-    def generate(formula, *args, **kwargs):
-        generated.append(str(formula))
-        return real_generate(formula, *args, **kwargs)
-
-    monkeypatch.setattr(generator, "within_budget", count)
-    monkeypatch.setattr(generator, "isomer_smiles", generate)
+    counted, generated = _spy_on_generation(monkeypatch)
     solution = solve(load_case(case_file), limit=600, workers=workers)
     kept = {str(k.formula): k for k in solution.formulas}
     assert "C5H8O2" in counted and generated.count("C5H8O2") == 1

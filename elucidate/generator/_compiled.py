@@ -384,6 +384,12 @@ def ring_may_be_aromatic(n, heads, tails, on_cycle, orders, element, used, degre
 
 
 @numba.njit(cache=True, nogil=True)
+def _next_record(code, k):
+    """Where the record after the one at ``k`` starts (records as in :func:`_labels_possible`)."""
+    return k + 3 if code[k] < 2 else k + 2 + code[k + 1]
+
+
+@numba.njit(cache=True, nogil=True)
 def _labels_possible(upto, current, number, c_begin, c_end, cond_start, way_start, code):
     """Whether every condition ``c_begin:c_end`` keeps a way whose element records on the
     vertices below ``upto`` hold for the labels ``current`` (``number``: atomic number per
@@ -397,17 +403,10 @@ def _labels_possible(upto, current, number, c_begin, c_end, cond_start, way_star
             k = way_start[w]
             end = way_start[w + 1]
             while k < end:
-                kind = code[k]
-                if kind == 0:
-                    v = code[k + 1]
-                    if v < upto and number[current[v]] != code[k + 2]:
-                        ok = False
-                        break
-                    k += 3
-                elif kind == 1:
-                    k += 3
-                else:
-                    k += 2 + code[k + 1]
+                if code[k] == 0 and code[k + 1] < upto and number[current[code[k + 1]]] != code[k + 2]:
+                    ok = False
+                    break
+                k = _next_record(code, k)
             if ok:
                 found = True
                 break
@@ -431,19 +430,15 @@ def _orders_possible(placed, orders, alive, c_begin, c_end, cond_start, way_star
             end = way_start[w + 1]
             while k < end:
                 kind = code[k]
-                if kind == 0:
-                    k += 3
-                elif kind == 1:
+                if kind == 1:
                     e = code[k + 1]
                     if e < placed and orders[e] != code[k + 2]:
                         ok = False
                         break
-                    k += 3
-                else:
-                    count = code[k + 1]
+                elif kind == 2:
                     last = -1
                     multiple = False
-                    for t in range(k + 2, k + 2 + count):
+                    for t in range(k + 2, k + 2 + code[k + 1]):
                         e = code[t]
                         if e > last:
                             last = e
@@ -452,13 +447,25 @@ def _orders_possible(placed, orders, alive, c_begin, c_end, cond_start, way_star
                     if last < placed and not multiple:
                         ok = False
                         break
-                    k += 2 + count
+                k = _next_record(code, k)
             if ok:
                 found = True
                 break
         if not found:
             return False
     return True
+
+
+@numba.njit(cache=True, nogil=True)
+def _fill_hydrogens(n, heads, tails, orders, valence, current, used, hydrogens):
+    """Each atom's bond-order sum (``used``) and hydrogens (its valence state less that sum)."""
+    for v in range(n):
+        used[v] = 0
+    for e in range(heads.shape[0]):
+        used[heads[e]] += orders[e]
+        used[tails[e]] += orders[e]
+    for v in range(n):
+        hydrogens[v] = valence[current[v]] - used[v]
 
 
 @numba.njit(cache=True, nogil=True)
@@ -603,11 +610,7 @@ def label_and_write(
             while k < way_start[w + 1]:
                 if code[k] == 0:
                     watch[code[k + 1]] = True
-                    k += 3
-                elif code[k] == 1:
-                    k += 3
-                else:
-                    k += 2 + code[k + 1]
+                k = _next_record(code, k)
     i = 0
     while i >= 0:
         if i < n:
@@ -665,15 +668,10 @@ def label_and_write(
                 alive[w] = True
                 k = way_start[w]
                 while k < way_start[w + 1]:
-                    if code[k] == 0:
-                        if number[current[code[k + 1]]] != code[k + 2]:
-                            alive[w] = False
-                            break
-                        k += 3
-                    elif code[k] == 1:
-                        k += 3
-                    else:
-                        k += 2 + code[k + 1]
+                    if code[k] == 0 and number[current[code[k + 1]]] != code[k + 2]:
+                        alive[w] = False
+                        break
+                    k = _next_record(code, k)
         # bond orders: edge j tries 1 + top, ..., 1; a structure as soon as no order is left.
         # Entering edge j sets tried[j] one above its first order; every placement, the first
         # and each lower one, is made by the step back below
@@ -688,13 +686,7 @@ def label_and_write(
                     m, orders, alive, c_begin, c_end, cond_start, way_start, code
                 )
                 if keep and counted:
-                    for v in range(n):
-                        used[v] = 0
-                    for e in range(m):
-                        used[heads[e]] += orders[e]
-                        used[tails[e]] += orders[e]
-                    for v in range(n):
-                        hydrogens[v] = valence[current[v]] - used[v]
+                    _fill_hydrogens(n, heads, tails, orders, valence, current, used, hydrogens)
                     keep = _counts_hold(n, heads, tails, current, hydrogens, carbon, number, degree, spec)
                 for s in range(n_stab if keep else 0):
                     p = stabilizer[s]
@@ -724,13 +716,9 @@ def label_and_write(
                         ends2 = np.empty(grown, dtype=np.int64)
                         ends2[:count] = ends
                         ends = ends2
+                    if not counted:  # with declared counts they were filled for the test
+                        _fill_hydrogens(n, heads, tails, orders, valence, current, used, hydrogens)
                     for v in range(n):
-                        used[v] = 0
-                    for e in range(m):
-                        used[heads[e]] += orders[e]
-                        used[tails[e]] += orders[e]
-                    for v in range(n):
-                        hydrogens[v] = valence[current[v]] - used[v]
                         colourings[count, v] = current[v]
                         hydrogens_out[count, v] = hydrogens[v]
                     for e in range(m):
