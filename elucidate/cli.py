@@ -37,6 +37,7 @@ from .formula import parse_formula
 from .formula_search import FormulaQuery, ObservedCluster, check_formula, default_rules, derive_formulas, formula_query
 from .formula_search.search import check_space
 from .generator.kernel import ENGINES, worth_starting
+from .interrupts import InterruptWatch
 from .progress import TerminalProgress
 from .reports.documents import REPORT_FORMATS
 from .reports.formula_report import RULE_LABELS, formulas_json, formulas_text
@@ -669,8 +670,8 @@ def _cmd_isomers(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
             "partial skeletons); narrow the question (--require, --max-rings, --max-bond-order) or raise "
             "the limit with --limit N"
         )
-    with _cluster(args.scheduler) or nullcontext() as runner:
-        stream: Iterator[str] = isomer_smiles(formula, options, removed=removed, runner=runner)
+    with InterruptWatch() as interrupts, _cluster(args.scheduler) or nullcontext() as runner:
+        stream: Iterator[str] = interrupts.each(isomer_smiles(formula, options, removed=removed, runner=runner))
         if args.sort or args.json:
             stream = iter(sorted(stream))
         if args.json:
@@ -744,6 +745,7 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
     cache = None if cache_path is None else CandidateCache(cache_path, warn=warn)
     with (
+        InterruptWatch() as interrupts,
         TerminalProgress(err) as progress,
         _cluster(args.scheduler) or nullcontext() as runner,
         cache or nullcontext(),
@@ -757,7 +759,7 @@ def _cmd_solve(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
             shortlist=args.top,
             watch=watch,
             runner=runner,
-            progress=progress,
+            progress=interrupts.checking(progress),
             cache=cache,
         )
     result = solve_json(solution, top=args.top)
