@@ -198,7 +198,7 @@ def test_many_skeletons_in_one_call_are_labelled_as_one_by_one(formula: str) -> 
         rows = np.array(generators, dtype=np.int64).reshape(len(generators), size)
         assert {tuple(p) for p in closure(size, rows).tolist()} == set(group)
         # either form may be handed over: every other skeleton gets its whole group
-        batch.append((edges, group, True, ()) if k % 2 else (edges, generators, False, ()))
+        batch.append((edges, group, True, (), ()) if k % 2 else (edges, generators, False, (), ()))
     labels = kernel.kernel_labels(plan.labels)
     together = kernel.label_and_write_many(
         plan.n, batch, labels, plan.counts, plan.bond_sum, plan.max_extra, check_aromatic=True

@@ -526,6 +526,19 @@ def _counts_hold(n, heads, tails, current, hydrogens, carbon, number, degree, sp
 
 
 @numba.njit(cache=True, nogil=True)
+def _clause_holds(code, begin, end, current, number, orders):
+    """Whether every record ``code[begin:end]`` holds: ``0 v z`` vertex v is element z, ``1 e
+    o`` edge e has order o."""
+    for k in range(begin, end, 3):
+        if code[k] == 0:
+            if number[current[code[k + 1]]] != code[k + 2]:
+                return False
+        elif orders[code[k + 1]] != code[k + 2]:
+            return False
+    return True
+
+
+@numba.njit(cache=True, nogil=True)
 def label_and_write(
     n,
     heads,
@@ -549,13 +562,21 @@ def label_and_write(
     c_begin,
     c_end,
     spec,
+    f_start,
+    f_rule,
+    f_code,
+    f_begin,
+    f_end,
 ):
     """See :func:`.kernel.label_and_write`; returns the arrays of :class:`.kernel.Labelled`
     (the text as uint8). Conditions ``c_begin:c_end`` (records as in :func:`_labels_possible`)
     prune the labels as each vertex is labelled and the orders as each edge is placed; a
     structure is kept only when every condition has a way whose records all hold, and when it
     meets the declared counts ``spec`` (:func:`_counts_hold`; ``spec[0]``, ``spec[5]`` and
-    ``spec[8]`` all 0: none)."""
+    ``spec[8]`` all 0: none). Clauses ``f_begin:f_end`` (records ``f_code[f_start[c]:f_start[c +
+    1]]``, kinds 0 and 1 only) read plausibility rules (:mod:`.readings`): a structure that
+    cannot be aromatic and meets one breaks rule ``f_rule[c]``; its text is left empty and that
+    index returned for it (-1 for every other structure)."""
     m = heads.shape[0]
     n_labels = valence.shape[0]
     program, cycle = template(n, heads, tails)
@@ -576,6 +597,7 @@ def label_and_write(
     hydrogens_out = np.empty((size, n), dtype=np.int64)
     aromatic = np.zeros(size, dtype=np.bool_)
     ends = np.empty(size, dtype=np.int64)
+    rejected = np.empty(size, dtype=np.int64)
     text = np.empty(64 * size, dtype=np.uint8)
     count = 0
     written = 0
@@ -584,7 +606,9 @@ def label_and_write(
         if cond_start[c + 1] == cond_start[c]:
             impossible = True  # a condition with no way at all: no structure meets it
     if impossible or extra_total < 0 or extra_total > max_extra * m:
-        return (colourings[:0], orders_out[:0], hydrogens_out[:0], text[:0], ends[:0], aromatic[:0])
+        return (colourings[:0], orders_out[:0], hydrogens_out[:0], text[:0], ends[:0], aromatic[:0], rejected[:0])
+    # plausibility clauses apply where the aromaticity flag is exact
+    reading = check_aromatic and sharp and f_end > f_begin
     # colouring search state
     current = np.zeros(n, dtype=np.int64)
     choice = np.full(n + 1, -1, dtype=np.int64)
@@ -716,6 +740,9 @@ def label_and_write(
                         ends2 = np.empty(grown, dtype=np.int64)
                         ends2[:count] = ends
                         ends = ends2
+                        rejected2 = np.empty(grown, dtype=np.int64)
+                        rejected2[:count] = rejected
+                        rejected = rejected2
                     if not counted:  # with declared counts they were filled for the test
                         _fill_hydrogens(n, heads, tails, orders, valence, current, used, hydrogens)
                     for v in range(n):
@@ -750,13 +777,21 @@ def label_and_write(
                                 element_at[v] = element[current[v]]
                             flag = ring_may_be_aromatic(n, heads, tails, on_cycle, orders, element_at, used, degree)
                     aromatic[count] = flag
-                    # the SMILES: the template's program, atoms and bonds filled in
+                    broken = -1
+                    if reading and not flag:
+                        for c in range(f_begin, f_end):
+                            if _clause_holds(f_code, f_start[c], f_start[c + 1], current, number, orders):
+                                broken = f_rule[c]
+                                break
+                    rejected[count] = broken
+                    # the SMILES: the template's program, atoms and bonds filled in (none for a
+                    # structure that breaks a read rule)
                     need = written + 8 * (n + m) + program.shape[0]
                     if need > text.shape[0]:
                         text2 = np.empty(max(2 * text.shape[0], need), dtype=np.uint8)
                         text2[:written] = text[:written]
                         text = text2
-                    for k in range(program.shape[0]):
+                    for k in range(program.shape[0] if broken < 0 else 0):
                         op = program[k]
                         if op < 0:
                             text[written] = -op
@@ -814,6 +849,7 @@ def label_and_write(
         text[:written],
         ends[:count],
         aromatic[:count],
+        rejected[:count],
     )
 
 
@@ -881,18 +917,24 @@ def label_and_write_many(
     code,
     skeleton_conditions,
     spec,
+    f_start,
+    f_rule,
+    f_code,
+    skeleton_clauses,
 ):
     """:func:`label_and_write` on several skeletons of ``n`` vertices in one call: skeleton ``b``
     has the edges ``edge_starts[b]:edge_starts[b + 1]``, the permutation rows
     ``group_starts[b]:group_starts[b + 1]``, its whole automorphism group where ``complete[b]``,
     else generators of it (:func:`closure`), and the conditions
-    ``skeleton_conditions[b]:skeleton_conditions[b + 1]``; ``spec``: the declared counts.
-    Returns the SMILES text of them all, the aromatic flags and how many structures each
-    skeleton has."""
+    ``skeleton_conditions[b]:skeleton_conditions[b + 1]`` and the plausibility clauses
+    ``skeleton_clauses[b]:skeleton_clauses[b + 1]``; ``spec``: the declared counts. Returns the
+    SMILES text of them all, the aromatic flags, the read rule each breaks (-1: none) and how
+    many structures each skeleton has."""
     skeletons = edge_starts.shape[0] - 1
     counts = np.zeros(skeletons, dtype=np.int64)
     texts = []
     flags = []
+    broken = []
     total_text = 0
     total = 0
     for b in range(skeletons):
@@ -923,21 +965,29 @@ def label_and_write_many(
             skeleton_conditions[b],
             skeleton_conditions[b + 1],
             spec,
+            f_start,
+            f_rule,
+            f_code,
+            skeleton_clauses[b],
+            skeleton_clauses[b + 1],
         )
         text = found[3]
         aromatic = found[5]
         counts[b] = aromatic.shape[0]
         texts.append(text)
         flags.append(aromatic)
+        broken.append(found[6])
         total_text += text.shape[0]
         total += aromatic.shape[0]
     all_text = np.empty(total_text, dtype=np.uint8)
     all_flags = np.empty(total, dtype=np.bool_)
+    all_broken = np.empty(total, dtype=np.int64)
     at = 0
     k = 0
     for b in range(skeletons):
         all_text[at : at + texts[b].shape[0]] = texts[b]
         at += texts[b].shape[0]
         all_flags[k : k + flags[b].shape[0]] = flags[b]
+        all_broken[k : k + flags[b].shape[0]] = broken[b]
         k += flags[b].shape[0]
-    return all_text, all_flags, counts
+    return all_text, all_flags, all_broken, counts

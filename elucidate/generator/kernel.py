@@ -40,6 +40,7 @@ __all__ = [
     "ENGINES",
     "PYTHON_FIRST",
     "Batch",
+    "Clauses",
     "Conditions",
     "Engine",
     "KernelLabels",
@@ -184,7 +185,8 @@ def kernel_labels(labels: tuple[tuple[str, int], ...]) -> KernelLabels:
 class Labelled:
     """What one call returns for one skeleton: per structure its label indices (one row per
     structure), bond orders (in the skeleton's edge order), hydrogens, SMILES (ASCII bytes,
-    each followed by a newline: ``text[ends[k-1]:ends[k]]``) and whether it may be aromatic."""
+    each followed by a newline: ``text[ends[k-1]:ends[k]]``; empty for a structure that
+    breaks a read rule), whether it may be aromatic, and the read rule it breaks (-1: none)."""
 
     colourings: np.ndarray
     orders: np.ndarray
@@ -192,6 +194,7 @@ class Labelled:
     text: bytes
     ends: np.ndarray
     aromatic: np.ndarray
+    rejected: np.ndarray
 
     def __len__(self) -> int:
         return len(self.ends)
@@ -217,6 +220,10 @@ class Labelled:
             tuple(labels[c][1] for c in colouring),
         )
 
+
+#: plausibility rules read off the labels and bond orders (:mod:`.readings`): per clause the
+#: index of the rule it breaks and its records (``0 v z``, ``1 e o``), rules in order
+Clauses: TypeAlias = "tuple[tuple[int, tuple[int, ...]], ...]"
 
 #: conditions a structure must meet (required groups read off the labels and bond orders,
 #: :meth:`.labelling.SkeletonTest.kernel_conditions`): per condition its ways, of which one
@@ -261,6 +268,22 @@ def _flat_conditions(per_skeleton: Sequence[Conditions]) -> tuple[np.ndarray, ..
     return tuple(np.array(a, dtype=np.int64) for a in (cond_start, way_start, code, skeleton_start))
 
 
+def _flat_clauses(per_skeleton: Sequence[Clauses]) -> tuple[np.ndarray, ...]:
+    """The arrays the compiled core reads clauses from: per clause the start of its records and
+    the rule it breaks, the records, and per skeleton the start of its clauses."""
+    start = [0]
+    rule: list[int] = []
+    code: list[int] = []
+    skeleton_start = [0]
+    for clauses in per_skeleton:
+        for k, records in clauses:
+            code += records
+            start.append(len(code))
+            rule.append(k)
+        skeleton_start.append(len(rule))
+    return tuple(np.array(a, dtype=np.int64) for a in (start, rule, code, skeleton_start))
+
+
 def label_and_write(
     n: int,
     edges: Sequence[tuple[int, int]],
@@ -274,6 +297,7 @@ def label_and_write(
     sharp: bool = True,
     conditions: Conditions = (),
     counts: CountTest | None = None,
+    clauses: Clauses = (),
 ) -> Labelled:
     """Every structure on the skeleton (``n`` vertices, ``edges`` sorted) with ``per_label``
     atoms of each label and ``extra_total`` bond orders above single (at most ``max_extra`` per
@@ -284,14 +308,17 @@ def label_and_write(
     atoms that each carry a multiple bond or are not carbon, without :mod:`.aromatic`'s count
     (to measure what that count saves); ``conditions``: what each structure must meet (the
     search is pruned on them as labels and orders are placed); ``counts``: the declared NMR
-    counts every structure must meet."""
+    counts every structure must meet; ``clauses``: plausibility rules read off the labels and
+    orders, tested on each structure that cannot be aromatic (when ``check_aromatic`` and
+    ``sharp``), which is then returned unwritten with the index of the rule it breaks."""
     from . import _compiled
 
     cond_start, way_start, code, _ = _flat_conditions([conditions])
+    f_start, f_rule, f_code, _ = _flat_clauses([clauses])
 
     heads = np.array([a for a, _ in edges], dtype=np.int64)
     tails = np.array([b for _, b in edges], dtype=np.int64)
-    colourings, orders, hydrogens, text, ends, aromatic = _compiled.label_and_write(
+    colourings, orders, hydrogens, text, ends, aromatic, rejected = _compiled.label_and_write(
         n,
         heads,
         tails,
@@ -314,17 +341,24 @@ def label_and_write(
         0,
         len(conditions),
         count_spec(counts),
+        f_start,
+        f_rule,
+        f_code,
+        0,
+        len(clauses),
     )
-    return Labelled(colourings, orders, hydrogens, text.tobytes(), ends, aromatic)
+    return Labelled(colourings, orders, hydrogens, text.tobytes(), ends, aromatic, rejected)
 
 
 @dataclass(frozen=True)
 class Batch:
     """What :func:`label_and_write_many` returns: per skeleton, its structures' SMILES (written
-    from the skeleton) and whether each may be aromatic."""
+    from the skeleton; empty for one that breaks a read rule), whether each may be aromatic,
+    and the read rule each breaks (-1: none)."""
 
     smiles: list[list[str]]
     aromatic: list[list[bool]]
+    rejected: list[list[int]]
 
 
 #: automorphism groups up to this order are closed from their generators in the compiled core;
@@ -334,7 +368,7 @@ CLOSED_IN_KERNEL = 256
 
 def label_and_write_many(
     n: int,
-    skeletons: Sequence[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool, Conditions]],
+    skeletons: Sequence[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool, Conditions, Clauses]],
     labels: KernelLabels,
     per_label: Sequence[int],
     bond_sum: int,
@@ -345,7 +379,8 @@ def label_and_write_many(
 ) -> Batch:
     """:func:`label_and_write` on several skeletons of ``n`` vertices in one call (each given as
     its edges, permutations, whether they are its whole automorphism group, else generators
-    of a group of order at most :data:`CLOSED_IN_KERNEL`, and its :data:`Conditions`),
+    of a group of order at most :data:`CLOSED_IN_KERNEL`, its :data:`Conditions` and its
+    :data:`Clauses`),
     ``bond_sum`` the plan's bond-order sum, ``counts`` the declared NMR counts; the same
     structures, in the same order."""
     from . import _compiled
@@ -356,15 +391,16 @@ def label_and_write_many(
     tails: list[int] = []
     rows: list[Sequence[int]] = []
     complete = []
-    for edges, permutations, whole, _ in skeletons:
+    for edges, permutations, whole, _, _ in skeletons:
         heads += [a for a, _ in edges]
         tails += [b for _, b in edges]
         edge_starts.append(len(heads))
         rows += permutations
         group_starts.append(len(rows))
         complete.append(whole)
-    cond_start, way_start, code, skeleton_start = _flat_conditions([c for *_, c in skeletons])
-    text, aromatic, per_skeleton = _compiled.label_and_write_many(
+    cond_start, way_start, code, skeleton_start = _flat_conditions([c for _, _, _, c, _ in skeletons])
+    f_start, f_rule, f_code, skeleton_clauses = _flat_clauses([c for *_, c in skeletons])
+    text, aromatic, rejected, per_skeleton = _compiled.label_and_write_many(
         n,
         np.array(edge_starts, dtype=np.int64),
         np.array(heads, dtype=np.int64),
@@ -389,17 +425,24 @@ def label_and_write_many(
         code,
         skeleton_start,
         count_spec(counts),
+        f_start,
+        f_rule,
+        f_code,
+        skeleton_clauses,
     )
     strings = text.tobytes().decode("ascii").split("\n")
     flags = aromatic.tolist()
+    broken = rejected.tolist()
     smiles_out: list[list[str]] = []
     aromatic_out: list[list[bool]] = []
+    rejected_out: list[list[int]] = []
     at = 0
     for count in per_skeleton.tolist():
         smiles_out.append(strings[at : at + count])
         aromatic_out.append(flags[at : at + count])
+        rejected_out.append(broken[at : at + count])
         at += count
-    return Batch(smiles_out, aromatic_out)
+    return Batch(smiles_out, aromatic_out, rejected_out)
 
 
 def template_program(n: int, edges: Sequence[tuple[int, int]]) -> tuple[np.ndarray, np.ndarray]:

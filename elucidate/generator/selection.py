@@ -15,7 +15,7 @@ from ..smarts import compiled_smarts
 from .counts import CountTest
 from .groups import GroupTable, default_groups
 from .implication import Features, PatternNeeds, first_implied, pattern_needs
-from .plausibility import default_profiles
+from .plausibility import Rule, default_profiles
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
@@ -125,12 +125,12 @@ class Selection:
             tests.append((test.label, test.mol_ok))
             shortcuts.append(None)
             reasons[test.label] = _absent("its carbon and hydrogen counts differ from the declared ones")
-        if self.profile is not None:
-            for rule in default_profiles()[self.profile]:
-                tests.append((f"implausible {rule.name}", _not(rule.matcher())))
-                shortcuts.append((rule.needs, True))
-                reasons[f"implausible {rule.name}"] = _absent(rule.reason)
-        return CompiledSelection(tuple(tests), reasons, tuple(shortcuts))
+        rules = default_profiles()[self.profile] if self.profile is not None else ()
+        for rule in rules:
+            tests.append((f"implausible {rule.name}", _not(rule.matcher())))
+            shortcuts.append((rule.needs, True))
+            reasons[f"implausible {rule.name}"] = _absent(rule.reason)
+        return CompiledSelection(tuple(tests), reasons, tuple(shortcuts), tuple(rules))
 
 
 def _largest_ring(mol: Mol) -> str:
@@ -170,6 +170,9 @@ class CompiledSelection:
     #: per test (or empty): what any match of its pattern needs and the test's outcome when a
     #: structure lacks it (no match possible), or None for a test without a pattern
     shortcuts: tuple[tuple[PatternNeeds, bool] | None, ...] = ()
+    #: the plausibility profile's rules (their tests are among ``tests``, labelled
+    #: "implausible <name>")
+    rules: tuple[Rule, ...] = ()
     #: per kind of structure (its features): the tests to run in order, a test None where the
     #: shortcut decides that the structure breaks it (found once per kind, :meth:`_steps`)
     _by_features: dict[tuple[object, ...], tuple[tuple[str, MolTest | None], ...]] = field(
@@ -186,6 +189,16 @@ class CompiledSelection:
     @property
     def labels(self) -> tuple[str, ...]:
         return tuple(label for label, _ in self.tests)
+
+    def without(self, labels: frozenset[str]) -> CompiledSelection:
+        """These tests with those ``labels`` left out (decided elsewhere)."""
+        kept = [k for k, (label, _) in enumerate(self.tests) if label not in labels]
+        return CompiledSelection(
+            tuple(self.tests[k] for k in kept),
+            self.reasons,
+            tuple(self.shortcuts[k] for k in kept) if self.shortcuts else (),
+            self.rules,
+        )
 
     def first_failure(self, mol: Mol, features: Features | None = None) -> str | None:
         """The label of the first constraint ``mol`` (aromaticity perceived) breaks, or None.

@@ -27,6 +27,7 @@ from .labelling import (
 )
 from .options import GeneratorOptions
 from .plans import Plan, default_valence_states, valence_plans
+from .readings import Clause, Readings, broken, view_of
 from .selection import CompiledSelection, Selection
 from .skeletons import PartialGraph, automorphism_generators, automorphisms, children, frontier, grow
 from .smiles import sanitized
@@ -240,18 +241,28 @@ _Written: TypeAlias = "tuple[str, bool, tuple[tuple[int, int], ...]]"
 
 
 def _compiled_structures(
-    task: GenerationTask, test: SkeletonTest | None, budget: StructureBudget | None, *, check_aromatic: bool
-) -> Iterator[_Written | Structure]:
+    task: GenerationTask,
+    test: SkeletonTest | None,
+    budget: StructureBudget | None,
+    *,
+    check_aromatic: bool,
+    readings: Readings | None = None,
+) -> Iterator[_Written | Structure | int]:
     """The structures of one task the compiled core can take (:func:`_kernel_fits`), labelled
     and written by it, in the Python path's order; a skeleton whose group is too large to list
     or whose required-group conditions RDKit must test per labelling comes from the Python
-    path as a :class:`Structure`. ``test``: the required groups' skeleton conditions. Each
-    structure is taken from ``budget``."""
+    path as a :class:`Structure`. ``test``: the required groups' skeleton conditions;
+    ``readings``: plausibility rules read off the bond orders (with ``check_aromatic``): a
+    structure that breaks one comes as the rule's index, unwritten. Each structure is taken
+    from ``budget``."""
     plan = task.plan
     labels = kernel.kernel_labels(plan.labels)
-    batch: list[tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool, kernel.Conditions]] = []
+    batch: list[
+        tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool, kernel.Conditions, kernel.Clauses]
+    ] = []
+    reading = readings if check_aromatic else None
 
-    def flush() -> Iterator[_Written]:
+    def flush() -> Iterator[_Written | int]:
         found = kernel.label_and_write_many(
             plan.n,
             batch,
@@ -262,11 +273,13 @@ def _compiled_structures(
             check_aromatic=check_aromatic,
             counts=plan.count_test,
         )
-        for (edges, _, _, _), strings, flags in zip(batch, found.smiles, found.aromatic, strict=True):
-            for written, aromatic in zip(strings, flags, strict=True):
+        for (edges, *_), strings, flags, rejected in zip(
+            batch, found.smiles, found.aromatic, found.rejected, strict=True
+        ):
+            for written, aromatic, rule in zip(strings, flags, rejected, strict=True):
                 if budget is not None:
                     budget.take()
-                yield (written, aromatic, edges)
+                yield (written, aromatic, edges) if rule < 0 else rule
         batch.clear()
 
     def in_python(size: int, edges: tuple[tuple[int, int], ...]) -> Iterator[Structure]:
@@ -293,12 +306,16 @@ def _compiled_structures(
             yield from flush()
             yield from in_python(size, edges)
             continue
+        clauses: kernel.Clauses = ()
+        if reading is not None:
+            program, _ = kernel.template_program(size, edges)
+            clauses = reading.clauses(view_of(size, edges, program.tolist()))
         if order > kernel.CLOSED_IN_KERNEL:
             group = automorphisms(size, edges, limit=AUTOMORPHISMS_LISTED)
             assert group is not None
-            batch.append((edges, group, True, conditions))
+            batch.append((edges, group, True, conditions, clauses))
         else:
-            batch.append((edges, generators, False, conditions))
+            batch.append((edges, generators, False, conditions, clauses))
         if len(batch) == SKELETONS_PER_CALL:
             yield from flush()
     yield from flush()
@@ -357,7 +374,10 @@ def task_smiles(
                     yield written
             return
         own = out.own
-        for item in _compiled_structures(task, test, budget, check_aromatic=not kekule):
+        for item in _compiled_structures(task, test, budget, check_aromatic=not kekule, readings=out.readings):
+            if isinstance(item, int):  # breaks the read rule of that index
+                out.count(item)
+                continue
             if isinstance(item, tuple):
                 if own and not item[1]:
                     yield item[0]  # the string written from the skeleton is the output
@@ -399,9 +419,41 @@ class _TaskWriter:
         self.seen: set[str] = set()
         table = Chem.GetPeriodicTable()
         self.elements: dict[int, int] = {}
+        self.number = {symbol: table.GetAtomicNumber(symbol) for symbol, _ in task.plan.labels}
         for (symbol, _), k in zip(task.plan.labels, task.plan.counts, strict=True):
-            z = table.GetAtomicNumber(symbol)
+            z = self.number[symbol]
             self.elements[z] = self.elements.get(z, 0) + k
+        #: plausibility rules read off the bond orders (:mod:`.readings`), where every label is
+        #: an element in its usual valence and structures are checked for aromaticity; the
+        #: finished molecule of a structure that cannot be aromatic is tested by ``rest``
+        self.readings: Readings | None = None
+        self.rest = compiled
+        usual = not any(label in states for label in task.plan.labels)
+        if compiled is not None and compiled.rules and not kekule and usual:
+            valence = {self.number[symbol]: v for symbol, v in task.plan.labels}
+            self.readings = Readings.of(compiled.rules, self.elements, valence)
+            if self.readings is not None:
+                self.rest = compiled.without(frozenset(self.readings.labels))
+        self._clauses: tuple[tuple[int, Clause], ...] = ()
+        self._read: Template | None = None  # the template whose clauses _clauses holds
+
+    def count(self, rule: int) -> None:
+        """Count a structure that breaks the read rule of this index."""
+        assert self.readings is not None
+        label = self.readings.labels[rule]
+        self.removed[label] = self.removed.get(label, 0) + 1
+
+    def _broken(self, template: Template, s: Structure) -> int:
+        """The read rule a structure that cannot be aromatic breaks (-1: none), as the compiled
+        core finds it."""
+        assert self.readings is not None
+        if template is not self._read:
+            self._clauses = self.readings.clauses(view_of(template.n, template.edges, template.program.tolist()))
+            self._read = template
+        if not self._clauses:
+            return -1
+        number = self.number
+        return broken(self._clauses, [number[e] for e in s.elements], [o for _, _, o in s.bonds])
 
     def _first(self, smiles: str, skeleton: tuple[tuple[int, int], ...]) -> bool:
         """Whether ``smiles`` is new among this skeleton's: Kekulé forms of one compound share
@@ -440,7 +492,9 @@ class _TaskWriter:
         # in SMILES '=' and '#' are bond symbols only (no atom token holds them): the Kekulé
         # form's double and triple bonds
         features = Features(self.elements, "=" in written, "#" in written, len(skeleton) - self.atoms + 1, aromatic)
-        if compiled is not None and not aromatic and _rejected(compiled, mol, removed, features):
+        # the core read the rules off a structure it did not flag
+        early = compiled if flagged else self.rest
+        if early is not None and not aromatic and _rejected(early, mol, removed, features):
             return None
         smiles: str = Chem.MolToSmiles(mol)
         if aromatic and not self._first(smiles, skeleton):
@@ -466,15 +520,21 @@ class _TaskWriter:
             if own and kekule:
                 return template.write(s.elements, s.bonds, s.hydrogens)
             if not template.may_be_aromatic(s.elements, s.bonds, s.hydrogens, s.valences):
+                if self.readings is not None:
+                    rule = self._broken(template, s)
+                    if rule >= 0:
+                        self.count(rule)
+                        return None
                 written = template.write(s.elements, s.bonds, s.hydrogens)
                 if own:
                     return written
                 # no aromatic atom, so no other Kekulé form: RDKit reads the written string
                 # (cheaper than building the molecule atom by atom), the finished-molecule
-                # tests run on it, and RDKit writes its canonical SMILES
+                # tests run on it (less the rules read off the orders), and RDKit writes its
+                # canonical SMILES
                 parsed = Chem.MolFromSmiles(written)
-                if compiled is not None and _rejected(
-                    compiled, parsed, removed, _features(s, self.elements, aromatic=False)
+                if self.rest is not None and _rejected(
+                    self.rest, parsed, removed, _features(s, self.elements, aromatic=False)
                 ):
                     return None
                 return str(Chem.MolToSmiles(parsed))

@@ -1,0 +1,364 @@
+"""Plausibility rules read off a structure's element labels and bond orders, without RDKit.
+
+On a structure that cannot be aromatic (no ring :meth:`~.writer.Template.may_be_aromatic`),
+every atom is aliphatic, every bond is single, double or triple as written, and each atom's
+hydrogens follow from its valence and its bond orders (this reading is used only where every
+label is an element in its usual valence state). A rule's SMARTS then matches exactly when
+some *clause* holds: a set of records ``0 v z`` (vertex v is element z) and ``1 e o`` (edge e
+has order o), found once per skeleton from its graph and its rings. X and H in a pattern
+become records too: a carbon with X3 and a double bond, for example, carries no other multiple
+bond, so each of its other edges is single.
+
+Ring facts (``r``, ``R``, ``@`` and the smallest set of rings Bredt's test reads) are RDKit's,
+taken from RDKit's reading of the skeleton written by its template with every atom ``*``: the
+same string, atom for atom and bond for bond, as the structure's own SMILES, so RDKit finds the
+same rings as on the structure (its ring perception reads the graph alone).
+
+A rule is read only when :data:`READERS` holds a reader for its exact SMARTS (or named test):
+an edited rule falls back to RDKit's test until a reader is written for it. Each reader is
+checked against RDKit's match on every structure of a corpus (tests/test_readings.py).
+
+The generator tests the read rules first, before RDKit reads the string (the compiled core
+drops such a structure without writing it), and leaves them out of the tests run on the
+finished molecule; a structure that breaks several constraints is counted under the first
+read rule it breaks.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+from functools import cached_property
+from typing import TypeAlias
+
+from .plausibility import Rule, _short_bridgeheads
+
+__all__ = ["READERS", "Clause", "Readings", "SkeletonView", "clause_holds"]
+
+#: a flat run of records: ``0 v z`` (vertex v is element z), ``1 e o`` (edge e has order o)
+Clause: TypeAlias = "tuple[int, ...]"
+
+#: smallest and largest ring size the "small ring" rules name (r3 .. r7)
+_SMALL = (3, 7)
+
+
+class SkeletonView:
+    """What the readers need of one skeleton: neighbours with their edges, degrees, and RDKit's
+    ring facts (read on first use). ``atoms``: the vertices in the order its template writes
+    them (the order of atoms in its SMILES); ``written``: that SMILES with every atom ``*``
+    and every bond order left out."""
+
+    def __init__(self, n: int, edges: Sequence[tuple[int, int]], atoms: Sequence[int], written: str) -> None:
+        self.n = n
+        self.edges = tuple(edges)
+        self.atoms = tuple(atoms)
+        self.written = written
+        around: list[list[tuple[int, int]]] = [[] for _ in range(n)]
+        for e, (a, b) in enumerate(self.edges):
+            around[a].append((b, e))
+            around[b].append((a, e))
+        self.around = [tuple(row) for row in around]
+        self.edge_of = {(min(a, b), max(a, b)): e for e, (a, b) in enumerate(self.edges)}
+        #: atomic number -> its valence, and the atoms of it the formula holds (set by
+        #: :meth:`Readings.clauses`)
+        self.valence: Mapping[int, int] = {}
+        self.atoms_of: Mapping[int, int] = {}
+
+    def can(self, v: int, z: int) -> bool:
+        """Whether element ``z`` may label ``v``: the formula holds it, and ``v`` has no more
+        edges than its valence."""
+        valence = self.valence.get(z)
+        return valence is not None and len(self.around[v]) <= valence
+
+    @property
+    def cyclic(self) -> bool:
+        return len(self.edges) >= self.n
+
+    def edge(self, a: int, b: int) -> int:
+        return self.edge_of[(min(a, b), max(a, b))]
+
+    def single(self, v: int, *kept: int) -> list[int]:
+        """Records that every edge of ``v`` but ``kept`` is single."""
+        return [x for _, e in self.around[v] if e not in kept for x in (1, e, 1)]
+
+    @cached_property
+    def _rings(self) -> tuple[list[int], list[int], set[int], tuple[tuple[int, ...], ...]]:
+        from .._rdkit import Chem
+
+        mol = Chem.MolFromSmiles(self.written)
+        if mol is None or mol.GetNumAtoms() != self.n:
+            raise ValueError(f"RDKit did not read the skeleton {self.written!r}")  # never for a template's string
+        atoms = self.atoms
+        rings = tuple(tuple(atoms[i] for i in ring) for ring in mol.GetRingInfo().AtomRings())
+        smallest = [0] * self.n
+        count = [0] * self.n
+        in_ring = set()
+        for ring in rings:
+            size = len(ring)
+            for k, v in enumerate(ring):
+                count[v] += 1
+                if not smallest[v] or size < smallest[v]:
+                    smallest[v] = size
+                # atoms next to each other in a ring are bonded: a ring bond (RDKit's ``@``
+                # holds for a bond of some ring of this set)
+                in_ring.add(self.edge(v, ring[k - 1]))
+        return smallest, count, in_ring, rings
+
+    def smallest_ring(self, v: int) -> int:
+        """RDKit's smallest ring size at ``v`` (``r``), 0 when not in a ring."""
+        return self._rings[0][v] if self.cyclic else 0
+
+    def ring_count(self, v: int) -> int:
+        """How many of RDKit's smallest set of rings hold ``v`` (``R``)."""
+        return self._rings[1][v] if self.cyclic else 0
+
+    def in_ring(self, e: int) -> bool:
+        """Whether edge ``e`` is a ring bond (``@``)."""
+        return self.cyclic and e in self._rings[2]
+
+    @property
+    def rings(self) -> tuple[tuple[int, ...], ...]:
+        """RDKit's smallest set of rings, as vertices."""
+        return self._rings[3] if self.cyclic else ()
+
+
+def _small(size: int) -> bool:
+    return _SMALL[0] <= size <= _SMALL[1]
+
+
+#: a reader: the clauses of one rule on one skeleton (each a flat list of ``0 v z`` and ``1 e o``
+#: records); it leaves out those with a vertex its element cannot label (:meth:`SkeletonView.can`)
+#: or with more atoms of an element than the formula holds
+Reader = Callable[[SkeletonView], list[list[int]]]
+
+
+def _enol(view: SkeletonView) -> list[list[int]]:
+    """``[OX2H1][CX3]=[CX3]``: a hydroxyl O (one single edge: X2, H1) on a carbon with a double
+    bond to a carbon, each carbon with no other multiple bond (X3 with one double bond)."""
+    out = []
+    for o in range(view.n):
+        if len(view.around[o]) != 1 or not view.can(o, 8):
+            continue
+        ((c1, e1),) = view.around[o]
+        if not view.can(c1, 6):
+            continue
+        for c2, e2 in view.around[c1]:
+            if c2 == o or not view.can(c2, 6):
+                continue
+            carbons = [*view.single(c1, e1, e2), *view.single(c2, e2)]
+            out.append([0, o, 8, 0, c1, 6, 0, c2, 6, 1, e1, 1, 1, e2, 2, *carbons])
+    return out
+
+
+def _ynol(view: SkeletonView) -> list[list[int]]:
+    """``[OX2H1][CX2]#[CX2]``: a hydroxyl O on a carbon with a triple bond to a carbon, each
+    carbon with no other multiple bond (X2 with one triple bond)."""
+    out = []
+    for o in range(view.n):
+        if len(view.around[o]) != 1 or not view.can(o, 8):
+            continue
+        ((c1, e1),) = view.around[o]
+        if not view.can(c1, 6):
+            continue
+        for c2, e2 in view.around[c1]:
+            if c2 == o or not view.can(c2, 6):
+                continue
+            carbons = [*view.single(c1, e1, e2), *view.single(c2, e2)]
+            out.append([0, o, 8, 0, c1, 6, 0, c2, 6, 1, e1, 1, 1, e2, 3, *carbons])
+    return out
+
+
+def _gem_diol(view: SkeletonView) -> list[list[int]]:
+    """``[OX2H1][CX4][OX2H1]``: a saturated carbon (X4: every edge single) holding two hydroxyl
+    O (each with one edge)."""
+    out: list[list[int]] = []
+    if view.atoms_of.get(8, 0) < 2:
+        return out
+    for c in range(view.n):
+        if not view.can(c, 6):
+            continue
+        ends = [o for o, _ in view.around[c] if len(view.around[o]) == 1 and view.can(o, 8)]
+        for i, o1 in enumerate(ends):
+            for o2 in ends[i + 1 :]:
+                out.append([0, c, 6, 0, o1, 8, 0, o2, 8, *view.single(c)])
+    return out
+
+
+def _peroxide(view: SkeletonView) -> list[list[int]]:
+    """``[OX2][OX2]``: two bonded O, every edge of each single (X2 for oxygen: no multiple
+    bond; the bond between them single)."""
+    if view.atoms_of.get(8, 0) < 2:
+        return []
+    return [
+        [0, a, 8, 0, b, 8, *view.single(a), *view.single(b, e)]
+        for e, (a, b) in enumerate(view.edges)
+        if view.can(a, 8) and view.can(b, 8)
+    ]
+
+
+def _triple_in_small_ring(view: SkeletonView) -> list[list[int]]:
+    """``[r3,r4,r5,r6,r7]#;@[r3,r4,r5,r6,r7]``: a triple ring bond between atoms whose smallest
+    ring has 3 to 7 atoms."""
+    return [
+        [1, e, 3]
+        for e, (a, b) in enumerate(view.edges)
+        if view.in_ring(e) and _small(view.smallest_ring(a)) and _small(view.smallest_ring(b))
+    ]
+
+
+def _allene_in_small_ring(view: SkeletonView) -> list[list[int]]:
+    """``[CX2;r3,r4,r5,r6,r7](=*)=*``: a carbon of two edges, both double, whose smallest ring
+    has 3 to 7 atoms (two double bonds fill a carbon: X2 means two edges)."""
+    out = []
+    for v in range(view.n):
+        if len(view.around[v]) == 2 and view.can(v, 6) and _small(view.smallest_ring(v)):
+            (_, e1), (_, e2) = view.around[v]
+            out.append([0, v, 6, 1, e1, 2, 1, e2, 2])
+    return out
+
+
+def _bredt(view: SkeletonView) -> list[list[int]]:
+    """Bredt's test (:func:`.plausibility.bridgehead_double_bond`) with no aromatic bond: a
+    double bond from a bridgehead of a short bridged ring pair to its neighbour in the pair."""
+    rings = view.rings
+    if len(rings) < 2:
+        return []
+    return [[1, view.edge(a, b), 2] for a, partners in _short_bridgeheads(rings) for b in partners]
+
+
+def _fused_three_ring_alkene(view: SkeletonView) -> list[list[int]]:
+    """``[CX3;R2;r3]=[#6,#7,#8]``: a carbon in two of the smallest set of rings, the smallest of
+    three atoms, with a double bond to C, N or O and no other multiple bond (X3)."""
+    out = []
+    for v in range(view.n):
+        if not view.can(v, 6) or view.ring_count(v) != 2 or view.smallest_ring(v) != 3:
+            continue
+        for w, e in view.around[v]:
+            for z in (6, 7, 8):
+                if view.can(w, z):
+                    out.append([0, v, 6, 1, e, 2, 0, w, z, *view.single(v, e)])
+    return out
+
+
+#: the hetero atom of an antiaromatic three-ring and the X it must show: every edge single for
+#: each (N with X3, O and S with X2, in their usual valences)
+_ANTIAROMATIC_HETERO = (7, 8, 16)
+
+
+def _antiaromatic_three_ring(view: SkeletonView) -> list[list[int]]:
+    """``[#7X3,#8X2,#16X2]1[#6]=[#6]1``: a three-ring of N, O or S (every edge of it single:
+    X3 for N, X2 for O and S) and two carbons joined by a double bond."""
+    if not view.cyclic:
+        return []
+    out = []
+    for a in range(view.n):
+        for b, _ in view.around[a]:
+            if b <= a:
+                continue
+            for c, _ in view.around[b]:
+                if c <= b or (min(a, c), max(a, c)) not in view.edge_of:
+                    continue
+                triangle = (a, b, c)
+                for x in triangle:
+                    c1, c2 = (y for y in triangle if y != x)
+                    if not (view.can(c1, 6) and view.can(c2, 6)):
+                        continue
+                    for z in _ANTIAROMATIC_HETERO:
+                        if view.can(x, z):
+                            out.append([0, x, z, 0, c1, 6, 0, c2, 6, 1, view.edge(c1, c2), 2, *view.single(x)])
+    return out
+
+
+def _monosubstituted_diazene(view: SkeletonView) -> list[list[int]]:
+    """``[NX2H1]=[NX2]``: an N of one edge (H1 with a double bond) doubly bonded to an N with
+    no other multiple bond (X2)."""
+    out: list[list[int]] = []
+    if view.atoms_of.get(7, 0) < 2:
+        return out
+    for e, (a, b) in enumerate(view.edges):
+        for n1, n2 in ((a, b), (b, a)):
+            if len(view.around[n1]) == 1 and view.can(n1, 7) and view.can(n2, 7):
+                out.append([0, n1, 7, 0, n2, 7, 1, e, 2, *view.single(n2, e)])
+    return out
+
+
+def _never(view: SkeletonView) -> list[list[int]]:
+    """A rule that needs an aromatic atom: never on a structure that cannot be aromatic."""
+    return []
+
+
+#: readers by the rule's exact SMARTS, or by its named test (constraints/plausibility.yaml)
+READERS: Mapping[str, Reader] = {
+    "[OX2H1][CX3]=[CX3]": _enol,
+    "[OX2H1][CX2]#[CX2]": _ynol,
+    "[OX2H1][CX4][OX2H1]": _gem_diol,
+    "[OX2][OX2]": _peroxide,
+    "[r3,r4,r5,r6,r7]#;@[r3,r4,r5,r6,r7]": _triple_in_small_ring,
+    "[CX2;r3,r4,r5,r6,r7](=*)=*": _allene_in_small_ring,
+    "bridgehead_double_bond": _bredt,
+    "[CX3;R2;r3]=[#6,#7,#8]": _fused_three_ring_alkene,
+    "[#7X3,#8X2,#16X2]1[#6]=[#6]1": _antiaromatic_three_ring,
+    "[NX2H1]=[NX2]": _monosubstituted_diazene,
+    "[a;r3]@[O,N,S,o,n,s;r3]": _never,
+    "aromatic_atom_only_in_small_rings": _never,
+}
+
+
+def _reader(rule: Rule) -> Reader | None:
+    key = rule.smarts if rule.smarts is not None else rule.test
+    return READERS.get(key) if key is not None else None
+
+
+@dataclass(frozen=True)
+class Readings:
+    """The rules of a plausibility profile that are read off the bond orders (in the profile's
+    order), with the atoms of each element a plan holds and each element's valence."""
+
+    labels: tuple[str, ...]  # the read rules' constraint labels ("implausible <name>")
+    readers: tuple[Reader, ...]
+    atoms: Mapping[int, int]  # atomic number -> atoms of it in the formula
+    valence: Mapping[int, int]  # atomic number -> its valence in the plan
+
+    @classmethod
+    def of(cls, rules: Sequence[Rule], atoms: Mapping[int, int], valence: Mapping[int, int]) -> Readings | None:
+        """The read rules among ``rules`` (None when there is none)."""
+        read = [(f"implausible {r.name}", reader) for r in rules if (reader := _reader(r)) is not None]
+        if not read:
+            return None
+        return cls(tuple(label for label, _ in read), tuple(reader for _, reader in read), dict(atoms), dict(valence))
+
+    def clauses(self, view: SkeletonView) -> tuple[tuple[int, Clause], ...]:
+        """Each read rule's clauses on the skeleton, as (rule index, records), rules in order; a
+        structure breaks the first rule one of whose clauses holds."""
+        view.valence = self.valence
+        view.atoms_of = self.atoms
+        out: list[tuple[int, Clause]] = []
+        for k, reader in enumerate(self.readers):
+            out += [(k, clause) for clause in dict.fromkeys(map(tuple, reader(view)))]
+        return tuple(out)
+
+
+def clause_holds(clause: Clause, numbers: Sequence[int], orders: Sequence[int]) -> bool:
+    """Whether every record of ``clause`` holds for these atomic numbers (per vertex) and bond
+    orders (per edge)."""
+    for k in range(0, len(clause), 3):
+        kind, i, x = clause[k], clause[k + 1], clause[k + 2]
+        if (numbers[i] if kind == 0 else orders[i]) != x:
+            return False
+    return True
+
+
+def broken(clauses: Sequence[tuple[int, Clause]], numbers: Sequence[int], orders: Sequence[int]) -> int:
+    """The index of the first read rule a structure breaks, or -1."""
+    for k, clause in clauses:
+        if clause_holds(clause, numbers, orders):
+            return k
+    return -1
+
+
+def view_of(n: int, edges: Sequence[tuple[int, int]], program: Sequence[int]) -> SkeletonView:
+    """The :class:`SkeletonView` of a skeleton whose template has this ``program`` (atoms
+    0..n-1, edges n.., literal characters as minus their code)."""
+    atoms = [op for op in program if 0 <= op < n]
+    written = "".join("*" if 0 <= op < n else "" if op >= n else chr(-op) for op in program)
+    return SkeletonView(n, edges, atoms, written)
