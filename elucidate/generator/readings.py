@@ -12,7 +12,8 @@ bond, so each of its other edges is single.
 Ring facts (``r``, ``R``, ``@`` and the smallest set of rings Bredt's test reads) are RDKit's,
 taken from RDKit's reading of the skeleton written by its template with every atom ``*``: the
 same string, atom for atom and bond for bond, as the structure's own SMILES, so RDKit finds the
-same rings as on the structure (its ring perception reads the graph alone).
+same rings as on the structure (its ring perception reads the graph alone). A skeleton with one
+cycle needs no reading: that cycle is its only ring.
 
 A rule is read only when :data:`READERS` holds a reader for its exact SMARTS (or named test):
 an edited rule falls back to RDKit's test until a reader is written for it. Each reader is
@@ -83,6 +84,8 @@ class SkeletonView:
 
     @cached_property
     def _rings(self) -> tuple[list[int], list[int], set[int], tuple[tuple[int, ...], ...]]:
+        if len(self.edges) == self.n:
+            return self._one_ring()
         from .._rdkit import Chem
 
         mol = Chem.MolFromSmiles(self.written)
@@ -103,6 +106,29 @@ class SkeletonView:
                 # holds for a bond of some ring of this set)
                 in_ring.add(self.edge(v, ring[k - 1]))
         return smallest, count, in_ring, rings
+
+    def _one_ring(self) -> tuple[list[int], list[int], set[int], tuple[tuple[int, ...], ...]]:
+        """:attr:`_rings` of a connected skeleton with one cycle, without RDKit: its only
+        ring is that cycle (what remains once the chain ends are stripped), so every ring set
+        holds it alone."""
+        degree = [len(row) for row in self.around]
+        ends = [v for v in range(self.n) if degree[v] == 1]
+        gone = [False] * self.n
+        while ends:
+            v = ends.pop()
+            gone[v] = True
+            for w, _ in self.around[v]:
+                if not gone[w]:
+                    degree[w] -= 1
+                    if degree[w] == 1:
+                        ends.append(w)
+        ring = [v for v in range(self.n) if not gone[v]]
+        smallest = [0] * self.n
+        count = [0] * self.n
+        for v in ring:
+            smallest[v], count[v] = len(ring), 1
+        in_ring = {e for e, (a, b) in enumerate(self.edges) if not gone[a] and not gone[b]}
+        return smallest, count, in_ring, (tuple(ring),)
 
     def smallest_ring(self, v: int) -> int:
         """RDKit's smallest ring size at ``v`` (``r``), 0 when not in a ring."""
@@ -287,24 +313,26 @@ def _never(view: SkeletonView) -> list[list[int]]:
     return []
 
 
-#: readers by the rule's exact SMARTS, or by its named test (constraints/plausibility.yaml)
-READERS: Mapping[str, Reader] = {
-    "[OX2H1][CX3]=[CX3]": _enol,
-    "[OX2H1][CX2]#[CX2]": _ynol,
-    "[OX2H1][CX4][OX2H1]": _gem_diol,
-    "[OX2][OX2]": _peroxide,
-    "[r3,r4,r5,r6,r7]#;@[r3,r4,r5,r6,r7]": _triple_in_small_ring,
-    "[CX2;r3,r4,r5,r6,r7](=*)=*": _allene_in_small_ring,
-    "bridgehead_double_bond": _bredt,
-    "[CX3;R2;r3]=[#6,#7,#8]": _fused_three_ring_alkene,
-    "[#7X3,#8X2,#16X2]1[#6]=[#6]1": _antiaromatic_three_ring,
-    "[NX2H1]=[NX2]": _monosubstituted_diazene,
-    "[a;r3]@[O,N,S,o,n,s;r3]": _never,
-    "aromatic_atom_only_in_small_rings": _never,
+#: readers by the rule's exact SMARTS, or by its named test (constraints/plausibility.yaml), each
+#: with the bond orders above single its clauses need at least (a skeleton whose structures have
+#: fewer, its rings having taken the formula's unsaturation, gets none of its clauses)
+READERS: Mapping[str, tuple[Reader, int]] = {
+    "[OX2H1][CX3]=[CX3]": (_enol, 1),
+    "[OX2H1][CX2]#[CX2]": (_ynol, 2),
+    "[OX2H1][CX4][OX2H1]": (_gem_diol, 0),
+    "[OX2][OX2]": (_peroxide, 0),
+    "[r3,r4,r5,r6,r7]#;@[r3,r4,r5,r6,r7]": (_triple_in_small_ring, 2),
+    "[CX2;r3,r4,r5,r6,r7](=*)=*": (_allene_in_small_ring, 2),
+    "bridgehead_double_bond": (_bredt, 1),
+    "[CX3;R2;r3]=[#6,#7,#8]": (_fused_three_ring_alkene, 1),
+    "[#7X3,#8X2,#16X2]1[#6]=[#6]1": (_antiaromatic_three_ring, 1),
+    "[NX2H1]=[NX2]": (_monosubstituted_diazene, 1),
+    "[a;r3]@[O,N,S,o,n,s;r3]": (_never, 0),
+    "aromatic_atom_only_in_small_rings": (_never, 0),
 }
 
 
-def _reader(rule: Rule) -> Reader | None:
+def _reader(rule: Rule) -> tuple[Reader, int] | None:
     key = rule.smarts if rule.smarts is not None else rule.test
     return READERS.get(key) if key is not None else None
 
@@ -315,7 +343,7 @@ class Readings:
     order), with the atoms of each element a plan holds and each element's valence."""
 
     labels: tuple[str, ...]  # the read rules' constraint labels ("implausible <name>")
-    readers: tuple[Reader, ...]
+    readers: tuple[tuple[Reader, int], ...]  # each with the orders above single it needs
     atoms: Mapping[int, int]  # atomic number -> atoms of it in the formula
     valence: Mapping[int, int]  # atomic number -> its valence in the plan
 
@@ -327,14 +355,16 @@ class Readings:
             return None
         return cls(tuple(label for label, _ in read), tuple(reader for _, reader in read), dict(atoms), dict(valence))
 
-    def clauses(self, view: SkeletonView) -> tuple[tuple[int, Clause], ...]:
+    def clauses(self, view: SkeletonView, *, extra: int) -> tuple[tuple[int, Clause], ...]:
         """Each read rule's clauses on the skeleton, as (rule index, records), rules in order; a
-        structure breaks the first rule one of whose clauses holds."""
+        structure breaks the first rule one of whose clauses holds. ``extra``: the bond orders
+        above single of every structure on the skeleton (a rule needing more is left out)."""
         view.valence = self.valence
         view.atoms_of = self.atoms
         out: list[tuple[int, Clause]] = []
-        for k, reader in enumerate(self.readers):
-            out += [(k, clause) for clause in dict.fromkeys(map(tuple, reader(view)))]
+        for k, (reader, least) in enumerate(self.readers):
+            if least <= extra:
+                out += [(k, clause) for clause in dict.fromkeys(map(tuple, reader(view)))]
         return tuple(out)
 
 
