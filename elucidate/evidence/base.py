@@ -24,7 +24,28 @@ from ..generator.groups import GroupTable
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Assessment", "Bounded", "Partial", "Reading", "Staged", "Subject", "Technique", "make_subject"]
+__all__ = [
+    "Assessment",
+    "Bounded",
+    "Partial",
+    "Perception",
+    "Reading",
+    "Staged",
+    "Subject",
+    "Technique",
+    "make_subject",
+]
+
+
+@dataclass(frozen=True)
+class Perception:
+    """What generation found on a candidate's molecule while it held it, so that scoring need
+    not read the SMILES again for the cheap techniques: the groups it has (as
+    :attr:`Subject.groups`) and the conditional IR bands of those groups that apply to it
+    (group, position among the group's bands in the IR table)."""
+
+    groups: frozenset[str]
+    bands: frozenset[tuple[str, int]]
 
 
 @dataclass(frozen=True)
@@ -32,20 +53,38 @@ class Subject:
     """One candidate structure as the techniques see it."""
 
     smiles: str
-    mol: Mol  # aromaticity perceived, hydrogens implicit
+    parsed: Mol | None  # RDKit's molecule (:attr:`mol`), or None: read from the SMILES when asked
     formula: Formula
     group_table: GroupTable  # the group vocabulary :attr:`groups` is read from
     molecular_ion: int | None  # the nominal M it is scored under (None: not known)
     isotope_score: float | None = None  # its formula's isotope-cluster fit (None: no cluster)
     formula_demotion: float = 0.0  # nats: its formula breaks the element-ratio heuristic
     demoted_by: str | None = None  # the rule it breaks
+    seen: Perception | None = None  # what generation already found on its molecule
+
+    @cached_property
+    def mol(self) -> Mol:
+        """The molecule (aromaticity perceived, hydrogens implicit); read from the SMILES on
+        first use when not given (a candidate settled on what generation perceived never pays
+        for it)."""
+        if self.parsed is not None:
+            return self.parsed
+        from .._rdkit import Chem
+
+        mol = Chem.MolFromSmiles(self.smiles)
+        if mol is None:  # the solver's SMILES are RDKit's own canonical ones
+            raise ValueError(f"RDKit cannot read the candidate SMILES {self.smiles!r}")
+        return mol
 
     @cached_property
     def groups(self) -> frozenset[str]:
         """The names from the group vocabulary that the structure has (matched on first use: a
         candidate the solver settles before any technique asks never pays for it; groups whose
         atoms need elements the formula lacks, or that imply a group the structure lacks, cannot
-        match and are not tried: :meth:`~elucidate.generator.groups.GroupTable.present`)."""
+        match and are not tried: :meth:`~elucidate.generator.groups.GroupTable.present`), or
+        those generation perceived."""
+        if self.seen is not None:
+            return self.seen.groups
         return self.group_table.present(self.mol, self.formula)
 
     @cached_property
@@ -59,7 +98,7 @@ class Subject:
 
 def make_subject(
     smiles: str,
-    mol: Mol,
+    mol: Mol | None,
     formula: Formula,
     groups: GroupTable,
     molecular_ion: int | None,
@@ -67,8 +106,10 @@ def make_subject(
     *,
     formula_demotion: float = 0.0,
     demoted_by: str | None = None,
+    seen: Perception | None = None,
 ) -> Subject:
-    return Subject(smiles, mol, formula, groups, molecular_ion, isotope_score, formula_demotion, demoted_by)
+    """A :class:`Subject`; ``mol`` None: read from ``smiles`` when a technique asks for it."""
+    return Subject(smiles, mol, formula, groups, molecular_ion, isotope_score, formula_demotion, demoted_by, seen)
 
 
 @dataclass(frozen=True)

@@ -28,12 +28,23 @@ from ..generator.groups import GroupTable, default_groups
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
 from ..yamlnodes import Located, as_bool, as_choice, as_list, as_number, as_str, mapping, read_yaml_file
-from .base import Assessment, Reading, Subject
+from .base import Assessment, Perception, Reading, Subject
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
+    from ..formula import Formula
 
-__all__ = ["Band", "IRReading", "IRTable", "Infrared", "Region", "default_infrared", "load_infrared", "read_bands"]
+__all__ = [
+    "Band",
+    "IRReading",
+    "IRTable",
+    "Infrared",
+    "Perceiver",
+    "Region",
+    "default_infrared",
+    "load_infrared",
+    "read_bands",
+]
 
 STRENGTHS = ("strong", "medium", "weak")
 
@@ -311,8 +322,12 @@ class Infrared:
             every = self._listed[groups] = tuple(
                 (name, k, band, band.conditional) for name in groups for k, band in enumerate(t.of(name))
             )
-        mol = subject.mol
-        key = tuple((name, k) for name, k, band, conditional in every if not conditional or band.applies(mol))
+        seen = subject.seen
+        if seen is not None:  # generation already found which conditional bands apply
+            key = tuple((name, k) for name, k, _, conditional in every if not conditional or (name, k) in seen.bands)
+        else:
+            mol = subject.mol
+            key = tuple((name, k) for name, k, band, conditional in every if not conditional or band.applies(mol))
         known = self._known.get(key)
         if known is None:
             chosen = set(key)
@@ -393,3 +408,25 @@ class Infrared:
         )
         data: dict[str, Any] = {"indicated": [g for g, _ in r.indicated], "argued_against": [g for g, _ in r.against]}
         return Reading("IR reading", lines, data)
+
+
+@dataclass(frozen=True, eq=False)
+class Perceiver:
+    """What the IR technique reads off a candidate's molecule, found by generation while it
+    holds the molecule (:class:`~elucidate.evidence.base.Perception`): the groups of ``groups``
+    it has (``formula``: the candidates') and the conditional bands of ``table`` that apply.
+    Picklable, for generation's worker processes."""
+
+    formula: Formula
+    groups: GroupTable
+    table: IRTable
+
+    def __call__(self, mol: Mol) -> Perception:
+        found = self.groups.present(mol, self.formula)
+        bands = frozenset(
+            (name, k)
+            for name in found
+            for k, band in enumerate(self.table.of(name))
+            if band.conditional and band.applies(mol)
+        )
+        return Perception(found, bands)

@@ -35,6 +35,7 @@ from .options import GeneratorOptions
 from .plans import Plan
 from .tasks import (
     JobResult,
+    Perceive,
     StructureBudget,
     TooManyStructures,
     WorkerJob,
@@ -82,6 +83,8 @@ def isomer_smiles(
     runner: Runner | None = None,
     budget: int | None = None,
     on_taken: Callable[[int], None] | None = None,
+    perceive: Perceive | None = None,
+    perceived: list[object] | None = None,
 ) -> Generator[str, None, None]:
     """Canonical SMILES of every constitutional isomer of ``formula`` that passes the options'
     selection, each once. ``removed``, when given, is filled with how many generated structures
@@ -104,6 +107,10 @@ def isomer_smiles(
     ``on_taken``: with a ``budget``, called with the structures taken so far after each task's
     SMILES (in task order); it may raise to stop the work (the solver checks its size estimate
     this way).
+
+    ``perceive`` (not with ``options.kekule``): run on the RDKit molecule of each structure
+    kept, where generation holds it (in the worker processes); its result is appended to
+    ``perceived`` before the SMILES is yielded, so ``perceived[k]`` belongs to the k-th SMILES.
     """
     if not formula.counts:
         raise ElucidateError("empty formula")
@@ -125,14 +132,19 @@ def isomer_smiles(
                 rdkit_smiles=options.rdkit_smiles,
                 budget=left,
                 engine=options.engine,
+                perceive=perceive,
+                perceived=perceived,
             )
             if on_taken is not None and left is not None:
                 on_taken(left.taken)
         return
     taken = 0
-    for result in _job_results(run_job, plans, options, budget=budget, runner=runner):
+    for result in _job_results(run_job, plans, options, budget=budget, runner=runner, perceive=perceive):
         for label, n in result.removed.items():
             counts[label] = counts.get(label, 0) + n
+        if perceived is not None and result.perceived is not None:
+            distinct, indices = result.perceived
+            perceived.extend(distinct[i] for i in indices)
         yield from result.smiles
         taken += result.taken
         if on_taken is not None and budget is not None:
@@ -146,6 +158,7 @@ def _job_results(
     *,
     budget: int | None,
     runner: Runner | None,
+    perceive: Perceive | None = None,
 ) -> Iterator[JobResult]:
     """``job`` run on every task of the plans by worker processes (or ``runner``), the tree cut
     for their number, each with the whole ``budget``; the results in task order.
@@ -154,7 +167,7 @@ def _job_results(
     with nullcontext(runner) if runner is not None else local_runner(options.workers) as work:
         tasks = balanced_tasks(generation_tasks(plans), workers=work.workers)
         jobs = (
-            WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget, options.engine)
+            WorkerJob(task, options.kekule, options.selection, options.rdkit_smiles, budget, options.engine, perceive)
             for task in tasks
         )
         taken = 0

@@ -8,7 +8,7 @@ many there are.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, TypeAlias
 
@@ -123,9 +123,16 @@ class StructureBudget:
             raise TooManyStructures(self.limit)
 
 
+#: what a caller computes on each kept structure's RDKit molecule while generation holds it
+#: (the solver: what its cheap techniques read, :class:`~elucidate.evidence.infrared.Perceiver`);
+#: picklable for worker processes, its results hashable
+Perceive: TypeAlias = "Callable[[Mol], object]"
+
+
 @dataclass(frozen=True)
 class WorkerJob:
-    """What a worker process needs to run one task; ``budget``: structures it may take."""
+    """What a worker process needs to run one task; ``budget``: structures it may take;
+    ``perceive``: run on each kept structure's molecule (:data:`Perceive`)."""
 
     task: GenerationTask
     kekule: bool
@@ -133,17 +140,21 @@ class WorkerJob:
     rdkit_smiles: bool = False
     budget: int | None = None
     engine: Engine = "auto"
+    perceive: Perceive | None = None
 
 
 @dataclass(frozen=True)
 class JobResult:
     """A task's SMILES, what each constraint removed, the structures taken, and whether the
-    job's budget ran out (then the SMILES are not all there)."""
+    job's budget ran out (then the SMILES are not all there); with ``perceive``, what it gave
+    on each SMILES' molecule, as the distinct results and an index into them per SMILES (many
+    structures share one)."""
 
     smiles: list[str]
     removed: dict[str, int]
     taken: int
     over: bool
+    perceived: tuple[list[object], list[int]] | None = None
 
 
 def selection_plans(formula: Formula, options: GeneratorOptions) -> tuple[list[Plan], SkeletonPatterns]:
@@ -349,6 +360,8 @@ def task_smiles(
     rdkit_smiles: bool = False,
     budget: StructureBudget | None = None,
     engine: Engine = "auto",
+    perceive: Perceive | None = None,
+    perceived: list[object] | None = None,
 ) -> Iterator[str]:
     """SMILES of one task, Kekulé forms merged (unless ``kekule``) and filtered by ``compiled``;
     ``removed`` counts what each constraint removed. A structure with no charge-separated atom
@@ -358,10 +371,15 @@ def task_smiles(
     structure is built atom by atom as an RDKit molecule (in Kekulé form, when ``kekule`` and
     nothing asks for RDKit, it too is written from its skeleton). ``budget`` counts every
     structure taken and stops the work past its limit. ``engine``: whether the compiled core
-    labels and writes what it can (:func:`.kernel.wanted`); the output is the same."""
+    labels and writes what it can (:func:`.kernel.wanted`); the output is the same.
+    ``perceive`` (not with ``kekule``): run on the RDKit molecule of each SMILES before it is
+    yielded, its result appended to ``perceived``."""
     from .._rdkit import quiet_rdkit
 
-    out = _TaskWriter(task, kekule, compiled, removed, rdkit_smiles=rdkit_smiles)
+    if perceive is not None and (kekule or perceived is None):
+        raise ValueError("perceive needs a perceived list, and aromatic SMILES (not kekule)")
+    out = _TaskWriter(task, kekule, compiled, removed, rdkit_smiles=rdkit_smiles or perceive is not None)
+    out.perceive, out.perceived = perceive, perceived
     test = SkeletonTest(prefilter, task.plan.labels) if prefilter else None
     with quiet_rdkit():
         if not (_kernel_fits(task, test) and (out.own or not kekule) and kernel.wanted(engine)):
@@ -440,6 +458,16 @@ class _TaskWriter:
                 self.rest = compiled.without(frozenset(self.readings.labels))
         self._clauses: tuple[tuple[int, Clause], ...] = ()
         self._read: Template | None = None  # the template whose clauses _clauses holds
+        #: run on the molecule of each SMILES given out, its result kept in ``perceived``
+        self.perceive: Perceive | None = None
+        self.perceived: list[object] | None = None
+
+    def _given(self, smiles: str, mol: Mol) -> str:
+        """``smiles``, given out: what ``perceive`` finds on its molecule is kept first."""
+        if self.perceive is not None:
+            assert self.perceived is not None
+            self.perceived.append(self.perceive(mol))
+        return smiles
 
     def count(self, rule: int) -> None:
         """Count a structure that breaks the read rule of this index."""
@@ -506,7 +534,7 @@ class _TaskWriter:
             return None
         if compiled is not None and aromatic and _rejected(compiled, mol, removed, features):
             return None
-        return smiles
+        return self._given(smiles, mol)
 
     def template_for(self, n: int, edges: tuple[tuple[int, int], ...]) -> Template:
         """The template of this skeleton (kept while its structures come)."""
@@ -542,7 +570,7 @@ class _TaskWriter:
                     self.rest, parsed, removed, _features(s, self.elements, aromatic=False)
                 ):
                     return None
-                return str(Chem.MolToSmiles(parsed))
+                return self._given(str(Chem.MolToSmiles(parsed)), parsed)
         mol = sanitized(s, kekule=kekule)
         # a molecule with no aromatic atom has no other Kekulé form: its constraints are
         # tested before its SMILES is written, and it needs no merging
@@ -559,7 +587,7 @@ class _TaskWriter:
                 Chem.SetAromaticity(probe)
             if _rejected(compiled, probe, removed, _features(s, self.elements, aromatic=True)):
                 return None
-        return smiles
+        return self._given(smiles, mol)
 
 
 def _features(s: Structure, elements: dict[int, int], *, aromatic: bool) -> Features:
@@ -615,6 +643,7 @@ def run_job(job: WorkerJob) -> JobResult:
     prefilter = job.selection.skeleton_patterns() if job.selection is not None else ()
     budget = StructureBudget(job.budget) if job.budget is not None else None
     compiled = compiled_selection(job.selection)
+    perceived: list[object] | None = [] if job.perceive is not None else None
     try:
         smiles = list(
             task_smiles(
@@ -626,8 +655,15 @@ def run_job(job: WorkerJob) -> JobResult:
                 rdkit_smiles=job.rdkit_smiles,
                 budget=budget,
                 engine=job.engine,
+                perceive=job.perceive,
+                perceived=perceived,
             )
         )
     except TooManyStructures:
         return JobResult([], removed, budget.taken if budget is not None else 0, True)
-    return JobResult(smiles, removed, budget.taken if budget is not None else 0, False)
+    found = None
+    if perceived is not None:  # sent back once each, with an index per SMILES
+        distinct: dict[object, int] = {}
+        indices = [distinct.setdefault(p, len(distinct)) for p in perceived]
+        found = (list(distinct), indices)
+    return JobResult(smiles, removed, budget.taken if budget is not None else 0, False, found)

@@ -104,18 +104,20 @@ class Outcome:
 def evaluate_in_passes(
     evaluator: Evaluator,
     candidate: FoundCandidate,
-    mol: Mol,
+    mol: Mol | None,
     techniques: Sequence[Technique],
     threshold: float,
     order: Sequence[int] | None = None,
 ) -> Outcome:
     """Run the passes on one candidate until its bound falls below ``threshold`` (-inf: every
     pass; +inf: the first pass only), in ``order`` (indices into :func:`technique_passes`;
-    None: cheapest first). The bound after a pass is the score so far less what the later
-    techniques' floors (:class:`~elucidate.evidence.Bounded`) already cost, capped and weighted
-    as in the score. A two-part technique (:class:`~elucidate.evidence.Staged`) is bounded the
-    same way after its first part, and not finished when that settles the candidate.
-    ``Outcome.last_pass`` is a position in that order."""
+    None: cheapest first); ``mol`` None: read from the SMILES when a technique needs it (what
+    generation perceived, ``candidate.seen``, may be enough for the cheap passes). The bound
+    after a pass is the score so far less what the later techniques' floors
+    (:class:`~elucidate.evidence.Bounded`) already cost, capped and weighted as in the score. A
+    two-part technique (:class:`~elucidate.evidence.Staged`) is bounded the same way after its
+    first part, and not finished when that settles the candidate. ``Outcome.last_pass`` is a
+    position in that order."""
     subject = make_subject(
         candidate.smiles,
         mol,
@@ -125,6 +127,7 @@ def evaluate_in_passes(
         candidate.isotope_score,
         formula_demotion=candidate.formula_demotion,
         demoted_by=candidate.demoted_by,
+        seen=candidate.seen,
     )
     keys = {t.name: t.weight_key for t in techniques}
     position = {t.name: i for i, t in enumerate(techniques)}
@@ -270,9 +273,9 @@ def _run_job(job: _Job) -> list[Outcome | int]:
     out: list[Outcome | int] = []
     with quiet_rdkit():
         for item, limit in zip(job.items, job.thresholds, strict=True):
-            outcome = evaluate_in_passes(
-                job.evaluator, item, Chem.MolFromSmiles(item.smiles), techniques, limit, job.order
-            )
+            # with what generation perceived, the SMILES is read only when a pass needs more
+            mol = Chem.MolFromSmiles(item.smiles) if item.seen is None else None
+            outcome = evaluate_in_passes(job.evaluator, item, mol, techniques, limit, job.order)
             out.append(outcome if outcome.complete else outcome.last_pass)
     return out
 

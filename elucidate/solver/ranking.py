@@ -16,12 +16,14 @@ import math
 from collections import Counter
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, cast
 
 from ..case import CARBON_KINDS, Case
 from ..defaults import FORMULAS_PER_ION, SHORTLIST, SOLVER_LIMIT, WORKERS
 from ..errors import ElucidateError, TooLarge
 from ..evidence import TECHNIQUES, Assessment, Technique
+from ..evidence.base import Perception
+from ..evidence.infrared import Infrared, Perceiver
 from ..formula_search import Candidate, case_query, derive_formulas
 from ..formula_search.search import check_space
 from ..generator.counts import CountTest
@@ -261,6 +263,10 @@ def _solve(
     sc = scoring or default_scoring()
     every = [cls() for cls in TECHNIQUES]
     applied = [t for t in every if t.applies(case)]
+    # the IR pass reads a candidate's groups and conditional bands: generation finds them on
+    # each molecule while it holds it, so scoring need not read the SMILES for that pass
+    infrared = next((t for t in applied if isinstance(t, Infrared)), None)
+    perceptions: dict[object, object] = {}  # one object per distinct perception (pickled once a job)
     selection = hard_selection(case, every)
     compiled = selection.compile(g)
     considered = considered_hypotheses(case)
@@ -387,14 +393,29 @@ def _solve(
             attempts: tuple[Callable[[int], None] | None, ...] = (
                 (_stop_past(max(RECOUNT_AFTER * estimate, COUNT_FLOOR_SHARE * limit)), None) if not first else (None,)
             )
+            # what the IR pass reads is found on each molecule while generation holds it
+            perceive = Perceiver(cand.formula, g, infrared.table) if infrared is not None else None
             try:
                 for attempt in attempts if not over else ():
+                    seen: list[object] = []
                     try:
-                        for smiles in isomer_smiles(
-                            cand.formula, run_options, removed=local, runner=parallel, budget=limit, on_taken=attempt
+                        for k, smiles in enumerate(
+                            isomer_smiles(
+                                cand.formula,
+                                run_options,
+                                removed=local,
+                                runner=parallel,
+                                budget=limit,
+                                on_taken=attempt,
+                                perceive=perceive,
+                                perceived=seen if perceive is not None else None,
+                            )
                         ):
+                            perception = cast(Perception, perceptions.setdefault(seen[k], seen[k])) if seen else None
                             found.append(
-                                FoundCandidate(smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by)
+                                FoundCandidate(
+                                    smiles, cand.formula, m, cand.score, cand.demotion, cand.demoted_by, perception
+                                )
                             )
                             if len(found) % PROGRESS_EVERY == 0:
                                 progress("generation", len(found), None)

@@ -9,6 +9,7 @@ from typing import Any
 
 from ..case import Case
 from ..evidence import Assessment, Reading
+from ..evidence.base import Perception
 from ..formula import Formula
 from .hypotheses import Hypothesis
 from .scoring import Component
@@ -35,6 +36,7 @@ class FoundCandidate:
     isotope_score: float | None  # its formula's isotope-cluster fit; None without a cluster
     formula_demotion: float = 0.0  # nats: its formula breaks the element-ratio heuristic
     demoted_by: str | None = None
+    seen: Perception | None = None  # what generation found on its molecule (None: not known)
 
 
 @dataclass(frozen=True)
