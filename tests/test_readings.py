@@ -73,7 +73,8 @@ def test_each_read_rule_holds_exactly_where_rdkit_matches_it() -> None:
                     continue
                 if edges not in clauses:
                     clauses[edges] = readings.clauses(
-                        view_of(template.n, edges, template.program.tolist()), extra=task.plan.bond_sum - len(edges)
+                        view_of(template.n, edges, template.program.tolist(), template.cycle_edge_indices),
+                        extra=task.plan.bond_sum - len(edges),
                     )
                 numbers = [number[e] for e in s.elements]
                 orders = [o for _, _, o in s.bonds]
@@ -125,7 +126,8 @@ def test_the_compiled_core_breaks_the_rules_the_python_reading_breaks() -> None:
             assert group is not None
             template = Template(size, edges)
             clauses = readings.clauses(
-                view_of(size, edges, template.program.tolist()), extra=plan.bond_sum - len(edges)
+                view_of(size, edges, template.program.tolist(), template.cycle_edge_indices),
+                extra=plan.bond_sum - len(edges),
             )
             found = kernel.label_and_write(
                 size,
@@ -196,6 +198,9 @@ def test_named_examples_are_read_as_their_rule(smiles: str, rule: str) -> None:
     readings = Readings.of(RULES, atoms, {6: 4, 7: 3, 8: 2})
     assert readings is not None
     template = Template(n, edges)
-    clauses = readings.clauses(view_of(n, edges, template.program.tolist()), extra=sum(orders.values()) - len(edges))
+    clauses = readings.clauses(
+        view_of(n, edges, template.program.tolist(), template.cycle_edge_indices),
+        extra=sum(orders.values()) - len(edges),
+    )
     k = broken(clauses, numbers, [orders[e] for e in edges])
     assert k >= 0 and readings.labels[k] == f"implausible {rule}"

@@ -49,11 +49,14 @@ class SkeletonView:
     them (the order of atoms in its SMILES); ``written``: that SMILES with every atom ``*``
     and every bond order left out."""
 
-    def __init__(self, n: int, edges: Sequence[tuple[int, int]], atoms: Sequence[int], written: str) -> None:
+    def __init__(
+        self, n: int, edges: Sequence[tuple[int, int]], atoms: Sequence[int], written: str, cycle: Sequence[int]
+    ) -> None:
         self.n = n
         self.edges = tuple(edges)
         self.atoms = tuple(atoms)
         self.written = written
+        self.cycle = tuple(cycle)  # the edges on a cycle (the template's)
         around: list[list[tuple[int, int]]] = [[] for _ in range(n)]
         for e, (a, b) in enumerate(self.edges):
             around[a].append((b, e))
@@ -108,26 +111,14 @@ class SkeletonView:
         return smallest, count, in_ring, rings
 
     def _one_ring(self) -> tuple[list[int], list[int], set[int], tuple[tuple[int, ...], ...]]:
-        """:attr:`_rings` of a connected skeleton with one cycle, without RDKit: its only
-        ring is that cycle (what remains once the chain ends are stripped), so every ring set
-        holds it alone."""
-        degree = [len(row) for row in self.around]
-        ends = [v for v in range(self.n) if degree[v] == 1]
-        gone = [False] * self.n
-        while ends:
-            v = ends.pop()
-            gone[v] = True
-            for w, _ in self.around[v]:
-                if not gone[w]:
-                    degree[w] -= 1
-                    if degree[w] == 1:
-                        ends.append(w)
-        ring = [v for v in range(self.n) if not gone[v]]
+        """:attr:`_rings` of a connected skeleton with one cycle, without RDKit: its only ring
+        is that cycle (the template's cycle edges), so every ring set holds it alone."""
+        in_ring = set(self.cycle)
+        ring = sorted({v for e in in_ring for v in self.edges[e]})
         smallest = [0] * self.n
         count = [0] * self.n
         for v in ring:
             smallest[v], count[v] = len(ring), 1
-        in_ring = {e for e, (a, b) in enumerate(self.edges) if not gone[a] and not gone[b]}
         return smallest, count, in_ring, (tuple(ring),)
 
     def smallest_ring(self, v: int) -> int:
@@ -158,9 +149,9 @@ def _small(size: int) -> bool:
 Reader = Callable[[SkeletonView], list[list[int]]]
 
 
-def _enol(view: SkeletonView) -> list[list[int]]:
-    """``[OX2H1][CX3]=[CX3]``: a hydroxyl O (one single edge: X2, H1) on a carbon with a double
-    bond to a carbon, each carbon with no other multiple bond (X3 with one double bond)."""
+def _hydroxyl_on_multiple(view: SkeletonView, order: int) -> list[list[int]]:
+    """A hydroxyl O (one single edge: X2, H1) on a carbon bonded with ``order`` to a carbon,
+    each carbon with no other multiple bond (X3 with a double bond, X2 with a triple)."""
     out = []
     for o in range(view.n):
         if len(view.around[o]) != 1 or not view.can(o, 8):
@@ -172,26 +163,18 @@ def _enol(view: SkeletonView) -> list[list[int]]:
             if c2 == o or not view.can(c2, 6):
                 continue
             carbons = [*view.single(c1, e1, e2), *view.single(c2, e2)]
-            out.append([0, o, 8, 0, c1, 6, 0, c2, 6, 1, e1, 1, 1, e2, 2, *carbons])
+            out.append([0, o, 8, 0, c1, 6, 0, c2, 6, 1, e1, 1, 1, e2, order, *carbons])
     return out
+
+
+def _enol(view: SkeletonView) -> list[list[int]]:
+    """``[OX2H1][CX3]=[CX3]``: a hydroxyl on a C=C carbon."""
+    return _hydroxyl_on_multiple(view, 2)
 
 
 def _ynol(view: SkeletonView) -> list[list[int]]:
-    """``[OX2H1][CX2]#[CX2]``: a hydroxyl O on a carbon with a triple bond to a carbon, each
-    carbon with no other multiple bond (X2 with one triple bond)."""
-    out = []
-    for o in range(view.n):
-        if len(view.around[o]) != 1 or not view.can(o, 8):
-            continue
-        ((c1, e1),) = view.around[o]
-        if not view.can(c1, 6):
-            continue
-        for c2, e2 in view.around[c1]:
-            if c2 == o or not view.can(c2, 6):
-                continue
-            carbons = [*view.single(c1, e1, e2), *view.single(c2, e2)]
-            out.append([0, o, 8, 0, c1, 6, 0, c2, 6, 1, e1, 1, 1, e2, 3, *carbons])
-    return out
+    """``[OX2H1][CX2]#[CX2]``: a hydroxyl on a C#C carbon."""
+    return _hydroxyl_on_multiple(view, 3)
 
 
 def _gem_diol(view: SkeletonView) -> list[list[int]]:
@@ -386,9 +369,10 @@ def broken(clauses: Sequence[tuple[int, Clause]], numbers: Sequence[int], orders
     return -1
 
 
-def view_of(n: int, edges: Sequence[tuple[int, int]], program: Sequence[int]) -> SkeletonView:
+def view_of(n: int, edges: Sequence[tuple[int, int]], program: Sequence[int], cycle: Sequence[int]) -> SkeletonView:
     """The :class:`SkeletonView` of a skeleton whose template has this ``program`` (atoms
-    0..n-1, edges n.., literal characters as minus their code)."""
+    0..n-1, edges n.., literal characters as minus their code) and these cycle edges (as
+    :attr:`.writer.Template.cycle_edge_indices`)."""
     atoms = [op for op in program if 0 <= op < n]
     written = "".join("*" if 0 <= op < n else "" if op >= n else chr(-op) for op in program)
-    return SkeletonView(n, edges, atoms, written)
+    return SkeletonView(n, edges, atoms, written, cycle)

@@ -319,8 +319,9 @@ def _compiled_structures(
             continue
         clauses: kernel.Clauses = ()
         if reading is not None:
-            program, _ = kernel.template_program(size, edges)
-            clauses = reading.clauses(view_of(size, edges, program.tolist()), extra=plan.bond_sum - len(edges))
+            program, cycle = kernel.template_program(size, edges)
+            view = view_of(size, edges, program.tolist(), cycle.tolist())
+            clauses = reading.clauses(view, extra=plan.bond_sum - len(edges))
         if order > kernel.CLOSED_IN_KERNEL:
             group = automorphisms(size, edges, limit=AUTOMORPHISMS_LISTED)
             assert group is not None
@@ -480,7 +481,7 @@ class _TaskWriter:
         core finds it."""
         assert self.readings is not None
         if template is not self._read:
-            view = view_of(template.n, template.edges, template.program.tolist())
+            view = view_of(template.n, template.edges, template.program.tolist(), template.cycle_edge_indices)
             self._clauses = self.readings.clauses(view, extra=self.bond_sum - len(template.edges))
             self._read = template
         if not self._clauses:
