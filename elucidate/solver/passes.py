@@ -90,12 +90,13 @@ def technique_passes(techniques: Sequence[Technique]) -> list[list[Technique]]:
 
 @dataclass(frozen=True)
 class Outcome:
-    """How far one candidate was scored: the last pass run, its score so far, its assessments
-    so far, whether it was scored in full, and an upper bound of its score (the score itself if
-    in full; for a settled candidate, the first bound found below the threshold)."""
+    """How far one candidate was scored: the last pass run, its score (in full only), its
+    assessments so far, whether it was scored in full, and an upper bound of its score (the
+    score itself if in full; for a settled candidate, the first bound found below the
+    threshold)."""
 
     last_pass: int
-    combined: Combined
+    combined: Combined | None  # None when settled (nothing reads a settled candidate's score)
     assessments: tuple[Assessment, ...]
     complete: bool
     bound: float
@@ -129,10 +130,7 @@ def evaluate_in_passes(
         demoted_by=candidate.demoted_by,
         seen=candidate.seen,
     )
-    keys = {t.name: t.weight_key for t in techniques}
-    position = {t.name: i for i, t in enumerate(techniques)}
-    grouped = technique_passes(techniques)
-    passes = [grouped[k] for k in order] if order is not None else grouped
+    keys, position, passes, staged_names, bounded = _layout(techniques, order)
     last = len(passes) - 1
     found: list[Assessment] = []
     bounding = -math.inf < threshold < math.inf
@@ -144,12 +142,12 @@ def evaluate_in_passes(
     def later(k: int) -> float:
         nonlocal owed
         if owed is None:
-            owed = [0.0] + [sum(_floor(t, subject, evaluator) for t in group) for group in passes[1:]]
+            owed = [0.0] + [sum(_floor(t, subject, evaluator) for t in group) for group in bounded[1:]]
         return sum(owed[k + 1 :])
 
     for k, group in enumerate(passes):
         for t in group:
-            if bounding and _implements(t, Staged):
+            if bounding and t.name in staged_names:
                 # a two-part technique: stop after its first part when that already settles
                 staged = cast(Staged, t)
                 partial = staged.begin(subject, evaluator.case, enough=_enough(t, found, threshold, keys, evaluator))
@@ -158,14 +156,14 @@ def evaluate_in_passes(
                     first = Assessment(t.name, partial.against, partial.unexplained)
                     bound = _log_likelihood([*found, first], keys, evaluator.scoring)
                     if bound < threshold - EPSILON:
-                        return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
+                        return Outcome(k, None, tuple(found), False, bound)
                     partial = staged.begin(subject, evaluator.case)
                 first = Assessment(t.name, partial.against, partial.unexplained)
                 bound = _log_likelihood([*found, first], keys, evaluator.scoring)
                 if bound >= threshold - EPSILON:  # the later floors (0 or more) only lower it
                     bound -= later(k)
                 if bound < threshold - EPSILON:
-                    return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
+                    return Outcome(k, None, tuple(found), False, bound)
                 # the second part waits until after the last pass (a later pass may settle the
                 # candidate first); until then the first part stands in for the whole, a lower
                 # bound of its cost
@@ -179,7 +177,7 @@ def evaluate_in_passes(
             if deferred:
                 bound = _log_likelihood(found, keys, evaluator.scoring)
                 if bound < threshold - EPSILON:
-                    return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
+                    return Outcome(k, None, tuple(found), False, bound)
                 found = _finished(found, deferred, subject, evaluator)
             found.sort(key=lambda a: position[a.technique])  # report order, as full scoring gives
             break
@@ -187,9 +185,34 @@ def evaluate_in_passes(
         if bounding and bound >= threshold - EPSILON:
             bound -= later(k)
         if bound < threshold - EPSILON:
-            return Outcome(k, combine(found, keys, evaluator.scoring), tuple(found), False, bound)
+            return Outcome(k, None, tuple(found), False, bound)
     combined = combine(found, keys, evaluator.scoring)
     return Outcome(last, combined, tuple(found), True, combined.log_likelihood)
+
+
+_Layout = tuple[dict[str, str], dict[str, int], list[list[Technique]], frozenset[str], list[list[Technique]]]
+#: the last layout made, with the techniques and order it was made for (a job passes the same
+#: techniques for each of its candidates)
+_last_layout: list[tuple[Sequence[Technique], Sequence[int] | None, _Layout]] = []
+
+
+def _layout(techniques: Sequence[Technique], order: Sequence[int] | None) -> _Layout:
+    """Each technique's weight key and report position by name, the passes in ``order``, the
+    names of the two-part techniques (:class:`Staged`), and per pass its techniques with a floor
+    (:class:`Bounded`; the others' floors are 0)."""
+    if _last_layout:
+        known, known_order, layout = _last_layout[0]
+        if known is techniques and known_order == order:
+            return layout
+    keys = {t.name: t.weight_key for t in techniques}
+    position = {t.name: i for i, t in enumerate(techniques)}
+    grouped = technique_passes(techniques)
+    passes = [grouped[k] for k in order] if order is not None else grouped
+    staged = frozenset(t.name for t in techniques if _implements(t, Staged))
+    bounded = [[t for t in group if _implements(t, Bounded)] for group in passes]
+    layout = (keys, position, passes, staged, bounded)
+    _last_layout[:] = [(techniques, order, layout)]
+    return layout
 
 
 def _log_likelihood(found: Sequence[Assessment], keys: Mapping[str, str], scoring: ScoringTable) -> float:
@@ -246,9 +269,8 @@ def _enough(
 
 
 def _floor(technique: Technique, subject: Subject, evaluator: Evaluator) -> float:
-    """What the technique's floor costs the candidate's log-likelihood at least (0 or more)."""
-    if not _implements(technique, Bounded):
-        return 0.0
+    """What a :class:`Bounded` technique's floor costs the candidate's log-likelihood at least
+    (0 or more)."""
     against, unexplained = cast(Bounded, technique).floor(subject, evaluator.case)
     w = evaluator.scoring.techniques[technique.weight_key]
     return w.weight * (min(against, w.against_cap) + min(unexplained, w.unexplained_cap))
@@ -350,6 +372,7 @@ def score_candidates(
             for k in used:
                 ran[k] += 1
             complete += 1
+            assert outcome.combined is not None
             level = round(outcome.combined.log_likelihood, 6)
             full[i] = (outcome.combined, outcome.assessments)
             if threshold == -math.inf:

@@ -131,6 +131,7 @@ class Evaluator:
     ) -> tuple[Combined, tuple[Assessment, ...]]:
         """The combined log-likelihood (with its components) and the assessments of one candidate."""
         outcome = evaluate_in_passes(self, candidate, mol, techniques, -math.inf)
+        assert outcome.combined is not None  # scored in full
         return outcome.combined, outcome.assessments
 
 
