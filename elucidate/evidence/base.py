@@ -20,6 +20,7 @@ from typing import TYPE_CHECKING, Any, Literal, Protocol, runtime_checkable
 from ..case import Case
 from ..formula import Formula
 from ..generator.groups import GroupTable
+from ..generator.shape import RingShape
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
@@ -41,11 +42,13 @@ __all__ = [
 class Perception:
     """What generation found on a candidate's molecule while it held it, so that scoring need
     not read the SMILES again for the cheap techniques: the groups it has (as
-    :attr:`Subject.groups`) and the conditional IR bands of those groups that apply to it
-    (group, position among the group's bands in the IR table)."""
+    :attr:`Subject.groups`), the conditional IR bands of those groups that apply to it
+    (group, position among the group's bands in the IR table), and its rings and multiple
+    bonds where generation read them off the bond orders (None: read off the molecule)."""
 
     groups: frozenset[str]
     bands: frozenset[tuple[str, int]]
+    shape: RingShape | None = None
 
 
 @dataclass(frozen=True)

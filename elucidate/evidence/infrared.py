@@ -25,6 +25,7 @@ from ..case import Case, IRBand
 from ..errors import ElucidateError
 from ..formula_search.query import limits_for
 from ..generator.groups import GroupTable, default_groups
+from ..generator.shape import RingShape
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
 from ..yamlnodes import Located, as_bool, as_choice, as_list, as_number, as_str, mapping, read_yaml_file
@@ -414,14 +415,16 @@ class Infrared:
 class Perceiver:
     """What the IR technique reads off a candidate's molecule, found by generation while it
     holds the molecule (:class:`~elucidate.evidence.base.Perception`): the groups of ``groups``
-    it has (``formula``: the candidates') and the conditional bands of ``table`` that apply.
-    Picklable, for generation's worker processes."""
+    it has (``formula``: the candidates') and the conditional bands of ``table`` that apply;
+    with the shape of its rings that generation read off the bond orders, for the strain
+    technique. Picklable, for generation's worker processes."""
 
     formula: Formula
     groups: GroupTable
     table: IRTable
 
-    def __call__(self, mol: Mol) -> Perception:
+    def __call__(self, mol: Mol, shape: RingShape | None = None) -> Perception:
+        """What ``mol`` shows, with ``shape`` (generation's reading of its rings, when made)."""
         found = self.groups.present(mol, self.formula)
         bands = frozenset(
             (name, k)
@@ -429,4 +432,4 @@ class Perceiver:
             for k, band in enumerate(self.table.of(name))
             if band.conditional and band.applies(mol)
         )
-        return Perception(found, bands)
+        return Perception(found, bands, shape)

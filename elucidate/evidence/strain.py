@@ -9,15 +9,16 @@ table caps it, so a strained structure is ranked down, never eliminated.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
-from .._mol import bonds_of
 from ..case import Case
 from ..errors import ElucidateError
+from ..generator.shape import RingShape, shape_of
 from ..tables import table_path, validated
 from ..yamlnodes import Located, as_number, as_str, mapping, read_yaml_file
 from .base import Assessment, Reading, Subject
@@ -25,7 +26,7 @@ from .base import Assessment, Reading, Subject
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Strain", "StrainTable", "default_strain", "load_strain", "strain_energy"]
+__all__ = ["Strain", "StrainTable", "default_strain", "load_strain", "strain_energy", "strain_of"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -94,43 +95,30 @@ def default_strain() -> StrainTable:
 
 def strain_energy(mol: Mol, table: StrainTable | None = None) -> tuple[float, tuple[str, ...]]:
     """Estimated strain and rarity of ``mol`` in kcal/mol, with the terms that make it up."""
+    return strain_of(shape_of(mol), table)
+
+
+def strain_of(shape: RingShape, table: StrainTable | None = None) -> tuple[float, tuple[str, ...]]:
+    """Estimated strain and rarity of a structure of this shape in kcal/mol, with the terms that
+    make it up (in the shape's order: rings by size, then the multiple bonds)."""
     t = table or default_strain()
-    info = mol.GetRingInfo()
     terms: list[tuple[str, float]] = []
-    rings = [ring for ring in info.AtomRings() if not all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in ring)]
-    for ring in rings:
-        if t.ring(len(ring)):
-            terms.append((f"{len(ring)}-ring", t.ring(len(ring))))
-    small = [set(r) for r in rings if len(r) <= 4]
-    for i, first in enumerate(small):
-        for second in small[i + 1 :]:
-            if len(first & second) >= 2:
-                terms.append(("fused small rings", t.fused_small_rings))
-    doubles: dict[int, int] = {}  # atom index -> its double bonds
-    for bond in bonds_of(mol):
-        order = bond.GetBondTypeAsDouble()
-        if order not in (2.0, 3.0):
-            continue
-        a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
-        if order == 2.0:
-            doubles[a] = doubles.get(a, 0) + 1
-            doubles[b] = doubles.get(b, 0) + 1
-        if bond.IsInRing():
-            size = min(len(r) for r in info.BondRings() if bond.GetIdx() in r)
-            if order == 3.0 and size <= 7:
+    for size in shape.rings:
+        if t.ring(size):
+            terms.append((f"{size}-ring", t.ring(size)))
+    terms += [("fused small rings", t.fused_small_rings)] * shape.fused_small
+    for order, size, ends in shape.bonds:
+        if size:
+            if order == 3 and size <= 7:
                 terms.append((f"C≡C in a {size}-ring", t.small_ring_triple_bond))
-            elif order == 2.0 and size in t.endocyclic_double_bond:
+            elif order == 2 and size in t.endocyclic_double_bond:
                 terms.append((f"double bond in a {size}-ring", t.endocyclic_double_bond[size]))
             continue
-        for end in (a, b):  # an exocyclic double bond on a small ring atom
-            if info.NumAtomRings(end):
-                size = info.MinAtomRingSize(end)
-                if order == 2.0 and size in t.exocyclic_double_bond:
-                    terms.append((f"exocyclic double bond on a {size}-ring", t.exocyclic_double_bond[size]))
-    for i in sorted(doubles):
-        if doubles[i] >= 2 and mol.GetAtomWithIdx(i).GetAtomicNum() == 6:
-            terms.append(("cumulated double bonds", t.cumulated_double_bond))
-    total = sum(kcal for _, kcal in terms)
+        for end in ends:  # an exocyclic double bond on a small ring atom
+            if order == 2 and end in t.exocyclic_double_bond:
+                terms.append((f"exocyclic double bond on a {end}-ring", t.exocyclic_double_bond[end]))
+    terms += [("cumulated double bonds", t.cumulated_double_bond)] * shape.cumulated
+    total = math.fsum(kcal for _, kcal in terms)  # exactly rounded, whatever the terms' order
     return total, tuple(f"{name} {kcal:g}" for name, kcal in terms)
 
 
@@ -155,7 +143,9 @@ class Strain:
         return {}
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
-        kcal, terms = strain_energy(subject.mol, self.table)
+        seen = subject.seen
+        shape = seen.shape if seen is not None and seen.shape is not None else shape_of(subject.mol)
+        kcal, terms = strain_of(shape, self.table)
         reasons = (f"strain: about {kcal:g} kcal/mol ({', '.join(terms)})",) if terms else ()
         detail = {"kcal_per_mol": round(kcal, 3), "terms": list(terms)}
         return Assessment(self.name, against=kcal / self.table.kcal_per_nat, reasons=reasons, detail=detail)

@@ -928,15 +928,18 @@ def label_and_write_many(
     else generators of it (:func:`closure`), and the conditions
     ``skeleton_conditions[b]:skeleton_conditions[b + 1]`` and the plausibility clauses
     ``skeleton_clauses[b]:skeleton_clauses[b + 1]``; ``spec``: the declared counts. Returns the
-    SMILES text of them all, the aromatic flags, the read rule each breaks (-1: none) and how
-    many structures each skeleton has."""
+    SMILES text of them all, the aromatic flags, the read rule each breaks (-1: none), how
+    many structures each skeleton has, and every structure's bond orders (one per edge of its
+    skeleton, in edge order), one structure after another."""
     skeletons = edge_starts.shape[0] - 1
     counts = np.zeros(skeletons, dtype=np.int64)
     texts = []
     flags = []
     broken = []
+    orders = []
     total_text = 0
     total = 0
+    total_orders = 0
     for b in range(skeletons):
         h = heads[edge_starts[b] : edge_starts[b + 1]].copy()
         t = tails[edge_starts[b] : edge_starts[b + 1]].copy()
@@ -977,17 +980,24 @@ def label_and_write_many(
         texts.append(text)
         flags.append(aromatic)
         broken.append(found[6])
+        orders.append(found[1])
         total_text += text.shape[0]
         total += aromatic.shape[0]
+        total_orders += found[1].shape[0] * found[1].shape[1]
     all_text = np.empty(total_text, dtype=np.uint8)
     all_flags = np.empty(total, dtype=np.bool_)
     all_broken = np.empty(total, dtype=np.int64)
+    all_orders = np.empty(total_orders, dtype=np.int64)
     at = 0
     k = 0
+    o = 0
     for b in range(skeletons):
         all_text[at : at + texts[b].shape[0]] = texts[b]
         at += texts[b].shape[0]
         all_flags[k : k + flags[b].shape[0]] = flags[b]
         all_broken[k : k + flags[b].shape[0]] = broken[b]
         k += flags[b].shape[0]
-    return all_text, all_flags, all_broken, counts
+        size = orders[b].shape[0] * orders[b].shape[1]
+        all_orders[o : o + size] = orders[b].reshape(size)
+        o += size
+    return all_text, all_flags, all_broken, counts, all_orders

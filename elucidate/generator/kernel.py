@@ -354,11 +354,13 @@ def label_and_write(
 class Batch:
     """What :func:`label_and_write_many` returns: per skeleton, its structures' SMILES (written
     from the skeleton; empty for one that breaks a read rule), whether each may be aromatic,
-    and the read rule each breaks (-1: none)."""
+    the read rule each breaks (-1: none) and each one's bond orders (one per edge, in edge
+    order)."""
 
     smiles: list[list[str]]
     aromatic: list[list[bool]]
     rejected: list[list[int]]
+    orders: list[list[list[int]]]
 
 
 #: automorphism groups up to this order are closed from their generators in the compiled core;
@@ -400,7 +402,7 @@ def label_and_write_many(
         complete.append(whole)
     cond_start, way_start, code, skeleton_start = _flat_conditions([c for _, _, _, c, _ in skeletons])
     f_start, f_rule, f_code, skeleton_clauses = _flat_clauses([c for *_, c in skeletons])
-    text, aromatic, rejected, per_skeleton = _compiled.label_and_write_many(
+    text, aromatic, rejected, per_skeleton, all_orders = _compiled.label_and_write_many(
         n,
         np.array(edge_starts, dtype=np.int64),
         np.array(heads, dtype=np.int64),
@@ -436,13 +438,18 @@ def label_and_write_many(
     smiles_out: list[list[str]] = []
     aromatic_out: list[list[bool]] = []
     rejected_out: list[list[int]] = []
+    orders_out: list[list[list[int]]] = []
     at = 0
-    for count in per_skeleton.tolist():
+    placed = 0  # orders read so far
+    for (edges, *_), count in zip(skeletons, per_skeleton.tolist(), strict=True):
         smiles_out.append(strings[at : at + count])
         aromatic_out.append(flags[at : at + count])
         rejected_out.append(broken[at : at + count])
+        size = count * len(edges)
+        orders_out.append(all_orders[placed : placed + size].reshape(count, len(edges)).tolist())
+        placed += size
         at += count
-    return Batch(smiles_out, aromatic_out, rejected_out)
+    return Batch(smiles_out, aromatic_out, rejected_out, orders_out)
 
 
 def template_program(n: int, edges: Sequence[tuple[int, int]]) -> tuple[np.ndarray, np.ndarray]:

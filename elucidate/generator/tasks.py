@@ -27,8 +27,9 @@ from .labelling import (
 )
 from .options import GeneratorOptions
 from .plans import Plan, default_valence_states, valence_plans
-from .readings import Clause, Readings, broken, view_of
+from .readings import Clause, Readings, SkeletonView, broken, view_of
 from .selection import CompiledSelection, Selection
+from .shape import RingShape, ShapePlan, shape_plan
 from .skeletons import PartialGraph, automorphism_generators, automorphisms, children, frontier, grow
 from .smiles import sanitized
 from .writer import Template
@@ -124,9 +125,10 @@ class StructureBudget:
 
 
 #: what a caller computes on each kept structure's RDKit molecule while generation holds it
-#: (the solver: what its cheap techniques read, :class:`~elucidate.evidence.infrared.Perceiver`);
-#: picklable for worker processes, its results hashable
-Perceive: TypeAlias = "Callable[[Mol], object]"
+#: (the solver: what its cheap techniques read, :class:`~elucidate.evidence.infrared.Perceiver`),
+#: given the structure's :class:`~.shape.RingShape` too where generation read it off the bond
+#: orders (else None); picklable for worker processes, its results hashable
+Perceive: TypeAlias = "Callable[[Mol, RingShape | None], object]"
 
 
 @dataclass(frozen=True)
@@ -246,9 +248,10 @@ def _kernel_fits(task: GenerationTask, test: SkeletonTest | None) -> bool:
 
 
 #: a structure the compiled core labelled and wrote: its SMILES (Kekulé form, written from the
-#: skeleton), whether it may be aromatic, and its skeleton's edges (a plain tuple: one is made
-#: per structure, and a dataclass cost a tenth of the compiled path's time)
-_Written: TypeAlias = "tuple[str, bool, tuple[tuple[int, int], ...]]"
+#: skeleton), whether it may be aromatic, its skeleton's edges, its bond orders (one per edge)
+#: and its skeleton's view when the readings made one (a plain tuple: one is made per structure,
+#: and a dataclass cost a tenth of the compiled path's time)
+_Written: TypeAlias = "tuple[str, bool, tuple[tuple[int, int], ...], list[int], SkeletonView | None]"
 
 
 def _compiled_structures(
@@ -272,6 +275,7 @@ def _compiled_structures(
         tuple[tuple[tuple[int, int], ...], Sequence[Sequence[int]], bool, kernel.Conditions, kernel.Clauses]
     ] = []
     reading = readings if check_aromatic else None
+    views: list[SkeletonView | None] = []  # per skeleton of the batch
 
     def flush() -> Iterator[_Written | int]:
         found = kernel.label_and_write_many(
@@ -284,14 +288,15 @@ def _compiled_structures(
             check_aromatic=check_aromatic,
             counts=plan.count_test,
         )
-        for (edges, *_), strings, flags, rejected in zip(
-            batch, found.smiles, found.aromatic, found.rejected, strict=True
+        for (edges, *_), view, strings, flags, rejected, orders in zip(
+            batch, views, found.smiles, found.aromatic, found.rejected, found.orders, strict=True
         ):
-            for written, aromatic, rule in zip(strings, flags, rejected, strict=True):
+            for written, aromatic, rule, bond_orders in zip(strings, flags, rejected, orders, strict=True):
                 if budget is not None:
                     budget.take()
-                yield (written, aromatic, edges) if rule < 0 else rule
+                yield (written, aromatic, edges, bond_orders, view) if rule < 0 else rule
         batch.clear()
+        views.clear()
 
     def in_python(size: int, edges: tuple[tuple[int, int], ...]) -> Iterator[Structure]:
         for s in structures_on_skeleton(
@@ -318,10 +323,12 @@ def _compiled_structures(
             yield from in_python(size, edges)
             continue
         clauses: kernel.Clauses = ()
+        view = None
         if reading is not None:
             program, cycle = kernel.template_program(size, edges)
             view = view_of(size, edges, program.tolist(), cycle.tolist())
             clauses = reading.clauses(view, extra=plan.bond_sum - len(edges))
+        views.append(view)
         if order > kernel.CLOSED_IN_KERNEL:
             group = automorphisms(size, edges, limit=AUTOMORPHISMS_LISTED)
             assert group is not None
@@ -462,13 +469,29 @@ class _TaskWriter:
         #: run on the molecule of each SMILES given out, its result kept in ``perceived``
         self.perceive: Perceive | None = None
         self.perceived: list[object] | None = None
+        #: whether shapes can be read off the bond orders: only carbon has a valence of four or
+        #: more (:mod:`.shape`), and every label is an element in its usual valence
+        self.shapes = usual and all(symbol == "C" for symbol, v in task.plan.labels if v >= 4)
+        self._plan: ShapePlan | None = None
+        self._viewed: SkeletonView | None = None  # the view whose plan _plan is
 
-    def _given(self, smiles: str, mol: Mol) -> str:
-        """``smiles``, given out: what ``perceive`` finds on its molecule is kept first."""
+    def _given(self, smiles: str, mol: Mol, shape: RingShape | None = None) -> str:
+        """``smiles``, given out: what ``perceive`` finds on its molecule (and ``shape``) is
+        kept first."""
         if self.perceive is not None:
             assert self.perceived is not None
-            self.perceived.append(self.perceive(mol))
+            self.perceived.append(self.perceive(mol, shape))
         return smiles
+
+    def _shape(self, orders: list[int], view: SkeletonView | None) -> RingShape | None:
+        """The shape of a structure that cannot be aromatic, read off its bond orders and its
+        skeleton's rings, when something perceives it and the skeleton's rings allow it
+        (:func:`.shape.shape_plan`); None otherwise."""
+        if self.perceive is None or view is None or not self.shapes:
+            return None
+        if view is not self._viewed:
+            self._plan, self._viewed = shape_plan(view), view
+        return self._plan.shape(orders) if self._plan is not None else None
 
     def count(self, rule: int) -> None:
         """Count a structure that breaks the read rule of this index."""
@@ -515,7 +538,7 @@ class _TaskWriter:
         SMILES; Kekulé forms of one aromatic compound are merged within their skeleton."""
         from .._rdkit import Chem
 
-        written, flagged, skeleton = item
+        written, flagged, skeleton, orders, view = item
         if self.own:
             if not flagged:
                 return written
@@ -535,7 +558,7 @@ class _TaskWriter:
             return None
         if compiled is not None and aromatic and _rejected(compiled, mol, removed, features):
             return None
-        return self._given(smiles, mol)
+        return self._given(smiles, mol, None if flagged else self._shape(orders, view))
 
     def template_for(self, n: int, edges: tuple[tuple[int, int], ...]) -> Template:
         """The template of this skeleton (kept while its structures come)."""
