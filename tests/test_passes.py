@@ -70,9 +70,11 @@ def test_random_cases_give_the_shortlist_of_full_scoring(seed: int) -> None:
     assert shown >= min(places, full.candidate_count)
     assert [c.as_dict() for c in quick.candidates] == [c.as_dict() for c in full.candidates[:shown]]
     assert quick.suspects == full.suspects and quick.suspects[0].rank is not None
-    # what the passes settled adds up: every candidate settled exactly once
-    assert sum(p.settled for p in quick.scoring_passes) == quick.candidate_count
-    assert quick.scoring_passes[0].scored == quick.candidate_count
+    # what the passes settled adds up: every candidate settled exactly once, before the passes
+    # on its promise or in one pass
+    before = quick.settled_before_passes
+    assert sum(p.settled for p in quick.scoring_passes) + before == quick.candidate_count
+    assert quick.scoring_passes[0].scored + before == quick.candidate_count
 
 
 def test_passes_start_cheapest_first_and_hold_each_technique_once() -> None:
@@ -179,15 +181,16 @@ def test_batches_sent_ahead_keep_the_shortlist_and_do_not_depend_on_timing() -> 
     # with several workers the next batch is sent before the last is read, once T holds steady;
     # it is judged against an older (lower) T, so it may settle less, never another shortlist.
     # camphor: 2,229 candidates in nine batches, T steady early (self-consistency against one
-    # worker and against a real pool of three processes)
+    # worker and against a real pool of three processes). With the candidates in order of
+    # promise, T no longer rises after it first holds steady here, so the batches sent ahead
+    # settle what they would have settled read in turn
     case = parse_case((HERE / "camphor.yaml").read_text(encoding="utf-8"))
     one = solve(case, shortlist=10, workers=1)
     runner = _TwoWorkersHere()
     ahead = solve(case, shortlist=10, runner=runner)
     assert runner.sent_ahead > 0
     assert [c.as_dict() for c in ahead.candidates] == [c.as_dict() for c in one.candidates]
-    assert ahead.scoring_passes != one.scoring_passes  # the older T settled less somewhere
-    assert sum(p.settled for p in ahead.scoring_passes) == ahead.candidate_count
+    assert sum(p.settled for p in ahead.scoring_passes) + ahead.settled_before_passes == ahead.candidate_count
     # what was sent ahead depends on the scores alone: a pool of processes does the same
     assert solve(case, shortlist=10, workers=3).scoring_passes == ahead.scoring_passes
 
@@ -309,6 +312,40 @@ def test_the_pass_order_is_chosen_again_when_the_threshold_passes_the_one_it_was
     assert counts[0].scored == solution.candidate_count
     assert sum(p.settled for p in counts) == solution.candidate_count
     assert counts[-1].complete <= counts[-1].settled and not any(p.complete for p in counts[:-1])
+
+
+def test_the_promise_bounds_every_score_and_settles_candidates_before_any_pass(monkeypatch) -> None:
+    # cyclohexanone (MS, IR): each candidate's promise, what the formula, the IR groups and the
+    # ring shape read in generation say, is at least its full score (every other component is 0
+    # or less); candidates whose promise is below T are settled before any pass, and the
+    # shortlist is still that of full scoring
+    from elucidate.reports.solution_report import solve_json, solve_text
+    from elucidate.solver import passes
+
+    told: list[tuple[str, float]] = []
+    promise = passes._promise
+
+    def spy(items, evaluator, techniques):
+        values = promise(items, evaluator, techniques)
+        told.extend((item.smiles, value) for item, value in zip(items, values, strict=True))
+        return values
+
+    monkeypatch.setattr(passes, "_promise", spy)
+    case = parse_case((HERE / "cyclohexanone.yaml").read_text(encoding="utf-8"))
+    full = solve(case, shortlist=0)
+    score = {c.smiles: c.log_likelihood for c in full.candidates}
+    assert len(told) == full.candidate_count - passes.BATCH  # all but the spread sample scored first
+    assert len({value for _, value in told}) > 1  # the promise tells candidates apart
+    assert all(value >= score[smiles] - 1e-9 for smiles, value in told)
+    quick = solve(case, shortlist=10, workers=1)
+    assert quick.settled_before_passes > 0
+    assert [c.as_dict() for c in quick.candidates] == [c.as_dict() for c in full.candidates[: len(quick.candidates)]]
+    assert quick.scoring_passes[0].scored + quick.settled_before_passes == quick.candidate_count
+    said = "before the passes: settled on the formula and the groups and rings read in generation: "
+    said += f"{quick.settled_before_passes:,}"
+    assert said in solve_text(quick)
+    assert solve_json(quick)["settled_before_passes"] == quick.settled_before_passes
+    assert solve(case, shortlist=10, workers=2).settled_before_passes == quick.settled_before_passes
 
 
 def test_the_report_says_what_each_pass_ran_on_settled_and_scored_in_full() -> None:

@@ -28,6 +28,7 @@ if TYPE_CHECKING:
 __all__ = [
     "Assessment",
     "Bounded",
+    "Foreseen",
     "Partial",
     "Perception",
     "Reading",
@@ -204,6 +205,18 @@ class Bounded(Protocol):
     def floor(self, subject: Subject, case: Case) -> tuple[float, float]:
         """Lower bounds of the ``against`` and ``unexplained`` that :meth:`Technique.assess`
         would give ``subject`` (0, 0 when nothing cheap is known)."""
+        ...
+
+
+@runtime_checkable
+class Foreseen(Protocol):
+    """A technique that can often assess a candidate from its formula and what generation
+    perceived (:attr:`Subject.seen`) alone, without reading its molecule: the solver sums these
+    assessments to score the most promising candidates first."""
+
+    def foresee(self, subject: Subject, case: Case) -> Assessment | None:
+        """:meth:`Technique.assess`'s assessment of ``subject`` when it needs nothing beyond its
+        formula and ``subject.seen``; None when it would need the molecule (or gives none)."""
         ...
 
 

@@ -336,6 +336,10 @@ class Infrared:
             known = self._known[key] = self._assess_bands(bands, case)
         return known
 
+    def foresee(self, subject: Subject, case: Case) -> Assessment | None:
+        """The assessment when generation perceived the groups and bands (``subject.seen``)."""
+        return self.assess(subject, case) if subject.seen is not None else None
+
     def _assess_bands(self, bands: Sequence[tuple[str, Band]], case: Case) -> Assessment:
         """The assessment of a candidate whose groups give these ``bands``."""
         assert case.infrared is not None

@@ -41,6 +41,10 @@ class IsotopeFit:
         reasons = (f"formula demoted: {subject.demoted_by}",) if subject.demoted_by else ()
         return Assessment(self.name, against=against + subject.formula_demotion, reasons=reasons)
 
+    def foresee(self, subject: Subject, case: Case) -> Assessment | None:
+        """The assessment itself: it reads only the formula stage's figures."""
+        return self.assess(subject, case)
+
     def detail_lines(self, assessment: Assessment) -> list[str]:
         return []
 

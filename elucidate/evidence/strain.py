@@ -150,6 +150,11 @@ class Strain:
         detail = {"kcal_per_mol": round(kcal, 3), "terms": list(terms)}
         return Assessment(self.name, against=kcal / self.table.kcal_per_nat, reasons=reasons, detail=detail)
 
+    def foresee(self, subject: Subject, case: Case) -> Assessment | None:
+        """The assessment when generation read the ring shape off the bond orders."""
+        seen = subject.seen
+        return self.assess(subject, case) if seen is not None and seen.shape is not None else None
+
     def detail_lines(self, assessment: Assessment) -> list[str]:
         d = assessment.detail
         if not d["terms"]:

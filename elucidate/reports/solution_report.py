@@ -136,6 +136,11 @@ def _pass_lines(solution: Solution) -> list[str]:
     if not passes or not solution.candidate_count:
         return []
     lines = [f"scoring of {solution.candidate_count:,} candidates, passes in the order chosen for least work:"]
+    if solution.settled_before_passes:
+        lines.append(
+            f"  before the passes: settled on the formula and the groups and rings read in generation: "
+            f"{solution.settled_before_passes:,}"
+        )
     for number, p in enumerate(passes, start=1):
         line = f"  pass {number} ({', '.join(p.techniques)}): ran on {p.scored:,}"
         stopped = p.settled - p.complete
@@ -166,6 +171,7 @@ def solve_json(solution: Solution, *, top: int = 0) -> dict[str, Any]:
             "candidates": [c.as_dict() for c in cands],
             "candidate_count": solution.candidate_count,
             "scoring_passes": [p.as_dict() for p in solution.scoring_passes],
+            "settled_before_passes": solution.settled_before_passes,
             "suspects": [s.as_dict() for s in solution.suspects],
             "empty_reason": list(solution.empty_reason),
             "notes": list(solution.notes),

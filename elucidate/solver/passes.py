@@ -30,6 +30,7 @@ run, so the counts of what each pass settled are the same for any runner too."""
 
 from __future__ import annotations
 
+import bisect
 import heapq
 import math
 from collections import deque
@@ -37,7 +38,7 @@ from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, cast
 
-from ..evidence import Assessment, Bounded, Partial, Staged, Subject, Technique, make_subject
+from ..evidence import Assessment, Bounded, Foreseen, Partial, Staged, Subject, Technique, make_subject
 from ..parallel import Runner
 from ..progress import Progress, silent
 from .records import FoundCandidate, PassCount
@@ -79,6 +80,8 @@ class Scoring:
     full: dict[int, Scored]
     threshold: float
     passes: tuple[PassCount, ...]
+    #: candidates settled on their promise (:func:`_promise`) before any pass ran on them
+    settled_before_passes: int = 0
 
 
 def technique_passes(techniques: Sequence[Technique]) -> list[list[Technique]]:
@@ -329,7 +332,17 @@ def score_candidates(
     rest = [i for i in range(n) if i not in watched]
     spread = rest[:: max(1, len(rest) // BATCH)][:BATCH]
     taken = set(spread)
-    order = sorted(watched) + spread + [i for i in rest if i not in taken]
+    # the rest most promising first (what the foreseeing techniques say: the threshold then
+    # soon nears its final level, and settles more in the cheap passes), ties in generation order
+    remaining = [i for i in rest if i not in taken]
+    promise = _promise([found[i] for i in remaining], evaluator, techniques)
+    ranked = sorted(range(len(remaining)), key=lambda k: -promise[k])  # stable: ties keep their order
+    order = sorted(watched) + spread + [remaining[k] for k in ranked]
+    # the promise of the sorted tail of ``order``, negated (ascending, for bisect); a candidate
+    # whose promise is below T cannot reach the shortlist, nor can any after it
+    tail = len(order) - len(remaining)
+    falling = [-promise[k] for k in ranked]
+    foreseen = 0
     ran = [0] * len(passes)  # per pass (index into passes): candidates it ran on
     settled = [0] * len(passes)  # per pass: candidates whose bound fell below T in it
     complete = 0  # candidates scored in full
@@ -351,7 +364,14 @@ def score_candidates(
         # is judged against the T of the batches read before (a lower T only settles less,
         # never wrongly; whether a batch goes ahead depends on the scores, not on timing)
         while position < len(order) and (not pending or (ahead and steady and len(pending) < 2)):
-            batch = order[position : position + BATCH]
+            end = len(order)
+            if threshold > -math.inf:  # where the promise falls below T: no pass runs from there on
+                end = tail + bisect.bisect_right(falling, EPSILON - threshold, lo=max(0, position - tail))
+                if end <= position:
+                    foreseen = len(order) - position
+                    position = len(order)
+                    break
+            batch = order[position : min(end, position + BATCH)]
             position += len(batch)
             limits = {i: -math.inf if i in watched else threshold for i in batch}
             jobs = [
@@ -359,6 +379,8 @@ def score_candidates(
                 for part in _split(batch, runner.workers)
             ]
             pending.append((batch, sequence, runner.map(_run_job, jobs)))
+        if not pending:  # the rest was settled on its promise
+            break
         batch, used, results = pending.popleft()
         read += len(batch)
         before = threshold
@@ -414,7 +436,49 @@ def score_candidates(
         )
         for k in sequence
     )
-    return Scoring(full, threshold, counts)
+    if foreseen:
+        progress("scoring", n, n)
+    return Scoring(full, threshold, counts, foreseen)
+
+
+def _promise(items: Sequence[FoundCandidate], evaluator: Evaluator, techniques: Sequence[Technique]) -> list[float]:
+    """Each candidate's log-likelihood on what the :class:`~elucidate.evidence.Foreseen`
+    techniques say from its formula and what generation perceived (0 when they say nothing): an
+    upper bound of its score, known without reading any molecule. Candidates that share a
+    formula hypothesis and a perception (generation's perceptions are shared objects) share it,
+    so it is worked out once for each such pair."""
+    foreseeing = [cast(Foreseen, t) for t in techniques if _implements(t, Foreseen)]
+    if not foreseeing:
+        return [0.0] * len(items)
+    keys = {t.name: t.weight_key for t in techniques}
+    known: dict[tuple[object, ...], float] = {}
+    out = []
+    for item in items:
+        key = (
+            id(item.seen),
+            id(item.formula),
+            item.molecular_ion,
+            item.isotope_score,
+            item.formula_demotion,
+            item.demoted_by,
+        )
+        value = known.get(key)
+        if value is None:
+            subject = make_subject(
+                item.smiles,
+                None,
+                item.formula,
+                evaluator.groups,
+                item.molecular_ion,
+                item.isotope_score,
+                formula_demotion=item.formula_demotion,
+                demoted_by=item.demoted_by,
+                seen=item.seen,
+            )
+            said = [a for t in foreseeing if (a := t.foresee(subject, evaluator.case)) is not None]
+            value = known[key] = _log_likelihood(said, keys, evaluator.scoring)
+        out.append(value)
+    return out
 
 
 def _cost(group: Sequence[Technique]) -> float:

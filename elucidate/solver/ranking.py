@@ -508,6 +508,7 @@ def _solve(
         len(found),
         scored.passes,
         followed,
+        scored.settled_before_passes,
     )
 
 

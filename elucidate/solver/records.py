@@ -188,6 +188,9 @@ class Solution:
     scoring_passes: tuple[PassCount, ...] = ()
     #: each SMILES of ``solve(watch=...)``: its rank, or the constraint that eliminates it
     followed: tuple[SuspectResult, ...] = ()
+    #: candidates settled before any scoring pass, on their formula and what generation
+    #: perceived (:mod:`.passes`)
+    settled_before_passes: int = 0
 
 
 @dataclass(frozen=True)
