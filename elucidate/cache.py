@@ -6,6 +6,12 @@ every hard constraint that shaped generation (the :class:`~elucidate.generator.S
 generator options), the elucidate version, a fingerprint of the generator's source and the
 SHA-256 of every knowledge table: change any of these and the entry is simply not found.
 
+With the structures, an entry may keep what generation perceived on each of them for the IR
+pass (:class:`~elucidate.evidence.base.Perception`: groups, conditional bands, ring shape), in a
+table of its own keyed also by what perceived it (:attr:`~elucidate.evidence.infrared.Perceiver.fingerprint`),
+so that a rerun scores as the first run did without reading every molecule again. A file
+without that table gets it with the first perceptions stored (older versions leave it alone).
+
 Several processes may share the file: SQLite's own locking serialises writers, and each entry is
 written in one transaction, so an interrupted run leaves the file as it was. A file that is not
 an elucidate cache, or is damaged, is set aside (renamed) and a new one is started, with a
@@ -22,10 +28,13 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from . import __version__
 from .runs import table_hashes
+
+if TYPE_CHECKING:
+    from .evidence.base import Perception
 
 __all__ = ["CACHE_SCHEMA", "CachedSet", "CandidateCache", "default_cache_path", "generator_fingerprint"]
 
@@ -200,6 +209,77 @@ class CandidateCache:
             )
         except sqlite3.DatabaseError as exc:
             self.warn(f"cache {self.path}: cannot store {formula} ({exc}); it will be generated again next time")
+
+    def put_seen(self, key: str, perceiver: str, seen: Sequence[Perception]) -> None:
+        """Keep what ``perceiver`` found on each structure of entry ``key`` (in its order)."""
+        db = self._connect()
+        if db is None:
+            return
+        distinct: dict[Perception, int] = {}
+        index = [distinct.setdefault(p, len(distinct)) for p in seen]
+        document = {"seen": [_perception_json(p) for p in distinct], "index": index}
+        blob = zlib.compress(json.dumps(document, separators=(",", ":")).encode("utf-8"), 6)
+        try:
+            db.execute(
+                "CREATE TABLE IF NOT EXISTS seen (key TEXT NOT NULL, perceiver TEXT NOT NULL, "
+                "count INTEGER NOT NULL, blob BLOB NOT NULL, PRIMARY KEY (key, perceiver))"
+            )
+            db.execute(
+                "INSERT OR REPLACE INTO seen (key, perceiver, count, blob) VALUES (?, ?, ?, ?)",
+                (key, perceiver, len(seen), blob),
+            )
+        except sqlite3.DatabaseError as exc:
+            self.warn(f"cache {self.path}: cannot store what generation perceived ({exc})")
+
+    def get_seen(self, key: str, perceiver: str, count: int) -> list[Perception] | None:
+        """What ``perceiver`` found on each of the ``count`` structures of entry ``key``, one
+        object per distinct perception; None when it was not kept."""
+        db = self._connect()
+        if db is None:
+            return None
+        try:
+            if db.execute("SELECT 1 FROM sqlite_master WHERE type = 'table' AND name = 'seen'").fetchone() is None:
+                return None  # a file no run has kept perceptions in yet
+            query = "SELECT count, blob FROM seen WHERE key = ? AND perceiver = ?"
+            row = db.execute(query, (key, perceiver)).fetchone()
+            if row is None:
+                return None
+            if row[0] != count:
+                raise ValueError("entry damaged: its count does not match")
+            document: Any = json.loads(zlib.decompress(row[1]).decode("utf-8"))
+            distinct = [_perception(item) for item in document["seen"]]
+            index = document["index"]
+            if len(index) != count:
+                raise ValueError("entry damaged: its count does not match")
+            return [distinct[k] for k in index]
+        except (sqlite3.DatabaseError, zlib.error, ValueError, UnicodeDecodeError, LookupError, TypeError) as exc:
+            self.warn(f"cache {self.path}: what generation perceived cannot be read ({exc}); read from the molecules")
+            return None
+
+
+def _perception_json(seen: Perception) -> list[Any]:
+    shape = seen.shape
+    ring = None
+    if shape is not None:
+        ring = [list(shape.rings), shape.fused_small, [[a, b, list(c)] for a, b, c in shape.bonds], shape.cumulated]
+    return [sorted(seen.groups), sorted([name, k] for name, k in seen.bands), ring]
+
+
+def _perception(item: Any) -> Perception:
+    from .evidence.base import Perception
+    from .generator.shape import RingShape
+
+    groups, bands, ring = item
+    shape = None
+    if ring is not None:
+        rings, fused, bonds, cumulated = ring
+        shape = RingShape(
+            tuple(int(r) for r in rings),
+            int(fused),
+            tuple((int(a), int(b), tuple(int(c) for c in rest)) for a, b, rest in bonds),
+            int(cumulated),
+        )
+    return Perception(frozenset(str(g) for g in groups), frozenset((str(n), int(k)) for n, k in bands), shape)
 
 
 class _Foreign(Exception):

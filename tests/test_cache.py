@@ -121,6 +121,71 @@ def test_a_damaged_entry_is_generated_again(tmp_path):
     cache.close()
 
 
+def test_what_generation_perceived_is_kept_and_read_back_whole(tmp_path):
+    # perceptions (groups, conditional bands by position, ring shape or none) survive the file,
+    # one object per distinct perception; another perceiver's, a count that does not match, or a
+    # damaged record is not used (a warning, and scoring reads the molecules)
+    from elucidate.evidence.base import Perception
+    from elucidate.generator.shape import RingShape
+
+    warned: list[str] = []
+    cache = CandidateCache(tmp_path / "c.sqlite", warn=warned.append)
+    key = cache.key("C4H6O", "selection")
+    ring = RingShape((3, 5), 1, ((2, 0, (3, 5)), (2, 5, ())), 0)
+    first = Perception(frozenset({"ketone", "carbonyl"}), frozenset({("ketone", 2)}), ring)
+    second = Perception(frozenset({"alkene"}), frozenset(), None)
+    cache.put(key, "C4H6O", ["a", "b", "c"], {})
+    cache.put_seen(key, "perceiver-1", [first, second, first])
+    back = cache.get_seen(key, "perceiver-1", 3)
+    assert back == [first, second, first] and back[0] is back[2]
+    assert cache.get_seen(key, "perceiver-2", 3) is None and not warned
+    assert cache.get_seen(key, "perceiver-1", 4) is None and "cannot be read" in warned[-1]
+    with sqlite3.connect(tmp_path / "c.sqlite") as db:
+        db.execute("UPDATE seen SET blob = ?", (b"not zlib",))
+    assert cache.get_seen(key, "perceiver-1", 3) is None and "read from the molecules" in warned[-1]
+    cache.close()
+
+
+def test_a_rerun_from_the_cache_perceives_nothing_and_scores_as_the_first_run(demo, tmp_path, monkeypatch):
+    # the demo case has IR bands: generation perceives each candidate, and the rerun reads the
+    # perceptions back instead of reading every molecule, so the passes settle exactly as before
+    from elucidate import load_case
+    from elucidate.evidence.infrared import Perceiver
+    from elucidate.solver import ranking, solve
+
+    calls = []
+    perceive = Perceiver.__call__
+
+    def counted(self, mol, shape=None):
+        calls.append(1)
+        return perceive(self, mol, shape)
+
+    scored: list[list] = []  # per run: each candidate's SMILES and perception as scoring gets them
+    score = ranking.score_candidates
+
+    def spy(found, *args, **kwargs):
+        scored.append([(item.smiles, item.seen) for item in found])
+        return score(found, *args, **kwargs)
+
+    monkeypatch.setattr(Perceiver, "__call__", counted)
+    monkeypatch.setattr(ranking, "score_candidates", spy)
+    case = load_case(demo)
+    with CandidateCache(tmp_path / "c.sqlite") as cache:
+        cold = solve(case, workers=1, cache=cache)
+    assert len(calls) == cold.candidate_count > 0
+    with sqlite3.connect(tmp_path / "c.sqlite") as db:
+        assert db.execute("SELECT COUNT(*) FROM seen").fetchone()[0] == _entries(tmp_path / "c.sqlite")
+    calls.clear()
+    with CandidateCache(tmp_path / "c.sqlite") as cache, monkeypatch.context() as patched:
+        _no_generation(patched)
+        warm = solve(case, workers=1, cache=cache)
+    assert not calls
+    assert scored[1] == scored[0] and all(seen is not None for _, seen in scored[1])
+    assert [c.as_dict() for c in warm.candidates] == [c.as_dict() for c in cold.candidates]
+    assert warm.scoring_passes == cold.scoring_passes
+    assert warm.settled_before_passes == cold.settled_before_passes
+
+
 def test_keys_differ_by_formula_and_by_generation():
     cache = CandidateCache(Path("unused.sqlite"))
     assert cache.key("C2H6O", "a") == cache.key("C2H6O", "a")

@@ -427,6 +427,20 @@ class Perceiver:
     groups: GroupTable
     table: IRTable
 
+    @property
+    def fingerprint(self) -> str:
+        """SHA-256 of what decides a perception: the groups' SMARTS and, per group, the position
+        and conditions of each conditional band (the candidate cache keeps perceptions by it)."""
+        import hashlib
+        import json
+
+        bands = {
+            name: [[k, band.when, band.unless] for k, band in enumerate(self.table.of(name)) if band.conditional]
+            for name in self.groups.names
+        }
+        document = json.dumps([self.groups._smarts_by_name, bands], sort_keys=True)
+        return hashlib.sha256(document.encode("utf-8")).hexdigest()
+
     def __call__(self, mol: Mol, shape: RingShape | None = None) -> Perception:
         """What ``mol`` shows, with ``shape`` (generation's reading of its rings, when made)."""
         found = self.groups.present(mol, self.formula)

@@ -338,9 +338,23 @@ def _solve(
             )
             key = cache.key(str(cand.formula), repr(options)) if cache is not None and not held else None
             hit = cache.get(key) if cache is not None and key is not None else None
+            # what the IR pass reads is found on each molecule while generation holds it
+            perceive = Perceiver(cand.formula, g, infrared.table) if infrared is not None else None
             if hit is not None and hit.tested <= limit:  # generated before under the same hard constraints
+                kept_seen = None  # what generation perceived, when it was kept with the structures
+                if cache is not None and key is not None and perceive is not None:
+                    kept_seen = cache.get_seen(key, perceive.fingerprint, len(hit.smiles))
                 found += [
-                    FoundCandidate(s, cand.formula, m, cand.score, cand.demotion, cand.demoted_by) for s in hit.smiles
+                    FoundCandidate(
+                        s,
+                        cand.formula,
+                        m,
+                        cand.score,
+                        cand.demotion,
+                        cand.demoted_by,
+                        cast(Perception, perceptions.setdefault(kept_seen[k], kept_seen[k])) if kept_seen else None,
+                    )
+                    for k, s in enumerate(hit.smiles)
                 ]
                 for label, n in hit.removed.items():
                     removed[label] = removed.get(label, 0) + n
@@ -394,8 +408,6 @@ def _solve(
             attempts: tuple[Callable[[int], None] | None, ...] = (
                 (_stop_past(max(RECOUNT_AFTER * estimate, COUNT_FLOOR_SHARE * limit)), None) if not first else (None,)
             )
-            # what the IR pass reads is found on each molecule while generation holds it
-            perceive = Perceiver(cand.formula, g, infrared.table) if infrared is not None else None
             try:
                 for attempt in attempts if not over else ():
                     seen: list[object] = []
@@ -445,6 +457,9 @@ def _solve(
             count = len(found) - before
             if cache is not None and key is not None:
                 cache.put(key, str(cand.formula), [f.smiles for f in found[before:]], local)
+                perceived = [f.seen for f in found[before:]]
+                if perceive is not None and all(p is not None for p in perceived):
+                    cache.put_seen(key, perceive.fingerprint, cast(list[Perception], perceived))
             for label, n in local.items():
                 removed[label] = removed.get(label, 0) + n
             generated += count + sum(local.values())
