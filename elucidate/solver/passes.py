@@ -2,7 +2,10 @@
 
 Each technique runs in one scoring pass (its ``scoring_pass``). Candidates are scored in
 batches of a fixed size, watched ones (suspects) first, then a batch spread evenly over the
-generation order, then the rest in generation order.
+generation order, then the rest most promising first: a candidate's promise is what the
+:class:`~elucidate.evidence.Foreseen` techniques say from its formula and what generation
+perceived, an upper bound of its score known without reading its molecule (:func:`_promise`);
+once T is known, the candidates whose promise is below it are settled before any pass.
 After each batch the threshold T is the log-likelihood of the shortlist's last place among the
 candidates scored in full so far (or the lowest watched candidate's, when lower). In a later
 batch, after each pass, a candidate's upper bound is its score so far less what the later
