@@ -17,8 +17,9 @@ if TYPE_CHECKING:
 
 __all__ = ["JOBS_AHEAD", "PoolRunner", "Runner", "SerialRunner", "local_runner"]
 
-#: jobs per worker a local pool keeps sent and not yet read
-JOBS_AHEAD = 4
+#: jobs per worker a local pool keeps sent and not yet read (results are read in job order: with
+#: fewer, a worker stood idle while the reader waited on another's long job, docs/solver.md)
+JOBS_AHEAD = 8
 
 J = TypeVar("J")
 R = TypeVar("R")
