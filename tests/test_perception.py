@@ -81,3 +81,37 @@ def test_perceive_is_refused_with_kekule_forms() -> None:
     options = GeneratorOptions(kekule=True)
     with pytest.raises(ValueError, match="kekule"):
         list(isomer_smiles(f, options, perceive=Perceiver(f, GROUPS, Infrared().table), perceived=[]))
+
+
+@pytest.mark.parametrize(
+    ("formula", "require", "forbid"),
+    [("C6H8O", ("ketone", "alkene"), ("alcohol",)), ("C5H10O2", ("ester",), ("alkene", "hydroxyl"))],
+)
+def test_required_and_forbidden_groups_are_perceived_without_a_search(formula, require, forbid) -> None:
+    # every structure generated under required and forbidden groups has and lacks them, so the
+    # solver's perceiver takes them (and the groups a required one implies: a ketone is a
+    # carbonyl) without a search; it must find exactly what searching every group finds
+    f = parse_formula(formula)
+    selection = Selection(require=require, forbid=forbid, profile="stable")
+    told = Perceiver(f, GROUPS, Infrared().table, having=frozenset(require), lacking=frozenset(forbid))
+    searched = Perceiver(f, GROUPS, Infrared().table)
+    seen: list[object] = []
+    smiles = list(
+        isomer_smiles(f, GeneratorOptions(selection=selection, rdkit_smiles=True), perceive=told, perceived=seen)
+    )
+    assert len(smiles) >= 9  # the nine esters C5H10O2 (common practice)
+    assert seen == [searched(Chem.MolFromSmiles(s), p.shape) for s, p in zip(smiles, seen)]  # type: ignore[attr-defined]
+    calls = []
+    mol = Chem.MolFromSmiles(smiles[0])
+
+    class Counting:
+        def __getattr__(self, name):
+            if name == "HasSubstructMatch":
+                calls.append(1)
+            return getattr(mol, name)
+
+    GROUPS.present(Counting(), f)  # type: ignore[arg-type]
+    every = len(calls)
+    calls.clear()
+    GROUPS.present(Counting(), f, having=frozenset(require), lacking=frozenset(forbid))  # type: ignore[arg-type]
+    assert len(calls) < every  # the shortcut is taken, not only correct

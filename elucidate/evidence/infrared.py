@@ -421,11 +421,16 @@ class Perceiver:
     holds the molecule (:class:`~elucidate.evidence.base.Perception`): the groups of ``groups``
     it has (``formula``: the candidates') and the conditional bands of ``table`` that apply;
     with the shape of its rings that generation read off the bond orders, for the strain
-    technique. Picklable, for generation's worker processes."""
+    technique. ``having`` and ``lacking``: groups every structure generated has and lacks (the
+    case's required and forbidden groups), found without a search
+    (:meth:`~elucidate.generator.groups.GroupTable.present`). Picklable, for generation's worker
+    processes."""
 
     formula: Formula
     groups: GroupTable
     table: IRTable
+    having: frozenset[str] = frozenset()
+    lacking: frozenset[str] = frozenset()
 
     @property
     def fingerprint(self) -> str:
@@ -443,7 +448,7 @@ class Perceiver:
 
     def __call__(self, mol: Mol, shape: RingShape | None = None) -> Perception:
         """What ``mol`` shows, with ``shape`` (generation's reading of its rings, when made)."""
-        found = self.groups.present(mol, self.formula)
+        found = self.groups.present(mol, self.formula, having=self.having, lacking=self.lacking)
         bands = frozenset(
             (name, k)
             for name in found

@@ -122,17 +122,26 @@ class GroupTable:
         :func:`could_hold` rules out by their atoms' elements (computed once per formula)."""
         return _names_for(self._smarts_by_name, formula)
 
-    def present(self, mol: Mol, formula: Formula) -> frozenset[str]:
+    def present(
+        self, mol: Mol, formula: Formula, *, having: frozenset[str] = frozenset(), lacking: frozenset[str] = frozenset()
+    ) -> frozenset[str]:
         """The groups ``mol`` (aromaticity perceived, of ``formula``) has: the same names as
         matching every group of :meth:`names_for`, with fewer searches. A group is not searched
         when every match needs more atoms of an element than the formula has
         (:func:`~.implication.pattern_needs`: an ester needs two O), or when a group its pattern
         provably implies (:func:`~.implication.pattern_implies`: a ketone is a carbonyl) was not
-        found. (Reading a molecule's bonds and rings in Python costs more than the searches it
-        would save.)"""
+        found. ``having`` and ``lacking``: groups the caller knows the molecule has and lacks
+        (the case's required and forbidden groups, which every generated structure obeys): not
+        searched, nor the groups a group in ``having`` implies. (Reading a molecule's bonds and
+        rings in Python costs more than the searches it would save.)"""
+        plan = _search_plan(self._smarts_by_name, formula)
+        known = _implied_closure(plan, having) if having else having
         found: set[str] = set()
-        for name, pattern, implied in _search_plan(self._smarts_by_name, formula):
-            if not implied <= found:
+        for name, pattern, implied in plan:
+            if name in known:
+                found.add(name)
+                continue
+            if name in lacking or not implied <= found:
                 continue
             if mol.HasSubstructMatch(pattern):
                 found.add(name)
@@ -263,6 +272,17 @@ def _search_plan(groups: tuple[tuple[str, str], ...], formula: Formula) -> tuple
             continue  # more atoms of an element than the formula has: never found
         plan.append((name, patterns[name], frozenset(implies[name] & set(order[:position]))))
     return tuple(plan)
+
+
+@lru_cache(maxsize=64)
+def _implied_closure(plan: tuple[tuple[str, Mol, frozenset[str]], ...], having: frozenset[str]) -> frozenset[str]:
+    """``having`` and every group of the plan that a group in it implies (a group's implied
+    groups come before it in the plan: its own implications are already among them)."""
+    known = set(having)
+    for name, _, implied in reversed(plan):
+        if name in known:
+            known |= implied
+    return frozenset(known)
 
 
 _BRACKET = re.compile(r"\[([^\]]*)\]")

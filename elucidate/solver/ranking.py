@@ -339,7 +339,16 @@ def _solve(
             key = cache.key(str(cand.formula), repr(options)) if cache is not None and not held else None
             hit = cache.get(key) if cache is not None and key is not None else None
             # what the IR pass reads is found on each molecule while generation holds it
-            perceive = Perceiver(cand.formula, g, infrared.table) if infrared is not None else None
+            perceive = None
+            if infrared is not None:
+                # every structure generated has the required groups and lacks the forbidden ones
+                perceive = Perceiver(
+                    cand.formula,
+                    g,
+                    infrared.table,
+                    having=frozenset(selection.require),
+                    lacking=frozenset(selection.forbid),
+                )
             if hit is not None and hit.tested <= limit:  # generated before under the same hard constraints
                 kept_seen = None  # what generation perceived, when it was kept with the structures
                 if cache is not None and key is not None and perceive is not None:
