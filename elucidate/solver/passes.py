@@ -125,17 +125,7 @@ def evaluate_in_passes(
     two-part technique (:class:`~elucidate.evidence.Staged`) is bounded the same way after its
     first part, and not finished when that settles the candidate. ``Outcome.last_pass`` is a
     position in that order."""
-    subject = make_subject(
-        candidate.smiles,
-        mol,
-        candidate.formula,
-        evaluator.groups,
-        candidate.molecular_ion,
-        candidate.isotope_score,
-        formula_demotion=candidate.formula_demotion,
-        demoted_by=candidate.demoted_by,
-        seen=candidate.seen,
-    )
+    subject = _subject(candidate, mol, evaluator)
     keys, position, passes, staged_names, bounded = _layout(techniques, order)
     last = len(passes) - 1
     found: list[Assessment] = []
@@ -194,6 +184,21 @@ def evaluate_in_passes(
             return Outcome(k, None, tuple(found), False, bound)
     combined = combine(found, keys, evaluator.scoring)
     return Outcome(last, combined, tuple(found), True, combined.log_likelihood)
+
+
+def _subject(candidate: FoundCandidate, mol: Mol | None, evaluator: Evaluator) -> Subject:
+    """The candidate as the techniques see it (``mol`` None: read from its SMILES when asked)."""
+    return make_subject(
+        candidate.smiles,
+        mol,
+        candidate.formula,
+        evaluator.groups,
+        candidate.molecular_ion,
+        candidate.isotope_score,
+        formula_demotion=candidate.formula_demotion,
+        demoted_by=candidate.demoted_by,
+        seen=candidate.seen,
+    )
 
 
 _Layout = tuple[dict[str, str], dict[str, int], list[list[Technique]], frozenset[str], list[list[Technique]]]
@@ -467,17 +472,7 @@ def _promise(items: Sequence[FoundCandidate], evaluator: Evaluator, techniques: 
         )
         value = known.get(key)
         if value is None:
-            subject = make_subject(
-                item.smiles,
-                None,
-                item.formula,
-                evaluator.groups,
-                item.molecular_ion,
-                item.isotope_score,
-                formula_demotion=item.formula_demotion,
-                demoted_by=item.demoted_by,
-                seen=item.seen,
-            )
+            subject = _subject(item, None, evaluator)
             said = [a for t in foreseeing if (a := t.foresee(subject, evaluator.case)) is not None]
             value = known[key] = _log_likelihood(said, keys, evaluator.scoring)
         out.append(value)
