@@ -115,6 +115,8 @@ def evaluate_in_passes(
     techniques: Sequence[Technique],
     threshold: float,
     order: Sequence[int] | None = None,
+    *,
+    known: Sequence[Assessment] = (),
 ) -> Outcome:
     """Run the passes on one candidate until its bound falls below ``threshold`` (-inf: every
     pass; +inf: the first pass only), in ``order`` (indices into :func:`technique_passes`;
@@ -124,11 +126,17 @@ def evaluate_in_passes(
     (:class:`~elucidate.evidence.Bounded`) already cost, capped and weighted as in the score. A
     two-part technique (:class:`~elucidate.evidence.Staged`) is bounded the same way after its
     first part, and not finished when that settles the candidate. ``Outcome.last_pass`` is a
-    position in that order."""
+    position in that order. ``known``: assessments already made (what the
+    :class:`~elucidate.evidence.Foreseen` techniques said, :func:`foreseen`); they count in every
+    bound from the first pass on, and their techniques are not run again."""
     subject = _subject(candidate, mol, evaluator)
     keys, position, passes, staged_names, bounded = _layout(techniques, order)
+    if known:
+        done = {a.technique for a in known}
+        passes = [[t for t in group if t.name not in done] for group in passes]
+        bounded = [[t for t in group if t.name not in done] for group in bounded]
     last = len(passes) - 1
-    found: list[Assessment] = []
+    found: list[Assessment] = list(known)
     bounding = -math.inf < threshold < math.inf
     # what each later pass's floors already cost, in log-likelihood (computed once, when needed)
     owed: list[float] | None = None
@@ -171,10 +179,10 @@ def evaluate_in_passes(
                 found.append(assessment)
         if k == last:
             if deferred:
-                bound = _log_likelihood(found, keys, evaluator.scoring)
-                if bound < threshold - EPSILON:
-                    return Outcome(k, None, tuple(found), False, bound)
-                found = _finished(found, deferred, subject, evaluator)
+                finished = _finished(found, deferred, subject, evaluator, keys, threshold)
+                if isinstance(finished, float):
+                    return Outcome(k, None, tuple(found), False, finished)
+                found = finished
             found.sort(key=lambda a: position[a.technique])  # report order, as full scoring gives
             break
         bound = _log_likelihood(found, keys, evaluator.scoring)
@@ -237,19 +245,24 @@ def _log_likelihood(found: Sequence[Assessment], keys: Mapping[str, str], scorin
 
 
 def _finished(
-    found: list[Assessment], deferred: Sequence[tuple[int, Staged, Partial]], subject: Subject, evaluator: Evaluator
-) -> list[Assessment]:
+    found: Sequence[Assessment],
+    deferred: Sequence[tuple[int, Staged, Partial]],
+    subject: Subject,
+    evaluator: Evaluator,
+    keys: Mapping[str, str],
+    threshold: float,
+) -> list[Assessment] | float:
     """``found`` with each waiting first part replaced by its technique's whole assessment
-    (dropped when the technique gives none)."""
-    whole: dict[int, Assessment | None] = {
-        i: staged.finish(subject, evaluator.case, partial) for i, staged, partial in deferred
-    }
-    out = []
-    for i, assessment in enumerate(found):
-        final = whole.get(i, assessment)
-        if final is not None:
-            out.append(final)
-    return out
+    (dropped when the technique gives none), finished one at a time in the order they were
+    deferred; before each, the candidate is settled when the bound so far (the parts still
+    waiting stand in for their wholes) is below ``threshold``: that bound is returned instead."""
+    now: list[Assessment | None] = list(found)
+    for i, staged, partial in deferred:
+        bound = _log_likelihood([a for a in now if a is not None], keys, evaluator.scoring)
+        if bound < threshold - EPSILON:
+            return bound
+        now[i] = staged.finish(subject, evaluator.case, partial)
+    return [a for a in now if a is not None]
 
 
 _KINDS: dict[tuple[type, type], bool] = {}
@@ -303,12 +316,15 @@ def _run_job(job: _Job) -> list[Outcome | int]:
     from .._rdkit import Chem, quiet_rdkit
 
     techniques = job.evaluator.techniques()
+    foreseeing = _foreseeing(techniques)
+    memo: dict[tuple[object, ...], tuple[Assessment, ...]] = {}
     out: list[Outcome | int] = []
     with quiet_rdkit():
         for item, limit in zip(job.items, job.thresholds, strict=True):
             # with what generation perceived, the SMILES is read only when a pass needs more
             mol = Chem.MolFromSmiles(item.smiles) if item.seen is None else None
-            outcome = evaluate_in_passes(job.evaluator, item, mol, techniques, limit, job.order)
+            known = foreseen(item, job.evaluator, foreseeing, memo)
+            outcome = evaluate_in_passes(job.evaluator, item, mol, techniques, limit, job.order, known=known)
             out.append(outcome if outcome.complete else outcome.last_pass)
     return out
 
@@ -455,28 +471,52 @@ def _promise(items: Sequence[FoundCandidate], evaluator: Evaluator, techniques: 
     upper bound of its score, known without reading any molecule. Candidates that share a
     formula hypothesis and a perception (generation's perceptions are shared objects) share it,
     so it is worked out once for each such pair."""
-    foreseeing = [cast(Foreseen, t) for t in techniques if _implements(t, Foreseen)]
+    foreseeing = _foreseeing(techniques)
     if not foreseeing:
         return [0.0] * len(items)
     keys = {t.name: t.weight_key for t in techniques}
-    known: dict[tuple[object, ...], float] = {}
+    said: dict[tuple[object, ...], tuple[Assessment, ...]] = {}
+    known: dict[int, float] = {}  # by id of what was said (shared by candidates of one key)
     out = []
     for item in items:
-        key = (
-            id(item.seen),
-            id(item.formula),
-            item.molecular_ion,
-            item.isotope_score,
-            item.formula_demotion,
-            item.demoted_by,
-        )
-        value = known.get(key)
+        assessments = foreseen(item, evaluator, foreseeing, said)
+        value = known.get(id(assessments))
         if value is None:
-            subject = _subject(item, None, evaluator)
-            said = [a for t in foreseeing if (a := t.foresee(subject, evaluator.case)) is not None]
-            value = known[key] = _log_likelihood(said, keys, evaluator.scoring)
+            value = known[id(assessments)] = _log_likelihood(assessments, keys, evaluator.scoring)
         out.append(value)
     return out
+
+
+def _foreseeing(techniques: Sequence[Technique]) -> list[Foreseen]:
+    return [cast(Foreseen, t) for t in techniques if _implements(t, Foreseen)]
+
+
+def foreseen(
+    item: FoundCandidate,
+    evaluator: Evaluator,
+    foreseeing: Sequence[Foreseen],
+    memo: dict[tuple[object, ...], tuple[Assessment, ...]],
+) -> tuple[Assessment, ...]:
+    """What the foreseeing techniques say of a candidate from its formula and what generation
+    perceived, in technique order (each exactly its :meth:`~elucidate.evidence.Technique.assess`).
+    Candidates that share a formula hypothesis and a perception (generation's perceptions are
+    shared objects, and stay alive while ``memo`` is used) share it, so it is worked out once
+    for each such pair; ``memo`` holds it by that pair."""
+    if not foreseeing:
+        return ()
+    key = (
+        id(item.seen),
+        id(item.formula),
+        item.molecular_ion,
+        item.isotope_score,
+        item.formula_demotion,
+        item.demoted_by,
+    )
+    found = memo.get(key)
+    if found is None:
+        subject = _subject(item, None, evaluator)
+        found = memo[key] = tuple(a for t in foreseeing if (a := t.foresee(subject, evaluator.case)) is not None)
+    return found
 
 
 def _cost(group: Sequence[Technique]) -> float:
