@@ -19,9 +19,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import TYPE_CHECKING, Literal
+from typing import TYPE_CHECKING, Literal, TypeAlias
 
-from .._mol import atoms_of, bonds_of
 from ..case import Case
 from ..errors import ElucidateError
 from ..smarts import compiled_smarts
@@ -118,11 +117,12 @@ def _split_alkene_ends(mol: Mol) -> tuple[Mol, list[int] | None]:
         compiled_smarts("[CX3;H0](-[#6,#7,#8,#9,#15,#16,#17,#35,#53])(-[#6,#7,#8,#9,#15,#16,#17,#35,#53])=[C]")
     ):
         return mol, None  # no C=C end with two substituents: nothing to split
+    ends = _alkene_ends(mol)
     work = mol  # copied at the first split
     done: set[int] = set()
     while True:
         ranks = _ranks(work)
-        first = _alkene_end_to_split(work, ranks, done)
+        first = _alkene_end_to_split(ends, ranks, done)
         if first is None:
             return work, ranks
         done.add(first)
@@ -131,29 +131,45 @@ def _split_alkene_ends(mol: Mol) -> tuple[Mol, list[int] | None]:
         work.GetAtomWithIdx(first).SetIsotope(work.GetAtomWithIdx(first).GetIsotope() + 1000)
 
 
-def _alkene_end_to_split(mol: Mol, ranks: Sequence[int], done: set[int]) -> int | None:
+#: a carbon of three neighbours and no H, its two other neighbours, and the carbon it is double
+#: bonded to (a double bond, not aromatic)
+_ALKENE_END = "[#6;D3;H0](~*)(~*)=[#6]"
+
+#: one end of a C=C with two substituents: the end, the other end, the two substituents (in
+#: index order), the other end's other neighbours and its H
+_End: TypeAlias = tuple[int, int, int, int, tuple[int, ...], int]
+
+
+def _alkene_ends(mol: Mol) -> list[_End]:
+    """Every C=C end with two substituents, in the order of the bond (then its begin atom
+    before its end atom)."""
+    found: dict[tuple[int, int], _End] = {}
+    for x, s1, s2, y in mol.GetSubstructMatches(compiled_smarts(_ALKENE_END), uniquify=False):
+        if s1 < s2:  # each end once
+            bond = mol.GetBondBetweenAtoms(x, y)
+            other = mol.GetAtomWithIdx(y)
+            around = tuple(n.GetIdx() for n in other.GetNeighbors() if n.GetIdx() != x)
+            key = (bond.GetIdx(), 0 if bond.GetBeginAtomIdx() == x else 1)
+            found[key] = (x, y, s1, s2, around, other.GetTotalNumHs())
+    return [found[k] for k in sorted(found)]
+
+
+def _alkene_end_to_split(ends: Sequence[_End], ranks: Sequence[int], done: set[int]) -> int | None:
     """The first atom (in bond order) to label apart: the lower-numbered of two identical
     groups on a C=C end whose other end carries two different ones (H counted), not already
     labelled; None when there is none."""
-    from .._rdkit import Chem
-
-    for bond in bonds_of(mol):
-        if bond.GetBondType() != Chem.BondType.DOUBLE or bond.GetIsAromatic():
+    for _, _, s1, s2, around, hydrogens in ends:
+        if ranks[s1] != ranks[s2]:
             continue
-        a, b = bond.GetBeginAtom(), bond.GetEndAtom()
-        if a.GetAtomicNum() != 6 or b.GetAtomicNum() != 6:
-            continue
-        for x, y in ((a, b), (b, a)):
-            subs = [n for n in x.GetNeighbors() if n.GetIdx() != y.GetIdx()]
-            if len(subs) != 2 or x.GetTotalNumHs() or ranks[subs[0].GetIdx()] != ranks[subs[1].GetIdx()]:
-                continue
-            others = [ranks[n.GetIdx()] for n in y.GetNeighbors() if n.GetIdx() != x.GetIdx()]
-            others += [-1] * y.GetTotalNumHs()
-            if len(others) == 2 and others[0] != others[1]:
-                first = min(subs[0].GetIdx(), subs[1].GetIdx())
-                if first not in done:
-                    return first
+        others = [ranks[n] for n in around] + [-1] * hydrogens
+        if len(others) == 2 and others[0] != others[1] and s1 not in done:
+            return s1
     return None
+
+
+#: an sp3 carbon (aliphatic, four connections counting H) and two of its neighbours by bonds in
+#: no ring
+_TWO_ACYCLIC = "[C;X4](!@*)!@*"
 
 
 def _split_diastereotopic(mol: Mol, ranks: Sequence[int] | None = None) -> Mol:
@@ -168,24 +184,24 @@ def _split_diastereotopic(mol: Mol, ranks: Sequence[int] | None = None) -> Mol:
     ranks = _ranks(mol) if ranks is None else ranks
     if len(set(ranks)) == len(ranks):
         return mol  # no two atoms alike: no pair of identical groups anywhere
+    # every sp3 carbon with two or more acyclic neighbours (one search), and those neighbours
+    # by rank: a pair is two of one rank
+    pairs: dict[int, dict[int, set[int]]] = {}
+    for centre, a, b in mol.GetSubstructMatches(compiled_smarts(_TWO_ACYCLIC), uniquify=False):
+        if ranks[a] == ranks[b]:
+            pairs.setdefault(centre, {}).setdefault(ranks[a], set()).update((a, b))
     work = mol
-    for atom in atoms_of(mol):
-        if atom.GetAtomicNum() != 6 or atom.GetIsAromatic() or atom.GetDegree() + atom.GetTotalNumHs() != 4:
-            continue
-        groups: dict[int, list[int]] = {}
-        for nb in atom.GetNeighbors():
-            if not mol.GetBondBetweenAtoms(atom.GetIdx(), nb.GetIdx()).IsInRing():
-                groups.setdefault(ranks[nb.GetIdx()], []).append(nb.GetIdx())
-        for members in groups.values():
+    for centre in sorted(pairs):
+        for members in sorted(sorted(m) for m in pairs[centre].values()):
             if len(members) != 2:
                 continue
             probe = Chem.RWMol(work)
-            first = min(members)
+            first = members[0]
             probe.GetAtomWithIdx(first).SetIsotope(probe.GetAtomWithIdx(first).GetIsotope() + 2000)
             centres = [
                 s.centeredOn for s in Chem.FindPotentialStereo(probe) if s.type == Chem.StereoType.Atom_Tetrahedral
             ]
-            if atom.GetIdx() in centres and len(centres) >= 2:
+            if centre in centres and len(centres) >= 2:
                 work = probe
     return work
 
