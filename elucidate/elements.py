@@ -137,7 +137,7 @@ def _element(symbol: str, loc: Located) -> Element:
 def load_elements(path: str | Path | None = None) -> ElementTable:
     """Load and validate an element table (default: the shipped ``elements.yaml``)."""
     file = Path(path) if path is not None else table_path("elements.yaml")
-    root = read_yaml_file(file)
+    root = read_yaml_file(file, table=True)
     top = mapping(root, ["source", "electron_mass", "elements"], required=["electron_mass", "elements"])
     source = ""
     if "source" in top:

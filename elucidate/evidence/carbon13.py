@@ -56,7 +56,7 @@ class Carbon13Table:
 
 def load_carbon13(path: str | Path | None = None) -> Carbon13Table:
     file = Path(path) if path is not None else table_path("carbon13.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     root = mapping(document, ["source", *_PENALTIES], required=list(_PENALTIES))
     values = {k: as_number(root[k], minimum=0, what="a penalty of 0 or more") for k in _PENALTIES}
     source = as_str(root["source"]) if "source" in root else ""

@@ -129,7 +129,7 @@ class FragmentTable:
 
 def load_fragments(path: str | Path | None = None) -> FragmentTable:
     file = Path(path) if path is not None else table_path("fragments.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     keys = [
         "source",
         "strong_weight",
@@ -339,7 +339,7 @@ class NeutralLossTable:
 
 def load_neutral_losses(path: str | Path | None = None) -> NeutralLossTable:
     file = Path(path) if path is not None else table_path("neutral_losses.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     root = mapping(document, ["source", "losses", "implausible"], required=["losses"])
     losses = []
     for item in as_list(root["losses"], what="a list of losses"):

@@ -435,8 +435,8 @@ def _proton1(root: Located) -> tuple[Proton1Tables, str]:
 
 
 def load_nmr_tables(c13_path: str | Path | None = None, h1_path: str | Path | None = None) -> NmrTables:
-    c13_root = read_yaml_file(Path(c13_path) if c13_path is not None else table_path("nmr13c.yaml"))
-    h1_root = read_yaml_file(Path(h1_path) if h1_path is not None else table_path("nmr1h.yaml"))
+    c13_root = read_yaml_file(Path(c13_path) if c13_path is not None else table_path("nmr13c.yaml"), table=True)
+    h1_root = read_yaml_file(Path(h1_path) if h1_path is not None else table_path("nmr1h.yaml"), table=True)
     c13, c13_source = _carbon13(c13_root)
     h1, h1_source = _proton1(h1_root)
     tables = NmrTables(c13, h1, "; ".join(s for s in (c13_source, h1_source) if s))

@@ -61,7 +61,7 @@ def _sized(loc: Located) -> dict[int, float]:
 
 def load_strain(path: str | Path | None = None) -> StrainTable:
     file = Path(path) if path is not None else table_path("strain.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     keys = [
         "source",
         "kcal_per_nat",

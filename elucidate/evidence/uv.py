@@ -154,7 +154,7 @@ def _fields(loc: Located, names: Sequence[str]) -> dict[str, Located]:
 
 def load_uv(path: str | Path | None = None) -> UVTable:
     file = Path(path) if path is not None else table_path("uv.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     keys = [
         "source",
         "tolerance_nm",

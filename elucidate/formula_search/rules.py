@@ -128,7 +128,7 @@ def _ratio(loc: Located) -> tuple[float, float]:
 
 def load_formula_rules(path: str | Path | None = None, table: ElementTable | None = None) -> FormulaRules:
     file = Path(path) if path is not None else table_path("formula_rules.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     sections = ["default_limits", "kind_fiehn", "rule_of_13", "isotope_fit", "isotope_reading"]
     root = mapping(document, sections, required=sections)
     dl = mapping(root["default_limits"], ["source", "elements", "dbe"], required=["source", "elements", "dbe"])

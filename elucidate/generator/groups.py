@@ -182,7 +182,7 @@ class GroupTable:
 
 def load_groups(path: str | Path | None = None) -> GroupTable:
     file = Path(path) if path is not None else table_path("groups.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     root = mapping(document, ["source", "groups"], required=["groups"])
     body = root["groups"]
     if not isinstance(body.value, dict) or not body.value:

@@ -74,7 +74,7 @@ class ValenceStates:
 
 def load_valence_states(path: str | Path | None = None, *, elements: ElementTable | None = None) -> ValenceStates:
     file = Path(path) if path is not None else table_path("valence_states.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     root = mapping(document, ["source", "states"], required=["states"])
     states: dict[tuple[str, int], OxoState] = {}
     keys = ["element", "valence", "oxo_partners", "hydrogen", "charge_separated", "what"]

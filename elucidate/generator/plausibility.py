@@ -168,7 +168,7 @@ class Profiles:
 
 def load_profiles(path: str | Path | None = None) -> Profiles:
     file = Path(path) if path is not None else table_path("plausibility.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     root = mapping(document, ["source", "profiles"], required=["profiles"])
     body = root["profiles"]
     if not isinstance(body.value, dict) or not body.value:

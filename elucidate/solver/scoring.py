@@ -69,7 +69,7 @@ _FIELDS = ("weight", "against_cap", "unexplained_cap")
 
 def load_scoring(path: str | Path | None = None) -> ScoringTable:
     file = Path(path) if path is not None else table_path("scoring.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     root = mapping(
         document,
         ["source", "techniques", "formula_cut", "worse_than_skipped"],
