@@ -262,14 +262,20 @@ def _perception_json(seen: Perception) -> list[Any]:
     ring = None
     if shape is not None:
         ring = [list(shape.rings), shape.fused_small, [[a, b, list(c)] for a, b, c in shape.bonds], shape.cumulated]
-    return [sorted(seen.groups), sorted([name, k] for name, k in seen.bands), ring]
+    document = [sorted(seen.groups), sorted([name, k] for name, k in seen.bands), ring]
+    if seen.carbons is not None:  # kept only by a perceiver that reads them (its own fingerprint)
+        document.append([list(row) for row in seen.carbons])
+    return document
 
 
 def _perception(item: Any) -> Perception:
     from .evidence.base import Perception
     from .generator.shape import RingShape
 
-    groups, bands, ring = item
+    groups, bands, ring, *rest = item
+    if len(rest) > 1:
+        raise ValueError(f"a perception of {3 + len(rest)} parts (3 or 4 expected)")
+    carbons = tuple((str(kind), str(name), int(n)) for kind, name, n in rest[0]) if rest else None
     shape = None
     if ring is not None:
         rings, fused, bonds, cumulated = ring
@@ -279,7 +285,7 @@ def _perception(item: Any) -> Perception:
             tuple((int(a), int(b), tuple(int(c) for c in rest)) for a, b, rest in bonds),
             int(cumulated),
         )
-    return Perception(frozenset(str(g) for g in groups), frozenset((str(n), int(k)) for n, k in bands), shape)
+    return Perception(frozenset(str(g) for g in groups), frozenset((str(n), int(k)) for n, k in bands), shape, carbons)
 
 
 class _Foreign(Exception):

@@ -15,7 +15,7 @@ import pytest
 from elucidate._rdkit import Chem
 from elucidate.formula import parse_formula
 from elucidate.generator import GeneratorOptions, isomer_smiles
-from elucidate.generator.counts import CountTest, mol_counts
+from elucidate.generator.counts import CountTest, carbon_profile, mol_counts
 from elucidate.generator.selection import Selection
 
 
@@ -109,6 +109,26 @@ def test_counts_of_known_structures(
     assert counts.types == types
     assert counts.exchangeable == exchangeable
     assert {k: v for k, v in counts.kinds.items() if v} == kinds
+
+
+def test_carbon_profile_of_acetophenone() -> None:
+    # counted by hand (common practice): CH3, C=O, the ipso C and five aromatic CH
+    profile = carbon_profile(Chem.MolFromSmiles("CC(=O)c1ccccc1"))
+    assert profile == (("alkyl", "CH3", 1), ("carbonyl", "C", 1), ("sp2", "C", 1), ("sp2", "CH", 5))
+
+
+@pytest.mark.parametrize("formula", ["C7H12O", "C7H8O", "C5H5NO", "C5H8O2"])
+def test_carbon_profile_adds_up_to_the_counts_read_atom_by_atom(formula: str) -> None:
+    # the profile read from the bond-order matrix against mol_counts (read atom by atom) on every
+    # isomer: its kinds and its DEPT types, each summed over the other, are the counts (C7H8O and
+    # C5H5NO hold aromatic carbons with an exocyclic double bond, whose H a bond-order sum misreads)
+    names = ("CH3", "CH2", "CH", "C")
+    for smiles in isomer_smiles(parse_formula(formula)):
+        mol = Chem.MolFromSmiles(smiles)
+        counts = mol_counts(mol)
+        profile = carbon_profile(mol)
+        assert tuple(sum(n for _, t, n in profile if t == name) for name in names) == counts.types, smiles
+        assert {k: sum(n for kind, _, n in profile if kind == k) for k in counts.kinds} == counts.kinds, smiles
 
 
 def test_hall_condition_and_degree_bounds() -> None:

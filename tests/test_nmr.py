@@ -158,6 +158,30 @@ def test_the_true_structure_fits_its_spectra_best(truth: str, others: list[str])
         assert against > best + 2.0, other
 
 
+@pytest.mark.parametrize(
+    ("smiles", "missed"),
+    [
+        # counted by hand against the windows of constraints/nmr13c.yaml (common practice)
+        ("CCOC(C)=O", 0),  # every signal in the window of a carbon of its type
+        ("CCCC(=O)O", 2),  # 60.4 (CH2) is past the alkyl window, and there is one CH3 for two
+        ("CCC(=O)OC", 2),  # its CH2 is alkyl (60.4 is past that window), its OCH3 is not at 14.2
+    ],
+)
+def test_the_estimate_counts_the_signals_no_carbon_window_holds(smiles: str, missed: int) -> None:
+    from elucidate.evidence.base import Perception
+    from elucidate.generator.counts import carbon_profile
+
+    case = parse_case(ETHYL_ACETATE)
+    mol = Chem.MolFromSmiles(smiles)
+    formula = parse_formula(Chem.rdMolDescriptors.CalcMolFormula(mol))
+    seen = Perception(frozenset(), frozenset(), None, carbon_profile(mol))
+    nmr = Nmr()
+    guess = nmr.estimate(make_subject(smiles, None, formula, default_groups(), None, seen=seen), case)
+    assert guess is not None and guess.against == pytest.approx(missed * nmr.tables.c13.costs.deviation_cap)
+    # nothing to guess from without the carbons generation read
+    assert nmr.estimate(make_subject(smiles, mol, formula, default_groups(), None), case) is None
+
+
 def test_dept_type_is_a_must_match() -> None:
     """Ethyl acetate's list against methyl propanoate: both have C, CH2, CH3, CH3, so only the
     shifts tell; a typed list with a type that no class has costs the type mismatch."""

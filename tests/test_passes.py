@@ -330,9 +330,10 @@ def test_the_promise_bounds_every_score_and_settles_candidates_before_any_pass(m
     promise = passes._promise
 
     def spy(items, evaluator, techniques):
-        values = promise(items, evaluator, techniques)
+        values, guesses = promise(items, evaluator, techniques)
         told.extend((item.smiles, value) for item, value in zip(items, values, strict=True))
-        return values
+        assert guesses == values  # no technique guesses here (no 13C list)
+        return values, guesses
 
     monkeypatch.setattr(passes, "_promise", spy)
     case = parse_case((HERE / "cyclohexanone.yaml").read_text(encoding="utf-8"))

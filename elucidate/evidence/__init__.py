@@ -5,7 +5,7 @@ one entry in :data:`TECHNIQUES`."""
 
 from __future__ import annotations
 
-from .base import Assessment, Bounded, Foreseen, Partial, Reading, Staged, Subject, Technique, make_subject
+from .base import Assessment, Bounded, Estimated, Foreseen, Partial, Reading, Staged, Subject, Technique, make_subject
 from .carbon13 import Carbon13, carbon_classes
 from .fragments import Fragments, predict_ions
 from .infrared import Infrared, read_bands
@@ -23,6 +23,7 @@ __all__ = [
     "Assessment",
     "Bounded",
     "Carbon13",
+    "Estimated",
     "Foreseen",
     "Fragments",
     "Infrared",

@@ -28,6 +28,7 @@ if TYPE_CHECKING:
 __all__ = [
     "Assessment",
     "Bounded",
+    "Estimated",
     "Foreseen",
     "Partial",
     "Perception",
@@ -44,12 +45,15 @@ class Perception:
     """What generation found on a candidate's molecule while it held it, so that scoring need
     not read the SMILES again for the cheap techniques: the groups it has (as
     :attr:`Subject.groups`), the conditional IR bands of those groups that apply to it
-    (group, position among the group's bands in the IR table), and its rings and multiple
-    bonds where generation read them off the bond orders (None: read off the molecule)."""
+    (group, position among the group's bands in the IR table), its rings and multiple bonds
+    where generation read them off the bond orders (None: read off the molecule), and its
+    carbons by kind and DEPT type when the case has a 13C list
+    (:func:`~elucidate.generator.counts.carbon_profile`; None: not read)."""
 
     groups: frozenset[str]
     bands: frozenset[tuple[str, int]]
     shape: RingShape | None = None
+    carbons: tuple[tuple[str, str, int], ...] | None = None
 
 
 @dataclass(frozen=True)
@@ -217,6 +221,19 @@ class Foreseen(Protocol):
     def foresee(self, subject: Subject, case: Case) -> Assessment | None:
         """:meth:`Technique.assess`'s assessment of ``subject`` when it needs nothing beyond its
         formula and ``subject.seen``; None when it would need the molecule (or gives none)."""
+        ...
+
+
+@runtime_checkable
+class Estimated(Protocol):
+    """A technique that can guess a candidate's assessment roughly from its formula and what
+    generation perceived: the solver orders the candidates by these guesses (with the
+    :class:`Foreseen` assessments), so that the threshold soon nears its final level; a guess
+    never settles a candidate, so a poor one costs time, never a result."""
+
+    def estimate(self, subject: Subject, case: Case) -> Assessment | None:
+        """A rough guess of :meth:`Technique.assess`'s assessment from the formula and
+        ``subject.seen`` alone; None when there is nothing to guess from."""
         ...
 
 

@@ -24,6 +24,7 @@ from typing import TYPE_CHECKING, Any, Literal
 from ..case import Case, IRBand
 from ..errors import ElucidateError
 from ..formula_search.query import limits_for
+from ..generator.counts import carbon_profile
 from ..generator.groups import GroupTable, default_groups
 from ..generator.shape import RingShape
 from ..smarts import compiled_smarts
@@ -149,7 +150,7 @@ def _band(loc: Located) -> Band:
 
 def load_infrared(path: str | Path | None = None, *, groups: GroupTable | None = None) -> IRTable:
     file = Path(path) if path is not None else table_path("infrared.yaml")
-    document = read_yaml_file(file)
+    document = read_yaml_file(file, table=True)
     root = mapping(
         document,
         ["source", "regions", "reading_patterns", "scoring", "bands"],
@@ -423,14 +424,16 @@ class Perceiver:
     with the shape of its rings that generation read off the bond orders, for the strain
     technique. ``having`` and ``lacking``: groups every structure generated has and lacks (the
     case's required and forbidden groups), found without a search
-    (:meth:`~elucidate.generator.groups.GroupTable.present`). Picklable, for generation's worker
-    processes."""
+    (:meth:`~elucidate.generator.groups.GroupTable.present`). ``carbons``: the carbons by kind
+    and DEPT type are read too, for the NMR technique's estimate. Picklable, for generation's
+    worker processes."""
 
     formula: Formula
     groups: GroupTable
     table: IRTable
     having: frozenset[str] = frozenset()
     lacking: frozenset[str] = frozenset()
+    carbons: bool = False
 
     @property
     def fingerprint(self) -> str:
@@ -443,7 +446,10 @@ class Perceiver:
             name: [[k, band.when, band.unless] for k, band in enumerate(self.table.of(name)) if band.conditional]
             for name in self.groups.names
         }
-        document = json.dumps([self.groups._smarts_by_name, bands], sort_keys=True)
+        decides: list[object] = [self.groups._smarts_by_name, bands]
+        if self.carbons:  # a perceiver that reads no carbons keeps the fingerprint it had
+            decides.append("carbons by kind and DEPT type")
+        document = json.dumps(decides, sort_keys=True)
         return hashlib.sha256(document.encode("utf-8")).hexdigest()
 
     def __call__(self, mol: Mol, shape: RingShape | None = None) -> Perception:
@@ -455,4 +461,4 @@ class Perceiver:
             for k, band in enumerate(self.table.of(name))
             if band.conditional and band.applies(mol)
         )
-        return Perception(found, bands, shape)
+        return Perception(found, bands, shape, carbon_profile(mol) if self.carbons else None)

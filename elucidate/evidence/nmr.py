@@ -26,7 +26,7 @@ import math
 from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from functools import cache
+from functools import cache, lru_cache
 from typing import TYPE_CHECKING, Any, Literal
 
 from ..case import CARBON_KINDS, MULTIPLICITIES, C13Signal, Case, H1Signal
@@ -222,6 +222,38 @@ def assign(cost: np.ndarray, costs: AssignmentCosts, *, optional: Sequence[bool]
     return sorted(pairs, key=lambda p: (p.observed if p.observed is not None else -1, p.predicted or 0))
 
 
+@lru_cache(maxsize=4096)
+def _window_misses(
+    signals: tuple[tuple[float, str | None], ...], carbons: tuple[tuple[str, str, int], ...], tables: NmrTables
+) -> int:
+    """How many of the observed 13C ``signals`` (ppm, DEPT type or None) are left over by a
+    largest matching to the ``carbons`` ((kind, DEPT type, count) rows), a signal matching a
+    carbon of its type whose kind's shift window (``nmr13c.yaml`` regions) holds it (Kuhn's
+    augmenting paths)."""
+    regions = tables.c13.regions
+    slots = [(kind, name) for kind, name, n in carbons for _ in range(n)]
+    fits = [
+        [
+            k
+            for k, (kind, name) in enumerate(slots)
+            if (t is None or t == name) and regions[kind][0] <= ppm <= regions[kind][1]
+        ]
+        for ppm, t in signals
+    ]
+    held: dict[int, int] = {}  # slot -> signal
+
+    def place(r: int, tried: set[int]) -> bool:
+        for k in fits[r]:
+            if k not in tried:
+                tried.add(k)
+                if k not in held or place(held[k], tried):
+                    held[k] = r
+                    return True
+        return False
+
+    return sum(1 for r in range(len(signals)) if not place(r, set()))
+
+
 class Nmr:
     """Observed 13C (with DEPT types) and 1H lists scored by optimal assignment."""
 
@@ -241,6 +273,20 @@ class Nmr:
 
     def hard_constraints(self, case: Case) -> Mapping[str, tuple[str, ...]]:
         return {}
+
+    def estimate(self, subject: Subject, case: Case) -> Assessment | None:
+        """A guess from the carbons by kind and DEPT type that generation read
+        (``subject.seen.carbons``), for ordering the candidates only: each observed 13C signal
+        that no carbon of its DEPT type and of a kind whose shift window holds it can give (a
+        largest matching of signals to carbons, :func:`_window_misses`) is taken as paired at
+        the capped deviation."""
+        nmr = case.nmr
+        seen = subject.seen
+        if nmr is None or not nmr.c13 or seen is None or seen.carbons is None:
+            return None
+        signals = tuple((s.ppm, s.type) for s in nmr.c13)
+        missed = _window_misses(signals, seen.carbons, self.tables)
+        return Assessment(self.name, against=missed * self.tables.c13.costs.deviation_cap)
 
     # ------------------------------------------------------------------ scoring
 

@@ -30,6 +30,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
+from .._mol import atoms_of
 from ..case import CARBON_KINDS
 from ..errors import ElucidateError
 from ..formula import Formula
@@ -38,7 +39,7 @@ if TYPE_CHECKING:
     from .._rdkit import Mol
     from .labelling import Structure
 
-__all__ = ["CARBON_KINDS", "CountTest", "carbon_kind", "mol_counts", "structure_counts"]
+__all__ = ["CARBON_KINDS", "CountTest", "carbon_kind", "carbon_profile", "mol_counts", "structure_counts"]
 
 _TYPE_NAMES = ("CH3", "CH2", "CH", "C")
 
@@ -125,6 +126,31 @@ def mol_counts(mol: Mol) -> Counts:
         hetero = any(n.GetAtomicNum() in (7, 8) for n in heavy)
         kinds[carbon_kind(4 - len(heavy) - h, carbonyl, hetero)] += 1
     return Counts((types[0], types[1], types[2], types[3]), exchangeable, kinds, methane)
+
+
+def carbon_profile(mol: Mol) -> tuple[tuple[str, str, int], ...]:
+    """The carbons of a molecule (hydrogens implicit) by kind (:func:`carbon_kind`) and DEPT
+    type (CH3, CH2, CH, C): (kind, type, carbons) for each pair present, sorted; the counts
+    :func:`mol_counts` reads, per carbon. Neighbours are read from the bond-order matrix
+    (generation reads this on every structure of a case with a 13C list); a carbonyl O has one
+    neighbour, no H and a double bond. A carbon with four H (no DEPT type) is left out."""
+    from .._rdkit import Chem
+
+    rows = Chem.GetAdjacencyMatrix(mol, useBO=True).tolist()
+    atoms = [(atom.GetAtomicNum(), atom.GetTotalNumHs()) for atom in atoms_of(mol)]
+    n = len(atoms)
+    hetero = [j for j, (z, _) in enumerate(atoms) if z in (7, 8)]
+    oxo = [j for j in hetero if atoms[j] == (8, 0) and rows[j].count(0.0) == n - 1 and 2.0 in rows[j]]
+    found: dict[tuple[str, str], int] = {}
+    for i, (z, h) in enumerate(atoms):
+        if z != 6 or h > 3:
+            continue
+        row = rows[i]
+        carbonyl = any(row[j] == 2.0 for j in oxo)
+        kind = carbon_kind(4 - (n - row.count(0.0)) - h, carbonyl, any(row[j] for j in hetero))
+        key = (kind, _TYPE_NAMES[3 - h])
+        found[key] = found.get(key, 0) + 1
+    return tuple(sorted((kind, name, k) for (kind, name), k in found.items()))
 
 
 @dataclass(frozen=True)

@@ -33,7 +33,6 @@ run, so the counts of what each pass settled are the same for any runner too."""
 
 from __future__ import annotations
 
-import bisect
 import heapq
 import math
 from collections import deque
@@ -41,7 +40,17 @@ from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, cast
 
-from ..evidence import Assessment, Bounded, Foreseen, Partial, Staged, Subject, Technique, make_subject
+from ..evidence import (
+    Assessment,
+    Bounded,
+    Estimated,
+    Foreseen,
+    Partial,
+    Staged,
+    Subject,
+    Technique,
+    make_subject,
+)
 from ..parallel import Runner
 from ..progress import Progress, silent
 from .records import FoundCandidate, PassCount
@@ -359,13 +368,13 @@ def score_candidates(
     # the rest most promising first (what the foreseeing techniques say: the threshold then
     # soon nears its final level, and settles more in the cheap passes), ties in generation order
     remaining = [i for i in rest if i not in taken]
-    promise = _promise([found[i] for i in remaining], evaluator, techniques)
-    ranked = sorted(range(len(remaining)), key=lambda k: -promise[k])  # stable: ties keep their order
+    promise, guess = _promise([found[i] for i in remaining], evaluator, techniques)
+    ranked = sorted(range(len(remaining)), key=lambda k: -guess[k])  # stable: ties keep their order
     order = sorted(watched) + spread + [remaining[k] for k in ranked]
-    # the promise of the sorted tail of ``order``, negated (ascending, for bisect); a candidate
-    # whose promise is below T cannot reach the shortlist, nor can any after it
+    # the promise of each candidate of the tail of ``order``: one whose promise is below T
+    # cannot reach the shortlist and is settled before any pass
     tail = len(order) - len(remaining)
-    falling = [-promise[k] for k in ranked]
+    bound = [promise[k] for k in ranked]
     foreseen = 0
     ran = [0] * len(passes)  # per pass (index into passes): candidates it ran on
     settled = [0] * len(passes)  # per pass: candidates whose bound fell below T in it
@@ -388,15 +397,15 @@ def score_candidates(
         # is judged against the T of the batches read before (a lower T only settles less,
         # never wrongly; whether a batch goes ahead depends on the scores, not on timing)
         while position < len(order) and (not pending or (ahead and steady and len(pending) < 2)):
-            end = len(order)
-            if threshold > -math.inf:  # where the promise falls below T: no pass runs from there on
-                end = tail + bisect.bisect_right(falling, EPSILON - threshold, lo=max(0, position - tail))
-                if end <= position:
-                    foreseen = len(order) - position
-                    position = len(order)
-                    break
-            batch = order[position : min(end, position + BATCH)]
-            position += len(batch)
+            batch: list[int] = []
+            while position < len(order) and len(batch) < BATCH:
+                if position >= tail and bound[position - tail] < threshold - EPSILON:
+                    foreseen += 1  # its promise is below T: no pass runs on it
+                else:
+                    batch.append(order[position])
+                position += 1
+            if not batch:  # the rest was settled on its promise
+                break
             limits = {i: -math.inf if i in watched else threshold for i in batch}
             jobs = [
                 _Job(evaluator, tuple(found[i] for i in part), tuple(limits[i] for i in part), sequence)
@@ -465,26 +474,38 @@ def score_candidates(
     return Scoring(full, threshold, counts, foreseen)
 
 
-def _promise(items: Sequence[FoundCandidate], evaluator: Evaluator, techniques: Sequence[Technique]) -> list[float]:
-    """Each candidate's log-likelihood on what the :class:`~elucidate.evidence.Foreseen`
-    techniques say from its formula and what generation perceived (0 when they say nothing): an
-    upper bound of its score, known without reading any molecule. Candidates that share a
-    formula hypothesis and a perception (generation's perceptions are shared objects) share it,
-    so it is worked out once for each such pair."""
+def _promise(
+    items: Sequence[FoundCandidate], evaluator: Evaluator, techniques: Sequence[Technique]
+) -> tuple[list[float], list[float]]:
+    """Each candidate's promise, its log-likelihood on what the
+    :class:`~elucidate.evidence.Foreseen` techniques say from its formula and what generation
+    perceived (0 when they say nothing): an upper bound of its score, known without reading any
+    molecule; and its guess, the promise with what the :class:`~elucidate.evidence.Estimated`
+    techniques guess from the same (for the order only). Candidates that share a formula
+    hypothesis and a perception (generation's perceptions are shared objects) share both, so
+    they are worked out once for each such pair."""
     foreseeing = _foreseeing(techniques)
-    if not foreseeing:
-        return [0.0] * len(items)
+    estimating = [cast(Estimated, t) for t in techniques if _implements(t, Estimated)]
+    if not foreseeing and not estimating:
+        return [0.0] * len(items), [0.0] * len(items)
     keys = {t.name: t.weight_key for t in techniques}
     said: dict[tuple[object, ...], tuple[Assessment, ...]] = {}
-    known: dict[int, float] = {}  # by id of what was said (shared by candidates of one key)
-    out = []
+    known: dict[tuple[int, int], tuple[float, float]] = {}  # by the ids of what was said and seen
+    promise, guess = [], []
     for item in items:
         assessments = foreseen(item, evaluator, foreseeing, said)
-        value = known.get(id(assessments))
+        value = known.get((id(assessments), id(item.seen)))
         if value is None:
-            value = known[id(assessments)] = _log_likelihood(assessments, keys, evaluator.scoring)
-        out.append(value)
-    return out
+            bound = _log_likelihood(assessments, keys, evaluator.scoring)
+            guessed = bound
+            if estimating:
+                subject = _subject(item, None, evaluator)
+                rough = [a for t in estimating if (a := t.estimate(subject, evaluator.case)) is not None]
+                guessed += _log_likelihood(rough, keys, evaluator.scoring)
+            value = known[(id(assessments), id(item.seen))] = (bound, guessed)
+        promise.append(value[0])
+        guess.append(value[1])
+    return promise, guess
 
 
 def _foreseeing(techniques: Sequence[Technique]) -> list[Foreseen]:

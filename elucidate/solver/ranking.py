@@ -348,6 +348,7 @@ def _solve(
                     infrared.table,
                     having=frozenset(selection.require),
                     lacking=frozenset(selection.forbid),
+                    carbons=bool(case.nmr is not None and case.nmr.c13),
                 )
             if hit is not None and hit.tested <= limit:  # generated before under the same hard constraints
                 kept_seen = None  # what generation perceived, when it was kept with the structures
