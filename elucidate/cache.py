@@ -7,10 +7,13 @@ generator options), the elucidate version, a fingerprint of the generator's sour
 SHA-256 of every knowledge table: change any of these and the entry is simply not found.
 
 With the structures, an entry may keep what generation perceived on each of them for the IR
-pass (:class:`~elucidate.evidence.base.Perception`: groups, conditional bands, ring shape), in a
-table of its own keyed also by what perceived it (:attr:`~elucidate.evidence.infrared.Perceiver.fingerprint`),
-so that a rerun scores as the first run did without reading every molecule again. A file
-without that table gets it with the first perceptions stored (older versions leave it alone).
+pass (:class:`~elucidate.evidence.base.Perception`: groups, conditional bands, ring shape, and
+with a 13C list the carbons by kind and DEPT type), in a table of its own keyed also by what
+perceived it (:attr:`~elucidate.evidence.infrared.Perceiver.fingerprint`), so that a rerun scores
+as the first run did without reading every molecule again. A file without that table gets it
+with the first perceptions stored (older versions leave it alone). A rerun that adds a 13C list
+takes the perceptions a run without one kept (they lack only the carbons, which order the
+scoring and never settle a candidate).
 
 Several processes may share the file: SQLite's own locking serialises writers, and each entry is
 written in one transaction, so an interrupted run leaves the file as it was. A file that is not

@@ -187,6 +187,47 @@ def test_a_rerun_from_the_cache_perceives_nothing_and_scores_as_the_first_run(de
     assert warm.settled_before_passes == cold.settled_before_passes
 
 
+def test_a_13c_list_added_later_reuses_the_perceptions_kept_without_it(tmp_path, monkeypatch):
+    # menthone first without its 13C list (its carbon types kept: the same structures), then with
+    # it: the rerun takes the structures and what was perceived on them from the cache (less the
+    # carbons by kind, which only order the scoring), perceives nothing, and ranks as a run
+    # without the cache
+    import yaml
+
+    from elucidate.case import parse_case
+    from elucidate.evidence.infrared import Perceiver
+    from elucidate.solver import ranking, solve
+
+    text = (Path(__file__).parent / "reference_cases" / "menthone.yaml").read_text(encoding="utf-8")
+    full = yaml.safe_load(text)
+    first = yaml.safe_load(text)
+    del first["nmr"]["c13"]
+    with CandidateCache(tmp_path / "c.sqlite") as cache:
+        solve(parse_case(yaml.safe_dump(first)), workers=1, cache=cache)
+    calls = []
+    perceive = Perceiver.__call__
+    monkeypatch.setattr(
+        Perceiver, "__call__", lambda self, mol, shape=None: calls.append(1) or perceive(self, mol, shape)
+    )
+    scored: list[list] = []
+    score = ranking.score_candidates
+
+    def spy(found, *args, **kwargs):
+        scored.append([item.seen for item in found])
+        return score(found, *args, **kwargs)
+
+    monkeypatch.setattr(ranking, "score_candidates", spy)
+    case = parse_case(yaml.safe_dump(full))
+    with CandidateCache(tmp_path / "c.sqlite") as cache, monkeypatch.context() as patched:
+        _no_generation(patched)
+        warm = solve(case, workers=1, cache=cache)
+    assert not calls
+    assert scored[0] and all(seen is not None and seen.carbons is None for seen in scored[0])
+    cold = solve(case, workers=1)
+    assert calls and all(seen is not None and seen.carbons is not None for seen in scored[1])
+    assert [c.as_dict() for c in warm.candidates] == [c.as_dict() for c in cold.candidates]
+
+
 def test_keys_differ_by_formula_and_by_generation():
     cache = CandidateCache(Path("unused.sqlite"))
     assert cache.key("C2H6O", "a") == cache.key("C2H6O", "a")

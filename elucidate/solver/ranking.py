@@ -354,6 +354,11 @@ def _solve(
                 kept_seen = None  # what generation perceived, when it was kept with the structures
                 if cache is not None and key is not None and perceive is not None:
                     kept_seen = cache.get_seen(key, perceive.fingerprint, len(hit.smiles))
+                    if kept_seen is None and perceive.carbons:
+                        # kept by a run without a 13C list: all but the carbons, which only
+                        # order the scoring
+                        plain = replace(perceive, carbons=False)
+                        kept_seen = cache.get_seen(key, plain.fingerprint, len(hit.smiles))
                 found += [
                     FoundCandidate(
                         s,
