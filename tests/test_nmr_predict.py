@@ -183,20 +183,22 @@ def test_tables_validate_and_name_their_sources() -> None:
 )
 def test_rooted_pattern_tests_equal_whole_molecule_searches(smiles: str) -> None:
     # the prediction tests a table pattern at one atom by its first query atom and element
-    # counts before any search (nmr_predict._Context.starts_at, .name); RDKit's search of the
+    # counts before any search (nmr_predict._first_match, _Context.name); RDKit's search of the
     # whole molecule (from the package registry) is the reference
-    from elucidate.evidence.nmr_predict import _Context
+    from elucidate.evidence.nmr_predict import _Context, _first_match
 
     tables = default_nmr_tables()
     mol = Chem.MolFromSmiles(smiles)
     ctx = _Context(mol, tables)
-    table_smarts = [e.smarts for e in (*tables.c13.carbonyl, *tables.c13.special, *tables.h1.special)]
     hits = 0
-    for smarts in table_smarts:
-        whole = {m[0] for m in mol.GetSubstructMatches(Chem.MolFromSmarts(smarts), uniquify=False)}
+    for entries in (tables.c13.carbonyl, tables.c13.special, tables.h1.special):
+        starts = [
+            {m[0] for m in mol.GetSubstructMatches(Chem.MolFromSmarts(e.smarts), uniquify=False)} for e in entries
+        ]
         for atom in range(mol.GetNumAtoms()):
-            assert ctx.starts_at(smarts, atom) == (atom in whole), (smarts, atom)
-            hits += atom in whole
+            expected = next((e for e, found in zip(entries, starts, strict=True) if atom in found), None)
+            assert _first_match(ctx, atom, entries) == expected, (atom, expected)
+            hits += expected is not None
     assert hits > 0
     patterns = [(name, Chem.MolFromSmarts(smarts)) for name, smarts in tables.c13.substituents]
     for atom in range(mol.GetNumAtoms()):

@@ -493,7 +493,8 @@ class Nmr:
         left = Counter(kind for _, kind in classes)
         order = sorted(range(len(classes)), key=lambda k: (_BLOCK_ORDER.get(classes[k][1], 4), k))
         signals = [(o.ppm, o.type) for o in observed]
-        columns: list[tuple[list[float], float]] = []  # per predicted class: its pair costs and v_j
+        # per signal, the least of its pair costs less v_j over the classes predicted so far
+        least = [math.inf] * len(signals)
         total_v = 0.0
         for k in order:
             shift = prediction.c13_class(k)
@@ -504,7 +505,7 @@ class Nmr:
                 for ppm, kind in signals
             ]
             v = min(column)
-            columns.append((column, v))
+            least = [x if x <= c - v else c - v for x, c in zip(least, column, strict=True)]
             total_v += v
             left[shift.type] -= 1
             bound = total_v
@@ -513,8 +514,7 @@ class Nmr:
                 for r, (_, kind) in enumerate(signals):
                     if waiting and (kind is None or left[kind]):
                         continue  # a class still to come may pair with it at no cost
-                    u = min((column[r] - v for column, v in columns), default=costs.extra_signal)
-                    u = min(u, costs.extra_signal, costs.type_mismatch if waiting else math.inf)
+                    u = min(least[r], costs.extra_signal, costs.type_mismatch if waiting else math.inf)
                     bound += max(u, 0.0)
             # a margin for rounding (the assignment sums the same costs in another order)
             if bound - 1e-9 > enough:

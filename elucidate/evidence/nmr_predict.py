@@ -88,9 +88,19 @@ class _Context:
         self._starts: dict[str, frozenset[int]] = {}
         # substituent pattern -> its matches by first atom (searched on first need)
         self._by_first: dict[int, dict[int, list[tuple[int, ...]]]] = {}
-        ri = mol.GetRingInfo()
-        self.ring_size = [ri.MinAtomRingSize(i) if ri.NumAtomRings(i) else 0 for i in range(mol.GetNumAtoms())]
-        self.atom_rings = [set(r) for r in ri.AtomRings()]
+        # RDKit's rings: each atom's smallest (0: none) and the ring bonds, atoms next to each
+        # other in a ring being bonded by a bond of that ring (as MinAtomRingSize and IsInRing
+        # read the same set)
+        rings = mol.GetRingInfo().AtomRings()
+        self.atom_rings = [set(r) for r in rings]
+        self.ring_size = [0] * mol.GetNumAtoms()
+        self.ring_bonds: set[tuple[int, int]] = set()
+        for ring in rings:
+            for k, a in enumerate(ring):
+                if not self.ring_size[a] or len(ring) < self.ring_size[a]:
+                    self.ring_size[a] = len(ring)
+                b = ring[k - 1]
+                self.ring_bonds.add((a, b) if a < b else (b, a))
         # atoms of bridged ring systems (two rings sharing three atoms or more)
         self.bridged: set[int] = set()
         for x, first in enumerate(self.atom_rings):
@@ -102,25 +112,23 @@ class _Context:
         hs = self.hs = [a.GetTotalNumHs() for a in atoms]
         self.arom = [a.GetIsAromatic() for a in atoms]
         self.element_count = Counter(z)
+        #: (atomic number, atoms) pairs, sorted: what decides which patterns can match
+        self.elements = tuple(sorted(self.element_count.items()))
         # the substituent patterns that can match here (none needs more atoms of an element than
         # the molecule has), each with its first query atom and whether it is that atom alone
-        self._patterns = _applicable_patterns(tables, tuple(sorted(self.element_count.items())))
+        self._patterns = _applicable_patterns(tables, self.elements)
         # neighbours in bond order (the order GetNeighbors gives), from one pass over the bonds
         adj: list[list[int]] = [[] for _ in atoms]
         self.adj = adj
         self.double: set[tuple[int, int]] = set()
-        self.ring_bonds: set[tuple[int, int]] = set()
         for b in bonds_of(mol):
             i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
             if z[j] != 1:
                 adj[i].append(j)
             if z[i] != 1:
                 adj[j].append(i)
-            key = (i, j) if i < j else (j, i)
             if b.GetBondTypeAsDouble() == 2:
-                self.double.add(key)
-            if b.IsInRing():
-                self.ring_bonds.add(key)
+                self.double.add((i, j) if i < j else (j, i))
         n = len(atoms)
         self.unsat = [4 - len(adj[i]) - hs[i] if z[i] == 6 else 0 for i in range(n)]
         self.sp3c = [z[i] == 6 and not self.arom[i] and self.unsat[i] == 0 for i in range(n)]
@@ -128,9 +136,7 @@ class _Context:
             z[i] == 8 and len(adj[i]) == 1 and hs[i] == 0 and not atoms[i].GetFormalCharge() for i in range(n)
         ]
         self.carbonyl_c = [z[i] == 6 and any(terminal_o[j] for j in adj[i]) for i in range(n)]
-        self.benzene_rings = [
-            r for r in ri.AtomRings() if len(r) == 6 and all(self.arom[a] and self.z[a] == 6 for a in r)
-        ]
+        self.benzene_rings = [r for r in rings if len(r) == 6 and all(self.arom[a] and self.z[a] == 6 for a in r)]
 
     def is_double(self, a: int, b: int) -> bool:
         return (min(a, b), max(a, b)) in self.double
@@ -178,25 +184,6 @@ class _Context:
             found = self._starts[smarts] = frozenset(m[0] for m in matches)
         return found
 
-    def starts_at(self, smarts: str, atom: int) -> bool:
-        """Whether the SMARTS matches with its atom 0 on ``atom``: :meth:`starts`, searched only
-        when the molecule has the atoms of each element the pattern names and the first query
-        atom matches ``atom``."""
-        first, single, needs = _query_summary(smarts)
-        if not self._has(needs):
-            return False
-        if first is not None:
-            if not first.Match(self.atoms[atom]):
-                return False
-            if single:
-                return True
-        return atom in self.starts(smarts)
-
-    def _has(self, needs: tuple[tuple[int, int], ...]) -> bool:
-        """Whether the molecule has at least so many atoms of each element ((atomic number,
-        count) pairs)."""
-        return all(self.element_count.get(z, 0) >= k for z, k in needs)
-
     def same_ring(self, a: int, b: int, c: int | None = None) -> bool:
         return any(a in r and b in r and (c is None or c in r) for r in self.atom_rings)
 
@@ -240,9 +227,34 @@ def _applicable_patterns(
     ]
 
 
-def _first_match(ctx: _Context, atom: int, entries: Sequence[BaseValue]) -> BaseValue | None:
-    for entry in entries:
-        if ctx.starts_at(entry.smarts, atom):
+@lru_cache(maxsize=256)
+def _applicable_entries(
+    entries: tuple[BaseValue, ...], elements: tuple[tuple[int, int], ...]
+) -> list[tuple[BaseValue, Atom | None, bool]]:
+    """The base-value entries (in table order) that a molecule with these (atomic number, atoms)
+    counts can match, each with its SMARTS's first query atom and whether it is that atom alone
+    (:func:`_query_summary`): the same for every candidate of one formula."""
+    have = dict(elements)
+    return [
+        (entry, first, single)
+        for entry in entries
+        for first, single, needs in (_query_summary(entry.smarts),)
+        if all(have.get(z, 0) >= k for z, k in needs)
+    ]
+
+
+def _first_match(ctx: _Context, atom: int, entries: tuple[BaseValue, ...]) -> BaseValue | None:
+    """The first entry whose SMARTS matches with its atom 0 on ``atom``: searched (:meth:`_Context.starts`)
+    only when the first query atom matches ``atom``; the entries whose SMARTS needs more atoms of
+    an element than the molecule has are passed over, found once per formula."""
+    here = ctx.atoms[atom]
+    for entry, first, single in _applicable_entries(entries, ctx.elements):
+        if first is not None:
+            if not first.Match(here):
+                continue
+            if single:
+                return entry
+        if atom in ctx.starts(entry.smarts):
             return entry
     return None
 
