@@ -135,16 +135,21 @@ def parse_yaml(text: str, *, file: str = "<text>", fast: bool = False) -> Locate
     Python loader, so its error reads as it always does. Case files keep the Python loader: its
     reading of unusual text is the one their checks were written for."""
     if fast and _FAST_LOADER is not None:
-        quick = _FAST_LOADER(text)
+        root = None  # when libyaml cannot compose the text, it is read again below for the message
         try:
-            root = quick.get_single_node()
-        except (yaml.YAMLError, RecursionError):
-            root = None  # read again below, for the usual message
-        try:
-            if root is not None:
-                return _Converter(quick, file).convert(root, "", 0)
-        finally:
-            quick.dispose()
+            quick = _FAST_LOADER(text)
+        except (yaml.YAMLError, ValueError):
+            quick = None
+        if quick is not None:
+            try:
+                root = quick.get_single_node()
+            except (yaml.YAMLError, ValueError, RecursionError):
+                root = None
+            try:
+                if root is not None:
+                    return _Converter(quick, file).convert(root, "", 0)
+            finally:
+                quick.dispose()
     try:
         loader = yaml.SafeLoader(text)
     except yaml.reader.ReaderError as exc:
