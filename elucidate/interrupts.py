@@ -7,7 +7,9 @@ and the command went on to the end as if nothing had been asked. :class:`Interru
 each SIGINT before raising it, keeps a dropped one quiet, and raises it again at the next
 checkpoint: :meth:`InterruptWatch.check`, every call of a progress function wrapped by
 :meth:`InterruptWatch.checking`, or every item of an iterable wrapped by
-:meth:`InterruptWatch.each`.
+:meth:`InterruptWatch.each`. When C code that called back into Python turns the interrupt into
+another error instead (numba, unpickling its cached compiled code, reports a SystemError caused
+by it), the watch raises :class:`KeyboardInterrupt` in its place as it is left.
 """
 
 from __future__ import annotations
@@ -50,6 +52,13 @@ class InterruptWatch:
             signal.signal(signal.SIGINT, signal.default_int_handler)
             sys.unraisablehook = self._previous_hook
             self._installed = False
+        if (
+            self.noted
+            and value is not None
+            and not isinstance(value, KeyboardInterrupt)
+            and _caused_by_interrupt(value)
+        ):
+            raise KeyboardInterrupt from value
 
     def _on_signal(self, signum: int, frame: FrameType | None) -> None:
         self.noted = True
@@ -80,3 +89,18 @@ class InterruptWatch:
         for item in items:
             self.check()
             yield item
+
+
+def _caused_by_interrupt(error: BaseException) -> bool:
+    """Whether a KeyboardInterrupt is among the causes and contexts of ``error``."""
+    seen: set[int] = set()
+    todo: list[BaseException] = [error]
+    while todo:
+        current = todo.pop()
+        if id(current) in seen:
+            continue
+        seen.add(id(current))
+        if isinstance(current, KeyboardInterrupt):
+            return True
+        todo += [e for e in (current.__cause__, current.__context__) if e is not None]
+    return False
