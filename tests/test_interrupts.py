@@ -87,15 +87,13 @@ def test_an_error_caused_by_the_interrupt_leaves_the_watch_as_the_interrupt():
     (numba reports a SystemError caused by it while unpickling its cached code): leaving the
     watch raises KeyboardInterrupt instead, so the command ends as interrupted (exit 130). An
     error with no interrupt behind it passes through unchanged."""
-    with pytest.raises(KeyboardInterrupt) as caught:
-        with InterruptWatch():
-            try:
-                os.kill(os.getpid(), signal.SIGINT)
-                for _ in range(10_000):
-                    pass
-            except KeyboardInterrupt as exc:
-                raise SystemError("returned a result with an exception set") from exc
+    with pytest.raises(KeyboardInterrupt) as caught, InterruptWatch():
+        try:
+            os.kill(os.getpid(), signal.SIGINT)
+            for _ in range(10_000):
+                pass
+        except KeyboardInterrupt as exc:
+            raise SystemError("returned a result with an exception set") from exc
     assert isinstance(caught.value.__cause__, SystemError)
-    with pytest.raises(SystemError):
-        with InterruptWatch():
-            raise SystemError("not ours")
+    with pytest.raises(SystemError), InterruptWatch():
+        raise SystemError("not ours")
