@@ -139,11 +139,7 @@ def evaluate_in_passes(
     :class:`~elucidate.evidence.Foreseen` techniques said, :func:`foreseen`); they count in every
     bound from the first pass on, and their techniques are not run again."""
     subject = _subject(candidate, mol, evaluator)
-    keys, position, passes, staged_names, bounded = _layout(techniques, order)
-    if known:
-        done = {a.technique for a in known}
-        passes = [[t for t in group if t.name not in done] for group in passes]
-        bounded = [[t for t in group if t.name not in done] for group in bounded]
+    keys, position, passes, staged_names, bounded = _layout(techniques, order, frozenset(a.technique for a in known))
     last = len(passes) - 1
     found: list[Assessment] = list(known)
     bounding = -math.inf < threshold < math.inf
@@ -219,27 +215,31 @@ def _subject(candidate: FoundCandidate, mol: Mol | None, evaluator: Evaluator) -
 
 
 _Layout = tuple[dict[str, str], dict[str, int], list[list[Technique]], frozenset[str], list[list[Technique]]]
-#: the last layout made, with the techniques and order it was made for (a job passes the same
-#: techniques for each of its candidates)
-_last_layout: list[tuple[Sequence[Technique], Sequence[int] | None, _Layout]] = []
+#: the last layout made, with the techniques, order and skipped techniques it was made for (a
+#: job passes the same techniques for each of its candidates, and most share what was foreseen)
+_last_layout: list[tuple[Sequence[Technique], Sequence[int] | None, frozenset[str], _Layout]] = []
 
 
-def _layout(techniques: Sequence[Technique], order: Sequence[int] | None) -> _Layout:
-    """Each technique's weight key and report position by name, the passes in ``order``, the
-    names of the two-part techniques (:class:`Staged`), and per pass its techniques with a floor
-    (:class:`Bounded`; the others' floors are 0)."""
+def _layout(
+    techniques: Sequence[Technique], order: Sequence[int] | None, skipped: frozenset[str] = frozenset()
+) -> _Layout:
+    """Each technique's weight key and report position by name, the passes in ``order`` less the
+    ``skipped`` techniques (assessed already), the names of the two-part techniques
+    (:class:`Staged`), and per pass its techniques with a floor (:class:`Bounded`; the others'
+    floors are 0)."""
     if _last_layout:
-        known, known_order, layout = _last_layout[0]
-        if known is techniques and known_order == order:
+        known, known_order, known_skipped, layout = _last_layout[0]
+        if known is techniques and known_order == order and known_skipped == skipped:
             return layout
     keys = {t.name: t.weight_key for t in techniques}
     position = {t.name: i for i, t in enumerate(techniques)}
     grouped = technique_passes(techniques)
-    passes = [grouped[k] for k in order] if order is not None else grouped
+    chosen = order if order is not None else range(len(grouped))
+    passes = [[t for t in grouped[k] if t.name not in skipped] for k in chosen]
     staged = frozenset(t.name for t in techniques if _implements(t, Staged))
     bounded = [[t for t in group if _implements(t, Bounded)] for group in passes]
     layout = (keys, position, passes, staged, bounded)
-    _last_layout[:] = [(techniques, order, layout)]
+    _last_layout[:] = [(techniques, order, skipped, layout)]
     return layout
 
 
