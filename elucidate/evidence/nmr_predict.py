@@ -101,12 +101,7 @@ class _Context:
                     self.ring_size[a] = len(ring)
                 b = ring[k - 1]
                 self.ring_bonds.add((a, b) if a < b else (b, a))
-        # atoms of bridged ring systems (two rings sharing three atoms or more)
-        self.bridged: set[int] = set()
-        for x, first in enumerate(self.atom_rings):
-            for second in self.atom_rings[x + 1 :]:
-                if len(first & second) >= 3:
-                    self.bridged |= first | second
+        self._rings = rings
         atoms = self.atoms = atoms_of(mol)
         z = self.z = [a.GetAtomicNum() for a in atoms]
         hs = self.hs = [a.GetTotalNumHs() for a in atoms]
@@ -132,11 +127,27 @@ class _Context:
         n = len(atoms)
         self.unsat = [4 - len(adj[i]) - hs[i] if z[i] == 6 else 0 for i in range(n)]
         self.sp3c = [z[i] == 6 and not self.arom[i] and self.unsat[i] == 0 for i in range(n)]
-        terminal_o = [
-            z[i] == 8 and len(adj[i]) == 1 and hs[i] == 0 and not atoms[i].GetFormalCharge() for i in range(n)
-        ]
-        self.carbonyl_c = [z[i] == 6 and any(terminal_o[j] for j in adj[i]) for i in range(n)]
-        self.benzene_rings = [r for r in rings if len(r) == 6 and all(self.arom[a] and self.z[a] == 6 for a in r)]
+        # carbons bearing a terminal O (one neighbour, no H, no charge: a C=O)
+        self.carbonyl_c = [False] * n
+        for i in range(n):
+            if z[i] == 8 and len(adj[i]) == 1 and hs[i] == 0 and not atoms[i].GetFormalCharge():
+                c = adj[i][0]
+                self.carbonyl_c[c] = z[c] == 6
+
+    @cached_property
+    def bridged(self) -> set[int]:
+        """The atoms of bridged ring systems (two rings sharing three atoms or more)."""
+        bridged: set[int] = set()
+        for x, first in enumerate(self.atom_rings):
+            for second in self.atom_rings[x + 1 :]:
+                if len(first & second) >= 3:
+                    bridged |= first | second
+        return bridged
+
+    @cached_property
+    def benzene_rings(self) -> list[tuple[int, ...]]:
+        """The six-membered rings of aromatic carbons."""
+        return [r for r in self._rings if len(r) == 6 and all(self.arom[a] and self.z[a] == 6 for a in r)]
 
     def is_double(self, a: int, b: int) -> bool:
         return (min(a, b), max(a, b)) in self.double
@@ -316,6 +327,22 @@ def _alkyl_walk(
     return carbons, groups, in_ring
 
 
+def _sp3_shells(ctx: _Context, start: int, i: int, k: int) -> tuple[int, int]:
+    """The sp3 carbons one and two bonds out from the sp3 carbon ``start`` on the C=C ``i``, ``k``,
+    walking along sp3 carbons and not through ``i`` or ``k``: what :func:`_alkyl_walk` counts at
+    distances 1 and 2, without naming the groups it meets."""
+    sp3c, adj = ctx.sp3c, ctx.adj
+    near = [v for v in adj[start] if sp3c[v] and v != i and v != k]
+    seen = {start, i, k, *near}
+    far = 0
+    for u in near:
+        for v in adj[u]:
+            if v not in seen:
+                seen.add(v)
+                far += sp3c[v]
+    return len(near), far
+
+
 def _skeleton_neighbours(ctx: _Context, i: int, ring: frozenset[int]) -> int:
     """Carbon neighbours in the parent hydrocarbon: sp3 carbons and members of the observed
     carbon's rings."""
@@ -433,8 +460,8 @@ def _alkene_carbon(ctx: _Context, i: int, k: int) -> tuple[float, float, str]:
             if ctx.sp3c[j]:
                 alkyl += 1
                 own_alkyl += side == 0
-                carbons, _, _ = _alkyl_walk(ctx, j, {i, k}, 2)
-                ppm += weights[0] + weights[1] * carbons[1] + weights[2] * carbons[2]
+                near, far = _sp3_shells(ctx, j, i, k)
+                ppm += weights[0] + weights[1] * near + weights[2] * far
             else:
                 name = ctx.name(j, centre)
                 inc, known = t.alkene_groups.get(name)
