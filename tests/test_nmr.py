@@ -427,6 +427,71 @@ def test_the_early_13c_bound_never_exceeds_the_assignment(case_name, c6h10o_isom
     assert stopped > len(c6h10o_isomers)  # the bound does stop early
 
 
+@pytest.fixture(scope="module")
+def c7h14o_one_ring():
+    """The C7H14O isomers with at most one ring (both kinds of symmetry split occur)."""
+    from elucidate import parse_formula
+    from elucidate.generator import isomer_smiles
+
+    mols = [Chem.MolFromSmiles(s) for s in isomer_smiles(parse_formula("C7H14O"))]
+    return [m for m in mols if m.GetRingInfo().NumRings() <= 1]
+
+
+def test_with_one_ring_the_carbons_of_a_graph_class_are_predicted_alike(c7h14o_one_ring) -> None:
+    # what begin's first bound, on the graph's symmetry classes, rests on: every carbon of such
+    # a class gets the prediction its first carbon gets (self-consistency, on every isomer)
+    from elucidate.evidence.carbon13 import graph_ranks
+    from elucidate.evidence.nmr_predict import _carbon, _Context
+    from elucidate.evidence.nmr_tables import default_nmr_tables
+
+    tables = default_nmr_tables()
+    shared = 0
+    for mol in c7h14o_one_ring:
+        ctx = _Context(mol, tables)
+        ranks = graph_ranks(mol)
+        classes: dict[int, list[int]] = {}
+        for atom in mol.GetAtoms():
+            if atom.GetAtomicNum() == 6:
+                classes.setdefault(ranks[atom.GetIdx()], []).append(atom.GetIdx())
+        for atoms in classes.values():
+            if len(atoms) > 1:
+                shared += 1
+                predicted = {tuple(round(x, 2) for x in _carbon(ctx, i)[:2]) for i in atoms}
+                assert len(predicted) == 1, (Chem.MolToSmiles(mol), atoms, predicted)
+    assert shared > 100
+
+
+@pytest.mark.parametrize("case_name", ["linalool", "carvone"])
+def test_the_bound_on_graph_classes_never_exceeds_the_assignment(case_name, c7h14o_one_ring) -> None:
+    # self-consistency: on the graph's classes (coarser where a spectrum split applies) the
+    # dual bound is a lower bound of the 13C against of the optimal assignment on the
+    # spectrum's classes (Kuhn 1955: any feasible dual is); begin reports a part complete
+    # exactly when neither bound settles it
+    from elucidate.evidence.carbon13 import graph_ranks, symmetry_ranks
+    from elucidate.evidence.nmr_predict import NmrPrediction
+
+    case = load_case(ROOT / "tests" / "reference_cases" / f"{case_name}.yaml")
+    observed = case.nmr.c13
+    nmr = Nmr()
+    formula = parse_formula("C7H14O")
+    split = settled = 0
+    for mol in c7h14o_one_ring:
+        graph, fine = graph_ranks(mol), symmetry_ranks(mol)
+        split += graph != fine
+        smiles = Chem.MolToSmiles(mol)
+        against = nmr._carbon(observed, NmrPrediction(mol, ranks=fine).c13)[0]
+        for enough in (2.0, 6.0, 12.0, 20.0):
+            coarse_bound = nmr._carbon_bound(observed, NmrPrediction(mol, ranks=graph), enough)
+            fine_bound = nmr._carbon_bound(observed, NmrPrediction(mol, ranks=fine), enough)
+            if coarse_bound is not None:
+                settled += 1
+                assert enough < coarse_bound <= against, (smiles, enough)
+            subject = make_subject(smiles, Chem.MolFromSmiles(smiles), formula, default_groups(), 114, 0.0)
+            complete = coarse_bound is None and fine_bound is None
+            assert nmr.begin(subject, case, enough=enough).complete == complete, (smiles, enough)
+    assert split > 10 and settled > len(c7h14o_one_ring)
+
+
 def test_an_incomplete_13c_part_is_compared_never_finished() -> None:
     case = load_case(ROOT / "tests" / "reference_cases" / "carvone.yaml")
     mol = Chem.MolFromSmiles("CCCCCCCCCC=O")  # far from carvone's list

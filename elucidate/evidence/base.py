@@ -103,6 +103,11 @@ class Subject:
 
         return symmetry_ranks(self.mol)
 
+    @property
+    def ranked(self) -> bool:
+        """Whether :attr:`symmetry_ranks` is already computed."""
+        return "symmetry_ranks" in self.__dict__
+
 
 def make_subject(
     smiles: str,

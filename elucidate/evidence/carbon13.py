@@ -31,7 +31,15 @@ from .base import Assessment, Reading, Subject
 if TYPE_CHECKING:
     from .._rdkit import Atom, Mol
 
-__all__ = ["Carbon13", "Carbon13Table", "carbon_classes", "default_carbon13", "load_carbon13", "symmetry_ranks"]
+__all__ = [
+    "Carbon13",
+    "Carbon13Table",
+    "carbon_classes",
+    "default_carbon13",
+    "graph_ranks",
+    "load_carbon13",
+    "symmetry_ranks",
+]
 
 _PENALTIES = ("missing_signal", "extra_signal", "missing_multiplicity", "extra_multiplicity")
 
@@ -71,7 +79,9 @@ def default_carbon13() -> Carbon13Table:
 _KINDS = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
 
 
-def _ranks(mol: Mol) -> list[int]:
+def graph_ranks(mol: Mol) -> list[int]:
+    """Each atom's class under the molecular graph's symmetry alone (RDKit's canonical ranking
+    without tie breaking): :func:`symmetry_ranks` before any split, never finer than it."""
     from .._rdkit import Chem
 
     return list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
@@ -87,7 +97,7 @@ def _split_amide_nitrogen(mol: Mol) -> Mol:
     if not matches:
         return mol
     work = Chem.RWMol(mol)
-    ranks = _ranks(work)
+    ranks = graph_ranks(work)
     for n_idx, *_ in matches:
         atom = work.GetAtomWithIdx(n_idx)
         if atom.IsInRing():
@@ -96,7 +106,7 @@ def _split_amide_nitrogen(mol: Mol) -> Mol:
         if len(subs) == 2 and ranks[subs[0]] == ranks[subs[1]]:
             first = min(subs)
             work.GetAtomWithIdx(first).SetIsotope(work.GetAtomWithIdx(first).GetIsotope() + 3000)
-            ranks = _ranks(work)
+            ranks = graph_ranks(work)
     return work
 
 
@@ -121,7 +131,7 @@ def _split_alkene_ends(mol: Mol) -> tuple[Mol, list[int] | None]:
     work = mol  # copied at the first split
     done: set[int] = set()
     while True:
-        ranks = _ranks(work)
+        ranks = graph_ranks(work)
         first = _alkene_end_to_split(ends, ranks, done)
         if first is None:
             return work, ranks
@@ -181,7 +191,7 @@ def _split_diastereotopic(mol: Mol, ranks: Sequence[int] | None = None) -> Mol:
     when known; the molecule itself is returned when nothing is split."""
     from .._rdkit import Chem
 
-    ranks = _ranks(mol) if ranks is None else ranks
+    ranks = graph_ranks(mol) if ranks is None else ranks
     if len(set(ranks)) == len(ranks):
         return mol  # no two atoms alike: no pair of identical groups anywhere
     # every sp3 carbon with two or more acyclic neighbours (one search), and those neighbours
@@ -215,9 +225,9 @@ def symmetry_ranks(mol: Mol) -> list[int]:
     nothing."""
     split, known = _split_alkene_ends(mol)
     step = _split_amide_nitrogen(split)
-    ranks = known if known is not None and step is split else _ranks(step)
+    ranks = known if known is not None and step is split else graph_ranks(step)
     final = _split_diastereotopic(step, ranks)
-    return ranks if final is step else _ranks(final)
+    return ranks if final is step else graph_ranks(final)
 
 
 def carbon_classes(mol: Mol, ranks: Sequence[int] | None = None) -> list[tuple[int, str, int]]:

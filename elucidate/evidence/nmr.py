@@ -24,14 +24,14 @@ from __future__ import annotations
 
 import math
 from collections import Counter
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from functools import cache, lru_cache
 from typing import TYPE_CHECKING, Any, Literal
 
 from ..case import CARBON_KINDS, MULTIPLICITIES, C13Signal, Case, H1Signal
 from .base import Assessment, Partial, Reading, Subject
-from .carbon13 import carbon_classes
+from .carbon13 import carbon_classes, graph_ranks
 from .nmr_predict import CarbonShift, NmrPrediction, ProtonShift
 from .nmr_tables import AssignmentCosts, NmrTables, default_nmr_tables
 
@@ -254,6 +254,25 @@ def _window_misses(
     return sum(1 for r in range(len(signals)) if not place(r, set()))
 
 
+def _bounding_ranks(subject: Subject) -> Iterator[list[int]]:
+    """The symmetry ranks to bound the 13C part on, the last being the spectrum's
+    (:attr:`~elucidate.evidence.base.Subject.symmetry_ranks`).
+
+    First, unless those are known already, the graph's (:func:`graph_ranks`, cheaper): a class
+    the spectrum splits in two is predicted alike for both parts, one column twice, so the dual
+    is feasible for the finer assignment too (the second copy takes v = 0) and bounds its
+    against. That needs the atoms of a graph class predicted alike: with at most one ring,
+    RDKit's rings read the same from each of them (with more, a ring set chosen among equal
+    ones can tell them apart); tests/test_nmr.py checks this and the bound. Then, when they
+    differ, the spectrum's."""
+    if not subject.ranked and subject.mol.GetRingInfo().NumRings() <= 1:
+        graph = graph_ranks(subject.mol)
+        yield graph
+        if subject.symmetry_ranks == graph:
+            return
+    yield subject.symmetry_ranks
+
+
 class Nmr:
     """Observed 13C (with DEPT types) and 1H lists scored by optimal assignment."""
 
@@ -464,13 +483,18 @@ class Nmr:
         ``against`` stays at or below it (:meth:`_carbon_bound`); once above, that bound is
         the (incomplete) part."""
         assert case.nmr is not None
-        prediction = NmrPrediction(subject.mol, self.tables, ranks=subject.symmetry_ranks)
+        mol = subject.mol
         against = unexplained = 0.0
         rows: list = []
+        prediction = None
         if case.nmr.c13 and enough < math.inf:
-            bound = self._carbon_bound(case.nmr.c13, prediction, enough)
-            if bound is not None:
-                return Partial(bound, 0.0, complete=False)
+            for ranks in _bounding_ranks(subject):
+                prediction = NmrPrediction(mol, self.tables, ranks=ranks)
+                bound = self._carbon_bound(case.nmr.c13, prediction, enough)
+                if bound is not None:
+                    return Partial(bound, 0.0, complete=False)
+        if prediction is None:
+            prediction = NmrPrediction(mol, self.tables, ranks=subject.symmetry_ranks)
         if case.nmr.c13:
             against, unexplained, rows = self._carbon(case.nmr.c13, prediction.c13)
         return Partial(against, unexplained, (prediction, rows))
