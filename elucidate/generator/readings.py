@@ -12,8 +12,9 @@ bond, so each of its other edges is single.
 Ring facts (``r``, ``R``, ``@`` and the smallest set of rings Bredt's test reads) are RDKit's,
 taken from RDKit's reading of the skeleton written by its template with every atom ``*``: the
 same string, atom for atom and bond for bond, as the structure's own SMILES, so RDKit finds the
-same rings as on the structure (its ring perception reads the graph alone). A skeleton with one
-cycle needs no reading: that cycle is its only ring.
+same rings as on the structure (its ring perception reads the graph alone: the string is read
+unsanitized and its symmetrized smallest set of rings taken, the set sanitization keeps). A
+skeleton with one cycle needs no reading: that cycle is its only ring.
 
 A rule is read only when :data:`READERS` holds a reader for its exact SMARTS (or named test):
 an edited rule falls back to RDKit's test until a reader is written for it. Each reader is
@@ -91,24 +92,51 @@ class SkeletonView:
             return self._one_ring()
         from .._rdkit import Chem
 
-        mol = Chem.MolFromSmiles(self.written)
+        # read unsanitized: sanitizing keeps RDKit's symmetrized smallest set of rings (what a
+        # finished molecule's ring facts are read from), found here on the same graph
+        mol = Chem.MolFromSmiles(self.written, sanitize=False)
         if mol is None or mol.GetNumAtoms() != self.n:
             raise ValueError(f"RDKit did not read the skeleton {self.written!r}")  # never for a template's string
         atoms = self.atoms
-        rings = tuple(tuple(atoms[i] for i in ring) for ring in mol.GetRingInfo().AtomRings())
+        rings = tuple(tuple([atoms[i] for i in ring]) for ring in Chem.GetSymmSSSR(mol))
         smallest = [0] * self.n
         count = [0] * self.n
         in_ring = set()
+        edge_of = self.edge_of
         for ring in rings:
             size = len(ring)
-            for k, v in enumerate(ring):
+            before = ring[-1]
+            for v in ring:
                 count[v] += 1
-                if not smallest[v] or size < smallest[v]:
+                least = smallest[v]
+                if not least or size < least:
                     smallest[v] = size
                 # atoms next to each other in a ring are bonded: a ring bond (RDKit's ``@``
                 # holds for a bond of some ring of this set)
-                in_ring.add(self.edge(v, ring[k - 1]))
+                in_ring.add(edge_of[(v, before) if v < before else (before, v)])
+                before = v
         return smallest, count, in_ring, rings
+
+    @cached_property
+    def hydroxyl_sites(self) -> list[tuple[list[int], list[int]]]:
+        """Each hydroxyl O (one edge) on a carbon c1 bonded to a carbon c2, as the records of a
+        clause before and after the order of the c1-c2 edge: ``0 o 8 0 c1 6 0 c2 6 1 e1 1 1
+        e2`` and every other edge of c1 and c2 single (read once for the enol and ynol rules,
+        after :meth:`Readings.clauses` set the valences)."""
+        out = []
+        for o in range(self.n):
+            if len(self.around[o]) != 1 or not self.can(o, 8):
+                continue
+            ((c1, e1),) = self.around[o]
+            if not self.can(c1, 6):
+                continue
+            for c2, e2 in self.around[c1]:
+                if c2 == o or not self.can(c2, 6):
+                    continue
+                out.append(
+                    ([0, o, 8, 0, c1, 6, 0, c2, 6, 1, e1, 1, 1, e2], [*self.single(c1, e1, e2), *self.single(c2, e2)])
+                )
+        return out
 
     def _one_ring(self) -> tuple[list[int], list[int], set[int], tuple[tuple[int, ...], ...]]:
         """:attr:`_rings` of a connected skeleton with one cycle, without RDKit: its only ring
@@ -152,19 +180,7 @@ Reader = Callable[[SkeletonView], list[list[int]]]
 def _hydroxyl_on_multiple(view: SkeletonView, order: int) -> list[list[int]]:
     """A hydroxyl O (one single edge: X2, H1) on a carbon bonded with ``order`` to a carbon,
     each carbon with no other multiple bond (X3 with a double bond, X2 with a triple)."""
-    out = []
-    for o in range(view.n):
-        if len(view.around[o]) != 1 or not view.can(o, 8):
-            continue
-        ((c1, e1),) = view.around[o]
-        if not view.can(c1, 6):
-            continue
-        for c2, e2 in view.around[c1]:
-            if c2 == o or not view.can(c2, 6):
-                continue
-            carbons = [*view.single(c1, e1, e2), *view.single(c2, e2)]
-            out.append([0, o, 8, 0, c1, 6, 0, c2, 6, 1, e1, 1, 1, e2, order, *carbons])
-    return out
+    return [[*head, order, *tail] for head, tail in view.hydroxyl_sites]
 
 
 def _enol(view: SkeletonView) -> list[list[int]]:
@@ -238,7 +254,9 @@ def _bredt(view: SkeletonView) -> list[list[int]]:
 def _fused_three_ring_alkene(view: SkeletonView) -> list[list[int]]:
     """``[CX3;R2;r3]=[#6,#7,#8]``: a carbon in two of the smallest set of rings, the smallest of
     three atoms, with a double bond to C, N or O and no other multiple bond (X3)."""
-    out = []
+    out: list[list[int]] = []
+    if all(len(ring) != 3 for ring in view.rings):
+        return out  # no atom's smallest ring has three atoms
     for v in range(view.n):
         if not view.can(v, 6) or view.ring_count(v) != 2 or view.smallest_ring(v) != 3:
             continue
