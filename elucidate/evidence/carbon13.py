@@ -81,10 +81,27 @@ _KINDS = {3: "CH3", 2: "CH2", 1: "CH", 0: "C"}
 
 def graph_ranks(mol: Mol) -> list[int]:
     """Each atom's class under the molecular graph's symmetry alone (RDKit's canonical ranking
-    without tie breaking): :func:`symmetry_ranks` before any split, never finer than it."""
+    without tie breaking): :func:`symmetry_ranks` before any split, never finer than it.
+
+    The ranking refines each atom's invariants by its neighbours', which cannot tell a ring atom
+    from a chain atom whose neighbours look alike at every depth: the chain CH2 of
+    1,2-dicyclopropylethane ranks with the ring CH2. When a rank holds both, the ranking is
+    taken again with ring membership as a label (a fact of the graph, the same on atoms an
+    automorphism maps onto each other, so it splits no true class)."""
     from .._rdkit import Chem
 
-    return list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+    ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+    info = mol.GetRingInfo()
+    if info.NumRings() < 2 or len(set(ranks)) == len(ranks):
+        return ranks
+    in_ring = [info.NumAtomRings(i) > 0 for i in range(len(ranks))]
+    first: dict[int, bool] = {}
+    if all(first.setdefault(r, ring) == ring for r, ring in zip(ranks, in_ring, strict=True)):
+        return ranks
+    work = Chem.Mol(mol)
+    for atom, ring in zip(work.GetAtoms(), in_ring, strict=True):
+        atom.SetAtomMapNum(atom.GetAtomMapNum() * 2 + 1 + ring)
+    return list(Chem.CanonicalRankAtoms(work, breakTies=False, includeChirality=False))
 
 
 def _split_amide_nitrogen(mol: Mol) -> Mol:
