@@ -85,9 +85,10 @@ def graph_ranks(mol: Mol) -> list[int]:
 
     The ranking refines each atom's invariants by its neighbours', which cannot tell a ring atom
     from a chain atom whose neighbours look alike at every depth: the chain CH2 of
-    1,2-dicyclopropylethane ranks with the ring CH2. When a rank holds both, the ranking is
-    taken again with ring membership as a label (a fact of the graph, the same on atoms an
-    automorphism maps onto each other, so it splits no true class)."""
+    1,2-dicyclopropylethane ranks with the ring CH2. When a molecule of two rings or more has a
+    rank that holds both, the ranking is taken again with ring membership as a label (a fact of
+    the graph, the same on atoms an automorphism maps onto each other, so it splits no true
+    class)."""
     from .._rdkit import Chem
 
     ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
