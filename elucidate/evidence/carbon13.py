@@ -1,7 +1,8 @@
 """13C signal counts from carbon symmetry classes.
 
 Carbons are equivalent when the molecular graph's symmetry maps one onto the other (RDKit's
-canonical ranking without tie breaking). One refinement a chemist expects: at a C=C whose one
+canonical ranking without tie breaking, with ring membership as a label where that ranking lumps
+ring and chain atoms: :func:`graph_ranks`). One refinement a chemist expects: at a C=C whose one
 end carries two identical groups and whose other end carries two different ones (H counts), the
 two identical groups are cis and trans to different neighbours, so they give two signals
 (2-methylbut-2-ene shows two methyl signals on C2). Multiplicities (DEPT-style CH3/CH2/CH/C)
