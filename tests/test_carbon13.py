@@ -54,11 +54,6 @@ SPLIT_COUNTS = [
 ]
 
 
-@pytest.mark.parametrize("smiles,expected,name", SPLIT_COUNTS, ids=[c[2].split(":")[0] for c in SPLIT_COUNTS])
-def test_split_signal_counts(smiles, expected, name):
-    assert len(carbon_classes(Chem.MolFromSmiles(smiles))) == expected
-
-
 # Classes the graph's symmetry gives (common practice: equivalent carbons by the molecule's
 # symmetry), where a ranking that only refines neighbour invariants lumps ring and chain atoms
 GRAPH_COUNTS = [
@@ -68,8 +63,10 @@ GRAPH_COUNTS = [
 ]
 
 
-@pytest.mark.parametrize("smiles,expected,name", GRAPH_COUNTS, ids=[c[2].split(":")[0] for c in GRAPH_COUNTS])
-def test_graph_signal_counts(smiles, expected, name):
+@pytest.mark.parametrize(
+    "smiles,expected,name", SPLIT_COUNTS + GRAPH_COUNTS, ids=[c[2].split(":")[0] for c in SPLIT_COUNTS + GRAPH_COUNTS]
+)
+def test_split_and_graph_signal_counts(smiles, expected, name):
     assert len(carbon_classes(Chem.MolFromSmiles(smiles))) == expected
 
 
