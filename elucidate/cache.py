@@ -265,6 +265,8 @@ def _perception_json(seen: Perception) -> list[Any]:
     ring = None
     if shape is not None:
         ring = [list(shape.rings), shape.fused_small, [[a, b, list(c)] for a, b, c in shape.bonds], shape.cumulated]
+        if shape.partial:
+            ring.append(True)
     document = [sorted(seen.groups), sorted([name, k] for name, k in seen.bands), ring]
     if seen.carbons is not None:  # kept only by a perceiver that reads them (its own fingerprint)
         document.append([list(row) for row in seen.carbons])
@@ -281,12 +283,15 @@ def _perception(item: Any) -> Perception:
     carbons = tuple((str(kind), str(name), int(n)) for kind, name, n in rest[0]) if rest else None
     shape = None
     if ring is not None:
-        rings, fused, bonds, cumulated = ring
+        rings, fused, bonds, cumulated, *partial = ring
+        if partial not in ([], [True]):
+            raise ValueError(f"a ring shape of {4 + len(partial)} parts (4, or 5 when partial, expected)")
         shape = RingShape(
             tuple(int(r) for r in rings),
             int(fused),
             tuple((int(a), int(b), tuple(int(c) for c in rest)) for a, b, rest in bonds),
             int(cumulated),
+            bool(partial),
         )
     return Perception(frozenset(str(g) for g in groups), frozenset((str(n), int(k)) for n, k in bands), shape, carbons)
 

@@ -135,15 +135,17 @@ def test_what_generation_perceived_is_kept_and_read_back_whole(tmp_path):
     first = Perception(frozenset({"ketone", "carbonyl"}), frozenset({("ketone", 2)}), ring)
     second = Perception(frozenset({"alkene"}), frozenset(), None)
     third = Perception(frozenset({"alkene"}), frozenset(), None, (("alkyl", "CH3", 2), ("sp2", "CH", 2)))
-    cache.put(key, "C4H6O", ["a", "b", "c", "d"], {})
-    cache.put_seen(key, "perceiver-1", [first, second, first, third])
-    back = cache.get_seen(key, "perceiver-1", 4)
-    assert back == [first, second, first, third] and back[0] is back[2] and back[3].carbons == third.carbons
-    assert cache.get_seen(key, "perceiver-2", 4) is None and not warned
-    assert cache.get_seen(key, "perceiver-1", 5) is None and "cannot be read" in warned[-1]
+    partial = Perception(frozenset({"ketone"}), frozenset(), RingShape((3, 3), 0, (), 0, partial=True))
+    cache.put(key, "C4H6O", ["a", "b", "c", "d", "e"], {})
+    cache.put_seen(key, "perceiver-1", [first, second, first, third, partial])
+    back = cache.get_seen(key, "perceiver-1", 5)
+    assert back == [first, second, first, third, partial] and back[0] is back[2] and back[3].carbons == third.carbons
+    assert back[4].shape.partial and not back[0].shape.partial
+    assert cache.get_seen(key, "perceiver-2", 5) is None and not warned
+    assert cache.get_seen(key, "perceiver-1", 6) is None and "cannot be read" in warned[-1]
     with sqlite3.connect(tmp_path / "c.sqlite") as db:
         db.execute("UPDATE seen SET blob = ?", (b"not zlib",))
-    assert cache.get_seen(key, "perceiver-1", 4) is None and "read from the molecules" in warned[-1]
+    assert cache.get_seen(key, "perceiver-1", 5) is None and "read from the molecules" in warned[-1]
     cache.close()
 
 

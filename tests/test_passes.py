@@ -353,6 +353,44 @@ def test_the_promise_bounds_every_score_and_settles_candidates_before_any_pass(m
     assert solve(case, shortlist=10, workers=2).settled_before_passes == quick.settled_before_passes
 
 
+def test_a_partial_ring_shape_lowers_the_promise_by_its_strain_and_still_bounds_the_score(monkeypatch) -> None:
+    # cyclohexanone (MS, IR): a candidate with two rings of at most four atoms gets a partial
+    # ring shape in generation (which pairs of small rings RDKit's set holds may depend on the
+    # atom order), so strain cannot be foreseen; its promise is the isotope and IR parts of its
+    # full score less the strain of the partial shape (ring strains: constraints/strain.yaml,
+    # 15 kcal/mol a nat, capped at 3 nats by constraints/scoring.yaml), and still at least the
+    # full score
+    from elucidate.generator import kernel
+    from elucidate.solver import passes
+
+    monkeypatch.setattr(kernel, "worth_starting", lambda *a, **k: True)  # shapes come from the compiled core
+    told: list[tuple[object, float]] = []
+    promise = passes._promise
+
+    def spy(items, evaluator, techniques):
+        values, guesses = promise(items, evaluator, techniques)
+        told.extend(zip(items, values, strict=True))
+        return values, guesses
+
+    monkeypatch.setattr(passes, "_promise", spy)
+    case = parse_case((HERE / "cyclohexanone.yaml").read_text(encoding="utf-8"))
+    full = {c.smiles: c for c in solve(case, shortlist=0).candidates}
+    partial = [(item, value) for item, value in told if item.seen.shape is not None and item.seen.shape.partial]
+    assert len(partial) > 40
+    kcal = {3: 27.5, 4: 26.3, 5: 6.2, 6: 0.0}  # constraints/strain.yaml, from memory there
+    for item, value in partial:
+        parts = full[item.smiles].components
+        shape = item.seen.shape
+        floor = (
+            sum(kcal[size] for size in shape.rings)
+            + sum(27.0 if size == 3 else 2.0 if size == 4 else 0.0 for order, size, _ in shape.bonds if order == 2)
+            + sum(13.5 * ends.count(3) for order, size, ends in shape.bonds if order == 2 and not size)
+        )
+        expected = parts["formula"].log_likelihood + parts["infrared"].log_likelihood - min(floor / 15, 3.0)
+        assert value == pytest.approx(expected, abs=1e-9), item.smiles
+        assert value >= full[item.smiles].log_likelihood - 1e-9
+
+
 def test_what_the_foreseeing_techniques_said_is_not_assessed_again(monkeypatch) -> None:
     # menthone (MS, IR, NMR): generation perceived every candidate's IR groups, so the IR
     # assessment is made only through foresee, once per perception and formula in a job, counts

@@ -5,7 +5,19 @@ one entry in :data:`TECHNIQUES`."""
 
 from __future__ import annotations
 
-from .base import Assessment, Bounded, Estimated, Foreseen, Partial, Reading, Staged, Subject, Technique, make_subject
+from .base import (
+    Assessment,
+    Bounded,
+    Estimated,
+    Foreseen,
+    ForeseenFloor,
+    Partial,
+    Reading,
+    Staged,
+    Subject,
+    Technique,
+    make_subject,
+)
 from .carbon13 import Carbon13, carbon_classes
 from .fragments import Fragments, predict_ions
 from .infrared import Infrared, read_bands
@@ -25,6 +37,7 @@ __all__ = [
     "Carbon13",
     "Estimated",
     "Foreseen",
+    "ForeseenFloor",
     "Fragments",
     "Infrared",
     "IsotopeFit",

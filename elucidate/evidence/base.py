@@ -30,6 +30,7 @@ __all__ = [
     "Bounded",
     "Estimated",
     "Foreseen",
+    "ForeseenFloor",
     "Partial",
     "Perception",
     "Reading",
@@ -46,7 +47,8 @@ class Perception:
     not read the SMILES again for the cheap techniques: the groups it has (as
     :attr:`Subject.groups`), the conditional IR bands of those groups that apply to it
     (group, position among the group's bands in the IR table), its rings and multiple bonds
-    where generation read them off the bond orders (None: read off the molecule), and its
+    where generation read them off the bond orders (None: read off the molecule; a partial
+    shape, :attr:`~elucidate.generator.shape.RingShape.partial`, only bounds), and its
     carbons by kind and DEPT type when the case has a 13C list
     (:func:`~elucidate.generator.counts.carbon_profile`; None: not read)."""
 
@@ -226,6 +228,18 @@ class Foreseen(Protocol):
     def foresee(self, subject: Subject, case: Case) -> Assessment | None:
         """:meth:`Technique.assess`'s assessment of ``subject`` when it needs nothing beyond its
         formula and ``subject.seen``; None when it would need the molecule (or gives none)."""
+        ...
+
+
+@runtime_checkable
+class ForeseenFloor(Protocol):
+    """A technique that can bound its assessment from the candidate's formula and what
+    generation perceived alone, never reading its molecule, where it cannot foresee the
+    assessment itself (:class:`Foreseen`): the solver lowers the candidate's promise by it."""
+
+    def foresee_floor(self, subject: Subject, case: Case) -> tuple[float, float]:
+        """Lower bounds of the ``against`` and ``unexplained`` that :meth:`Technique.assess`
+        would give ``subject``, from its formula and ``subject.seen`` only (0, 0: nothing known)."""
         ...
 
 

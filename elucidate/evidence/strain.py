@@ -143,17 +143,36 @@ class Strain:
         return {}
 
     def assess(self, subject: Subject, case: Case) -> Assessment:
-        seen = subject.seen
-        shape = seen.shape if seen is not None and seen.shape is not None else shape_of(subject.mol)
+        shape = self._perceived(subject)
+        if shape is None or shape.partial:
+            shape = shape_of(subject.mol)
         kcal, terms = strain_of(shape, self.table)
         reasons = (f"strain: about {kcal:g} kcal/mol ({', '.join(terms)})",) if terms else ()
         detail = {"kcal_per_mol": round(kcal, 3), "terms": list(terms)}
         return Assessment(self.name, against=kcal / self.table.kcal_per_nat, reasons=reasons, detail=detail)
 
     def foresee(self, subject: Subject, case: Case) -> Assessment | None:
-        """The assessment when generation read the ring shape off the bond orders."""
+        """The assessment when generation read the whole ring shape off the bond orders."""
+        shape = self._perceived(subject)
+        return self.assess(subject, case) if shape is not None and not shape.partial else None
+
+    def floor(self, subject: Subject, case: Case) -> tuple[float, float]:
+        """The strain of the ring shape generation read (a partial one's is at most the
+        structure's), never reading the molecule; 0 when it read none."""
+        shape = self._perceived(subject)
+        if shape is None:
+            return 0.0, 0.0
+        kcal, _ = strain_of(shape, self.table)
+        return kcal / self.table.kcal_per_nat, 0.0
+
+    def foresee_floor(self, subject: Subject, case: Case) -> tuple[float, float]:
+        """:meth:`floor`: it reads only what generation perceived."""
+        return self.floor(subject, case)
+
+    @staticmethod
+    def _perceived(subject: Subject) -> RingShape | None:
         seen = subject.seen
-        return self.assess(subject, case) if seen is not None and seen.shape is not None else None
+        return seen.shape if seen is not None else None
 
     def detail_lines(self, assessment: Assessment) -> list[str]:
         d = assessment.detail

@@ -9,7 +9,11 @@ cycles no longer than itself, and one of them must pass through the bond or atom
 a bond is in a ring (a bond on a cycle is on a basis cycle, the basis spanning every cycle). The
 one fact that does depend on the pick, how many pairs of rings of at most four atoms share two
 atoms, is read off the skeleton only when it has fewer than two such rings (then it is 0 for any
-pick); otherwise generation leaves the shape to be read off the molecule.
+pick). A skeleton with two or more gets a *partial* shape (:attr:`RingShape.partial`): the ring
+sizes of a minimum cycle basis (RDKit's set may hold more rings of those sizes), no fused pair
+counted, and the multiple bonds as they are. Every term of the strain is 0 or more, so the
+strain of the partial shape is at most the structure's: the solver bounds by it, and reads the
+whole shape off the molecule when it needs it.
 
 Generation reads the shape of a structure that cannot be aromatic (no aromatic ring to leave
 out) and whose labels are elements in their usual valence, where only carbon can carry two
@@ -47,6 +51,10 @@ class RingShape:
     fused_small: int  # pairs of those rings of at most four atoms sharing two atoms or more
     bonds: tuple[BondShape, ...]  # each double or triple bond, sorted
     cumulated: int  # carbons with two double bonds or more
+    #: only what every smallest set of rings RDKit may pick gives: ``rings`` those of a minimum
+    #: cycle basis, ``fused_small`` 0 (generation, two small rings or more); the strain of a
+    #: partial shape is at most the structure's
+    partial: bool = False
 
 
 def shape_of(mol: Mol) -> RingShape:
@@ -86,6 +94,7 @@ class ShapePlan:
     ends: tuple[tuple[int, int], ...]  # per edge: its two vertices
     ring_size: tuple[int, ...]  # per edge: the smallest ring through it (0: none)
     exo: tuple[tuple[int, ...], ...]  # per edge in no ring: the smallest ring size at each ring end
+    partial: bool = False  # the shapes are partial (:attr:`RingShape.partial`)
 
     def shape(self, orders: Sequence[int]) -> RingShape:
         """The shape of the structure with these bond orders (one per edge). Only carbon can
@@ -102,16 +111,15 @@ class ShapePlan:
             size = self.ring_size[e]
             bonds.append((order, size, () if size else self.exo[e]))
         cumulated = sum(1 for k in doubles.values() if k >= 2)
-        return RingShape(self.rings, 0, tuple(sorted(bonds)), cumulated)
+        return RingShape(self.rings, 0, tuple(sorted(bonds)), cumulated, self.partial)
 
 
-def shape_plan(view: SkeletonView) -> ShapePlan | None:
+def shape_plan(view: SkeletonView) -> ShapePlan:
     """The :class:`ShapePlan` of a skeleton (RDKit's smallest set of rings, as the readings
-    read it), or None when it has two rings of at most four atoms or more (which pairs of them
+    read it); partial when it has two rings of at most four atoms or more (which pairs of them
     RDKit's set holds may depend on the atom order)."""
     rings = view.rings
-    if sum(1 for r in rings if len(r) <= SMALL_RING) >= 2:
-        return None
+    partial = sum(1 for r in rings if len(r) <= SMALL_RING) >= 2
     ring_size = [0] * len(view.edges)
     if len(rings) == 1 and len(view.edges) == view.n:  # one cycle: every cycle edge is on it
         for e in view.cycle:
@@ -127,4 +135,26 @@ def shape_plan(view: SkeletonView) -> ShapePlan | None:
         tuple(sorted(smallest[v] for v in (a, b) if smallest[v])) if not ring_size[e] else ()
         for e, (a, b) in enumerate(view.edges)
     )
-    return ShapePlan(tuple(sorted(len(r) for r in rings)), view.edges, tuple(ring_size), exo)
+    sizes = _basis_sizes(view) if partial else tuple(sorted(len(r) for r in rings))
+    return ShapePlan(sizes, view.edges, tuple(ring_size), exo, partial)
+
+
+def _basis_sizes(view: SkeletonView) -> tuple[int, ...]:
+    """The ring sizes of a minimum cycle basis, ascending: the rings of the skeleton's set taken
+    shortest first while independent (each as the set of its edges, over GF(2)). The set holds a
+    minimum basis (the smallest set of rings, with rings of equal size added), and the greedy
+    choice on a matroid gives a basis of least weight, whose sizes every minimum basis shares."""
+    rows: dict[int, int] = {}  # reduced edge sets by their highest edge
+    sizes: list[int] = []
+    for ring in sorted(view.rings, key=len):
+        bits = 0
+        for k, v in enumerate(ring):
+            bits |= 1 << view.edge(v, ring[k - 1])
+        while bits:
+            top = bits.bit_length() - 1
+            if top not in rows:
+                rows[top] = bits
+                sizes.append(len(ring))
+                break
+            bits ^= rows[top]
+    return tuple(sizes)

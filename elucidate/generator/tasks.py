@@ -466,6 +466,7 @@ class _TaskWriter:
                 self.rest = compiled.without(frozenset(self.readings.labels))
         self._clauses: tuple[tuple[int, Clause], ...] = ()
         self._read: Template | None = None  # the template whose clauses _clauses holds
+        self._read_view: SkeletonView | None = None  # and its view
         #: run on the molecule of each SMILES given out, its result kept in ``perceived``
         self.perceive: Perceive | None = None
         self.perceived: list[object] | None = None
@@ -485,13 +486,13 @@ class _TaskWriter:
 
     def _shape(self, orders: list[int], view: SkeletonView | None) -> RingShape | None:
         """The shape of a structure that cannot be aromatic, read off its bond orders and its
-        skeleton's rings, when something perceives it and the skeleton's rings allow it
-        (:func:`.shape.shape_plan`); None otherwise."""
+        skeleton's rings when something perceives it (partial where the skeleton's rings do not
+        settle it, :func:`.shape.shape_plan`); None otherwise."""
         if self.perceive is None or view is None or not self.shapes:
             return None
-        if view is not self._viewed:
+        if self._plan is None or view is not self._viewed:
             self._plan, self._viewed = shape_plan(view), view
-        return self._plan.shape(orders) if self._plan is not None else None
+        return self._plan.shape(orders)
 
     def count(self, rule: int) -> None:
         """Count a structure that breaks the read rule of this index."""
@@ -506,7 +507,7 @@ class _TaskWriter:
         if template is not self._read:
             view = view_of(template.n, template.edges, template.program.tolist(), template.cycle_edge_indices)
             self._clauses = self.readings.clauses(view, extra=self.bond_sum - len(template.edges))
-            self._read = template
+            self._read, self._read_view = template, view
         if not self._clauses:
             return -1
         number = self.number
@@ -594,7 +595,10 @@ class _TaskWriter:
                     self.rest, parsed, removed, _features(s, self.elements, aromatic=False)
                 ):
                     return None
-                return self._given(str(Chem.MolToSmiles(parsed)), parsed)
+                # its shape where the compiled core would read it too (a skeleton read for the
+                # rules), so that what is perceived does not depend on who labelled it
+                shape = self._shape([o for _, _, o in s.bonds], self._read_view) if self.readings is not None else None
+                return self._given(str(Chem.MolToSmiles(parsed)), parsed, shape)
         mol = sanitized(s, kekule=kekule)
         # a molecule with no aromatic atom has no other Kekulé form: its constraints are
         # tested before its SMILES is written, and it needs no merging

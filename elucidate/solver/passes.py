@@ -45,6 +45,7 @@ from ..evidence import (
     Bounded,
     Estimated,
     Foreseen,
+    ForeseenFloor,
     Partial,
     Staged,
     Subject,
@@ -305,6 +306,12 @@ def _floor(technique: Technique, subject: Subject, evaluator: Evaluator) -> floa
     """What a :class:`Bounded` technique's floor costs the candidate's log-likelihood at least
     (0 or more)."""
     against, unexplained = cast(Bounded, technique).floor(subject, evaluator.case)
+    return _cost_of(technique, against, unexplained, evaluator)
+
+
+def _cost_of(technique: Technique, against: float, unexplained: float, evaluator: Evaluator) -> float:
+    """What lower bounds of a technique's ``against`` and ``unexplained`` cost the candidate's
+    log-likelihood at least, capped and weighted as in the score (0 or more)."""
     w = evaluator.scoring.techniques[technique.weight_key]
     return w.weight * (min(against, w.against_cap) + min(unexplained, w.unexplained_cap))
 
@@ -479,14 +486,16 @@ def _promise(
 ) -> tuple[list[float], list[float]]:
     """Each candidate's promise, its log-likelihood on what the
     :class:`~elucidate.evidence.Foreseen` techniques say from its formula and what generation
-    perceived (0 when they say nothing): an upper bound of its score, known without reading any
-    molecule; and its guess, the promise with what the :class:`~elucidate.evidence.Estimated`
-    techniques guess from the same (for the order only). Candidates that share a formula
-    hypothesis and a perception (generation's perceptions are shared objects) share both, so
-    they are worked out once for each such pair."""
+    perceived (0 when they say nothing), less what the :class:`~elucidate.evidence.ForeseenFloor`
+    techniques that said nothing cost at least from the same: an upper bound of its score, known
+    without reading any molecule; and its guess, the promise with what the
+    :class:`~elucidate.evidence.Estimated` techniques guess from the same (for the order only).
+    Candidates that share a formula hypothesis and a perception (generation's perceptions are
+    shared objects) share both, so they are worked out once for each such pair."""
     foreseeing = _foreseeing(techniques)
+    flooring = [t for t in techniques if _implements(t, ForeseenFloor)]
     estimating = [cast(Estimated, t) for t in techniques if _implements(t, Estimated)]
-    if not foreseeing and not estimating:
+    if not foreseeing and not flooring and not estimating:
         return [0.0] * len(items), [0.0] * len(items)
     keys = {t.name: t.weight_key for t in techniques}
     said: dict[tuple[object, ...], tuple[Assessment, ...]] = {}
@@ -497,9 +506,14 @@ def _promise(
         value = known.get((id(assessments), id(item.seen)))
         if value is None:
             bound = _log_likelihood(assessments, keys, evaluator.scoring)
+            subject = _subject(item, None, evaluator)
+            assessed = {a.technique for a in assessments}
+            for t in flooring:
+                if t.name not in assessed:
+                    against, unexplained = cast(ForeseenFloor, t).foresee_floor(subject, evaluator.case)
+                    bound -= _cost_of(t, against, unexplained, evaluator)
             guessed = bound
             if estimating:
-                subject = _subject(item, None, evaluator)
                 rough = [a for t in estimating if (a := t.estimate(subject, evaluator.case)) is not None]
                 guessed += _log_likelihood(rough, keys, evaluator.scoring)
             value = known[(id(assessments), id(item.seen))] = (bound, guessed)
