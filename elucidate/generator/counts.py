@@ -131,24 +131,34 @@ def mol_counts(mol: Mol) -> Counts:
 def carbon_profile(mol: Mol) -> tuple[tuple[str, str, int], ...]:
     """The carbons of a molecule (hydrogens implicit) by kind (:func:`carbon_kind`) and DEPT
     type (CH3, CH2, CH, C): (kind, type, carbons) for each pair present, sorted; the counts
-    :func:`mol_counts` reads, per carbon. Neighbours are read from the bond-order matrix
+    :func:`mol_counts` reads, per carbon. Only the N and O atoms' neighbours are looked up
     (generation reads this on every structure of a case with a 13C list); a carbonyl O has one
     neighbour, no H and a double bond. A carbon with four H (no DEPT type) is left out."""
-    from .._rdkit import Chem
-
-    rows = Chem.GetAdjacencyMatrix(mol, useBO=True).tolist()
-    atoms = [(atom.GetAtomicNum(), atom.GetTotalNumHs()) for atom in atoms_of(mol)]
-    n = len(atoms)
-    hetero = [j for j, (z, _) in enumerate(atoms) if z in (7, 8)]
-    oxo = [j for j in hetero if atoms[j] == (8, 0) and rows[j].count(0.0) == n - 1 and 2.0 in rows[j]]
+    atoms = atoms_of(mol)
+    z = [atom.GetAtomicNum() for atom in atoms]
+    hetero: set[int] = set()  # carbons (and others) bonded to N or O
+    carbonyl: set[int] = set()  # atoms bearing a carbonyl O
+    for j, zj in enumerate(z):
+        if zj == 7 or zj == 8:
+            atom = atoms[j]
+            around = [other.GetIdx() for other in atom.GetNeighbors()]
+            hetero.update(around)
+            if (
+                zj == 8
+                and len(around) == 1
+                and atom.GetTotalNumHs() == 0
+                and mol.GetBondBetweenAtoms(j, around[0]).GetBondTypeAsDouble() == 2.0
+            ):
+                carbonyl.add(around[0])
     found: dict[tuple[str, str], int] = {}
-    for i, (z, h) in enumerate(atoms):
-        if z != 6 or h > 3:
+    for i, zi in enumerate(z):
+        if zi != 6:
             continue
-        row = rows[i]
-        carbonyl = any(row[j] == 2.0 for j in oxo)
-        kind = carbon_kind(4 - (n - row.count(0.0)) - h, carbonyl, any(row[j] for j in hetero))
-        key = (kind, _TYPE_NAMES[3 - h])
+        atom = atoms[i]
+        h = atom.GetTotalNumHs()
+        if h > 3:
+            continue
+        key = (carbon_kind(4 - atom.GetDegree() - h, i in carbonyl, i in hetero), _TYPE_NAMES[3 - h])
         found[key] = found.get(key, 0) + 1
     return tuple(sorted((kind, name, k) for (kind, name), k in found.items()))
 
