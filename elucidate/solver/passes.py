@@ -1,8 +1,8 @@
 """Scoring in passes with bounds: the shortlist that full scoring gives, for less work.
 
 Each technique runs in one scoring pass (its ``scoring_pass``). Candidates are scored in
-batches of a fixed size, watched ones (suspects) first, then a batch spread evenly over the
-generation order, then the rest most promising first: a candidate's promise is what the
+batches, watched ones (suspects) first, then a sample of :data:`SAMPLE` spread evenly over the
+generation order, then the rest most promising first, :data:`BATCH` at a time: a candidate's promise is what the
 :class:`~elucidate.evidence.Foreseen` techniques say from its formula and what generation
 perceived, an upper bound of its score known without reading its molecule (:func:`_promise`);
 once T is known, the candidates whose promise is below it are settled before any pass.
@@ -65,6 +65,7 @@ __all__ = [
     "BATCH",
     "EPSILON",
     "MAX_ORDERED_PASSES",
+    "SAMPLE",
     "Outcome",
     "Scored",
     "Scoring",
@@ -76,6 +77,10 @@ __all__ = [
 
 #: candidates scored in full per batch, between updates of the threshold
 BATCH = 256
+#: candidates spread evenly over the generation order and scored in full first: a sample of the
+#: whole space for the first threshold and the pass order (each costs every technique in full,
+#: milliseconds: 256 cost carvone about 0.9 s on one worker, 128 about half, docs/solver.md)
+SAMPLE = 128
 #: passes beyond this many are run in their first order (2^passes sets are searched)
 MAX_ORDERED_PASSES = 12
 #: margin below the threshold before a bound prunes: levels are rounded to 1e-6, and partial
@@ -370,7 +375,7 @@ def score_candidates(
     # for the threshold and the pass order: the first candidates generated are much alike),
     # then the rest in generation order
     rest = [i for i in range(n) if i not in watched]
-    spread = rest[:: max(1, len(rest) // BATCH)][:BATCH]
+    spread = rest[:: max(1, len(rest) // SAMPLE)][:SAMPLE]
     taken = set(spread)
     # the rest most promising first (what the foreseeing techniques say: the threshold then
     # soon nears its final level, and settles more in the cheap passes), ties in generation order
@@ -405,7 +410,10 @@ def score_candidates(
         # never wrongly; whether a batch goes ahead depends on the scores, not on timing)
         while position < len(order) and (not pending or (ahead and steady and len(pending) < 2)):
             batch: list[int] = []
-            while position < len(order) and len(batch) < BATCH:
+            # the watched and the spread sample make the first batches (T and the pass order
+            # are first set on them alone)
+            size = min(BATCH, tail - position) if position < tail else BATCH
+            while position < len(order) and len(batch) < size:
                 if position >= tail and bound[position - tail] < threshold - EPSILON:
                     foreseen += 1  # its promise is below T: no pass runs on it
                 else:
