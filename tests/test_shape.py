@@ -62,7 +62,8 @@ def test_the_shape_read_off_the_bond_orders_is_rdkits(formula: str) -> None:
 
 def _minimum_basis_sizes(mol: Chem.Mol) -> list[int]:
     """The ring sizes of a minimum cycle basis of the molecule's graph by networkx (a
-    general-purpose graph library from the registry: de Pina's algorithm), ascending."""
+    general-purpose graph library from the registry; its documentation cites de Pina 1995 and
+    Kavitha et al., Algorithmica 2008), ascending."""
     graph = nx.Graph([(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in mol.GetBonds()])
     return sorted(len(cycle) for cycle in nx.minimum_cycle_basis(graph))
 

@@ -2,9 +2,10 @@
 
 Each technique runs in one scoring pass (its ``scoring_pass``). Candidates are scored in
 batches, watched ones (suspects) first, then a sample of :data:`SAMPLE` spread evenly over the
-generation order, then the rest most promising first, :data:`BATCH` at a time: a candidate's promise is what the
-:class:`~elucidate.evidence.Foreseen` techniques say from its formula and what generation
-perceived, an upper bound of its score known without reading its molecule (:func:`_promise`);
+generation order, then the rest most promising first, :data:`BATCH` at a time: a candidate's
+promise is what the :class:`~elucidate.evidence.Foreseen` techniques say from its formula and
+what generation perceived (less what the :class:`~elucidate.evidence.ForeseenFloor` techniques
+cost at least), an upper bound of its score known without reading its molecule (:func:`_promise`);
 once T is known, the candidates whose promise is below it are settled before any pass.
 After each batch the threshold T is the log-likelihood of the shortlist's last place among the
 candidates scored in full so far (or the lowest watched candidate's, when lower). In a later
