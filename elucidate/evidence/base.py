@@ -79,12 +79,9 @@ class Subject:
         for it)."""
         if self.parsed is not None:
             return self.parsed
-        from .._rdkit import Chem
+        from .._rdkit import plain_mol
 
-        mol = Chem.MolFromSmiles(self.smiles)
-        if mol is None:  # the solver's SMILES are RDKit's own canonical ones
-            raise ValueError(f"RDKit cannot read the candidate SMILES {self.smiles!r}")
-        return mol
+        return plain_mol(self.smiles)  # the solver's SMILES are RDKit's own canonical ones
 
     @cached_property
     def groups(self) -> frozenset[str]:

@@ -537,14 +537,14 @@ class _TaskWriter:
         atom there): RDKit reads its Kekulé SMILES (the molecule :meth:`write` builds, atoms in
         another order), the finished-molecule tests run on it, and RDKit writes its canonical
         SMILES; Kekulé forms of one aromatic compound are merged within their skeleton."""
-        from .._rdkit import Chem
+        from .._rdkit import Chem, plain_mol
 
         written, flagged, skeleton, orders, view = item
         if self.own:
             if not flagged:
                 return written
-            return self.merged(Chem.MolFromSmiles(written), skeleton)
-        mol = Chem.MolFromSmiles(written)
+            return self.merged(plain_mol(written), skeleton)
+        mol = plain_mol(written)
         aromatic = flagged and _aromatic(mol)
         compiled, removed = self.compiled, self.removed
         # in SMILES '=' and '#' are bond symbols only (no atom token holds them): the Kekulé
@@ -570,7 +570,7 @@ class _TaskWriter:
     def write(self, s: Structure) -> str | None:
         """The SMILES of one structure, or None when it is dropped (a Kekulé form already
         written, or a constraint it breaks, counted in ``removed``)."""
-        from .._rdkit import Chem
+        from .._rdkit import Chem, plain_mol
 
         compiled, removed, kekule, own = self.compiled, self.removed, self.kekule, self.own
         if not (self.charged and any(label in self.charged for label in zip(s.elements, s.valences, strict=True))):
@@ -590,7 +590,7 @@ class _TaskWriter:
                 # (cheaper than building the molecule atom by atom), the finished-molecule
                 # tests run on it (less the rules read off the orders), and RDKit writes its
                 # canonical SMILES
-                parsed = Chem.MolFromSmiles(written)
+                parsed = plain_mol(written)
                 if self.rest is not None and _rejected(
                     self.rest, parsed, removed, _features(s, self.elements, aromatic=False)
                 ):

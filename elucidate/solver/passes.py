@@ -335,7 +335,7 @@ def _run_job(job: _Job) -> list[Outcome | int]:
     the position of the pass that settled it (all the solver reads of it), so that what goes
     back to the solver's process stays small (a settled candidate's assessments and scores made
     up most of the bytes, and reading them back cost that process seconds)."""
-    from .._rdkit import Chem, quiet_rdkit
+    from .._rdkit import plain_mol, quiet_rdkit
 
     techniques = job.evaluator.techniques()
     foreseeing = _foreseeing(techniques)
@@ -344,7 +344,7 @@ def _run_job(job: _Job) -> list[Outcome | int]:
     with quiet_rdkit():
         for item, limit in zip(job.items, job.thresholds, strict=True):
             # with what generation perceived, the SMILES is read only when a pass needs more
-            mol = Chem.MolFromSmiles(item.smiles) if item.seen is None else None
+            mol = plain_mol(item.smiles) if item.seen is None else None
             known = foreseen(item, job.evaluator, foreseeing, memo)
             outcome = evaluate_in_passes(job.evaluator, item, mol, techniques, limit, job.order, known=known)
             out.append(outcome if outcome.complete else outcome.last_pass)
