@@ -160,3 +160,56 @@ def test_one_technique_over_many_candidates_gives_each_its_own_assessment():
             kinds.add((case is first, got.against, got.unexplained))
         assert len(shared._known) < len(subjects)  # candidates shared assessments
     assert len(kinds) > 4  # the candidates are told apart
+
+
+# The saturated ketone band's condition was one recursive SMARTS; it is now written as the list
+# of patterns the other ketone bands use, any one matching. A molecule matches a one-atom pattern
+# of recursive alternatives exactly when it matches one alternative (RDKit's SMARTS semantics),
+# so both must agree on every isomer (RDKit's matcher is the reference).
+FORMER_KETONE_UNLESS = "[$([CX3](=[OX1])-[c,$([CX3]=[CX3])]),$([CX3;r4,r5]=[OX1])]"
+
+
+@pytest.mark.parametrize("formula", ["C5H6O", "C6H8O", "C7H6O", "C6H6O2"])
+def test_a_band_condition_written_as_a_list_means_any_of_its_patterns(formula):
+    from elucidate.generator import GeneratorOptions, isomer_smiles
+
+    (saturated,) = [b for b in IR.of("ketone") if b.mode.startswith("C=O stretch, saturated")]
+    assert len(saturated.unless) == 3
+    former = Chem.MolFromSmarts(FORMER_KETONE_UNLESS)
+    differ = applies = 0
+    for smiles in isomer_smiles(parse_formula(formula), GeneratorOptions(rdkit_smiles=True)):
+        mol = Chem.MolFromSmiles(smiles)
+        found: dict[str, bool] = {}
+        now = saturated.applies(mol, found=found)
+        differ += now != (not mol.HasSubstructMatch(former))
+        applies += now
+        # each pattern searched at most once, and the shared record agrees with a fresh search
+        assert saturated.applies(mol) == now
+        assert all(found[s] == mol.HasSubstructMatch(Chem.MolFromSmarts(s)) for s in found)
+    assert differ == 0
+    assert applies > 0
+
+
+@pytest.mark.parametrize(
+    "condition,message",
+    [
+        ("[]", "expected a SMARTS pattern or a list of them; got an empty list"),
+        ("[{a: 1}]", "expected a SMARTS pattern"),
+    ],
+)
+def test_a_band_condition_must_be_smarts_or_a_list_of_them(tmp_path, condition, message):
+    from elucidate.errors import ElucidateError
+    from elucidate.evidence.infrared import load_infrared
+
+    text = (
+        "regions: []\n"
+        "scoring: {tolerance: 10, weights: {strong: 1, medium: 0.5, weak: 0.2}, non_key_divisor: 3, scale: 1,"
+        " fingerprint_below: 1500}\n"
+        "bands:\n"
+        f"  ketone:\n    - {{from: 1700, to: 1725, strength: strong, mode: m, unless: {condition}}}\n"
+    )
+    path = tmp_path / "infrared.yaml"
+    path.write_text(text, encoding="utf-8")
+    with pytest.raises(ElucidateError, match="unless") as caught:
+        load_infrared(path)
+    assert message in str(caught.value)

@@ -60,20 +60,38 @@ class Band:
     strength: str
     key: bool  # practically always seen: its absence argues against the group
     mode: str
-    when: str | None = None  # SMARTS: the band applies only to molecules that match
-    unless: str | None = None  # SMARTS: ... that do not match
+    when: tuple[str, ...] = ()  # SMARTS: the band applies only to molecules that match one
+    unless: tuple[str, ...] = ()  # SMARTS: ... that match none
     shape: str | None = None  # usual shape: broad or sharp
     source: str = ""  # provenance for reviewers ("from memory"); never printed to users
 
     @property
     def conditional(self) -> bool:
         """Whether the band applies only to some molecules (``when`` or ``unless``)."""
-        return self.when is not None or self.unless is not None
+        return bool(self.when or self.unless)
 
-    def applies(self, mol: Mol) -> bool:
-        if self.when is not None and not mol.HasSubstructMatch(compiled_smarts(self.when)):
+    def applies(self, mol: Mol, *, found: dict[str, bool] | None = None) -> bool:
+        """Whether the band applies to ``mol``: it matches one pattern of ``when`` (when there
+        are any) and none of ``unless``. ``found``: what earlier searches on the same molecule
+        found, by SMARTS (bands of one group share patterns), filled in as patterns are
+        searched; each pattern is searched at most once with it."""
+        if self.when and not _matches_one(mol, self.when, found):
             return False
-        return self.unless is None or not mol.HasSubstructMatch(compiled_smarts(self.unless))
+        return not (self.unless and _matches_one(mol, self.unless, found))
+
+
+def _matches_one(mol: Mol, patterns: tuple[str, ...], found: dict[str, bool] | None) -> bool:
+    """Whether ``mol`` matches one of the SMARTS ``patterns`` (in order, stopping at the first
+    match), with ``found`` as in :meth:`Band.applies`."""
+    for smarts in patterns:
+        hit = found.get(smarts) if found is not None else None
+        if hit is None:
+            hit = bool(mol.HasSubstructMatch(compiled_smarts(smarts)))
+            if found is not None:
+                found[smarts] = hit
+        if hit:
+            return True
+    return False
 
 
 @dataclass(frozen=True)
@@ -115,14 +133,24 @@ class IRTable:
             for i, band in enumerate(bands):
                 if not 400 <= band.low < band.high <= 4000:
                     raise ElucidateError("a band needs 400 <= from < to <= 4000", key=f"bands.{name}[{i}]")
-                for text in (band.when, band.unless):
-                    if text is not None:
-                        try:
-                            compiled_smarts(text)
-                        except ElucidateError as exc:
-                            raise ElucidateError(exc.message, key=f"bands.{name}[{i}]") from exc
+                for text in (*band.when, *band.unless):
+                    try:
+                        compiled_smarts(text)
+                    except ElucidateError as exc:
+                        raise ElucidateError(exc.message, key=f"bands.{name}[{i}]") from exc
         if set(self.weights) != set(STRENGTHS):
             raise ElucidateError(f"weights must name exactly: {', '.join(STRENGTHS)}", key="scoring.weights")
+
+
+def _patterns(loc: Located) -> tuple[str, ...]:
+    """A band condition: one SMARTS, or a list of them (any one matching)."""
+    what = "a SMARTS pattern or a list of them"
+    if isinstance(loc.value, list):
+        patterns = tuple(as_str(item, what="a SMARTS pattern") for item in as_list(loc, what=what))
+        if not patterns:
+            raise loc.error(f"expected {what}; got an empty list")
+        return patterns
+    return (as_str(loc, what=what),)
 
 
 def _band(loc: Located) -> Band:
@@ -141,8 +169,8 @@ def _band(loc: Located) -> Band:
         as_choice(b["strength"], STRENGTHS, what="one of"),
         as_bool(b["key"]) if "key" in b else False,
         as_str(b["mode"]),
-        as_str(b["when"], what="a SMARTS pattern") if "when" in b else None,
-        as_str(b["unless"], what="a SMARTS pattern") if "unless" in b else None,
+        _patterns(b["when"]) if "when" in b else (),
+        _patterns(b["unless"]) if "unless" in b else (),
         as_choice(b["shape"], ("broad", "sharp"), what="one of") if "shape" in b else None,
         as_str(b["source"]) if "source" in b else "",
     )
@@ -273,8 +301,8 @@ def _possible(need: Mapping[int, int], allowed: Mapping[str, tuple[int, int]]) -
 def _reading_bands(bands: Sequence[Band]) -> list[Band]:
     """The key bands a group shows whatever its context: the unconditional ones, and the
     conditional variants (saturated / conjugated / ring C=O ...) merged into one envelope."""
-    plain = [b for b in bands if b.key and b.when is None and b.unless is None]
-    variants = [b for b in bands if b.key and (b.when is not None or b.unless is not None)]
+    plain = [b for b in bands if b.key and not b.conditional]
+    variants = [b for b in bands if b.key and b.conditional]
     if variants:
         low, high = min(b.low for b in variants), max(b.high for b in variants)
         strength = "strong" if all(b.strength == "strong" for b in variants) else "medium"
@@ -329,7 +357,12 @@ class Infrared:
             key = tuple((name, k) for name, k, _, conditional in every if not conditional or (name, k) in seen.bands)
         else:
             mol = subject.mol
-            key = tuple((name, k) for name, k, band, conditional in every if not conditional or band.applies(mol))
+            searched: dict[str, bool] = {}  # each band pattern searched once
+            key = tuple(
+                (name, k)
+                for name, k, band, conditional in every
+                if not conditional or band.applies(mol, found=searched)
+            )
         known = self._known.get(key)
         if known is None:
             chosen = set(key)
@@ -443,7 +476,11 @@ class Perceiver:
         import json
 
         bands = {
-            name: [[k, band.when, band.unless] for k, band in enumerate(self.table.of(name)) if band.conditional]
+            name: [
+                [k, list(band.when), list(band.unless)]
+                for k, band in enumerate(self.table.of(name))
+                if band.conditional
+            ]
             for name in self.groups.names
         }
         decides: list[object] = [self.groups._smarts_by_name, bands]
@@ -455,10 +492,11 @@ class Perceiver:
     def __call__(self, mol: Mol, shape: RingShape | None = None) -> Perception:
         """What ``mol`` shows, with ``shape`` (generation's reading of its rings, when made)."""
         found = self.groups.present(mol, self.formula, having=self.having, lacking=self.lacking)
+        searched: dict[str, bool] = {}  # each band pattern searched once
         bands = frozenset(
             (name, k)
             for name in found
             for k, band in enumerate(self.table.of(name))
-            if band.conditional and band.applies(mol)
+            if band.conditional and band.applies(mol, found=searched)
         )
         return Perception(found, bands, shape, carbon_profile(mol) if self.carbons else None)
