@@ -159,9 +159,9 @@ def test_a_rerun_from_the_cache_perceives_nothing_and_scores_as_the_first_run(de
     calls = []
     perceive = Perceiver.__call__
 
-    def counted(self, mol, shape=None):
+    def counted(self, mol, shape=None, features=None):
         calls.append(1)
-        return perceive(self, mol, shape)
+        return perceive(self, mol, shape, features)
 
     scored: list[list] = []  # per run: each candidate's SMILES and perception as scoring gets them
     score = ranking.score_candidates
@@ -209,7 +209,9 @@ def test_a_13c_list_added_later_reuses_the_perceptions_kept_without_it(tmp_path,
     calls = []
     perceive = Perceiver.__call__
     monkeypatch.setattr(
-        Perceiver, "__call__", lambda self, mol, shape=None: calls.append(1) or perceive(self, mol, shape)
+        Perceiver,
+        "__call__",
+        lambda self, mol, shape=None, features=None: calls.append(1) or perceive(self, mol, shape, features),
     )
     scored: list[list] = []
     score = ranking.score_candidates

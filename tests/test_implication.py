@@ -19,7 +19,14 @@ from elucidate import parse_formula
 from elucidate.evidence.fragments import default_fragments
 from elucidate.generator import structures
 from elucidate.generator.groups import default_groups
-from elucidate.generator.implication import Features, PatternNeeds, features_of, pattern_implies, pattern_needs
+from elucidate.generator.implication import (
+    Features,
+    PatternNeeds,
+    excluded_by,
+    features_of,
+    pattern_implies,
+    pattern_needs,
+)
 from elucidate.generator.plausibility import default_profiles
 from elucidate.generator.selection import Selection
 from elucidate.generator.smiles import sanitized
@@ -102,6 +109,48 @@ def test_an_implication_claimed_holds_on_every_molecule(forbidden, required):
         for smiles in _MOLECULES:
             mol = Chem.MolFromSmiles(smiles)
             assert not mol.HasSubstructMatch(p) or mol.HasSubstructMatch(f), (required, forbidden, smiles)
+
+
+# ---------------------------------------------------------------- ruled out by a group present
+
+KETONE = "[#6][CX3](=[OX1])[#6]"  # groups.yaml's ketone
+
+
+@pytest.mark.parametrize(
+    ("having", "other", "atoms", "excluded"),
+    [
+        # read off the patterns by the SMARTS rules (module note): with one O, a ketone's O has one
+        # connection (X1); a hydroxyl O has two (X2), an ether O two and no H
+        (KETONE, "[OX2H1]", {6: 6, 8: 1}, True),
+        (KETONE, "[OX2H0]([#6])[#6]", {6: 6, 8: 1}, True),
+        (KETONE, "[OX2H1]", {6: 6, 8: 2}, False),  # a second O may be the hydroxyl's
+        (KETONE, "[CX3H1]=[OX1]", {6: 6, 8: 1}, False),  # the O agrees; the carbon is not read
+        (KETONE, "[CX3]=[CX3]", {6: 6, 8: 1}, False),  # an alkene needs no O
+        (KETONE, "o", {6: 6, 8: 1}, True),  # aromatic against aliphatic
+        ("[NX3H2][CX4]", "[NX2]=[#6]", {6: 4, 7: 1}, True),  # primary amine N against an imine N
+        ("[CX3](=[OX1])[OX2H1]", "[OX2H0]", {6: 4, 8: 2}, True),  # an acid takes both O; H0 fits neither
+        ("[CX3](=[OX1])[OX2H1]", "[OX1]", {6: 4, 8: 2}, False),  # ... its C=O is one
+        ("[OD2]", "[OX1]", {6: 4, 8: 1}, True),  # two heavy neighbours, one connection in all
+        ("[OX1]", "[OH2]", {6: 4, 8: 1}, True),  # two hydrogens, one connection
+    ],
+)
+def test_a_group_present_rules_out_another(having, other, atoms, excluded):
+    assert excluded_by(Chem.MolFromSmarts(having), Chem.MolFromSmarts(other), atoms) is excluded
+
+
+@pytest.mark.parametrize("formula", ["C5H8O", "C4H8O2", "C4H9NO"])
+def test_a_group_ruled_out_is_never_found_beside_the_group_present(formula):
+    # soundness against RDKit's matcher on every isomer: whenever excluded_by claims that a
+    # group present rules another out, no isomer matches both
+    f = parse_formula(formula)
+    atoms = {Chem.GetPeriodicTable().GetAtomicNumber(e): n for e, n in f.counts if n}
+    patterns = {name: Chem.MolFromSmarts(GROUPS[name].smarts) for name in GROUPS.names_for(f)}
+    claims = [(a, b) for a in patterns for b in patterns if a != b and excluded_by(patterns[a], patterns[b], atoms)]
+    assert claims  # the test is not empty
+    mols = [sanitized(s) for s in structures(f)]
+    for a, b in claims:
+        both = [m for m in mols if m.HasSubstructMatch(patterns[a]) and m.HasSubstructMatch(patterns[b])]
+        assert not both, (formula, a, b, Chem.MolToSmiles(both[0]))
 
 
 # ---------------------------------------------------------------- what a match needs

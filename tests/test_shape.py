@@ -24,7 +24,7 @@ from elucidate.generator.selection import Selection
 from elucidate.generator.shape import RingShape, shape_of
 
 
-def _shape_only(mol: Chem.Mol, shape: RingShape | None) -> RingShape | None:
+def _shape_only(mol: Chem.Mol, shape: RingShape | None, features: object) -> RingShape | None:
     return shape
 
 

@@ -25,7 +25,8 @@ from ..case import Case, IRBand
 from ..errors import ElucidateError
 from ..formula_search.query import limits_for
 from ..generator.counts import carbon_profile
-from ..generator.groups import GroupTable, default_groups
+from ..generator.groups import GroupTable, SearchSteps, default_groups, found_by
+from ..generator.implication import Features
 from ..generator.shape import RingShape
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
@@ -467,6 +468,8 @@ class Perceiver:
     having: frozenset[str] = frozenset()
     lacking: frozenset[str] = frozenset()
     carbons: bool = False
+    #: how the groups are searched, per kind of structure (features), found on first need
+    _steps: dict[tuple[bool, bool, int, bool] | None, SearchSteps] = field(default_factory=dict, init=False, repr=False)
 
     @property
     def fingerprint(self) -> str:
@@ -489,9 +492,23 @@ class Perceiver:
         document = json.dumps(decides, sort_keys=True)
         return hashlib.sha256(document.encode("utf-8")).hexdigest()
 
-    def __call__(self, mol: Mol, shape: RingShape | None = None) -> Perception:
-        """What ``mol`` shows, with ``shape`` (generation's reading of its rings, when made)."""
-        found = self.groups.present(mol, self.formula, having=self.having, lacking=self.lacking)
+    def __getstate__(self) -> dict[str, object]:
+        return {k: v for k, v in self.__dict__.items() if k != "_steps"}  # patterns stay home
+
+    def __setstate__(self, state: dict[str, object]) -> None:
+        self.__dict__.update(state, _steps={})
+
+    def __call__(self, mol: Mol, shape: RingShape | None = None, features: Features | None = None) -> Perception:
+        """What ``mol`` shows, with ``shape`` (generation's reading of its rings, when made);
+        ``features``: what the structure has, when known (groups it rules out are not
+        searched: :meth:`~elucidate.generator.groups.GroupTable.search_steps`)."""
+        key = None if features is None else (features.double, features.triple, features.rings, features.aromatic)
+        steps = self._steps.get(key)
+        if steps is None:
+            steps = self._steps[key] = self.groups.search_steps(
+                self.formula, having=self.having, lacking=self.lacking, features=features
+            )
+        found = found_by(mol, steps)
         searched: dict[str, bool] = {}  # each band pattern searched once
         bands = frozenset(
             (name, k)

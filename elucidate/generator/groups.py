@@ -15,13 +15,23 @@ from ..errors import ElucidateError
 from ..smarts import compiled_smarts
 from ..tables import table_path, validated
 from ..yamlnodes import Located, as_choice, as_int, as_str, mapping, read_yaml_file
-from .implication import pattern_implies, pattern_needs
+from .implication import Features, excluded_by, pattern_implies, pattern_needs
 
 if TYPE_CHECKING:
     from .._rdkit import Mol
     from ..formula import Formula
 
-__all__ = ["PI_CLASSES", "Group", "GroupTable", "could_hold", "default_groups", "load_groups", "min_pi_bonds"]
+__all__ = [
+    "PI_CLASSES",
+    "Group",
+    "GroupTable",
+    "SearchSteps",
+    "could_hold",
+    "default_groups",
+    "found_by",
+    "load_groups",
+    "min_pi_bonds",
+]
 
 _NAME = re.compile(r"^[a-z][a-z0-9_]*$")
 _ELEMENT = re.compile(r"#\d+")
@@ -123,29 +133,41 @@ class GroupTable:
         return _names_for(self._smarts_by_name, formula)
 
     def present(
-        self, mol: Mol, formula: Formula, *, having: frozenset[str] = frozenset(), lacking: frozenset[str] = frozenset()
+        self,
+        mol: Mol,
+        formula: Formula,
+        *,
+        having: frozenset[str] = frozenset(),
+        lacking: frozenset[str] = frozenset(),
+        features: Features | None = None,
     ) -> frozenset[str]:
         """The groups ``mol`` (aromaticity perceived, of ``formula``) has: the same names as
-        matching every group of :meth:`names_for`, with fewer searches. A group is not searched
-        when every match needs more atoms of an element than the formula has
-        (:func:`~.implication.pattern_needs`: an ester needs two O), or when a group its pattern
-        provably implies (:func:`~.implication.pattern_implies`: a ketone is a carbonyl) was not
-        found. ``having`` and ``lacking``: groups the caller knows the molecule has and lacks
-        (the case's required and forbidden groups, which every generated structure obeys): not
-        searched, nor the groups a group in ``having`` implies. (Reading a molecule's bonds and
-        rings in Python costs more than the searches it would save.)"""
-        plan = _search_plan(self._smarts_by_name, formula)
-        known = _implied_closure(plan, having) if having else having
-        found: set[str] = set()
-        for name, pattern, implied in plan:
-            if name in known:
-                found.add(name)
-                continue
-            if name in lacking or not implied <= found:
-                continue
-            if mol.HasSubstructMatch(pattern):
-                found.add(name)
-        return frozenset(found)
+        matching every group of :meth:`names_for`, with fewer searches (:meth:`search_steps`).
+        (Reading a molecule's bonds and rings in Python costs more than the searches it would
+        save.)"""
+        return found_by(mol, self.search_steps(formula, having=having, lacking=lacking, features=features))
+
+    def search_steps(
+        self,
+        formula: Formula,
+        *,
+        having: frozenset[str] = frozenset(),
+        lacking: frozenset[str] = frozenset(),
+        features: Features | None = None,
+    ) -> SearchSteps:
+        """How :meth:`present` finds the groups of a molecule of ``formula`` (found once per
+        formula and arguments). A group is not searched when every match needs more atoms of an
+        element than the formula has (:func:`~.implication.pattern_needs`: an ester needs two
+        O), or when a group its pattern provably implies (:func:`~.implication.pattern_implies`:
+        a ketone is a carbonyl) was not found. ``having`` and ``lacking``: groups the caller
+        knows the molecule has and lacks (the case's required and forbidden groups, which every
+        generated structure obeys): not searched, nor the groups a group in ``having`` implies,
+        nor those a group in ``having`` rules out by taking all the formula's atoms of an element
+        (:func:`~.implication.excluded_by`: no hydroxyl where the one O is a required ketone's).
+        ``features``: what the molecule has (its Kekulé form's multiple bonds, rings, whether it
+        may be aromatic): a group whose every match needs something it lacks is not searched."""
+        key = None if features is None else (features.double, features.triple, features.rings, features.aromatic)
+        return _search_steps(self._smarts_by_name, formula, having, lacking, key)
 
     @cached_property
     def _smarts_by_name(self) -> tuple[tuple[str, str], ...]:
@@ -272,6 +294,58 @@ def _search_plan(groups: tuple[tuple[str, str], ...], formula: Formula) -> tuple
             continue  # more atoms of an element than the formula has: never found
         plan.append((name, patterns[name], frozenset(implies[name] & set(order[:position]))))
     return tuple(plan)
+
+
+@dataclass(frozen=True)
+class SearchSteps:
+    """How :meth:`GroupTable.present` finds a molecule's groups: ``certain`` are found without a
+    search; each step is a group's name, its pattern and the groups it implies, searched in
+    order and only when the groups it implies were found."""
+
+    certain: frozenset[str]
+    steps: tuple[tuple[str, Mol, frozenset[str]], ...]
+
+
+def found_by(mol: Mol, steps: SearchSteps) -> frozenset[str]:
+    """The groups ``mol`` has, found by ``steps``."""
+    found = set(steps.certain)
+    for name, pattern, implied in steps.steps:
+        if implied <= found and mol.HasSubstructMatch(pattern):
+            found.add(name)
+    return frozenset(found)
+
+
+@lru_cache(maxsize=256)
+def _search_steps(
+    groups: tuple[tuple[str, str], ...],
+    formula: Formula,
+    having: frozenset[str],
+    lacking: frozenset[str],
+    features: tuple[bool, bool, int, bool] | None,
+) -> SearchSteps:
+    """:meth:`GroupTable.search_steps`, with ``features`` as (double, triple, rings,
+    aromatic)."""
+    from .._rdkit import Chem
+
+    plan = _search_plan(groups, formula)
+    known = _implied_closure(plan, having) if having else having
+    smarts_of = dict(groups)
+    taking = [compiled_smarts(smarts_of[name]) for name in sorted(having) if name in smarts_of]
+    atoms = {Chem.GetPeriodicTable().GetAtomicNumber(s): n for s, n in formula.counts if n}
+    has = None
+    if features is not None:
+        double, triple, rings, aromatic = features
+        has = Features(atoms, double, triple, rings, aromatic)
+    steps = []
+    for name, pattern, implied in plan:
+        if name in known or name in lacking:
+            continue
+        if has is not None and not has.allows(pattern_needs(pattern)):
+            continue  # every match needs a multiple bond, ring or aromatic atom it lacks
+        if any(excluded_by(theirs, pattern, atoms) for theirs in taking):
+            continue
+        steps.append((name, pattern, implied))
+    return SearchSteps(frozenset(name for name, _, _ in plan if name in known), tuple(steps))
 
 
 @lru_cache(maxsize=64)

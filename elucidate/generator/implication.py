@@ -24,7 +24,15 @@ from .._mol import atoms_of, bonds_of
 if TYPE_CHECKING:
     from .._rdkit import Mol
 
-__all__ = ["Features", "PatternNeeds", "features_of", "first_implied", "pattern_implies", "pattern_needs"]
+__all__ = [
+    "Features",
+    "PatternNeeds",
+    "excluded_by",
+    "features_of",
+    "first_implied",
+    "pattern_implies",
+    "pattern_needs",
+]
 
 _ALL_ORDERS = frozenset({"1", "2", "3", "ar"})
 _BOND_ORDERS = {
@@ -293,3 +301,56 @@ def pattern_needs(pattern: Mol) -> PatternNeeds:
     if pattern.GetNumBonds() >= pattern.GetNumAtoms() > 0:
         ring = True
     return PatternNeeds(tuple(sorted(elements.items())), double, triple, 1 if ring else 0, aromatic)
+
+
+_COUNT_FACT = re.compile(r"^([XDH])(\d+)$")
+
+
+def _contradict(first: set[str], second: set[str]) -> bool:
+    """Whether no atom can meet both sets of required facts (:func:`_atom_facts`): aliphatic and
+    aromatic, two different counts of one kind (X, D or H), or more heavy neighbours (D) or
+    hydrogens (H) than connections in all (X)."""
+    both = first | second
+    if "A" in both and "a" in both:
+        return True
+    counts: dict[str, set[int]] = {}
+    for fact in both:
+        found = _COUNT_FACT.match(fact)
+        if found:
+            counts.setdefault(found.group(1), set()).add(int(found.group(2)))
+    if any(len(values) > 1 for values in counts.values()):
+        return True
+    (x,) = counts.get("X", {None})
+    if x is None:
+        return False
+    return any(value > x for kind in "DH" for value in counts.get(kind, ()))
+
+
+def excluded_by(having: Mol, other: Mol, atoms: Mapping[int, int]) -> bool:
+    """True when no molecule with ``atoms`` (atomic number -> count) that matches the query
+    ``having`` can match the query ``other`` too. Sound and incomplete, as the rest of this
+    module: when every match of ``having`` takes all the molecule's atoms of an element (its
+    query atoms naming that element are as many as the molecule has), each atom of that element
+    in a match of ``other`` is one of them, so some query atom of ``other`` naming the element
+    that no atom can match along with any of those of ``having`` (:func:`_contradict`) rules it
+    out: a hydroxyl O (``[OX2H1]``) in a C10H14O whose one O is a required ketone's
+    (``[OX1]``)."""
+
+    def element_atoms(pattern: Mol) -> dict[int, list[set[str]]]:
+        out: dict[int, list[set[str]]] = {}
+        for atom in pattern.GetAtoms():
+            facts = _atom_facts(atom.GetSmarts(), required_only=True) or set()
+            for fact in facts:
+                if fact.startswith("#") and fact[1:].isdigit():
+                    out.setdefault(int(fact[1:]), []).append(facts)
+        return out
+
+    taken = element_atoms(having)
+    wanted = element_atoms(other)
+    for z, held in taken.items():
+        if z <= 1 or atoms.get(z, 0) > len(held):
+            continue  # some atom of the element may lie outside every match of ``having``
+        for facts in wanted.get(z, ()):
+            if all(_contradict(facts, theirs) for theirs in held):
+                return True
+    return False

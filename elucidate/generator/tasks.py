@@ -127,8 +127,9 @@ class StructureBudget:
 #: what a caller computes on each kept structure's RDKit molecule while generation holds it
 #: (the solver: what its cheap techniques read, :class:`~elucidate.evidence.infrared.Perceiver`),
 #: given the structure's :class:`~.shape.RingShape` too where generation read it off the bond
-#: orders (else None); picklable for worker processes, its results hashable
-Perceive: TypeAlias = "Callable[[Mol, RingShape | None], object]"
+#: orders (else None) and its :class:`~.implication.Features` (what its Kekulé form has);
+#: picklable for worker processes, its results hashable
+Perceive: TypeAlias = "Callable[[Mol, RingShape | None, Features], object]"
 
 
 @dataclass(frozen=True)
@@ -476,12 +477,12 @@ class _TaskWriter:
         self._plan: ShapePlan | None = None
         self._viewed: SkeletonView | None = None  # the view whose plan _plan is
 
-    def _given(self, smiles: str, mol: Mol, shape: RingShape | None = None) -> str:
-        """``smiles``, given out: what ``perceive`` finds on its molecule (and ``shape``) is
-        kept first."""
+    def _given(self, smiles: str, mol: Mol, features: Features, shape: RingShape | None = None) -> str:
+        """``smiles``, given out: what ``perceive`` finds on its molecule (with ``shape`` and
+        ``features``) is kept first."""
         if self.perceive is not None:
             assert self.perceived is not None
-            self.perceived.append(self.perceive(mol, shape))
+            self.perceived.append(self.perceive(mol, shape, features))
         return smiles
 
     def _shape(self, orders: list[int], view: SkeletonView | None) -> RingShape | None:
@@ -559,7 +560,7 @@ class _TaskWriter:
             return None
         if compiled is not None and aromatic and _rejected(compiled, mol, removed, features):
             return None
-        return self._given(smiles, mol, None if flagged else self._shape(orders, view))
+        return self._given(smiles, mol, features, None if flagged else self._shape(orders, view))
 
     def template_for(self, n: int, edges: tuple[tuple[int, int], ...]) -> Template:
         """The template of this skeleton (kept while its structures come)."""
@@ -591,19 +592,19 @@ class _TaskWriter:
                 # tests run on it (less the rules read off the orders), and RDKit writes its
                 # canonical SMILES
                 parsed = plain_mol(written)
-                if self.rest is not None and _rejected(
-                    self.rest, parsed, removed, _features(s, self.elements, aromatic=False)
-                ):
+                plain = _features(s, self.elements, aromatic=False)
+                if self.rest is not None and _rejected(self.rest, parsed, removed, plain):
                     return None
                 # its shape where the compiled core would read it too (a skeleton read for the
                 # rules), so that what is perceived does not depend on who labelled it
                 shape = self._shape([o for _, _, o in s.bonds], self._read_view) if self.readings is not None else None
-                return self._given(str(Chem.MolToSmiles(parsed)), parsed, shape)
+                return self._given(str(Chem.MolToSmiles(parsed)), parsed, plain, shape)
         mol = sanitized(s, kekule=kekule)
         # a molecule with no aromatic atom has no other Kekulé form: its constraints are
         # tested before its SMILES is written, and it needs no merging
         early = compiled is not None and not kekule and not _aromatic(mol)
-        if early and _rejected(compiled, mol, removed, _features(s, self.elements, aromatic=False)):
+        features = _features(s, self.elements, aromatic=not early)
+        if early and _rejected(compiled, mol, removed, features):
             return None
         smiles: str = Chem.MolToSmiles(mol, kekuleSmiles=kekule)
         if not kekule and not early and not self._first(smiles, tuple((a, b) for a, b, _ in s.bonds)):
@@ -613,9 +614,9 @@ class _TaskWriter:
             if kekule:
                 probe = Chem.Mol(mol)
                 Chem.SetAromaticity(probe)
-            if _rejected(compiled, probe, removed, _features(s, self.elements, aromatic=True)):
+            if _rejected(compiled, probe, removed, features):
                 return None
-        return self._given(smiles, mol)
+        return self._given(smiles, mol, features)
 
 
 def _features(s: Structure, elements: dict[int, int], *, aromatic: bool) -> Features:
