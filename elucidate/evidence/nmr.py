@@ -197,7 +197,7 @@ def assign(cost: np.ndarray, costs: AssignmentCosts, *, optional: Sequence[bool]
     """Observed (rows) to predicted (columns): one to one by least total cost, leftover classes
     overlapping their cheapest observed signal, leftover observed signals as extra. A class
     marked ``optional`` that is left over is dropped at no cost."""
-    from scipy.optimize import linear_sum_assignment
+    from .._scipy import linear_sum_assignment
 
     n_obs, n_pred = cost.shape
     pairs: list[Pair] = []
@@ -404,7 +404,8 @@ class Nmr:
         list does not hold, or integral the classes do not fill, cost ``integral_per_h`` each
         (exchangeable H may be missing at no cost)."""
         import numpy as np
-        from scipy.optimize import linear_sum_assignment
+
+        from .._scipy import linear_sum_assignment
 
         costs = self.tables.h1.costs
         total_h = sum(p.hydrogens for p in predicted)
