@@ -220,6 +220,32 @@ def test_a_formula_skipped_for_size_is_named_first_with_advice_and_worse_ones_wa
     assert {f["formula"]: f for f in stored["formulas"]}["C7O"]["structures"] > 0
 
 
+def test_the_next_formulas_size_worked_out_during_generation_changes_nothing(monkeypatch):
+    # with worker processes, the solver's own process estimates the next formula (and its group
+    # advice when it is over the limit) while the workers generate; one process works them out
+    # in turn. The answers must be the same (common practice: a result never depends on the
+    # number of workers)
+    from elucidate.reports.solution_report import solve_json
+    from elucidate.solver import ranking
+
+    case = parse_case(MS_ONLY_100)
+    started: list[str] = []
+    start = ranking._Ahead.start
+
+    def spy(self, formula, *, advise):
+        started.append(str(formula))
+        return start(self, formula, advise=advise)
+
+    monkeypatch.setattr(ranking._Ahead, "start", spy)
+    one = solve(case, workers=1, limit=3000)
+    assert started == []
+    two = solve(case, workers=2, limit=3000)
+    assert "C8H4" in started  # worked out ahead
+    advised = [n for n in two.notes if "C8H4 (M 100) not enumerated" in n]
+    assert advised and ("requiring one of these groups" in advised[0] or "no single group" in advised[0])
+    assert solve_json(one) == solve_json(two)
+
+
 @pytest.mark.parametrize("workers", [1, 2])
 def test_the_limit_holds_while_enumerating_when_the_estimate_is_too_low(tmp_path, monkeypatch, workers):
     # Knuth's estimate reads far too low where its random walks dead-end; the limit must then

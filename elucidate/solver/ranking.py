@@ -13,6 +13,7 @@ Results are hypotheses to confirm against a reference standard under the lab's o
 from __future__ import annotations
 
 import math
+import threading
 from collections import Counter
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
@@ -43,6 +44,7 @@ if TYPE_CHECKING:
     from .._rdkit import Mol
     from ..cache import CandidateCache
     from ..formula import Formula
+    from ..generator import SpaceEstimate
 
 __all__ = ["PROFILE", "Evaluator", "declared_counts", "hard_selection", "preflight", "solve"]
 
@@ -68,6 +70,62 @@ COUNT_FLOOR_SHARE = 0.25
 
 class _EstimateLow(Exception):
     """Generation has taken far more structures than the estimate said (RECOUNT_AFTER)."""
+
+
+class _Ahead:
+    """The next formula's size estimate (and, when it is over the limit, its group advice) worked
+    out in a background thread while worker processes generate the current formula's structures:
+    the solver's own process mostly waits then, and would otherwise work them out afterwards
+    while the workers wait. Both are deterministic functions of the formula, so what is used is
+    the same whoever computed it; a formula not sent ahead is worked out when asked."""
+
+    def __init__(self, space: Callable[[Formula], SpaceEstimate], advice: Callable[[Formula], str], limit: int) -> None:
+        self._space, self._advice, self._limit = space, advice, limit
+        self._formula: Formula | None = None
+        self._thread: threading.Thread | None = None
+        self._result: dict[str, object] = {}
+
+    def start(self, formula: Formula, *, advise: bool) -> None:
+        """Work on ``formula`` in the background (``advise``: its advice too, when over)."""
+        if self._formula == formula:
+            return
+        self.wait()
+        result: dict[str, object] = {}
+
+        def work() -> None:
+            try:
+                space = result["space"] = self._space(formula)
+                if advise and space.over(self._limit):
+                    result["advice"] = self._advice(formula)
+            except BaseException as exc:  # handed to the caller that asks (raised there)
+                result["error"] = exc
+
+        self._formula, self._result = formula, result
+        self._thread = threading.Thread(target=work, name="elucidate-ahead", daemon=True)
+        self._thread.start()
+
+    def wait(self) -> None:
+        if self._thread is not None:
+            self._thread.join()
+            self._thread = None
+
+    def _ready(self, formula: Formula, what: str) -> object | None:
+        if self._formula != formula:
+            return None
+        self.wait()
+        error = self._result.get("error")
+        if isinstance(error, BaseException):
+            self._formula = None
+            raise error
+        return self._result.get(what)
+
+    def space(self, formula: Formula) -> SpaceEstimate:
+        found = self._ready(formula, "space")
+        return cast("SpaceEstimate", found) if found is not None else self._space(formula)
+
+    def advice(self, formula: Formula) -> str:
+        found = self._ready(formula, "advice")
+        return cast(str, found) if found is not None else self._advice(formula)
 
 
 def _stop_past(most: float) -> Callable[[int], None]:
@@ -286,6 +344,10 @@ def _solve(
     options = GeneratorOptions(selection=selection, rdkit_smiles=True)
     advised = 0
 
+    ahead = _Ahead(
+        lambda f: estimate_space(f, estimate_options), lambda f: size_advice(f, estimate_options, g, limit), limit
+    )
+
     def advise(formula: Formula) -> str:
         """Group advice for a formula skipped for size (per-group estimates for the first
         ADVISED_FORMULAS such formulas only: each costs seconds)."""
@@ -293,7 +355,7 @@ def _solve(
         advised += 1
         if advised > ADVISED_FORMULAS:
             return "declare groups (infrared.require / forbid) or raise --limit"
-        return size_advice(formula, estimate_options, g, limit)
+        return ahead.advice(formula)
 
     derived = []
     for done, m in enumerate(hypotheses, start=1):
@@ -311,10 +373,45 @@ def _solve(
             notes.append(f"M {m}: {result.reading.excluded_reading}")
         derived.append((m, result, chosen))
         progress("formulas", done, len(hypotheses))
+    # every formula in the order worked (with its molecular ion's results and best fit), for
+    # the one after the formula being generated
+    upcoming = [
+        (m, result, max((c.ranking_score or 0.0 for c in chosen), default=0.0), cand)
+        for m, result, chosen in derived
+        for cand in chosen
+    ]
+    position = -1
+
+    def needs_estimate(k: int, skipped: Candidate | None, m_now: int) -> Formula | None:
+        """The formula at ``k`` in ``upcoming`` when it will be estimated as things stand (not cut
+        by its fit, not held behind a skipped formula, not ruled out by the declared counts, and
+        within the generator's reach), else None."""
+        if k >= len(upcoming):
+            return None
+        m, result, best, cand = upcoming[k]
+        fit = cand.ranking_score
+        if fit is not None and best > 0 and fit < best / sc.formula_cut and not result.poor_cluster:
+            return None
+        held = (
+            m == m_now
+            and not worse_formulas
+            and not result.poor_cluster
+            and skipped is not None
+            and fit is not None
+            and fit < (skipped.ranking_score or 0.0) / sc.worse_than_skipped
+        )
+        if held:
+            return None
+        counts = selection.count_test
+        if counts is not None and counts.formula_problem(cand.formula) is not None:
+            return None
+        return cand.formula if beyond_generator(cand.formula) is None else None
+
     for m, result, chosen in derived:
         best = max((c.ranking_score or 0.0 for c in chosen), default=0.0)
         skipped: Candidate | None = None  # the best-fitting formula skipped for size
         for cand in chosen:
+            position += 1
             fit = cand.ranking_score
             if fit is not None and best > 0 and fit < best / sc.formula_cut and not result.poor_cluster:
                 continue
@@ -380,7 +477,7 @@ def _solve(
                 progress("generation", len(found), None)
                 continue
             heavy = None if held else beyond_generator(cand.formula)
-            space = SpaceEstimate(0.0, 0.0) if held or heavy else estimate_space(cand.formula, estimate_options)
+            space = SpaceEstimate(0.0, 0.0) if held or heavy else ahead.space(cand.formula)
             estimate = space.structures
             over = space.over(limit) or heavy is not None
             if over or held:
@@ -409,6 +506,9 @@ def _solve(
             local: dict[str, int] = {}
             before = len(found)
             parallel = runner if runner.workers > 1 else None
+            # while the workers generate (from their first structure on), this process works
+            # out the next formula's size
+            following = needs_estimate(position + 1, skipped, m) if parallel is not None else None
             # a space large enough for the compiled core's start-up to pay is labelled by it
             # from the first structure (the output is the same either way)
             large = worth_starting(estimate, conditioned=conditioned)
@@ -439,6 +539,8 @@ def _solve(
                                 perceived=seen if perceive is not None else None,
                             )
                         ):
+                            if k == 0 and following is not None:
+                                ahead.start(following, advise=advised < ADVISED_FORMULAS)
                             perception = cast(Perception, perceptions.setdefault(seen[k], seen[k])) if seen else None
                             found.append(
                                 FoundCandidate(
