@@ -502,7 +502,7 @@ class Perceiver:
         """What ``mol`` shows, with ``shape`` (generation's reading of its rings, when made);
         ``features``: what the structure has, when known (groups it rules out are not
         searched: :meth:`~elucidate.generator.groups.GroupTable.search_steps`)."""
-        key = None if features is None else (features.double, features.triple, features.rings, features.aromatic)
+        key = None if features is None else features.kind
         steps = self._steps.get(key)
         if steps is None:
             steps = self._steps[key] = self.groups.search_steps(

@@ -166,7 +166,7 @@ class GroupTable:
         (:func:`~.implication.excluded_by`: no hydroxyl where the one O is a required ketone's).
         ``features``: what the molecule has (its Kekulé form's multiple bonds, rings, whether it
         may be aromatic): a group whose every match needs something it lacks is not searched."""
-        key = None if features is None else (features.double, features.triple, features.rings, features.aromatic)
+        key = None if features is None else features.kind
         return _search_steps(self._smarts_by_name, formula, having, lacking, key)
 
     @cached_property

@@ -217,6 +217,12 @@ class Features:
     rings: int
     aromatic: bool  # may have an aromatic atom (True when not known)
 
+    @property
+    def kind(self) -> tuple[bool, bool, int, bool]:
+        """What decides :meth:`allows` besides the elements (a formula's structures share
+        those): double, triple, rings, aromatic."""
+        return (self.double, self.triple, self.rings, self.aromatic)
+
     def allows(self, needs: PatternNeeds) -> bool:
         """False when the structure lacks something every match needs: no match is possible."""
         return (

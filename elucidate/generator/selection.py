@@ -214,7 +214,7 @@ class CompiledSelection:
         """The tests a structure with these ``features`` runs, in order: a test its shortcut
         passes is left out, and the list ends at a test its shortcut fails (given as None).
         Structures of one task share a few kinds of features, so this is found once per kind."""
-        key = (features.double, features.triple, features.rings, features.aromatic, tuple(features.elements.items()))
+        key = (*features.kind, tuple(features.elements.items()))
         steps = self._by_features.get(key)
         if steps is None:
             out: list[tuple[str, MolTest | None]] = []
