@@ -517,6 +517,23 @@ def test_balanced_partition_splits_large_subtrees_and_keeps_the_output(formula: 
     assert [s for task in split for s in task_structures(task)] == whole
 
 
+@pytest.mark.parametrize("formula", ["C7H14O", "C8H8O", "C6H11NO", "C5H5N"])
+def test_the_uncut_tree_grows_what_the_tasks_grow(formula: str) -> None:
+    # one task per plan (one process, nothing reading task boundaries) against the tree cut
+    # into tasks: the same structures and SMILES, in the same order (self-consistency)
+    from elucidate.generator import isomer_smiles
+    from elucidate.generator.tasks import generation_tasks, selection_plans, task_structures, whole_tasks
+
+    plans, _ = selection_plans(parse_formula(formula), GeneratorOptions())
+    whole = list(whole_tasks(plans))
+    assert len(whole) == len(plans) < len(list(generation_tasks(plans)))
+    cut = [s for task in generation_tasks(plans) for s in task_structures(task)]
+    assert [s for task in whole for s in task_structures(task)] == cut
+    # isomer_smiles grows the uncut tree unless a budget asks for the cut
+    f = parse_formula(formula)
+    assert list(isomer_smiles(f)) == list(isomer_smiles(f, budget=10**7))
+
+
 @pytest.mark.parametrize("workers", [1, 2])
 @pytest.mark.parametrize("formula", ["C5H8O2", "C6H10O"])
 def test_within_budget_says_whether_generation_would_run_out(formula, workers):

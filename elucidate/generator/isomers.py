@@ -48,6 +48,7 @@ from .tasks import (
     task_count,
     task_smiles,
     task_structures,
+    whole_tasks,
 )
 
 __all__ = ["count_isomers", "isomer_smiles", "structures", "within_budget"]
@@ -71,7 +72,7 @@ def structures(formula: Formula, options: GeneratorOptions = _DEFAULT) -> Iterat
             table=options.table,
         ),
     )
-    for task in generation_tasks(plans):
+    for task in whole_tasks(plans):
         yield from task_structures(task)
 
 
@@ -122,7 +123,10 @@ def isomer_smiles(
             counts.setdefault(label, 0)
     if runner is None and options.workers == 1:
         left = StructureBudget(budget) if budget is not None else None
-        for task in generation_tasks(plans):
+        # the budget counts the partial skeletons each task grows, and on_taken is called per
+        # task: both keep the cut; with neither, the tree is grown uncut (the same output)
+        cut = left is not None or on_taken is not None
+        for task in generation_tasks(plans) if cut else whole_tasks(plans):
             yield from task_smiles(
                 task,
                 options.kekule,

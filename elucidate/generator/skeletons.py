@@ -10,7 +10,8 @@ ties broken first by the largest neighbourhood-degree invariant and then by the 
 in nauty's canonical labelling (an isomorphism invariant choice, up to automorphism). A child is
 accepted only if the added vertex lies in the same automorphism orbit of H as m(H); accepted
 children of the same parent that are isomorphic (their sets S lie in one orbit of Aut(G)) are
-merged by their nauty certificate, after the test, when Aut(G) is not trivial.
+merged when Aut(G) is not trivial: a one-vertex set is tried for the first vertex of its orbit
+only (the test gives one answer on an orbit), larger sets by their nauty certificate after it.
 McKay's theorem gives exactly one acceptance per isomorphism class. The constraints are
 hereditary (deleting a vertex never raises a degree, never raises the cyclomatic number, keeps a
 dominated degree sequence dominated, and a non-cut vertex keeps the parent
@@ -78,7 +79,7 @@ def nauty_graph(n: int, adj: list[list[int]]) -> pynauty.Graph:
     graph: pynauty.Graph = pynauty.Graph.__new__(pynauty.Graph)
     graph.number_of_vertices = n
     graph.directed = False
-    graph._adjacency_dict = {i: nb for i, nb in enumerate(adj) if nb}
+    graph._adjacency_dict = dict(enumerate(adj))  # an empty list (a lone vertex) sets no bit
     graph._vertex_coloring = []
     return graph
 
@@ -183,16 +184,29 @@ def children(
     room = _at_least(tuple(bounds), top)
     at_least = _at_least(tuple(degrees), top)
     dominated: dict[tuple[int, ...], bool] = {}
-    # isomorphic accepted children come only from sets in one orbit of Aut(parent); with a
-    # trivial group there are none, so certificates are needed only otherwise
-    symmetric = k > 1 and pynauty.autgrp(nauty_graph(k, adj))[1] > 1
+    # isomorphic accepted children come only from sets in one orbit of Aut(parent), and the
+    # acceptance test gives one answer on a whole orbit: with a trivial group there are none;
+    # a single vertex's set is tested for the first vertex of its orbit only; larger sets are
+    # merged by certificate
+    symmetric = False
+    orbits: list[int] = []
+    if k > 1:
+        generators, _, _, orbits, _ = pynauty.autgrp(nauty_graph(k, adj))
+        symmetric = bool(generators)
+    tried: set[int] = set()  # the orbits whose first vertex was tried (symmetric parents)
     seen: set[bytes] = set()
     splits: dict[int, tuple[list[int], int]] | None = None  # the parent's cut vertices, found once
     sums: list[int] | None = None  # the parent's neighbour-degree sums, found once
     leaf_list: list[int] = []
     for size in range(1, max_size + 1):
         for subset in combinations(open_vertices, size):
-            if size > 1 and leaves and sum(1 for u in subset if degrees[u] == 1) < leaves:
+            if size == 1:
+                if symmetric:
+                    orbit = orbits[subset[0]]
+                    if orbit in tried:
+                        continue
+                    tried.add(orbit)
+            elif leaves and sum(1 for u in subset if degrees[u] == 1) < leaves:
                 continue  # a leaf (never a cut vertex) has a smaller degree than the new vertex
             key = tuple(sorted(degrees[u] for u in subset))
             ok = dominated.get(key)
@@ -226,7 +240,7 @@ def children(
                     continue
                 if not _canonical_deletion_ok(child, k, cut):
                     continue
-            if symmetric:
+            if symmetric and size > 1:
                 cert = pynauty.certificate(nauty_graph(k + 1, child))
                 if cert in seen:
                     continue
@@ -235,12 +249,13 @@ def children(
 
 
 @lru_cache(maxsize=4096)
-def _at_least(values: tuple[int, ...], top: int) -> list[int]:
-    """For t = 0..top+1, how many of ``values`` are at least t (read, never changed)."""
-    return [sum(1 for x in values if x >= t) for t in range(top + 2)]
+def _at_least(values: tuple[int, ...], top: int) -> tuple[int, ...]:
+    """For t = 0..top+1, how many of ``values`` are at least t."""
+    return tuple(sum(1 for x in values if x >= t) for t in range(top + 2))
 
 
-def _dominated_after(degrees: tuple[int, ...], at_least: list[int], room: list[int], top: int) -> bool:
+@lru_cache(maxsize=65536)
+def _dominated_after(degrees: tuple[int, ...], at_least: tuple[int, ...], room: tuple[int, ...], top: int) -> bool:
     """Whether the parent's degree sequence, with the vertices of these degrees raised by one
     and a new vertex of degree ``len(degrees)``, stays dominated by the bounds: for every t, no
     more degrees >= t than bounds >= t (``at_least`` and ``room``, indexed by t)."""

@@ -55,6 +55,7 @@ __all__ = [
     "task_count",
     "task_smiles",
     "task_structures",
+    "whole_tasks",
 ]
 
 #: partial-graph size at which the generation tree is cut into independent tasks
@@ -180,6 +181,16 @@ def generation_tasks(plans: list[Plan]) -> Iterator[GenerationTask]:
     """The generation tree cut at TASK_DEPTH, in tree order."""
     for plan in plans:
         for part in frontier(plan.n, plan.bounds, plan.rings_max, depth=TASK_DEPTH, cycles=plan.cycles):
+            yield GenerationTask(plan, part)
+
+
+def whole_tasks(plans: list[Plan]) -> Iterator[GenerationTask]:
+    """One task per plan: the whole generation tree, uncut. It grows exactly what the tasks of
+    :func:`generation_tasks` grow, in the same order (:func:`.skeletons.frontier`), in fewer
+    calls to the compiled core (each task flushes its own batch); for one process when nothing
+    reads the task boundaries (no budget, no per-task callback)."""
+    for plan in plans:
+        for part in frontier(plan.n, plan.bounds, plan.rings_max, depth=1, cycles=plan.cycles):
             yield GenerationTask(plan, part)
 
 
