@@ -73,7 +73,7 @@ def test_each_read_rule_holds_exactly_where_rdkit_matches_it() -> None:
                     continue
                 if edges not in clauses:
                     clauses[edges] = readings.clauses(
-                        view_of(template.n, edges, template.program.tolist(), template.cycle_edge_indices),
+                        view_of(template.n, edges, template.cycle_edge_indices),
                         extra=task.plan.bond_sum - len(edges),
                     )
                 numbers = [number[e] for e in s.elements]
@@ -126,7 +126,7 @@ def test_the_compiled_core_breaks_the_rules_the_python_reading_breaks() -> None:
             assert group is not None
             template = Template(size, edges)
             clauses = readings.clauses(
-                view_of(size, edges, template.program.tolist(), template.cycle_edge_indices),
+                view_of(size, edges, template.cycle_edge_indices),
                 extra=plan.bond_sum - len(edges),
             )
             found = kernel.label_and_write(
@@ -199,8 +199,41 @@ def test_named_examples_are_read_as_their_rule(smiles: str, rule: str) -> None:
     assert readings is not None
     template = Template(n, edges)
     clauses = readings.clauses(
-        view_of(n, edges, template.program.tolist(), template.cycle_edge_indices),
+        view_of(n, edges, template.cycle_edge_indices),
         extra=sum(orders.values()) - len(edges),
     )
     k = broken(clauses, numbers, [orders[e] for e in edges])
     assert k >= 0 and readings.labels[k] == f"implausible {rule}"
+
+
+@pytest.mark.parametrize(("n", "max_rings"), [(7, 3), (8, 3), (9, 2)])
+def test_a_skeletons_ring_facts_are_rdkits(n: int, max_rings: int) -> None:
+    """On every skeleton of n vertices (degree at most 4) with two rings or more, the view's
+    ring facts (read from its 2-core, shared by many skeletons) equal those RDKit's ring
+    information gives for the all-carbon molecule read from the skeleton's canonical SMILES: the
+    set of rings, each atom's smallest ring size and ring count, each bond's ring membership."""
+    from elucidate.generator.skeletons import skeletons
+
+    checked = 0
+    for size, edges in skeletons(n, [4] * n, max_rings):
+        if len(edges) - size < 1:
+            continue
+        view = view_of(size, edges, Template(size, edges).cycle_edge_indices)
+        built = Chem.RWMol()
+        for _ in range(size):
+            built.AddAtom(Chem.Atom(6))
+        for a, b in edges:
+            built.AddBond(a, b, Chem.BondType.SINGLE)
+        smiles = Chem.MolToSmiles(built)
+        vertex = list(built.GetPropsAsDict(True, True)["_smilesAtomOutputOrder"])  # per atom read back
+        mol = Chem.MolFromSmiles(smiles)
+        info = mol.GetRingInfo()
+        assert sorted(sorted(r) for r in view.rings) == sorted(sorted(vertex[i] for i in r) for r in info.AtomRings())
+        for i in range(size):
+            assert view.smallest_ring(vertex[i]) == info.MinAtomRingSize(i)
+            assert view.ring_count(vertex[i]) == info.NumAtomRings(i)
+        for bond in mol.GetBonds():
+            e = view.edge(vertex[bond.GetBeginAtomIdx()], vertex[bond.GetEndAtomIdx()])
+            assert view.in_ring(e) == bond.IsInRing()
+        checked += 1
+    assert checked > 100

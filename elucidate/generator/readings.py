@@ -30,7 +30,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
-from functools import cached_property
+from functools import cached_property, lru_cache
 from typing import TypeAlias
 
 from .plausibility import Rule, _short_bridgeheads
@@ -46,17 +46,12 @@ _SMALL = (3, 7)
 
 class SkeletonView:
     """What the readers need of one skeleton: neighbours with their edges, degrees, and RDKit's
-    ring facts (read on first use). ``atoms``: the vertices in the order its template writes
-    them (the order of atoms in its SMILES); ``written``: that SMILES with every atom ``*``
-    and every bond order left out."""
+    ring facts (read on first use, from the skeleton's 2-core: :func:`core_rings`). ``cycle``:
+    the edges on a cycle (as :attr:`.writer.Template.cycle_edge_indices`)."""
 
-    def __init__(
-        self, n: int, edges: Sequence[tuple[int, int]], atoms: Sequence[int], written: str, cycle: Sequence[int]
-    ) -> None:
+    def __init__(self, n: int, edges: Sequence[tuple[int, int]], cycle: Sequence[int]) -> None:
         self.n = n
         self.edges = tuple(edges)
-        self.atoms = tuple(atoms)
-        self.written = written
         self.cycle = tuple(cycle)  # the edges on a cycle (the template's)
         around: list[list[tuple[int, int]]] = [[] for _ in range(n)]
         for e, (a, b) in enumerate(self.edges):
@@ -75,6 +70,18 @@ class SkeletonView:
         valence = self.valence.get(z)
         return valence is not None and len(self.around[v]) <= valence
 
+    def takes(self, v: int, z: int, order: int) -> bool:
+        """Whether ``v`` labelled ``z`` may hold a bond of ``order``: the formula holds ``z``
+        and its valence has room for that bond beside ``v``'s other edges. A clause asking for
+        a bond no labelling can give never holds, and is left out (the same outcome, fewer
+        clauses for the compiled core to test)."""
+        valence = self.valence.get(z)
+        return valence is not None and len(self.around[v]) + order - 1 <= valence
+
+    def takes_any(self, v: int, order: int) -> bool:
+        """Whether some element of the formula labelling ``v`` may hold a bond of ``order``."""
+        return len(self.around[v]) + order - 1 <= max(self.valence.values(), default=0)
+
     @property
     def cyclic(self) -> bool:
         return len(self.edges) >= self.n
@@ -87,35 +94,19 @@ class SkeletonView:
         return [x for _, e in self.around[v] if e not in kept for x in (1, e, 1)]
 
     @cached_property
-    def _rings(self) -> tuple[list[int], list[int], set[int], tuple[tuple[int, ...], ...]]:
-        if len(self.edges) == self.n:
-            return self._one_ring()
-        from .._rdkit import Chem
-
-        # read unsanitized: sanitizing keeps RDKit's symmetrized smallest set of rings (what a
-        # finished molecule's ring facts are read from), found here on the same graph
-        mol = Chem.MolFromSmiles(self.written, sanitize=False)
-        if mol is None or mol.GetNumAtoms() != self.n:
-            raise ValueError(f"RDKit did not read the skeleton {self.written!r}")  # never for a template's string
-        atoms = self.atoms
-        rings = tuple(tuple([atoms[i] for i in ring]) for ring in Chem.GetSymmSSSR(mol))
+    def _rings(self) -> tuple[list[int], list[int], tuple[tuple[int, ...], ...]]:
+        """Each vertex's smallest ring size and ring count, and the rings (as vertices)."""
+        rings = self._one_ring() if len(self.edges) == self.n else core_rings(_two_core(self.n, self.edges))
         smallest = [0] * self.n
         count = [0] * self.n
-        in_ring = set()
-        edge_of = self.edge_of
         for ring in rings:
             size = len(ring)
-            before = ring[-1]
             for v in ring:
                 count[v] += 1
                 least = smallest[v]
                 if not least or size < least:
                     smallest[v] = size
-                # atoms next to each other in a ring are bonded: a ring bond (RDKit's ``@``
-                # holds for a bond of some ring of this set)
-                in_ring.add(edge_of[(v, before) if v < before else (before, v)])
-                before = v
-        return smallest, count, in_ring, rings
+        return smallest, count, rings
 
     @cached_property
     def hydroxyl_sites(self) -> list[tuple[list[int], list[int]]]:
@@ -138,16 +129,10 @@ class SkeletonView:
                 )
         return out
 
-    def _one_ring(self) -> tuple[list[int], list[int], set[int], tuple[tuple[int, ...], ...]]:
-        """:attr:`_rings` of a connected skeleton with one cycle, without RDKit: its only ring
-        is that cycle (the template's cycle edges), so every ring set holds it alone."""
-        in_ring = set(self.cycle)
-        ring = sorted({v for e in in_ring for v in self.edges[e]})
-        smallest = [0] * self.n
-        count = [0] * self.n
-        for v in ring:
-            smallest[v], count[v] = len(ring), 1
-        return smallest, count, in_ring, (tuple(ring),)
+    def _one_ring(self) -> tuple[tuple[int, ...]]:
+        """The rings of a connected skeleton with one cycle, without RDKit: its only ring is
+        that cycle (the template's cycle edges), so every ring set holds it alone."""
+        return (tuple(sorted({v for e in self.cycle for v in self.edges[e]})),)
 
     def smallest_ring(self, v: int) -> int:
         """RDKit's smallest ring size at ``v`` (``r``), 0 when not in a ring."""
@@ -158,13 +143,60 @@ class SkeletonView:
         return self._rings[1][v] if self.cyclic else 0
 
     def in_ring(self, e: int) -> bool:
-        """Whether edge ``e`` is a ring bond (``@``)."""
-        return self.cyclic and e in self._rings[2]
+        """Whether edge ``e`` is a ring bond (``@``): an edge on a cycle (the template's), which
+        is an edge of a ring of any set of rings spanning the cycles, RDKit's among them."""
+        return e in self._on_cycle
+
+    @cached_property
+    def _on_cycle(self) -> frozenset[int]:
+        return frozenset(self.cycle)
 
     @property
     def rings(self) -> tuple[tuple[int, ...], ...]:
         """RDKit's smallest set of rings, as vertices."""
-        return self._rings[3] if self.cyclic else ()
+        return self._rings[2] if self.cyclic else ()
+
+
+def _two_core(n: int, edges: Sequence[tuple[int, int]]) -> tuple[tuple[int, int], ...]:
+    """The edges of the 2-core (leaves stripped until none is left): every cycle lies in it."""
+    degree = [0] * n
+    around: list[list[int]] = [[] for _ in range(n)]
+    for a, b in edges:
+        degree[a] += 1
+        degree[b] += 1
+        around[a].append(b)
+        around[b].append(a)
+    alive = [True] * n
+    leaves = [v for v in range(n) if degree[v] == 1]
+    while leaves:
+        v = leaves.pop()
+        alive[v] = False
+        for w in around[v]:
+            if alive[w]:
+                degree[w] -= 1
+                if degree[w] == 1:
+                    leaves.append(w)
+    return tuple(e for e in edges if alive[e[0]] and alive[e[1]])
+
+
+@lru_cache(maxsize=4096)
+def core_rings(core: tuple[tuple[int, int], ...]) -> tuple[tuple[int, ...], ...]:
+    """RDKit's symmetrized smallest set of rings of a ring system given as its labelled edges
+    (a 2-core), as those labels: the rings of every skeleton with that 2-core (leaves close no
+    ring). Many skeletons share one (a generation subtree keeps its parent's labels and adds
+    leaves): a quarter of the demo case cr-0702-k's 15,023 skeletons of two rings or more have
+    547 2-cores between them."""
+    from .._rdkit import Chem
+
+    labels = sorted({v for edge in core for v in edge})
+    index = {v: i for i, v in enumerate(labels)}
+    mol = Chem.RWMol()
+    for _ in labels:
+        mol.AddAtom(Chem.Atom(0))
+    for a, b in core:
+        mol.AddBond(index[a], index[b], Chem.BondType.SINGLE)
+    Chem.GetSymmSSSR(mol)  # the symmetrized set, kept in the molecule's ring information
+    return tuple(tuple(labels[i] for i in ring) for ring in mol.GetRingInfo().AtomRings())
 
 
 def _small(size: int) -> bool:
@@ -180,7 +212,13 @@ Reader = Callable[[SkeletonView], list[list[int]]]
 def _hydroxyl_on_multiple(view: SkeletonView, order: int) -> list[list[int]]:
     """A hydroxyl O (one single edge: X2, H1) on a carbon bonded with ``order`` to a carbon,
     each carbon with no other multiple bond (X3 with a double bond, X2 with a triple)."""
-    return [[*head, order, *tail] for head, tail in view.hydroxyl_sites]
+    room = view.valence.get(6, 0) - order + 1  # the edges a carbon with that bond may have
+    around = view.around
+    return [
+        [*head, order, *tail]
+        for head, tail in view.hydroxyl_sites
+        if len(around[head[4]]) <= room and len(around[head[7]]) <= room
+    ]
 
 
 def _enol(view: SkeletonView) -> list[list[int]]:
@@ -227,7 +265,11 @@ def _triple_in_small_ring(view: SkeletonView) -> list[list[int]]:
     return [
         [1, e, 3]
         for e, (a, b) in enumerate(view.edges)
-        if view.in_ring(e) and _small(view.smallest_ring(a)) and _small(view.smallest_ring(b))
+        if view.takes_any(a, 3)
+        and view.takes_any(b, 3)
+        and view.in_ring(e)
+        and _small(view.smallest_ring(a))
+        and _small(view.smallest_ring(b))
     ]
 
 
@@ -236,19 +278,25 @@ def _allene_in_small_ring(view: SkeletonView) -> list[list[int]]:
     has 3 to 7 atoms (two double bonds fill a carbon: X2 means two edges)."""
     out = []
     for v in range(view.n):
-        if len(view.around[v]) == 2 and view.can(v, 6) and _small(view.smallest_ring(v)):
-            (_, e1), (_, e2) = view.around[v]
-            out.append([0, v, 6, 1, e1, 2, 1, e2, 2])
+        if len(view.around[v]) == 2 and view.can(v, 6):
+            (w1, e1), (w2, e2) = view.around[v]
+            if view.takes_any(w1, 2) and view.takes_any(w2, 2) and _small(view.smallest_ring(v)):
+                out.append([0, v, 6, 1, e1, 2, 1, e2, 2])
     return out
 
 
 def _bredt(view: SkeletonView) -> list[list[int]]:
     """Bredt's test (:func:`.plausibility.bridgehead_double_bond`) with no aromatic bond: a
     double bond from a bridgehead of a short bridged ring pair to its neighbour in the pair."""
-    rings = view.rings
-    if len(rings) < 2:
-        return []
-    return [[1, view.edge(a, b), 2] for a, partners in _short_bridgeheads(rings) for b in partners]
+    if len(view.edges) - view.n < 1:
+        return []  # fewer than two rings
+    return [
+        [1, view.edge(a, b), 2]
+        for a, partners in _short_bridgeheads(view.rings)
+        if view.takes_any(a, 2)
+        for b in partners
+        if view.takes_any(b, 2)
+    ]
 
 
 def _fused_three_ring_alkene(view: SkeletonView) -> list[list[int]]:
@@ -258,11 +306,11 @@ def _fused_three_ring_alkene(view: SkeletonView) -> list[list[int]]:
     if all(len(ring) != 3 for ring in view.rings):
         return out  # no atom's smallest ring has three atoms
     for v in range(view.n):
-        if not view.can(v, 6) or view.ring_count(v) != 2 or view.smallest_ring(v) != 3:
+        if not view.takes(v, 6, 2) or view.ring_count(v) != 2 or view.smallest_ring(v) != 3:
             continue
         for w, e in view.around[v]:
             for z in (6, 7, 8):
-                if view.can(w, z):
+                if view.takes(w, z, 2):
                     out.append([0, v, 6, 1, e, 2, 0, w, z, *view.single(v, e)])
     return out
 
@@ -288,7 +336,7 @@ def _antiaromatic_three_ring(view: SkeletonView) -> list[list[int]]:
                 triangle = (a, b, c)
                 for x in triangle:
                     c1, c2 = (y for y in triangle if y != x)
-                    if not (view.can(c1, 6) and view.can(c2, 6)):
+                    if not (view.takes(c1, 6, 2) and view.takes(c2, 6, 2)):
                         continue
                     for z in _ANTIAROMATIC_HETERO:
                         if view.can(x, z):
@@ -304,7 +352,7 @@ def _monosubstituted_diazene(view: SkeletonView) -> list[list[int]]:
         return out
     for e, (a, b) in enumerate(view.edges):
         for n1, n2 in ((a, b), (b, a)):
-            if len(view.around[n1]) == 1 and view.can(n1, 7) and view.can(n2, 7):
+            if len(view.around[n1]) == 1 and view.can(n1, 7) and view.takes(n2, 7, 2):
                 out.append([0, n1, 7, 0, n2, 7, 1, e, 2, *view.single(n2, e)])
     return out
 
@@ -387,10 +435,7 @@ def broken(clauses: Sequence[tuple[int, Clause]], numbers: Sequence[int], orders
     return -1
 
 
-def view_of(n: int, edges: Sequence[tuple[int, int]], program: Sequence[int], cycle: Sequence[int]) -> SkeletonView:
-    """The :class:`SkeletonView` of a skeleton whose template has this ``program`` (atoms
-    0..n-1, edges n.., literal characters as minus their code) and these cycle edges (as
+def view_of(n: int, edges: Sequence[tuple[int, int]], cycle: Sequence[int]) -> SkeletonView:
+    """The :class:`SkeletonView` of a skeleton with these cycle edges (as
     :attr:`.writer.Template.cycle_edge_indices`)."""
-    atoms = [op for op in program if 0 <= op < n]
-    written = "".join("*" if 0 <= op < n else "" if op >= n else chr(-op) for op in program)
-    return SkeletonView(n, edges, atoms, written, cycle)
+    return SkeletonView(n, edges, cycle)

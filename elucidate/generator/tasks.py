@@ -337,8 +337,8 @@ def _compiled_structures(
         clauses: kernel.Clauses = ()
         view = None
         if reading is not None:
-            program, cycle = kernel.template_program(size, edges)
-            view = view_of(size, edges, program.tolist(), cycle.tolist())
+            _, cycle = kernel.template_program(size, edges)
+            view = view_of(size, edges, cycle.tolist())
             clauses = reading.clauses(view, extra=plan.bond_sum - len(edges))
         views.append(view)
         if order > kernel.CLOSED_IN_KERNEL:
@@ -517,7 +517,7 @@ class _TaskWriter:
         core finds it."""
         assert self.readings is not None
         if template is not self._read:
-            view = view_of(template.n, template.edges, template.program.tolist(), template.cycle_edge_indices)
+            view = view_of(template.n, template.edges, template.cycle_edge_indices)
             self._clauses = self.readings.clauses(view, extra=self.bond_sum - len(template.edges))
             self._read, self._read_view = template, view
         if not self._clauses:
