@@ -184,8 +184,8 @@ def core_rings(core: tuple[tuple[int, int], ...]) -> tuple[tuple[int, ...], ...]
     """RDKit's symmetrized smallest set of rings of a ring system given as its labelled edges
     (a 2-core), as those labels: the rings of every skeleton with that 2-core (leaves close no
     ring). Many skeletons share one (a generation subtree keeps its parent's labels and adds
-    leaves): a quarter of the demo case cr-0702-k's 15,023 skeletons of two rings or more have
-    547 2-cores between them."""
+    leaves): the 15,023 skeletons of two rings or more the demo case cr-0702-k's C10H12O reads
+    have 547 2-cores between them."""
     from .._rdkit import Chem
 
     labels = sorted({v for edge in core for v in edge})
