@@ -34,6 +34,7 @@ from functools import cached_property, lru_cache
 from typing import TypeAlias
 
 from .plausibility import Rule, _short_bridgeheads
+from .skeletons import adjacency_lists, in_two_core
 
 __all__ = ["READERS", "Clause", "Readings", "SkeletonView", "clause_holds"]
 
@@ -63,6 +64,7 @@ class SkeletonView:
         #: :meth:`Readings.clauses`)
         self.valence: Mapping[int, int] = {}
         self.atoms_of: Mapping[int, int] = {}
+        self.widest = 0  # the largest of those valences
 
     def can(self, v: int, z: int) -> bool:
         """Whether element ``z`` may label ``v``: the formula holds it, and ``v`` has no more
@@ -80,7 +82,7 @@ class SkeletonView:
 
     def takes_any(self, v: int, order: int) -> bool:
         """Whether some element of the formula labelling ``v`` may hold a bond of ``order``."""
-        return len(self.around[v]) + order - 1 <= max(self.valence.values(), default=0)
+        return len(self.around[v]) + order - 1 <= self.widest
 
     @property
     def cyclic(self) -> bool:
@@ -158,24 +160,8 @@ class SkeletonView:
 
 
 def _two_core(n: int, edges: Sequence[tuple[int, int]]) -> tuple[tuple[int, int], ...]:
-    """The edges of the 2-core (leaves stripped until none is left): every cycle lies in it."""
-    degree = [0] * n
-    around: list[list[int]] = [[] for _ in range(n)]
-    for a, b in edges:
-        degree[a] += 1
-        degree[b] += 1
-        around[a].append(b)
-        around[b].append(a)
-    alive = [True] * n
-    leaves = [v for v in range(n) if degree[v] == 1]
-    while leaves:
-        v = leaves.pop()
-        alive[v] = False
-        for w in around[v]:
-            if alive[w]:
-                degree[w] -= 1
-                if degree[w] == 1:
-                    leaves.append(w)
+    """The edges of the 2-core: every cycle lies in it."""
+    alive = in_two_core(adjacency_lists(n, edges))
     return tuple(e for e in edges if alive[e[0]] and alive[e[1]])
 
 
@@ -410,6 +396,7 @@ class Readings:
         above single of every structure on the skeleton (a rule needing more is left out)."""
         view.valence = self.valence
         view.atoms_of = self.atoms
+        view.widest = max(self.valence.values(), default=0)
         out: list[tuple[int, Clause]] = []
         for k, (reader, least) in enumerate(self.readers):
             if least <= extra:

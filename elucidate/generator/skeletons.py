@@ -37,6 +37,7 @@ __all__ = [
     "frontier",
     "grow",
     "has_cycles",
+    "in_two_core",
     "nauty_graph",
     "root_graph",
     "skeletons",
@@ -269,10 +270,10 @@ def _dominated_after(degrees: tuple[int, ...], at_least: tuple[int, ...], room: 
     return sum(1 for d in degrees if d == top) == 0
 
 
-def has_cycles(adj: list[list[int]], lengths: Sequence[int]) -> bool:
-    """Whether the graph contains a simple cycle of each length in ``lengths``."""
+def in_two_core(adj: Sequence[Sequence[int]]) -> list[bool]:
+    """Per vertex, whether it lies in the graph's 2-core (leaves stripped until none is left),
+    where every cycle lies."""
     n = len(adj)
-    # cycles lie in the 2-core: strip the leaves first
     degree = [len(nb) for nb in adj]
     alive = [True] * n
     leaves = [v for v in range(n) if degree[v] <= 1]
@@ -286,7 +287,13 @@ def has_cycles(adj: list[list[int]], lengths: Sequence[int]) -> bool:
                 degree[w] -= 1
                 if degree[w] == 1:
                     leaves.append(w)
-    core = [v for v in range(n) if alive[v]]
+    return alive
+
+
+def has_cycles(adj: list[list[int]], lengths: Sequence[int]) -> bool:
+    """Whether the graph contains a simple cycle of each length in ``lengths``."""
+    alive = in_two_core(adj)
+    core = [v for v in range(len(adj)) if alive[v]]
     return all(_has_cycle(adj, core, alive, length) for length in set(lengths))
 
 
